@@ -1,0 +1,1275 @@
+package design
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"sort"
+	"strings"
+	"unicode/utf8"
+
+	"gopkg.in/yaml.v3"
+
+	"pinwalk/expect/units"
+	"pinwalk/expect/valves"
+)
+
+// MaxFileBytes is the largest design file the loader reads.
+const MaxFileBytes = 2 << 20
+
+// Load reads and validates a design file. It returns the design (nil
+// when the file could not be parsed at all) and every problem found; the
+// design is usable only when problems.Errors() is empty.
+func Load(path string) (*Design, Problems) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, Problems{{File: path, Pos: Pos{1, 1}, Field: "file", Msg: err.Error()}}
+	}
+	defer f.Close()
+	data, err := io.ReadAll(io.LimitReader(f, MaxFileBytes+1))
+	if err != nil {
+		return nil, Problems{{File: path, Pos: Pos{1, 1}, Field: "file", Msg: err.Error()}}
+	}
+	return Parse(path, data)
+}
+
+// Parse reads a design from bytes; name is used in messages.
+func Parse(name string, data []byte) (*Design, Problems) {
+	l := &loader{file: name}
+	if len(data) > MaxFileBytes {
+		l.errAt(Pos{1, 1}, "file", "file is larger than %d MiB: expected a design file written by hand", MaxFileBytes>>20)
+		return nil, l.probs
+	}
+	if !utf8.Valid(data) || strings.ContainsRune(string(data), 0) {
+		l.errAt(Pos{1, 1}, "file", "not a text file: expected a YAML design file in UTF-8")
+		return nil, l.probs
+	}
+	var doc yaml.Node
+	if err := yaml.Unmarshal(data, &doc); err != nil {
+		l.errAt(yamlErrPos(err), "file", "not valid YAML: %s", cleanYAMLError(err))
+		return nil, l.probs
+	}
+	if doc.Kind == 0 || len(doc.Content) == 0 {
+		l.errAt(Pos{1, 1}, "file", "the file is empty: expected a design starting with `pinwalk: %d`", SchemaVersion)
+		return nil, l.probs
+	}
+	if hasAlias(&doc) {
+		l.errAt(Pos{1, 1}, "file", "YAML anchors and aliases (& and *) are not allowed in design files: write each part out")
+		return nil, l.probs
+	}
+	sum := sha256.Sum256(data)
+	d := &Design{File: name, Hash: hex.EncodeToString(sum[:]), ByRef: map[string]*Part{}, Nets: map[string][]NetUse{}}
+	l.design(d, doc.Content[0])
+	if len(l.probs.Errors()) == 0 {
+		l.validate(d)
+	}
+	l.probs.Sort()
+	return d, l.probs
+}
+
+func hasAlias(n *yaml.Node) bool {
+	if n.Kind == yaml.AliasNode || n.Anchor != "" {
+		return true
+	}
+	for _, c := range n.Content {
+		if hasAlias(c) {
+			return true
+		}
+	}
+	return false
+}
+
+func yamlErrPos(err error) Pos {
+	var te *yaml.TypeError
+	msg := err.Error()
+	if errors.As(err, &te) && len(te.Errors) > 0 {
+		msg = te.Errors[0]
+	}
+	var line int
+	if i := strings.Index(msg, "line "); i >= 0 {
+		fmt.Sscanf(msg[i+5:], "%d", &line)
+	}
+	if line < 1 {
+		line = 1
+	}
+	return Pos{line, 1}
+}
+
+func cleanYAMLError(err error) string {
+	s := err.Error()
+	s = strings.TrimPrefix(s, "yaml: ")
+	return s
+}
+
+type loader struct {
+	file  string
+	probs Problems
+}
+
+func posOf(n *yaml.Node) Pos { return Pos{n.Line, n.Column} }
+
+func (l *loader) errAt(pos Pos, field, format string, args ...any) {
+	l.probs = append(l.probs, Problem{File: l.file, Pos: pos, Field: field, Severity: Error, Msg: fmt.Sprintf(format, args...)})
+}
+
+func (l *loader) add(pos Pos, sev Severity, field, hint, format string, args ...any) {
+	l.probs = append(l.probs, Problem{File: l.file, Pos: pos, Field: field, Severity: sev, Msg: fmt.Sprintf(format, args...), Hint: hint})
+}
+
+func (l *loader) errf(n *yaml.Node, field, format string, args ...any) {
+	l.errAt(posOf(n), field, format, args...)
+}
+
+// pairs returns the key/value pairs of a mapping node, reporting duplicate
+// keys and keys not in allowed (when allowed is non-nil).
+func (l *loader) pairs(n *yaml.Node, field string, allowed []string) [][2]*yaml.Node {
+	if n.Kind != yaml.MappingNode {
+		l.errf(n, field, "expected a mapping of fields (key: value), found %s", describe(n))
+		return nil
+	}
+	seen := map[string]bool{}
+	var out [][2]*yaml.Node
+	for i := 0; i+1 < len(n.Content); i += 2 {
+		k, v := n.Content[i], n.Content[i+1]
+		key := k.Value
+		if seen[key] {
+			l.errf(k, join(field, key), "%q is given twice", key)
+			continue
+		}
+		seen[key] = true
+		if allowed != nil && !contains(allowed, key) {
+			msg := fmt.Sprintf("unknown field %q", key)
+			if dym := didYouMean(key, allowed); dym != "" {
+				msg += ": " + dym
+			} else {
+				msg += ": expected one of " + strings.Join(allowed, ", ")
+			}
+			l.errf(k, join(field, key), "%s", msg)
+			continue
+		}
+		out = append(out, [2]*yaml.Node{k, v})
+	}
+	return out
+}
+
+func describe(n *yaml.Node) string {
+	switch n.Kind {
+	case yaml.ScalarNode:
+		if n.Value == "" {
+			return "nothing"
+		}
+		return fmt.Sprintf("%q", n.Value)
+	case yaml.SequenceNode:
+		return "a list"
+	case yaml.MappingNode:
+		return "a mapping"
+	}
+	return "something else"
+}
+
+func join(a, b string) string {
+	if a == "" {
+		return b
+	}
+	return a + "." + b
+}
+
+func contains(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+// scalar returns the node's text or reports that a single value was expected.
+func (l *loader) scalar(n *yaml.Node, field, what string) (string, bool) {
+	if n.Kind != yaml.ScalarNode || n.Tag == "!!null" {
+		l.errf(n, field, "expected %s, found %s", what, describe(n))
+		return "", false
+	}
+	return strings.TrimSpace(n.Value), true
+}
+
+// value parses a quantity. A trailing "?" marks a placeholder to be
+// replaced with the amp's own value; it is recorded on the part.
+func (l *loader) value(n *yaml.Node, field string, q units.Quantity, p *Part) (float64, bool) {
+	s, ok := l.scalar(n, field, "a "+q.String())
+	if !ok {
+		return 0, false
+	}
+	if strings.HasSuffix(s, "?") {
+		s = strings.TrimSpace(strings.TrimSuffix(s, "?"))
+		if p != nil {
+			p.Placeholder = append(p.Placeholder, field)
+		}
+	}
+	v, err := units.Parse(s, q)
+	if err != nil {
+		l.errf(n, field, "%s", err.Error())
+		return 0, false
+	}
+	return v, true
+}
+
+func (l *loader) tolerance(n *yaml.Node, field string) (Tolerance, bool) {
+	s, ok := l.scalar(n, field, "a tolerance (5%, J, -10%/+50%)")
+	if !ok {
+		return Tolerance{}, false
+	}
+	lo, hi, err := units.ParseTolerance(s)
+	if err != nil {
+		l.errf(n, field, "%s", err.Error())
+		return Tolerance{}, false
+	}
+	if lo < -0.9 || hi > 5 {
+		l.errf(n, field, "tolerance %s is out of range: expected within -90%% and +500%%", s)
+		return Tolerance{}, false
+	}
+	return Tolerance{lo, hi}, true
+}
+
+// netList reads a list of net names of the given length (0 = any ≥1).
+func (l *loader) netList(n *yaml.Node, field string, want int) ([]string, bool) {
+	if n.Kind != yaml.SequenceNode {
+		if want == 1 && n.Kind == yaml.ScalarNode {
+			s, ok := l.netName(n, field)
+			return []string{s}, ok
+		}
+		l.errf(n, field, "expected a list of %s, like [B1, 0V], found %s", netCount(want), describe(n))
+		return nil, false
+	}
+	if want > 0 && len(n.Content) != want {
+		l.errf(n, field, "expected %s, found %d", netCount(want), len(n.Content))
+		return nil, false
+	}
+	if want == 0 && len(n.Content) == 0 {
+		l.errf(n, field, "expected at least one net name")
+		return nil, false
+	}
+	out := make([]string, 0, len(n.Content))
+	okAll := true
+	for _, c := range n.Content {
+		s, ok := l.netName(c, field)
+		okAll = okAll && ok
+		out = append(out, s)
+	}
+	return out, okAll
+}
+
+func netCount(n int) string {
+	switch n {
+	case 0:
+		return "net names"
+	case 1:
+		return "one net name"
+	}
+	return fmt.Sprintf("%d net names", n)
+}
+
+func (l *loader) netName(n *yaml.Node, field string) (string, bool) {
+	s, ok := l.scalar(n, field, "a net name")
+	if !ok {
+		return "", false
+	}
+	if s == "" || strings.ContainsAny(s, " \t,:[]{}") {
+		l.errf(n, field, "net name %q: expected a name without spaces or punctuation, like B1 or P2", s)
+		return "", false
+	}
+	return s, true
+}
+
+// design reads the top level.
+func (l *loader) design(d *Design, root *yaml.Node) {
+	top := []string{"pinwalk", "title", "mains", "tolerances", "ground", "parts", "notes"}
+	pairs := l.pairs(root, "", top)
+	if root.Kind != yaml.MappingNode {
+		return
+	}
+	got := map[string]*yaml.Node{}
+	for _, kv := range pairs {
+		got[kv[0].Value] = kv[1]
+	}
+	if v, ok := got["pinwalk"]; ok {
+		if s, ok := l.scalar(v, "pinwalk", "the schema version"); ok {
+			if s != fmt.Sprint(SchemaVersion) {
+				l.errf(v, "pinwalk", "schema version %q is not supported: expected %d", s, SchemaVersion)
+			}
+			d.Version = SchemaVersion
+		}
+	} else {
+		l.errAt(posOf(root), "pinwalk", "missing schema version: expected `pinwalk: %d` as the first line", SchemaVersion)
+	}
+	if v, ok := got["title"]; ok {
+		d.Title, _ = l.scalar(v, "title", "a title")
+	}
+	d.Mains = Mains{Volts: 230, Hz: 50, Tol: Tolerance{-0.06, 0.06}}
+	if v, ok := got["mains"]; ok {
+		l.mains(d, v)
+	} else {
+		l.errAt(posOf(root), "mains", "missing mains: expected `mains: {volts: 230, hz: 50, tolerance: 6%%}`")
+	}
+	d.Defaults = Defaults{
+		Resistor:     Tolerance{-0.05, 0.05},
+		Capacitor:    Tolerance{-0.10, 0.10},
+		Electrolytic: Tolerance{-0.20, 0.50},
+		Winding:      Tolerance{-0.10, 0.10},
+	}
+	if v, ok := got["tolerances"]; ok {
+		for _, kv := range l.pairs(v, "tolerances", []string{"resistor", "capacitor", "electrolytic", "winding"}) {
+			t, ok := l.tolerance(kv[1], "tolerances."+kv[0].Value)
+			if !ok {
+				continue
+			}
+			switch kv[0].Value {
+			case "resistor":
+				d.Defaults.Resistor = t
+			case "capacitor":
+				d.Defaults.Capacitor = t
+			case "electrolytic":
+				d.Defaults.Electrolytic = t
+			case "winding":
+				d.Defaults.Winding = t
+			}
+		}
+	}
+	d.Ground = "0V"
+	if v, ok := got["ground"]; ok {
+		if s, ok := l.netName(v, "ground"); ok {
+			d.Ground = s
+		}
+	}
+	if v, ok := got["title"]; ok && d.Title == "" {
+		l.errf(v, "title", "expected a title for the amplifier")
+	}
+	v, ok := got["parts"]
+	if !ok {
+		l.errAt(posOf(root), "parts", "missing parts: expected a mapping of parts by reference (R1, C1, V1…)")
+		return
+	}
+	if v.Kind != yaml.MappingNode {
+		l.errf(v, "parts", "expected a mapping of parts by reference (R1: {resistor: 4K7, between: [B1, P1]}), found %s", describe(v))
+		return
+	}
+	for i := 0; i+1 < len(v.Content); i += 2 {
+		k, pv := v.Content[i], v.Content[i+1]
+		ref := k.Value
+		field := ref
+		if prev, dup := d.ByRef[ref]; dup {
+			l.errf(k, field, "duplicate reference %s: already used at line %d", ref, prev.Pos.Line)
+			continue
+		}
+		if ref == "" || strings.ContainsAny(ref, " .:,[]{}") {
+			l.errf(k, "parts", "reference %q: expected a schematic reference like R1, C12 or V2", ref)
+			continue
+		}
+		p := &Part{Ref: ref, Pos: posOf(k), fields: map[string]Pos{}}
+		if l.part(d, p, pv) {
+			d.ByRef[ref] = p
+			d.Parts = append(d.Parts, p)
+		} else {
+			d.ByRef[ref] = p // still reserve the reference for duplicate detection
+		}
+	}
+	for _, p := range d.Parts {
+		for _, t := range p.Terminals {
+			d.Nets[t.Net] = append(d.Nets[t.Net], NetUse{Ref: p.Ref, Terminal: t.Name, Pos: t.Pos})
+		}
+	}
+}
+
+func (l *loader) mains(d *Design, n *yaml.Node) {
+	for _, kv := range l.pairs(n, "mains", []string{"volts", "hz", "tolerance"}) {
+		f := "mains." + kv[0].Value
+		switch kv[0].Value {
+		case "volts":
+			if v, ok := l.value(kv[1], f, units.Volts, nil); ok {
+				if v < 90 || v > 265 {
+					l.errf(kv[1], f, "mains of %s is out of range: expected 90 V to 265 V rms", units.Format(v, units.Volts))
+				} else {
+					d.Mains.Volts = v
+				}
+			}
+		case "hz":
+			if v, ok := l.value(kv[1], f, units.Hertz, nil); ok {
+				if v < 45 || v > 65 {
+					l.errf(kv[1], f, "mains frequency %s is out of range: expected 50 Hz or 60 Hz", units.Format(v, units.Hertz))
+				} else {
+					d.Mains.Hz = v
+				}
+			}
+		case "tolerance":
+			if t, ok := l.tolerance(kv[1], f); ok {
+				if t.Hi > 0.2 || t.Lo < -0.2 {
+					l.errf(kv[1], f, "mains tolerance beyond ±20%%: expected the supply's stated limits, such as 6%% or 10%%")
+				} else {
+					d.Mains.Tol = t
+				}
+			}
+		}
+	}
+}
+
+// kindOf finds the single kind key of a part mapping.
+func (l *loader) kindOf(ref string, n *yaml.Node) (Kind, *yaml.Node, bool) {
+	if n.Kind != yaml.MappingNode {
+		l.errf(n, ref, "expected a part such as {resistor: 4K7, between: [B1, P1]}, found %s", describe(n))
+		return "", nil, false
+	}
+	var found []Kind
+	var val *yaml.Node
+	names := make([]string, len(Kinds))
+	for i, k := range Kinds {
+		names[i] = string(k)
+	}
+	for i := 0; i+1 < len(n.Content); i += 2 {
+		key := n.Content[i].Value
+		if contains(names, key) {
+			found = append(found, Kind(key))
+			val = n.Content[i+1]
+		}
+	}
+	switch len(found) {
+	case 1:
+		return found[0], val, true
+	case 0:
+		hint := ""
+		for i := 0; i+1 < len(n.Content); i += 2 {
+			if s := Suggest(n.Content[i].Value, names); len(s) > 0 {
+				hint = fmt.Sprintf(" (%q: did you mean %q?)", n.Content[i].Value, s[0])
+				break
+			}
+		}
+		l.errf(n, ref, "no part kind given%s: expected one of %s", hint, strings.Join(names, ", "))
+	default:
+		l.errf(n, ref, "more than one part kind (%s): expected exactly one", kindList(found))
+	}
+	return "", nil, false
+}
+
+func kindList(ks []Kind) string {
+	s := make([]string, len(ks))
+	for i, k := range ks {
+		s[i] = string(k)
+	}
+	return strings.Join(s, ", ")
+}
+
+// fieldsOf lists the fields each kind accepts (besides the kind key).
+var fieldsOf = map[Kind][]string{
+	Resistor:          {"watts", "tolerance", "build", "between", "note"},
+	Capacitor:         {"volts", "kind", "tolerance", "leakage", "between", "note"},
+	Choke:             {"dcr", "rated", "tolerance", "between", "note"},
+	Pot:               {"setting", "ends", "wiper", "watts", "tolerance", "note"},
+	Fuse:              {"slow", "between", "note"},
+	MainsInlet:        {"live", "neutral", "earth", "note"},
+	BiasSupply:        {"dcr", "between", "note"},
+	DCSupply:          {"dcr", "between", "note"},
+	PowerTransformer:  {"note"},
+	OutputTransformer: {"note"},
+	Rectifier:         {"anodes", "cathode", "ac", "plus", "minus", "note"},
+	Valve:             {"heater", "note", "plate", "grid", "cathode", "screen", "suppressor", "plates", "A", "B"},
+}
+
+// CapacitorKinds are the dielectric kinds a capacitor may name.
+var CapacitorKinds = []string{"electrolytic", "film", "mica", "ceramic", "paper", "oil"}
+
+// ResistorBuilds are the constructions a resistor may name.
+var ResistorBuilds = []string{"carbon-comp", "carbon-film", "metal-film", "metal-oxide", "wirewound"}
+
+func (l *loader) part(d *Design, p *Part, n *yaml.Node) bool {
+	kind, kv, ok := l.kindOf(p.Ref, n)
+	if !ok {
+		return false
+	}
+	p.Kind = kind
+	allowed := append([]string{string(kind)}, fieldsOf[kind]...)
+	fields := map[string]*yaml.Node{}
+	for _, f := range l.pairs(n, p.Ref, allowed) {
+		fields[f[0].Value] = f[1]
+		p.fields[f[0].Value] = posOf(f[0])
+	}
+	before := len(l.probs.Errors())
+	field := func(name string) string { return p.Ref + "." + name }
+	if nn, ok := fields["note"]; ok {
+		p.Note, _ = l.scalar(nn, field("note"), "a note")
+	}
+	switch kind {
+	case Resistor:
+		l.resistor(d, p, kv, fields)
+	case Capacitor:
+		l.capacitor(d, p, kv, fields)
+	case Choke:
+		if v, ok := l.value(kv, field("choke"), units.Henries, p); ok {
+			if v <= 0 || v > 1000 {
+				l.errf(kv, field("choke"), "%s is out of range: expected more than 0 H and at most 1000 H", units.Format(v, units.Henries))
+			}
+			p.Value = v
+		}
+		p.Tol = d.Defaults.Winding
+		l.optValue(fields, "dcr", units.Ohms, p, &p.DCR, 0, 1e5)
+		l.optValue(fields, "rated", units.Amps, p, &p.RatedAmps, 0, 100)
+		l.optTol(fields, p)
+		if _, ok := fields["dcr"]; !ok {
+			l.errAt(p.Pos, field("dcr"), "missing dcr: a choke's DC resistance sets the B+ drop; measure it cold or take it from the maker's data (dcr: 110R)")
+		}
+		l.twoNets(p, fields, "between", [2]string{"a", "b"})
+	case Pot:
+		if v, ok := l.value(kv, field("pot"), units.Ohms, p); ok {
+			if v <= 0 || v > 1e8 {
+				l.errf(kv, field("pot"), "%s is out of range: expected more than 0 Ω", units.Format(v, units.Ohms))
+			}
+			p.Value = v
+		}
+		p.Tol = Tolerance{-0.2, 0.2}
+		p.Setting = 0.5
+		if sn, ok := fields["setting"]; ok {
+			if s, ok := l.scalar(sn, field("setting"), "a wiper setting (0% to 100% from the first end)"); ok {
+				v, err := units.Parse(strings.TrimSuffix(s, "?"), units.Percent)
+				if err != nil || v < 0 || v > 100 {
+					l.errf(sn, field("setting"), "%q: expected a wiper setting from 0%% to 100%% measured from the first end", s)
+				} else {
+					p.Setting = v / 100
+				}
+			}
+		}
+		l.optValue(fields, "watts", units.Watts, p, &p.Watts, 0, 1000)
+		l.optTol(fields, p)
+		l.twoNets(p, fields, "ends", [2]string{"a", "b"})
+		if wn, ok := fields["wiper"]; ok {
+			if s, ok := l.netName(wn, field("wiper")); ok {
+				p.Terminals = append(p.Terminals, Terminal{Name: "wiper", Net: s, Pos: posOf(wn)})
+			}
+		} else {
+			l.errAt(p.Pos, field("wiper"), "missing wiper: expected the net the wiper connects to (wiper: NB1)")
+		}
+	case Fuse:
+		if v, ok := l.value(kv, field("fuse"), units.Amps, p); ok {
+			if v <= 0 || v > 100 {
+				l.errf(kv, field("fuse"), "%s is out of range: expected a fuse rating in amps", units.Format(v, units.Amps))
+			}
+			p.Value = v
+		}
+		if sn, ok := fields["slow"]; ok {
+			if s, ok := l.scalar(sn, field("slow"), "true or false"); ok && s != "true" && s != "false" {
+				l.errf(sn, field("slow"), "expected true or false, found %q", s)
+			} else {
+				p.Material = map[string]string{"true": "slow", "false": "fast"}[s]
+			}
+		}
+		l.twoNets(p, fields, "between", [2]string{"a", "b"})
+	case MainsInlet:
+		for _, t := range []string{"live", "neutral", "earth"} {
+			if tn, ok := fields[t]; ok {
+				if s, ok := l.netName(tn, field(t)); ok {
+					p.Terminals = append(p.Terminals, Terminal{Name: t, Net: s, Pos: posOf(tn)})
+				}
+			} else {
+				l.errAt(p.Pos, field(t), "missing %s: expected the net the inlet's %s connects to", t, t)
+			}
+		}
+	case BiasSupply, DCSupply:
+		if v, ok := l.value(kv, field(string(kind)), units.Volts, p); ok {
+			if v == 0 || v < -1000 || v > 1000 {
+				l.errf(kv, field(string(kind)), "%s is out of range: expected the supply's DC output, e.g. -52V or 250V", units.Format(v, units.Volts))
+			}
+			p.Value = v
+		}
+		p.Tol = Tolerance{-0.1, 0.1}
+		l.optValue(fields, "dcr", units.Ohms, p, &p.DCR, 0, 1e7)
+		l.twoNets(p, fields, "between", [2]string{"out", "ref"})
+	case PowerTransformer:
+		l.powerTransformer(p, kv)
+	case OutputTransformer:
+		l.outputTransformer(p, kv)
+	case Rectifier:
+		l.rectifier(p, kv, fields)
+	case Valve:
+		l.valve(d, p, kv, fields)
+	}
+	return len(l.probs.Errors()) == before
+}
+
+func (l *loader) optValue(fields map[string]*yaml.Node, name string, q units.Quantity, p *Part, dst *float64, lo, hi float64) {
+	n, ok := fields[name]
+	if !ok {
+		return
+	}
+	f := p.Ref + "." + name
+	v, ok := l.value(n, f, q, p)
+	if !ok {
+		return
+	}
+	if v <= lo || v > hi {
+		l.errf(n, f, "%s is out of range: expected more than %s and at most %s", units.Format(v, q), units.Format(lo, q), units.Format(hi, q))
+		return
+	}
+	*dst = v
+}
+
+func (l *loader) optTol(fields map[string]*yaml.Node, p *Part) {
+	if n, ok := fields["tolerance"]; ok {
+		if t, ok := l.tolerance(n, p.Ref+".tolerance"); ok {
+			p.Tol = t
+		}
+	}
+}
+
+// twoNets reads a two-net list field into terminals with the given names.
+func (l *loader) twoNets(p *Part, fields map[string]*yaml.Node, name string, terms [2]string) {
+	n, ok := fields[name]
+	f := p.Ref + "." + name
+	if !ok {
+		l.errAt(p.Pos, f, "missing %s: expected the two nets the part joins, like %s: [B1, P1]", name, name)
+		return
+	}
+	nets, ok := l.netList(n, f, 2)
+	if !ok {
+		return
+	}
+	if nets[0] == nets[1] {
+		l.errf(n, f, "both ends on net %s: the part is shorted to itself", nets[0])
+		return
+	}
+	for i, t := range terms {
+		pos := posOf(n)
+		if n.Kind == yaml.SequenceNode {
+			pos = posOf(n.Content[i])
+		}
+		p.Terminals = append(p.Terminals, Terminal{Name: t, Net: nets[i], Pos: pos})
+	}
+}
+
+func (l *loader) resistor(d *Design, p *Part, kv *yaml.Node, fields map[string]*yaml.Node) {
+	f := p.Ref + ".resistor"
+	if v, ok := l.value(kv, f, units.Ohms, p); ok {
+		if v <= 0 || v > 1e10 {
+			l.errf(kv, f, "%s is out of range: expected more than 0 Ω and at most 10 GΩ", units.Format(v, units.Ohms))
+		}
+		p.Value = v
+	}
+	p.Tol = d.Defaults.Resistor
+	l.optValue(fields, "watts", units.Watts, p, &p.Watts, 0, 1000)
+	l.optTol(fields, p)
+	if bn, ok := fields["build"]; ok {
+		if s, ok := l.scalar(bn, p.Ref+".build", "a resistor build"); ok {
+			if !contains(ResistorBuilds, s) {
+				msg := fmt.Sprintf("unknown build %q", s)
+				if dym := didYouMean(s, ResistorBuilds); dym != "" {
+					msg += ": " + dym
+				} else {
+					msg += ": expected one of " + strings.Join(ResistorBuilds, ", ")
+				}
+				l.errf(bn, p.Ref+".build", "%s", msg)
+			}
+			p.Material = s
+		}
+	}
+	l.twoNets(p, fields, "between", [2]string{"a", "b"})
+}
+
+func (l *loader) capacitor(d *Design, p *Part, kv *yaml.Node, fields map[string]*yaml.Node) {
+	f := p.Ref + ".capacitor"
+	if v, ok := l.value(kv, f, units.Farads, p); ok {
+		if v <= 0 || v > 10 {
+			l.errf(kv, f, "%s is out of range: expected more than 0 F", units.Format(v, units.Farads))
+		}
+		p.Value = v
+	}
+	p.Material = "film"
+	if kn, ok := fields["kind"]; ok {
+		if s, ok := l.scalar(kn, p.Ref+".kind", "a capacitor kind"); ok {
+			if !contains(CapacitorKinds, s) {
+				msg := fmt.Sprintf("unknown kind %q", s)
+				if dym := didYouMean(s, CapacitorKinds); dym != "" {
+					msg += ": " + dym
+				} else {
+					msg += ": expected one of " + strings.Join(CapacitorKinds, ", ")
+				}
+				l.errf(kn, p.Ref+".kind", "%s", msg)
+			}
+			p.Material = s
+		}
+	} else if p.Value >= 1e-6 {
+		p.Material = "electrolytic"
+	}
+	if p.Material == "electrolytic" {
+		p.Tol = d.Defaults.Electrolytic
+	} else {
+		p.Tol = d.Defaults.Capacitor
+	}
+	l.optValue(fields, "volts", units.Volts, p, &p.Volts, 0, 1e5)
+	l.optValue(fields, "leakage", units.Ohms, p, &p.Leakage, 0, 1e15)
+	l.optTol(fields, p)
+	l.twoNets(p, fields, "between", [2]string{"a", "b"})
+}
+
+func (l *loader) powerTransformer(p *Part, n *yaml.Node) {
+	f := p.Ref + ".power-transformer"
+	pt := &PowerTransformerPart{}
+	p.PT = pt
+	got := map[string]*yaml.Node{}
+	for _, kv := range l.pairs(n, f, []string{"primary", "secondaries", "regulation"}) {
+		got[kv[0].Value] = kv[1]
+	}
+	if n.Kind != yaml.MappingNode {
+		return
+	}
+	if pn, ok := got["primary"]; ok {
+		pf := f + ".primary"
+		for _, kv := range l.pairs(pn, pf, []string{"volts", "dcr", "ends"}) {
+			switch kv[0].Value {
+			case "volts":
+				if v, ok := l.value(kv[1], pf+".volts", units.Volts, p); ok {
+					if v < 90 || v > 265 {
+						l.errf(kv[1], pf+".volts", "%s is out of range: expected the primary's rated mains, 90 V to 265 V", units.Format(v, units.Volts))
+					}
+					pt.PrimaryVolts = v
+				}
+			case "dcr":
+				if v, ok := l.value(kv[1], pf+".dcr", units.Ohms, p); ok {
+					if v <= 0 || v > 1000 {
+						l.errf(kv[1], pf+".dcr", "%s is out of range: expected a primary DC resistance of a few ohms to tens of ohms", units.Format(v, units.Ohms))
+					}
+					pt.PrimaryDCR = v
+				}
+			case "ends":
+				if nets, ok := l.netList(kv[1], pf+".ends", 2); ok {
+					pt.PrimaryEnds = [2]string{nets[0], nets[1]}
+					for i, nn := range nets {
+						p.Terminals = append(p.Terminals, Terminal{Name: fmt.Sprintf("primary.%d", i+1), Net: nn, Pos: posOf(kv[1].Content[i])})
+					}
+				}
+			}
+		}
+		if pt.PrimaryVolts == 0 {
+			l.errf(pn, pf+".volts", "missing primary volts: expected the mains voltage the primary is wound for (volts: 230)")
+		}
+	} else {
+		l.errf(n, f+".primary", "missing primary: expected primary: {volts: 230, dcr: 9R}")
+	}
+	if rn, ok := got["regulation"]; ok {
+		if v, ok := l.value(rn, f+".regulation", units.Percent, p); ok {
+			if v <= 0 || v > 50 {
+				l.errf(rn, f+".regulation", "%s: expected the no-load to full-load rise, a few percent to 20%%", units.Format(v, units.Percent))
+			}
+			pt.Regulation = v / 100
+		}
+	}
+	sn, ok := got["secondaries"]
+	if !ok {
+		l.errf(n, f+".secondaries", "missing secondaries: expected a mapping of windings by name (HT: {volts: 250-0-250, ends: [HTA, HTB], centre: 0V})")
+		return
+	}
+	for _, kv := range l.pairs(sn, f+".secondaries", nil) {
+		name := kv[0].Value
+		wf := f + ".secondaries." + name
+		w := &Winding{Name: name, Pos: posOf(kv[0])}
+		got := map[string]*yaml.Node{}
+		for _, fkv := range l.pairs(kv[1], wf, []string{"volts", "dcr", "rated", "ends", "centre"}) {
+			got[fkv[0].Value] = fkv[1]
+		}
+		if kv[1].Kind != yaml.MappingNode {
+			continue
+		}
+		if vn, ok := got["volts"]; ok {
+			if s, ok := l.scalar(vn, wf+".volts", "the winding's rms volts (6.3 or 250-0-250)"); ok {
+				l.windingVolts(vn, wf+".volts", s, w, p)
+			}
+		} else {
+			l.errf(kv[1], wf+".volts", "missing volts: expected the winding's rated rms volts (volts: 6.3, or volts: 250-0-250 for a centre tap)")
+		}
+		if dn, ok := got["dcr"]; ok {
+			if v, ok := l.value(dn, wf+".dcr", units.Ohms, p); ok {
+				if v < 0 || v > 1e4 {
+					l.errf(dn, wf+".dcr", "%s is out of range", units.Format(v, units.Ohms))
+				}
+				w.DCR = v
+			}
+		}
+		if rn, ok := got["rated"]; ok {
+			if v, ok := l.value(rn, wf+".rated", units.Amps, p); ok {
+				if v <= 0 || v > 50 {
+					l.errf(rn, wf+".rated", "%s is out of range: expected the winding's current rating", units.Format(v, units.Amps))
+				}
+				w.RatedAmps = v
+			}
+		} else {
+			l.errf(kv[1], wf+".rated", "missing rated: expected the winding's current rating (rated: 150mA), used for regulation and load checks")
+		}
+		if en, ok := got["ends"]; ok {
+			if nets, ok := l.netList(en, wf+".ends", 2); ok {
+				if nets[0] == nets[1] {
+					l.errf(en, wf+".ends", "both ends on net %s: the winding is shorted", nets[0])
+				}
+				w.Ends = [2]string{nets[0], nets[1]}
+				for i, nn := range nets {
+					p.Terminals = append(p.Terminals, Terminal{Name: fmt.Sprintf("%s.%d", name, i+1), Net: nn, Pos: posOf(en.Content[i])})
+				}
+			}
+		} else {
+			l.errf(kv[1], wf+".ends", "missing ends: expected the nets of the winding's two ends (ends: [HTA, HTB])")
+		}
+		if cn, ok := got["centre"]; ok {
+			if s, ok := l.netName(cn, wf+".centre"); ok {
+				w.Centre = s
+				p.Terminals = append(p.Terminals, Terminal{Name: name + ".centre", Net: s, Pos: posOf(cn)})
+			}
+		} else if w.CentreTap {
+			l.errf(kv[1], wf+".centre", "%s is written as a centre-tapped winding but has no centre: expected centre: 0V", name)
+		}
+		pt.Windings = append(pt.Windings, w)
+	}
+	if len(pt.Windings) == 0 && sn.Kind == yaml.MappingNode {
+		l.errf(sn, f+".secondaries", "no secondaries: expected at least the HT winding")
+	}
+}
+
+// windingVolts reads "6.3", "6.3V", "250-0-250" or "250-0-250V".
+func (l *loader) windingVolts(n *yaml.Node, field, s string, w *Winding, p *Part) {
+	s = strings.TrimSuffix(s, "?")
+	if parts := strings.Split(s, "-0-"); len(parts) == 2 {
+		a, err1 := units.Parse(strings.TrimSpace(parts[0]), units.Volts)
+		b, err2 := units.Parse(strings.TrimSpace(parts[1]), units.Volts)
+		if err1 != nil || err2 != nil || a != b {
+			l.errf(n, field, "%q: expected a centre-tapped winding written as equal halves, like 250-0-250", s)
+			return
+		}
+		w.Volts, w.CentreTap = a, true
+	} else {
+		v, err := units.Parse(s, units.Volts)
+		if err != nil {
+			l.errf(n, field, "%s", err.Error())
+			return
+		}
+		w.Volts = v
+	}
+	if w.Volts <= 0 || w.Volts > 2000 {
+		l.errf(n, field, "%s is out of range: expected a winding of more than 0 V and at most 2 kV rms", units.Format(w.Volts, units.Volts))
+	}
+}
+
+func (l *loader) outputTransformer(p *Part, n *yaml.Node) {
+	f := p.Ref + ".output-transformer"
+	ot := &OutputTransformerPart{}
+	p.OT = ot
+	got := map[string]*yaml.Node{}
+	for _, kv := range l.pairs(n, f, []string{"primary", "secondary"}) {
+		got[kv[0].Value] = kv[1]
+	}
+	if n.Kind != yaml.MappingNode {
+		return
+	}
+	pn, ok := got["primary"]
+	if !ok {
+		l.errf(n, f+".primary", "missing primary: expected primary: {ends: [B1, OP], dcr: 230R, impedance: 5k} (push-pull: ends: [PA, PB], centre: B1)")
+		return
+	}
+	pf := f + ".primary"
+	pg := map[string]*yaml.Node{}
+	for _, kv := range l.pairs(pn, pf, []string{"ends", "centre", "dcr", "impedance"}) {
+		pg[kv[0].Value] = kv[1]
+	}
+	if en, ok := pg["ends"]; ok {
+		if nets, ok := l.netList(en, pf+".ends", 2); ok {
+			if nets[0] == nets[1] {
+				l.errf(en, pf+".ends", "both ends on net %s: the primary is shorted", nets[0])
+			}
+			ot.Ends = [2]string{nets[0], nets[1]}
+			for i, nn := range nets {
+				p.Terminals = append(p.Terminals, Terminal{Name: fmt.Sprintf("primary.%d", i+1), Net: nn, Pos: posOf(en.Content[i])})
+			}
+		}
+	} else if pn.Kind == yaml.MappingNode {
+		l.errf(pn, pf+".ends", "missing ends: expected the primary's two ends (single-ended: [B1, OP]; push-pull: [PA, PB] with centre: B1)")
+	}
+	if cn, ok := pg["centre"]; ok {
+		if s, ok := l.netName(cn, pf+".centre"); ok {
+			ot.Centre = s
+			p.Terminals = append(p.Terminals, Terminal{Name: "primary.centre", Net: s, Pos: posOf(cn)})
+		}
+	}
+	if dn, ok := pg["dcr"]; ok {
+		df := pf + ".dcr"
+		if dn.Kind == yaml.SequenceNode {
+			if ot.Centre == "" {
+				l.errf(dn, df, "two DCRs given but the primary has no centre: expected one DCR for a single-ended primary")
+			} else if len(dn.Content) != 2 {
+				l.errf(dn, df, "expected two DCRs, one per half: [95R, 105R]")
+			} else {
+				for i := range 2 {
+					if v, ok := l.value(dn.Content[i], df, units.Ohms, p); ok {
+						ot.DCR[i] = v
+					}
+				}
+			}
+		} else if v, ok := l.value(dn, df, units.Ohms, p); ok {
+			if v <= 0 || v > 1e4 {
+				l.errf(dn, df, "%s is out of range: expected a primary DCR of tens to hundreds of ohms", units.Format(v, units.Ohms))
+			}
+			if ot.Centre != "" {
+				ot.DCR = [2]float64{v, v} // one figure given: taken per half
+			} else {
+				ot.DCR = [2]float64{v, 0}
+			}
+		}
+	} else if pn.Kind == yaml.MappingNode {
+		l.errf(pn, pf+".dcr", "missing dcr: the primary's DC resistance sets the plate voltage; measure it cold (dcr: 230R, or per half for push-pull: [95R, 105R])")
+	}
+	if in, ok := pg["impedance"]; ok {
+		if v, ok := l.value(in, pf+".impedance", units.Ohms, p); ok {
+			if v <= 0 || v > 1e6 {
+				l.errf(in, pf+".impedance", "%s is out of range", units.Format(v, units.Ohms))
+			}
+			ot.Impedance = v
+		}
+	} else if pn.Kind == yaml.MappingNode {
+		l.errf(pn, pf+".impedance", "missing impedance: expected the primary impedance from the rating (impedance: 5k; plate to plate for push-pull)")
+	}
+	ot.Load = 8
+	if sn, ok := got["secondary"]; ok {
+		for _, kv := range l.pairs(sn, f+".secondary", []string{"load", "dcr"}) {
+			switch kv[0].Value {
+			case "load":
+				if v, ok := l.value(kv[1], f+".secondary.load", units.Ohms, p); ok {
+					if v <= 0 || v > 1000 {
+						l.errf(kv[1], f+".secondary.load", "%s is out of range: expected the speaker load the impedance is rated for (4R, 8R, 16R)", units.Format(v, units.Ohms))
+					}
+					ot.Load = v
+				}
+			case "dcr":
+				if v, ok := l.value(kv[1], f+".secondary.dcr", units.Ohms, p); ok {
+					ot.SecDCR = v
+				}
+			}
+		}
+	}
+}
+
+func (l *loader) rectifier(p *Part, kv *yaml.Node, fields map[string]*yaml.Node) {
+	f := p.Ref + ".rectifier"
+	r := &RectifierPart{Diode: valves.DefaultDiode()}
+	p.Rect = r
+	s, ok := l.scalar(kv, f, "a rectifier type (silicon or silicon-bridge)")
+	if !ok {
+		return
+	}
+	switch s {
+	case "silicon":
+	case "silicon-bridge":
+		r.Bridge = true
+	default:
+		msg := fmt.Sprintf("unknown rectifier %q: expected silicon or silicon-bridge", s)
+		if vt, ok := valves.Lookup(s); ok {
+			msg += fmt.Sprintf("; a %s is a valve: write it as {valve: %s, plates: [HTA, HTB], cathode: B1, heater: [..]}", vt.Name, vt.Name)
+		} else if dym := didYouMean(s, []string{"silicon", "silicon-bridge"}); dym != "" {
+			msg += "; " + dym
+		}
+		l.errf(kv, f, "%s", msg)
+		return
+	}
+	if r.Bridge {
+		for _, bad := range []string{"anodes", "cathode"} {
+			if n, ok := fields[bad]; ok {
+				l.errf(n, p.Ref+"."+bad, "a bridge is wired with ac: [HTA, HTB], plus: and minus:, not %s", bad)
+			}
+		}
+		if n, ok := fields["ac"]; ok {
+			if nets, ok := l.netList(n, p.Ref+".ac", 2); ok {
+				r.AC = [2]string{nets[0], nets[1]}
+				for i, nn := range nets {
+					p.Terminals = append(p.Terminals, Terminal{Name: fmt.Sprintf("ac%d", i+1), Net: nn, Pos: posOf(n.Content[i])})
+				}
+			}
+		} else {
+			l.errAt(p.Pos, p.Ref+".ac", "missing ac: expected the two winding ends the bridge takes (ac: [HTA, HTB])")
+		}
+		for _, t := range []string{"plus", "minus"} {
+			if n, ok := fields[t]; ok {
+				if s, ok := l.netName(n, p.Ref+"."+t); ok {
+					if t == "plus" {
+						r.Plus = s
+					} else {
+						r.Minus = s
+					}
+					p.Terminals = append(p.Terminals, Terminal{Name: t, Net: s, Pos: posOf(n)})
+				}
+			} else {
+				l.errAt(p.Pos, p.Ref+"."+t, "missing %s: expected the bridge's %s output net", t, t)
+			}
+		}
+		return
+	}
+	for _, bad := range []string{"ac", "plus", "minus"} {
+		if n, ok := fields[bad]; ok {
+			l.errf(n, p.Ref+"."+bad, "%s belongs to a bridge (rectifier: silicon-bridge); diodes are wired with anodes: and cathode:", bad)
+		}
+	}
+	if n, ok := fields["anodes"]; ok {
+		if nets, ok := l.netList(n, p.Ref+".anodes", 0); ok {
+			if len(nets) > 2 {
+				l.errf(n, p.Ref+".anodes", "expected one anode (half-wave) or two (full-wave centre tap), found %d", len(nets))
+			} else {
+				r.Anodes = nets
+				for i, nn := range nets {
+					pos := posOf(n)
+					if n.Kind == yaml.SequenceNode {
+						pos = posOf(n.Content[i])
+					}
+					p.Terminals = append(p.Terminals, Terminal{Name: fmt.Sprintf("anode%d", i+1), Net: nn, Pos: pos})
+				}
+			}
+		}
+	} else {
+		l.errAt(p.Pos, p.Ref+".anodes", "missing anodes: expected the winding ends feeding the diodes (anodes: [HTA, HTB])")
+	}
+	if n, ok := fields["cathode"]; ok {
+		if s, ok := l.netName(n, p.Ref+".cathode"); ok {
+			r.Plus = s
+			p.Terminals = append(p.Terminals, Terminal{Name: "cathode", Net: s, Pos: posOf(n)})
+		}
+	} else {
+		l.errAt(p.Pos, p.Ref+".cathode", "missing cathode: expected the net the diodes feed, the reservoir (cathode: B1)")
+	}
+}
+
+func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yaml.Node) {
+	f := p.Ref + ".valve"
+	name, ok := l.scalar(kv, f, "a valve type such as 12AX7")
+	if !ok {
+		return
+	}
+	vt, ok := valves.Lookup(name)
+	if !ok {
+		msg := fmt.Sprintf("unknown valve type %q", name)
+		var all []string
+		for _, t := range valves.All() {
+			all = append(all, t.Name)
+			all = append(all, t.Aliases...)
+		}
+		if dym := didYouMean(name, all); dym != "" {
+			msg += ": " + dym
+		} else {
+			msg += ": expected one of " + strings.Join(valves.Names(), ", ") + " (or add it in a valve side file)"
+		}
+		l.errf(kv, f, "%s", msg)
+		return
+	}
+	vp := &ValvePart{Type: vt, Sections: map[string]map[string]string{}, Unused: map[string]bool{}, PinNets: map[int]string{}}
+	p.Valve = vp
+	multi := len(vt.Sections) > 1
+	for _, sec := range vt.Sections {
+		elecs := vt.Electrodes(sec)
+		m := map[string]string{}
+		vp.Sections[sec] = m
+		var src map[string]*yaml.Node
+		var srcPos = p.Pos
+		sf := p.Ref
+		if multi {
+			sf = p.Ref + "." + sec
+			sn, ok := fields[sec]
+			if !ok {
+				l.errAt(p.Pos, sf, "section %s is not wired: expected %s: {%s} or %s: unused (ties it to ground)", sec, sec, electrodeHint(elecs), sec)
+				continue
+			}
+			if sn.Kind == yaml.ScalarNode && sn.Value == "unused" {
+				vp.Unused[sec] = true
+				for _, e := range elecs {
+					m[e] = d.Ground
+				}
+				continue
+			}
+			src = map[string]*yaml.Node{}
+			for _, ekv := range l.pairs(sn, sf, elecs) {
+				src[ekv[0].Value] = ekv[1]
+			}
+			srcPos = posOf(sn)
+		} else {
+			src = map[string]*yaml.Node{}
+			for k, v := range fields {
+				if contains(elecs, k) {
+					src[k] = v
+				} else if k != "heater" && k != "note" {
+					l.errf(v, p.Ref+"."+k, "a %s has no %s: expected %s", vt.Name, k, strings.Join(elecs, ", "))
+				}
+			}
+		}
+		for _, e := range elecs {
+			n, ok := src[e]
+			if !ok {
+				if e == valves.Grid3 {
+					m[e] = "" // filled from the cathode below
+					continue
+				}
+				l.errAt(srcPos, join(sf, e), "%s not wired: every electrode must name a net (%s)", e, electrodeHint(elecs))
+				continue
+			}
+			if e == valves.Plates {
+				if nets, ok := l.netList(n, join(sf, e), 0); ok {
+					if len(nets) != len(vt.PinsOf(sec, e)) {
+						l.errf(n, join(sf, e), "expected %d plate nets, found %d", len(vt.PinsOf(sec, e)), len(nets))
+					} else {
+						m[e] = strings.Join(nets, ",")
+					}
+				}
+				continue
+			}
+			if s, ok := l.netName(n, join(sf, e)); ok {
+				m[e] = s
+			}
+		}
+		if v, ok := m[valves.Grid3]; ok && v == "" {
+			m[valves.Grid3] = m[valves.Cathode]
+		}
+	}
+	if multi {
+		for k, v := range fields {
+			if k != "heater" && k != "note" && !contains(vt.Sections, k) {
+				l.errf(v, p.Ref+"."+k, "a %s is wired by section (%s), not by %s", vt.Name, strings.Join(vt.Sections, ", "), k)
+			}
+		}
+	} else {
+		for _, s := range []string{"A", "B"} {
+			if v, ok := fields[s]; ok {
+				l.errf(v, p.Ref+"."+s, "a %s has one section: write its electrodes directly (%s)", vt.Name, electrodeHint(vt.Electrodes(vt.Sections[0])))
+			}
+		}
+	}
+	l.heater(p, vp, fields)
+	// Pins.
+	for _, pin := range vt.Pins {
+		switch pin.Electrode {
+		case valves.Heater:
+			continue
+		case valves.HeaterCT:
+			continue
+		case "", "nc":
+			continue
+		}
+		m := vp.Sections[pin.Section]
+		if m == nil {
+			continue
+		}
+		net := m[pin.Electrode]
+		if pin.Electrode == valves.Plates {
+			plates := strings.Split(net, ",")
+			idx := 0
+			for i, pn := range vt.PinsOf(pin.Section, valves.Plates) {
+				if pn == pin.Number {
+					idx = i
+				}
+			}
+			if idx < len(plates) {
+				net = plates[idx]
+			}
+		}
+		if net != "" {
+			vp.PinNets[pin.Number] = net
+		}
+	}
+	heaterPins := vt.PinsOf("", valves.Heater)
+	ctPins := vt.PinsOf("", valves.HeaterCT)
+	if vp.HeaterNets[0] != "" {
+		if len(ctPins) > 0 && vt.Heater.AltVolts > 0 && vp.HeaterVolts == min(vt.Heater.Volts, vt.Heater.AltVolts) {
+			for _, pn := range heaterPins {
+				vp.PinNets[pn] = vp.HeaterNets[0]
+			}
+			vp.PinNets[ctPins[0]] = vp.HeaterNets[1]
+		} else {
+			for i, pn := range heaterPins {
+				if i < 2 {
+					vp.PinNets[pn] = vp.HeaterNets[i]
+				}
+			}
+		}
+	}
+	if vt.Heater.DirectlyHeated {
+		if cat := vp.Sections[""][valves.Cathode]; cat != "" && cat != vp.HeaterNets[0] && cat != vp.HeaterNets[1] && vp.HeaterNets[0] != "" {
+			l.add(p.FieldPos("cathode"), Error, p.Ref+".cathode", "write heater: [B1, F2] with the B+ net as one filament end",
+				"a %s is directly heated: its filament is the cathode, so the cathode net %s must be one of the heater nets %s, %s",
+				vt.Name, cat, vp.HeaterNets[0], vp.HeaterNets[1])
+		}
+	}
+	nums := make([]int, 0, len(vp.PinNets))
+	for n := range vp.PinNets {
+		nums = append(nums, n)
+	}
+	sort.Ints(nums)
+	for _, n := range nums {
+		pos := p.Pos
+		p.Terminals = append(p.Terminals, Terminal{Name: fmt.Sprintf("pin %d", n), Net: vp.PinNets[n], Pos: pos})
+	}
+}
+
+func electrodeHint(elecs []string) string {
+	parts := make([]string, len(elecs))
+	for i, e := range elecs {
+		parts[i] = e + ": NET"
+	}
+	return strings.Join(parts, ", ")
+}
+
+// heater reads `heater: [H1, H2]` or `heater: {between: [H1, H2], volts: 6.3}`.
+func (l *loader) heater(p *Part, vp *ValvePart, fields map[string]*yaml.Node) {
+	vt := vp.Type
+	hf := p.Ref + ".heater"
+	vp.HeaterVolts, vp.HeaterAmps = vt.Heater.Volts, vt.Heater.Amps
+	n, ok := fields["heater"]
+	if !ok {
+		l.errAt(p.Pos, hf, "missing heater: expected the heater winding's nets (heater: [H1, H2])")
+		return
+	}
+	var netsNode *yaml.Node
+	if n.Kind == yaml.MappingNode {
+		for _, kv := range l.pairs(n, hf, []string{"between", "volts"}) {
+			switch kv[0].Value {
+			case "between":
+				netsNode = kv[1]
+			case "volts":
+				if v, ok := l.value(kv[1], hf+".volts", units.Volts, p); ok {
+					switch {
+					case near(v, vt.Heater.Volts):
+						vp.HeaterVolts, vp.HeaterAmps = vt.Heater.Volts, vt.Heater.Amps
+					case vt.Heater.AltVolts > 0 && near(v, vt.Heater.AltVolts):
+						vp.HeaterVolts, vp.HeaterAmps = vt.Heater.AltVolts, vt.Heater.AltAmps
+					default:
+						alt := ""
+						if vt.Heater.AltVolts > 0 {
+							alt = " or " + units.Format(vt.Heater.AltVolts, units.Volts)
+						}
+						l.errf(kv[1], hf+".volts", "a %s heater is wired for %s%s, not %s", vt.Name,
+							units.Format(vt.Heater.Volts, units.Volts), alt, units.Format(v, units.Volts))
+					}
+				}
+			}
+		}
+		if netsNode == nil {
+			l.errf(n, hf+".between", "missing between: expected the heater nets (between: [H1, H2])")
+			return
+		}
+	} else {
+		netsNode = n
+	}
+	nets, ok := l.netList(netsNode, hf, 2)
+	if !ok {
+		return
+	}
+	if nets[0] == nets[1] {
+		l.errf(netsNode, hf, "both heater ends on net %s: the heater is shorted out", nets[0])
+		return
+	}
+	vp.HeaterNets = [2]string{nets[0], nets[1]}
+	if vt.Heater.AltVolts > 0 && n.Kind != yaml.MappingNode {
+		// A double triode on a 6.3 V winding is the usual case: say which wiring was assumed.
+		vp.HeaterVolts, vp.HeaterAmps = vt.Heater.AltVolts, vt.Heater.AltAmps
+		if vt.Heater.AltVolts > vt.Heater.Volts {
+			vp.HeaterVolts, vp.HeaterAmps = vt.Heater.Volts, vt.Heater.Amps
+		}
+	}
+}
+
+func near(a, b float64) bool { return b != 0 && a/b > 0.97 && a/b < 1.03 }

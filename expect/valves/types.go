@@ -1,0 +1,108 @@
+// Package valves is the device library: bases and pin maps, heaters,
+// ratings and fitted Koren model parameters for each valve type, with the
+// datasheet rows the parameters were fitted to.
+package valves
+
+// Kind says which model a section uses.
+type Kind string
+
+const (
+	Triode    Kind = "triode"
+	Pentode   Kind = "pentode" // pentodes and beam tetrodes share the Koren pentode model
+	Rectifier Kind = "rectifier"
+)
+
+// Base is the socket a valve plugs into.
+type Base string
+
+const (
+	Noval Base = "noval" // B9A, 9 pins
+	Octal Base = "octal" // 8 pins
+)
+
+// Electrode names used in pin maps and design files.
+const (
+	Plate    = "plate"
+	Grid     = "grid"   // control grid (grid 1)
+	Screen   = "screen" // grid 2
+	Cathode  = "cathode"
+	Heater   = "heater"     // both heater pins carry this name
+	HeaterCT = "heater-ct"  // heater centre tap (noval double triodes, pin 9)
+	Grid3    = "suppressor" // grid 3 when brought out on its own pin
+	Plates   = "plates"     // rectifier anodes (two pins)
+)
+
+// Pin is one socket pin.
+type Pin struct {
+	Number    int    `yaml:"pin"`
+	Section   string `yaml:"section,omitempty"` // "A" or "B" on double triodes, "" otherwise
+	Electrode string `yaml:"electrode"`         // one of the electrode names above, or "nc"
+}
+
+// Heater describes the heater (or filament) ratings.
+type Heater struct {
+	Volts float64 `yaml:"volts"`
+	Amps  float64 `yaml:"amps"`
+	// AltVolts/AltAmps: the series-parallel alternative (12.6 V / 0.15 A
+	// double triodes wired for 6.3 V / 0.3 A); zero when there is none.
+	AltVolts       float64 `yaml:"alt_volts,omitempty"`
+	AltAmps        float64 `yaml:"alt_amps,omitempty"`
+	DirectlyHeated bool    `yaml:"directly_heated,omitempty"` // filament is the cathode (5U4GB, 5Y3GT)
+	WarmUpSeconds  float64 `yaml:"warm_up_s,omitempty"`
+}
+
+// Limits are the absolute or design-centre maximum ratings per section.
+type Limits struct {
+	PlateWatts         float64 `yaml:"plate_w"`
+	ScreenWatts        float64 `yaml:"screen_w,omitempty"`
+	PlateVolts         float64 `yaml:"plate_v"`
+	CathodeAmps        float64 `yaml:"cathode_a,omitempty"`
+	GridOhmsCathode    float64 `yaml:"grid_ohms_cathode_bias,omitempty"` // max grid-1 resistance, cathode bias
+	GridOhmsFixed      float64 `yaml:"grid_ohms_fixed_bias,omitempty"`   // max grid-1 resistance, fixed bias
+	PeakPlateAmps      float64 `yaml:"peak_plate_a,omitempty"`           // rectifiers, per plate
+	MaxReservoirFarads float64 `yaml:"max_reservoir_f,omitempty"`        // rectifiers
+	HeaterCathodeVolts float64 `yaml:"heater_cathode_v,omitempty"`
+}
+
+// Koren holds the parameters of Koren's triode or pentode model
+// (N. Koren, Glass Audio 8(5), 1996). KG2 is zero for triodes.
+// GridOhms is the series resistance of the grid-current diode.
+type Koren struct {
+	Mu       float64 `yaml:"mu"`
+	Ex       float64 `yaml:"ex"`
+	KG1      float64 `yaml:"kg1"`
+	KG2      float64 `yaml:"kg2,omitempty"`
+	KP       float64 `yaml:"kp"`
+	KVB      float64 `yaml:"kvb"`
+	GridOhms float64 `yaml:"grid_ohms,omitempty"`
+}
+
+// Row is one published typical-operation row that a model is fitted to
+// and tested against. Zero means "not given".
+type Row struct {
+	Va, Vg2, Vg1 float64 // volts, Vg1 relative to cathode
+	Ia, Ig2      float64 // amps
+	Gm           float64 // siemens
+	Mu, Ra       float64 // plate resistance in ohms
+	Source       string  // named source, with "(from memory)" where it is
+}
+
+// Type is one valve type in the library.
+type Type struct {
+	Name     string
+	Aliases  []string // e.g. ECC83 for 12AX7
+	Kind     Kind
+	Base     Base
+	Sections []string // {"A","B"} for double triodes, {""} for single-section valves
+	Pins     []Pin
+	Heater   Heater
+	Limits   Limits
+	Model    Koren // Koren parameters (triodes, pentodes)
+	// Perveance is the Child–Langmuir constant per anode for rectifiers:
+	// I = Perveance · V^1.5 (A/V^1.5).
+	Perveance float64
+	Rows      []Row // datasheet rows the model is fitted to
+	// Start is the parameter set the fit is pulled towards: a published
+	// Koren set where one is known, otherwise derived from the rows.
+	Start Koren
+}
