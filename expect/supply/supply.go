@@ -162,6 +162,16 @@ func (p Params) Validate() error {
 	if !finite(p.Rs) || p.Rs < 0 {
 		return bad("Rs", "must be ≥ 0 ohms")
 	}
+	// Bounds far outside any mains supply keep the arithmetic finite.
+	if p.Vrms > 1e6 {
+		return bad("Vrms", "above 1 MV is out of range")
+	}
+	if p.Hz < 0.1 || p.Hz > 1e5 {
+		return bad("Hz", "must lie between 0.1 Hz and 100 kHz")
+	}
+	if p.Rs > 1e12 || p.Rect.Vf > 1e4 || p.Rect.Rd > 1e12 || p.Rect.Perveance > 1e3 {
+		return bad("Rs/Rect", "value out of range")
+	}
 	switch p.Rect.Kind {
 	case Silicon:
 		if !finite(p.Rect.Vf) || p.Rect.Vf < 0 {
@@ -193,8 +203,8 @@ func (p Params) Validate() error {
 			name string
 			x    float64
 		}{{"SeriesR", s.SeriesR}, {"SeriesL", s.SeriesL}, {"ShuntC", s.ShuntC}, {"ESR", s.ESR}, {"LoadA", s.LoadA}, {"LoadOhms", s.LoadOhms}} {
-			if !finite(v.x) || v.x < 0 {
-				return bad(f(v.name), "must be a finite number ≥ 0")
+			if !finite(v.x) || v.x < 0 || v.x > 1e12 {
+				return bad(f(v.name), "must be a number between 0 and 1e12")
 			}
 		}
 		if k == 0 && s.ShuntC <= 0 {
