@@ -245,7 +245,7 @@ func TestChargeConservation(t *testing.T) {
 	}
 }
 
-func withRect(p Params, r Rectifier) Params   { p.Rect = r; return p }
+func withRect(p Params, r Rectifier) Params    { p.Rect = r; return p }
 func withTopology(p Params, t Topology) Params { p.Topology = t; return p }
 
 // The step count converges: 500 and 4000 steps per cycle agree closely.
