@@ -39,8 +39,9 @@ type Pin struct {
 	Electrode string `yaml:"electrode"`         // one of the electrode names above, or "nc"
 }
 
-// Heater describes the heater (or filament) ratings.
-type Heater struct {
+// HeaterRating describes the heater (or filament) ratings. (The type is not
+// called Heater because that name is the electrode constant above.)
+type HeaterRating struct {
 	Volts float64 `yaml:"volts"`
 	Amps  float64 `yaml:"amps"`
 	// AltVolts/AltAmps: the series-parallel alternative (12.6 V / 0.15 A
@@ -95,7 +96,7 @@ type Type struct {
 	Base     Base
 	Sections []string // {"A","B"} for double triodes, {""} for single-section valves
 	Pins     []Pin
-	Heater   Heater
+	Heater   HeaterRating
 	Limits   Limits
 	Model    Koren // Koren parameters (triodes, pentodes)
 	// Perveance is the Child–Langmuir constant per anode for rectifiers:

@@ -1,0 +1,365 @@
+package valves
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"regexp"
+	"strconv"
+	"strings"
+)
+
+// Prediction is what a model gives at one row's operating point.
+type Prediction struct {
+	Ia, Ig2 float64 // amps
+	Gm      float64 // dIa/dVg1, siemens
+	Ra      float64 // 1/(dIa/dVa), ohms (+Inf when dIa/dVa is 0)
+	Mu      float64 // gm·ra
+}
+
+// Predict evaluates a Koren model of the given kind at a row's voltages.
+func Predict(kind Kind, k Koren, r Row) Prediction {
+	var p Prediction
+	var dIdVa float64
+	switch kind {
+	case Pentode:
+		ip, ig2, dIp, _ := k.Pentode(r.Vg1, r.Vg2, r.Va)
+		p.Ia, p.Ig2, p.Gm, dIdVa = ip, ig2, dIp[0], dIp[2]
+	default:
+		p.Ia, p.Gm, dIdVa = k.TriodePlate(r.Vg1, r.Va)
+	}
+	p.Ra = math.Inf(1)
+	if dIdVa > 0 {
+		p.Ra = 1 / dIdVa
+	}
+	p.Mu = p.Gm * p.Ra
+	return p
+}
+
+// RowFit compares a fitted model with one row: relative errors (model/row − 1),
+// NaN where the row does not give the quantity.
+type RowFit struct {
+	Row                        Row
+	Model                      Prediction
+	ErrIa, ErrGm, ErrMu, ErrRa float64
+	ErrIg2                     float64
+}
+
+// FitReport describes a fit.
+type FitReport struct {
+	Cost        float64 // final objective: squared relative residuals plus penalty
+	Residual    float64 // squared relative residuals alone
+	Evaluations int
+	Status      string // termination of the last minimiser run
+	Rows        []RowFit
+}
+
+// Compare returns the per-row comparison of a model with rows.
+func Compare(kind Kind, k Koren, rows []Row) []RowFit {
+	rel := func(m, want float64) float64 {
+		if want == 0 {
+			return math.NaN()
+		}
+		return m/want - 1
+	}
+	var out []RowFit
+	for _, r := range rows {
+		p := Predict(kind, k, r)
+		out = append(out, RowFit{Row: r, Model: p,
+			ErrIa: rel(p.Ia, r.Ia), ErrGm: rel(p.Gm, r.Gm), ErrMu: rel(p.Mu, r.Mu),
+			ErrRa: rel(p.Ra, r.Ra), ErrIg2: rel(p.Ig2, r.Ig2)})
+	}
+	return out
+}
+
+// fitWeights are the weights of the fit objective. The penalty keeps
+// under-determined fits (one or two rows for five or six parameters) near
+// the starting set, as REFERENCES.md advises.
+type fitWeights struct {
+	Ia, Gm, Mu, Ra, Ig2 float64 // per squared relative residual
+	PullLog             float64 // per (ln p − ln p0)² for mu, kg1, kp, kg2
+	PullKVB             float64 // per (ln kvb − ln kvb0)²
+	PullEx              float64 // per (ex − ex0)²
+	ExBand              float64 // per unit² of ex outside [ExLow, ExHigh]
+	ExLow, ExHigh       float64
+}
+
+// defaultWeights: Ia counts most (the operating point is a DC question); mu
+// and ra are partly redundant with gm (mu = gm·ra) so they share a weight;
+// Koren's screen formula is crude, so Ig2 counts half.
+var defaultWeights = fitWeights{
+	Ia: 1, Gm: 0.5, Mu: 0.25, Ra: 0.25, Ig2: 0.5,
+	PullLog: 2e-3, PullKVB: 2e-3, PullEx: 2e-3,
+	ExBand: 10, ExLow: 1.3, ExHigh: 1.5,
+}
+
+// DeriveStart makes a starting parameter set from rows when no published set
+// is known: mu from the first row (given, or gm·ra; for pentodes
+// Vg2/(2|Vg1|)), ex 1.35, kp = 5·mu (the ratio in published sets, which run
+// 4–6), kvb 300 for triodes or from ra for pentodes, and kg1, kg2 scaled so
+// the first row's Ia and Ig2 come out right.
+func DeriveStart(kind Kind, rows []Row) Koren {
+	k := Koren{Mu: 20, Ex: 1.35, KG1: 1, KVB: 300}
+	if len(rows) == 0 {
+		k.KP, k.KG1 = 100, 1000
+		if kind == Pentode {
+			k.KG2, k.KVB = 4500, 24
+		}
+		return k
+	}
+	r := rows[0]
+	switch {
+	case kind == Pentode && r.Vg1 < 0:
+		k.Mu = r.Vg2 / (2 * -r.Vg1)
+	case r.Mu > 0:
+		k.Mu = r.Mu
+	case r.Gm > 0 && r.Ra > 0:
+		k.Mu = r.Gm * r.Ra
+	}
+	k.KP = 5 * k.Mu
+	if kind == Pentode {
+		k.KVB = 24
+		if r.Ra > 0 {
+			// dIa/dVa ≈ Ia·kvb/Va² when Va ≫ kvb, and atan ≈ π/2.
+			k.KVB = math.Max(5, r.Va*r.Va/(r.Ra*r.Ia)*(math.Pi/2)*0.5)
+		}
+		k.KG2 = 1
+		if ig2 := Predict(kind, k, r).Ig2; ig2 > 0 && r.Ig2 > 0 {
+			k.KG2 = ig2 / r.Ig2
+		} else {
+			k.KG2 = 4500
+		}
+	}
+	if ia := Predict(kind, k, r).Ia; ia > 0 {
+		k.KG1 = ia / r.Ia
+	} else {
+		k.KG1 = 1000
+	}
+	return k
+}
+
+// fitVector maps parameters to the optimiser's space: logs of the positive
+// parameters, ex as it is.
+func fitVector(kind Kind, k Koren) []float64 {
+	x := []float64{math.Log(k.Mu), k.Ex, math.Log(k.KG1), math.Log(k.KP), math.Log(k.KVB)}
+	if kind == Pentode {
+		x = append(x, math.Log(k.KG2))
+	}
+	return x
+}
+
+func fromVector(kind Kind, x []float64, grid float64) Koren {
+	k := Koren{Mu: math.Exp(x[0]), Ex: x[1], KG1: math.Exp(x[2]), KP: math.Exp(x[3]), KVB: math.Exp(x[4]), GridOhms: grid}
+	if kind == Pentode {
+		k.KG2 = math.Exp(x[5])
+	}
+	return k
+}
+
+// residual returns the sum of squared relative residuals of Ia, gm, mu, ra
+// (and Ig2 for pentodes, weighted) over the rows.
+func residual(kind Kind, k Koren, rows []Row, w fitWeights) float64 {
+	var s float64
+	add := func(w, m, want float64) {
+		if want > 0 {
+			e := m/want - 1
+			if math.IsInf(m, 0) || math.IsNaN(e) {
+				e = 10
+			}
+			s += w * e * e
+		}
+	}
+	for _, r := range rows {
+		p := Predict(kind, k, r)
+		add(w.Ia, p.Ia, r.Ia)
+		add(w.Gm, p.Gm, r.Gm)
+		add(w.Mu, p.Mu, r.Mu)
+		add(w.Ra, p.Ra, r.Ra)
+		if kind == Pentode {
+			add(w.Ig2, p.Ig2, r.Ig2)
+		}
+	}
+	return s
+}
+
+// Fit fits Koren's triode or pentode model to datasheet rows by minimising
+// the squared relative residuals of Ia, gm (dIa/dVg1), mu (gm·ra), ra
+// (1/(dIa/dVa)) and, for pentodes, Ig2 (Koren's screen formula, through kg2
+// and the shared mu and ex), plus a penalty pulling the parameters towards
+// start (in log space for mu, kg1, kg2, kp, kvb) and ex into 1.3–1.5. The
+// minimiser is Nelder–Mead (see nelderMead), restarted from its own result
+// until the cost stops improving. start.GridOhms is carried over. It returns an error
+// for rectifiers (use FitPerveance), for no rows, for an invalid start, or
+// when the optimiser fails.
+func Fit(kind Kind, rows []Row, start Koren) (Koren, FitReport, error) {
+	return fitWith(kind, rows, start, defaultWeights)
+}
+
+func fitWith(kind Kind, rows []Row, start Koren, w fitWeights) (Koren, FitReport, error) {
+	var rep FitReport
+	if kind != Triode && kind != Pentode {
+		return Koren{}, rep, fmt.Errorf("valves: Fit: kind %q has no Koren model", kind)
+	}
+	if len(rows) == 0 {
+		return Koren{}, rep, errors.New("valves: Fit: no rows")
+	}
+	if err := checkKoren(kind, start); err != nil {
+		return Koren{}, rep, fmt.Errorf("valves: Fit: start: %w", err)
+	}
+	x0 := fitVector(kind, start)
+	cost := func(x []float64) float64 {
+		ex := x[1]
+		if !(ex > 0.8 && ex < 2.5) {
+			return 1e6 * (1 + math.Abs(ex))
+		}
+		for _, xi := range x {
+			if math.Abs(xi) > 30 {
+				return 1e6
+			}
+		}
+		k := fromVector(kind, x, start.GridOhms)
+		c := residual(kind, k, rows, w)
+		for i, xi := range x {
+			d := xi - x0[i]
+			switch i {
+			case 1:
+				c += w.PullEx * d * d
+			case 4:
+				c += w.PullKVB * d * d
+			default:
+				c += w.PullLog * d * d
+			}
+		}
+		if ex < w.ExLow {
+			c += w.ExBand * (w.ExLow - ex) * (w.ExLow - ex)
+		} else if ex > w.ExHigh {
+			c += w.ExBand * (ex - w.ExHigh) * (ex - w.ExHigh)
+		}
+		return c
+	}
+	x := append([]float64(nil), x0...)
+	best := cost(x)
+	for run := 0; run < 8; run++ {
+		res, err := nelderMead(cost, x, 0.2, 1e-13, 1e-7, 40000)
+		if err != nil {
+			return Koren{}, rep, fmt.Errorf("valves: Fit: %w", err)
+		}
+		rep.Evaluations += res.Evaluations
+		if !res.Converged {
+			rep.Status = "evaluation limit"
+			return Koren{}, rep, fmt.Errorf("valves: Fit: no convergence after %d evaluations", res.Evaluations)
+		}
+		rep.Status = "converged"
+		improved := res.F < best-1e-12*math.Max(1, best)
+		if res.F < best {
+			best = res.F
+			copy(x, res.X)
+		}
+		if !improved && run > 0 {
+			break
+		}
+	}
+	k := fromVector(kind, x, start.GridOhms)
+	rep.Cost = best
+	rep.Residual = residual(kind, k, rows, w)
+	rep.Rows = Compare(kind, k, rows)
+	return k, rep, nil
+}
+
+// FitPerveance fits the Child–Langmuir constant G of I = G·V^1.5 (A/V^1.5)
+// to rows giving a drop Va at a current Ia, by least squares on
+// ln I − 1.5·ln V (closed form: the geometric mean of Ia/Va^1.5).
+func FitPerveance(rows []Row) (float64, error) {
+	if len(rows) == 0 {
+		return 0, errors.New("valves: FitPerveance: no rows")
+	}
+	var s float64
+	for _, r := range rows {
+		if !(r.Va > 0) || !(r.Ia > 0) {
+			return 0, errors.New("valves: FitPerveance: rows need positive va and ia")
+		}
+		s += math.Log(r.Ia) - 1.5*math.Log(r.Va)
+	}
+	return math.Exp(s / float64(len(rows))), nil
+}
+
+// FitType refits a type's model (or perveance) from its rows and start set.
+func FitType(t *Type) (Koren, float64, FitReport, error) {
+	if t.Kind == Rectifier {
+		g, err := FitPerveance(t.Rows)
+		return Koren{}, g, FitReport{}, err
+	}
+	k, rep, err := Fit(t.Kind, t.Rows, t.Start)
+	return k, 0, rep, err
+}
+
+func fmtNum(x float64) string { return strconv.FormatFloat(x, 'g', 6, 64) }
+
+// FormatModel renders a model as the one-line YAML flow mapping that
+// library.yaml uses.
+func FormatModel(kind Kind, k Koren) string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "{mu: %s, ex: %s, kg1: %s", fmtNum(k.Mu), fmtNum(k.Ex), fmtNum(k.KG1))
+	if kind == Pentode {
+		fmt.Fprintf(&b, ", kg2: %s", fmtNum(k.KG2))
+	}
+	fmt.Fprintf(&b, ", kp: %s, kvb: %s, grid_ohms: %s}", fmtNum(k.KP), fmtNum(k.KVB), fmtNum(k.GridOhms))
+	return b.String()
+}
+
+var (
+	reValveName = regexp.MustCompile(`^\s*-\s*name:\s*(\S+)\s*$`)
+	reModelLine = regexp.MustCompile(`^(\s*)model:\s*\{[^}]*\}(.*)$`)
+	rePervLine  = regexp.MustCompile(`^(\s*)perveance_ma:\s*[^\s#]+(.*)$`)
+)
+
+// Refit parses a library document (file names it in errors), refits every
+// type from its rows and start set, and returns the document with each
+// type's "model:" line (or "perveance_ma:" line for rectifiers) rewritten;
+// all other lines, comments included, are kept. Every type must already
+// have such a line.
+func Refit(file string, src []byte) ([]byte, []FitReport, error) {
+	p, err := parseDoc(file, src, false)
+	if err != nil {
+		return nil, nil, err
+	}
+	byName := map[string]*Type{}
+	for _, t := range p.types {
+		byName[t.Name] = t
+	}
+	lines := strings.Split(string(src), "\n")
+	done := map[string]bool{}
+	var reps []FitReport
+	var cur *Type
+	for i, ln := range lines {
+		if m := reValveName.FindStringSubmatch(ln); m != nil {
+			cur = byName[strings.Trim(m[1], `"'`)]
+			continue
+		}
+		if cur == nil {
+			continue
+		}
+		if m := reModelLine.FindStringSubmatch(ln); m != nil && cur.Kind != Rectifier {
+			k, rep, err := Fit(cur.Kind, cur.Rows, cur.Start)
+			if err != nil {
+				return nil, nil, fmt.Errorf("%s:%d: %s: %w", file, i+1, cur.Name, err)
+			}
+			lines[i] = m[1] + "model: " + FormatModel(cur.Kind, k) + m[2]
+			reps = append(reps, rep)
+			done[cur.Name] = true
+		} else if m := rePervLine.FindStringSubmatch(ln); m != nil && cur.Kind == Rectifier {
+			g, err := FitPerveance(cur.Rows)
+			if err != nil {
+				return nil, nil, fmt.Errorf("%s:%d: %s: %w", file, i+1, cur.Name, err)
+			}
+			lines[i] = m[1] + "perveance_ma: " + fmtNum(g*1e3) + m[2]
+			done[cur.Name] = true
+		}
+	}
+	for _, t := range p.types {
+		if !done[t.Name] {
+			return nil, nil, fmt.Errorf("%s: %s: no model or perveance_ma line to rewrite", file, t.Name)
+		}
+	}
+	return []byte(strings.Join(lines, "\n")), reps, nil
+}
