@@ -147,7 +147,7 @@ type Winding struct {
 	Volts     float64 // rated rms at rated current: whole winding, or each half for a centre-tapped one
 	CentreTap bool    // written as 250-0-250
 	Ends      [2]string
-	Centre    string // centre-tap net, "" when none
+	Centre    string  // centre-tap net, "" when none
 	DCR       float64 // whole winding, ohms (0 = unknown)
 	RatedAmps float64 // rms (for HT: DC rating as written, see docs)
 	Pos       Pos

@@ -1093,8 +1093,8 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 			for k, v := range fields {
 				if contains(elecs, k) {
 					src[k] = v
-				} else if k != "heater" && k != "note" {
-					l.errf(v, p.Ref+"."+k, "a %s has no %s: expected %s", vt.Name, k, strings.Join(elecs, ", "))
+				} else if k != "heater" && k != "note" && k != string(Valve) {
+					l.errf(v, p.Ref+"."+k, "the %s has no %s: expected %s", vt.Name, k, strings.Join(elecs, ", "))
 				}
 			}
 		}
@@ -1128,14 +1128,14 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 	}
 	if multi {
 		for k, v := range fields {
-			if k != "heater" && k != "note" && !contains(vt.Sections, k) {
-				l.errf(v, p.Ref+"."+k, "a %s is wired by section (%s), not by %s", vt.Name, strings.Join(vt.Sections, ", "), k)
+			if k != "heater" && k != "note" && k != string(Valve) && !contains(vt.Sections, k) {
+				l.errf(v, p.Ref+"."+k, "the %s is wired by section (%s), not by %s", vt.Name, strings.Join(vt.Sections, ", "), k)
 			}
 		}
 	} else {
 		for _, s := range []string{"A", "B"} {
 			if v, ok := fields[s]; ok {
-				l.errf(v, p.Ref+"."+s, "a %s has one section: write its electrodes directly (%s)", vt.Name, electrodeHint(vt.Electrodes(vt.Sections[0])))
+				l.errf(v, p.Ref+"."+s, "the %s has one section: write its electrodes directly (%s)", vt.Name, electrodeHint(vt.Electrodes(vt.Sections[0])))
 			}
 		}
 	}

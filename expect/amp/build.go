@@ -1,0 +1,460 @@
+// Package amp turns a design into one whole-circuit model: every net a node
+// of a modified-nodal-analysis network, every valve section a Koren device,
+// the HT supply a rectifier-and-filter simulation coupled to the network by
+// fixed-point iteration, and the heaters an AC load on their winding.
+//
+// A Model is built once from a design; Solve then computes the DC operating
+// point for a set of part values (Values), under given bench conditions
+// (mains, variac). The part values are what tolerance sampling and fault
+// injection change, so one Model serves the nominal solve, thousands of
+// Monte Carlo samples and every fault hypothesis.
+package amp
+
+import (
+	"fmt"
+	"math"
+	"sort"
+
+	"pinwalk/expect/design"
+	"pinwalk/expect/mna"
+	"pinwalk/expect/supply"
+	"pinwalk/expect/valves"
+)
+
+// ElemKind says what a value slot stands for.
+type ElemKind int
+
+// Element kinds of value slots.
+const (
+	ElemResistance ElemKind = iota // a resistive element, ohms
+	ElemSource                     // a DC source, volts
+)
+
+// Slot is one value that sampling or a fault may change: a resistance or a
+// source voltage in the network.
+type Slot struct {
+	Ref    string // part reference
+	Role   string // "", "a-wiper", "wiper-b", "dcr", "leak", "half-a", "half-b", "winding"…
+	Kind   ElemKind
+	handle int
+}
+
+// Section is one amplifying valve section in the network.
+type Section struct {
+	Ref     string // valve reference
+	Section string // "A", "B" or ""
+	Type    *valves.Type
+	Pentode bool
+	// Nodes of plate, screen (pentodes), grid, cathode.
+	P, G2, G, K int
+	handle      int
+	tri         *valves.TriodeDevice
+	pen         *valves.PentodeDevice
+}
+
+// Heater is one valve heater on a winding.
+type Heater struct {
+	Ref          string
+	Winding      *design.Winding
+	RatedVolts   float64
+	RatedAmps    float64
+	Transformer  *design.PowerTransformerPart
+	WindingIndex int
+}
+
+// Model is a design compiled for solving.
+type Model struct {
+	D        *design.Design
+	ckt      *mna.Circuit
+	Slots    []Slot
+	Nominal  []float64 // nominal value per slot
+	Sections []*Section
+	Heaters  []Heater
+
+	// The HT supply, when the design has a rectifier.
+	HT          *HTSupply
+	srcHandle   int // Thevenin voltage source driving the first filter net
+	srcRHandle  int // its series resistance
+	slotByRef   map[string][]int
+	nodeOf      map[string]int
+	capSlots    map[string]int // capacitor ref → leakage slot
+	windingSlot map[string]int
+	slotNets    [][2]string
+}
+
+// HTSupply describes the rectifier and filter as the supply simulation
+// sees them.
+type HTSupply struct {
+	Transformer *design.Part
+	Winding     *design.Winding
+	Rectifier   *design.Part
+	Topology    supply.Topology
+	Rect        supply.Rectifier
+	// VrmsOC is the open-circuit rms volts (per half for a centre tap) at
+	// the transformer's rated primary volts; Rs the source resistance per
+	// conducting path referred to the secondary.
+	VrmsOC, Rs float64
+	// Stages are the filter nets from the rectifier outwards: Nets[i] is
+	// the net of stage i, SeriesRefs[i] the part feeding it from its
+	// parent ("" for a capacitor-input reservoir), CapRefs[i] its shunt
+	// capacitors.
+	Nets       []string
+	Parent     []int
+	SeriesRefs []string
+	CapRefs    [][]string
+	// ChokeInput: stage 0 is fed through a choke straight from the rectifier.
+	ChokeInput bool
+	// RectNet is the rectifier's output net (equal to Nets[0] for
+	// capacitor input).
+	RectNet string
+}
+
+// Node returns the network node of a net, and whether the net is in the
+// DC network.
+func (m *Model) Node(net string) (int, bool) {
+	n, ok := m.nodeOf[net]
+	return n, ok
+}
+
+// SlotsOf returns the indices of a part's value slots.
+func (m *Model) SlotsOf(ref string) []int { return m.slotByRef[ref] }
+
+// NumNodes is the number of network nodes, ground included.
+func (m *Model) NumNodes() int { return m.ckt.NumNodes() }
+
+// minOhms keeps tiny DC resistances (fuses, heater windings) finite.
+const minOhms = 1e-3
+
+func (m *Model) node(net string) int {
+	if net == m.D.Ground {
+		return 0
+	}
+	if n, ok := m.nodeOf[net]; ok {
+		return n
+	}
+	n := m.ckt.Node(net)
+	m.nodeOf[net] = n
+	return n
+}
+
+func (m *Model) addR(ref, role, a, b string, ohms float64) int {
+	if ohms < minOhms {
+		ohms = minOhms
+	}
+	h := m.ckt.AddResistor(m.node(a), m.node(b), ohms)
+	m.Slots = append(m.Slots, Slot{Ref: ref, Role: role, Kind: ElemResistance, handle: h})
+	m.Nominal = append(m.Nominal, ohms)
+	m.slotNets = append(m.slotNets, [2]string{a, b})
+	i := len(m.Slots) - 1
+	m.slotByRef[ref] = append(m.slotByRef[ref], i)
+	return i
+}
+
+// Build compiles a design that loaded without errors.
+func Build(d *design.Design) (*Model, error) {
+	m := &Model{D: d, ckt: mna.New(), slotByRef: map[string][]int{}, nodeOf: map[string]int{},
+		capSlots: map[string]int{}, windingSlot: map[string]int{}, srcHandle: -1, srcRHandle: -1}
+	m.ckt.SetGround(d.Ground)
+	m.nodeOf[d.Ground] = 0
+	ht, err := findHT(d)
+	if err != nil {
+		return nil, err
+	}
+	m.HT = ht
+	skip := map[string]bool{} // parts folded into the supply model
+	if ht != nil && ht.ChokeInput {
+		skip[ht.SeriesRefs[0]] = true
+	}
+	for _, p := range d.Parts {
+		if skip[p.Ref] {
+			continue
+		}
+		switch p.Kind {
+		case design.Resistor:
+			m.addR(p.Ref, "", p.Terminals[0].Net, p.Terminals[1].Net, p.Value)
+		case design.Choke:
+			m.addR(p.Ref, "dcr", p.Terminals[0].Net, p.Terminals[1].Net, p.DCR)
+		case design.Fuse:
+			m.addR(p.Ref, "", p.Terminals[0].Net, p.Terminals[1].Net, 0.05)
+		case design.Pot:
+			a, b := p.Terminals[0].Net, p.Terminals[1].Net
+			w := p.Terminals[2].Net
+			m.addR(p.Ref, "a-wiper", a, w, p.Value*p.Setting)
+			m.addR(p.Ref, "wiper-b", w, b, p.Value*(1-p.Setting))
+		case design.Capacitor:
+			leak := math.Inf(1)
+			if p.Leakage > 0 {
+				leak = p.Leakage
+			}
+			m.capSlots[p.Ref] = m.addR(p.Ref, "leak", p.Terminals[0].Net, p.Terminals[1].Net, leak)
+		case design.BiasSupply, design.DCSupply:
+			out, ref := p.Terminals[0].Net, p.Terminals[1].Net
+			inner := "~" + p.Ref
+			h := m.ckt.AddVSource(m.node(inner), m.node(ref), p.Value)
+			m.Slots = append(m.Slots, Slot{Ref: p.Ref, Role: "volts", Kind: ElemSource, handle: h})
+			m.Nominal = append(m.Nominal, p.Value)
+			m.slotNets = append(m.slotNets, [2]string{out, ref})
+			m.slotByRef[p.Ref] = append(m.slotByRef[p.Ref], len(m.Slots)-1)
+			m.addR(p.Ref, "dcr", inner, out, p.DCR)
+		case design.OutputTransformer:
+			ot := p.OT
+			if ot.Centre == "" {
+				m.addR(p.Ref, "primary", ot.Ends[0], ot.Ends[1], ot.DCR[0])
+			} else {
+				m.addR(p.Ref, "half-a", ot.Centre, ot.Ends[0], ot.DCR[0])
+				m.addR(p.Ref, "half-b", ot.Centre, ot.Ends[1], ot.DCR[1])
+			}
+		case design.PowerTransformer:
+			for _, w := range p.PT.Windings {
+				if ht != nil && w == ht.Winding {
+					continue // the HT winding lives in the supply model
+				}
+				r := w.DCR
+				if r == 0 {
+					r = 0.05
+				}
+				if w.Centre != "" {
+					m.windingSlot[w.Name] = m.addR(p.Ref, w.Name+".half-a", w.Centre, w.Ends[0], r/2)
+					m.addR(p.Ref, w.Name+".half-b", w.Centre, w.Ends[1], r/2)
+				} else {
+					m.windingSlot[w.Name] = m.addR(p.Ref, w.Name, w.Ends[0], w.Ends[1], r)
+				}
+			}
+		case design.Valve:
+			m.addValve(p)
+		}
+	}
+	if ht != nil {
+		top := m.node(ht.Nets[0])
+		inner := m.node("~supply")
+		m.srcHandle = m.ckt.AddVSource(inner, 0, 0)
+		m.srcRHandle = m.ckt.AddResistor(inner, top, 1)
+	}
+	if len(m.Sections) == 0 && ht == nil {
+		return nil, fmt.Errorf("%s: nothing to solve: no amplifying valves and no HT supply", d.File)
+	}
+	return m, nil
+}
+
+func (m *Model) addValve(p *design.Part) {
+	vp := p.Valve
+	vt := vp.Type
+	// Heater.
+	for _, pp := range m.D.PartsOfKind(design.PowerTransformer) {
+		for wi, w := range pp.PT.Windings {
+			e := map[string]bool{w.Ends[0]: true, w.Ends[1]: true}
+			if e[vp.HeaterNets[0]] && e[vp.HeaterNets[1]] {
+				m.Heaters = append(m.Heaters, Heater{Ref: p.Ref, Winding: w, RatedVolts: vp.HeaterVolts,
+					RatedAmps: vp.HeaterAmps, Transformer: pp.PT, WindingIndex: wi})
+			}
+		}
+	}
+	if vt.Kind == valves.Rectifier {
+		return // in the supply model
+	}
+	secs := make([]string, 0, len(vp.Sections))
+	for s := range vp.Sections {
+		secs = append(secs, s)
+	}
+	sort.Strings(secs)
+	for _, s := range secs {
+		if vp.Unused[s] {
+			continue
+		}
+		e := vp.Sections[s]
+		sec := &Section{Ref: p.Ref, Section: s, Type: vt, Pentode: vt.Kind == valves.Pentode,
+			P: m.node(e[valves.Plate]), G: m.node(e[valves.Grid]), K: m.node(e[valves.Cathode])}
+		if sec.Pentode {
+			sec.G2 = m.node(e[valves.Screen])
+			sec.pen = &valves.PentodeDevice{P: sec.P, G2: sec.G2, G1: sec.G, K: sec.K, Model: vt.Model}
+			sec.handle = m.ckt.AddDevice(sec.pen)
+		} else {
+			sec.tri = &valves.TriodeDevice{P: sec.P, G: sec.G, K: sec.K, Model: vt.Model}
+			sec.handle = m.ckt.AddDevice(sec.tri)
+		}
+		m.Sections = append(m.Sections, sec)
+	}
+}
+
+// Name returns "V1A" or "V2" for a section.
+func (s *Section) Name() string { return s.Ref + s.Section }
+
+// findHT finds the HT rectifier and walks its filter outwards.
+func findHT(d *design.Design) (*HTSupply, error) {
+	var windings []*design.Winding
+	var tr *design.Part
+	for _, p := range d.PartsOfKind(design.PowerTransformer) {
+		tr = p
+		windings = append(windings, p.PT.Windings...)
+	}
+	windingOf := func(net string) *design.Winding {
+		for _, w := range windings {
+			if w.Ends[0] == net || w.Ends[1] == net {
+				return w
+			}
+		}
+		return nil
+	}
+	var ht *HTSupply
+	for _, p := range d.Parts {
+		var anodes []string
+		var out string
+		var rect supply.Rectifier
+		topo := supply.CentreTap
+		switch {
+		case p.Kind == design.Rectifier:
+			dd := p.Rect.Diode
+			rect = supply.Rectifier{Kind: supply.Silicon, Vf: siliconDrop(dd), Rd: dd.Rs}
+			out = p.Rect.Plus
+			if p.Rect.Bridge {
+				anodes = p.Rect.AC[:]
+				topo = supply.Bridge
+			} else {
+				anodes = p.Rect.Anodes
+				if len(anodes) == 1 {
+					topo = supply.HalfWave
+				}
+			}
+		case p.Kind == design.Valve && p.Valve.Type.Kind == valves.Rectifier:
+			anodes = splitNets(p.Valve.Sections[""][valves.Plates])
+			out = p.Valve.Sections[""][valves.Cathode]
+			rect = supply.Rectifier{Kind: supply.Valve, Perveance: p.Valve.Type.Perveance}
+			if len(anodes) == 1 {
+				topo = supply.HalfWave
+			}
+		default:
+			continue
+		}
+		if ht != nil {
+			return nil, fmt.Errorf("%s:%d:%d: %s: a second HT rectifier: only one rectifier supply is modelled; describe bias supplies as bias-supply parts",
+				d.File, p.Pos.Line, p.Pos.Col, p.Ref)
+		}
+		w := windingOf(anodes[0])
+		if w == nil {
+			return nil, fmt.Errorf("%s:%d:%d: %s: rectifier not fed from a transformer winding", d.File, p.Pos.Line, p.Pos.Col, p.Ref)
+		}
+		ht = &HTSupply{Transformer: tr, Winding: w, Rectifier: p, Topology: topo, Rect: rect, RectNet: out}
+	}
+	if ht == nil {
+		return nil, nil
+	}
+	// Source: open-circuit volts and resistance per conducting path.
+	pt := ht.Transformer.PT
+	w := ht.Winding
+	perPath := w.Volts // centre tap: each half
+	secDCR := w.DCR
+	if ht.Topology == supply.CentreTap {
+		secDCR = w.DCR / 2
+	}
+	ratio := perPath / pt.PrimaryVolts
+	rs := secDCR + pt.PrimaryDCR*ratio*ratio
+	rated := w.RatedAmps
+	if rated == 0 {
+		rated = 0.1
+	}
+	switch {
+	case w.DCR > 0 || pt.PrimaryDCR > 0:
+		// Rated volts are at rated current: open-circuit volts are higher by
+		// the drop in the windings (common practice for small transformers).
+		ht.VrmsOC = perPath + rated*rs
+	default:
+		reg := pt.Regulation
+		if reg == 0 {
+			reg = 0.08 // common practice for a small mains transformer
+		}
+		ht.VrmsOC = perPath * (1 + reg)
+		rs = perPath * reg / rated
+	}
+	ht.Rs = rs
+	// Filter tree.
+	isFilterCap := func(p *design.Part, net string) bool {
+		if p.Kind != design.Capacitor || p.Value < 0.5e-6 {
+			return false
+		}
+		a, b := p.Terminals[0].Net, p.Terminals[1].Net
+		return (a == net && b == d.Ground) || (b == net && a == d.Ground)
+	}
+	capsOn := func(net string) []string {
+		var refs []string
+		for _, u := range d.Nets[net] {
+			if p := d.ByRef[u.Ref]; p != nil && isFilterCap(p, net) {
+				refs = append(refs, p.Ref)
+			}
+		}
+		return refs
+	}
+	visited := map[string]bool{}
+	addStage := func(net string, parent int, series string) {
+		ht.Nets = append(ht.Nets, net)
+		ht.Parent = append(ht.Parent, parent)
+		ht.SeriesRefs = append(ht.SeriesRefs, series)
+		ht.CapRefs = append(ht.CapRefs, capsOn(net))
+		visited[net] = true
+	}
+	if len(capsOn(ht.RectNet)) > 0 {
+		addStage(ht.RectNet, -1, "")
+	} else {
+		for _, u := range d.Nets[ht.RectNet] {
+			p := d.ByRef[u.Ref]
+			if p == nil || p.Kind != design.Choke {
+				continue
+			}
+			other := p.Terminals[0].Net
+			if other == ht.RectNet {
+				other = p.Terminals[1].Net
+			}
+			if len(capsOn(other)) > 0 {
+				ht.ChokeInput = true
+				visited[ht.RectNet] = true
+				addStage(other, -1, p.Ref)
+				break
+			}
+		}
+		if !ht.ChokeInput {
+			p := ht.Rectifier
+			return nil, fmt.Errorf("%s:%d:%d: %s: the rectifier output %s has no reservoir capacitor and no choke into one: expected a capacitor or a choke-input filter",
+				d.File, p.Pos.Line, p.Pos.Col, p.Ref, ht.RectNet)
+		}
+	}
+	for i := 0; i < len(ht.Nets); i++ {
+		net := ht.Nets[i]
+		for _, u := range d.Nets[net] {
+			p := d.ByRef[u.Ref]
+			if p == nil || (p.Kind != design.Resistor && p.Kind != design.Choke) {
+				continue
+			}
+			other := p.Terminals[0].Net
+			if other == net {
+				other = p.Terminals[1].Net
+			}
+			if visited[other] || other == d.Ground || len(capsOn(other)) == 0 {
+				continue
+			}
+			addStage(other, i, p.Ref)
+		}
+	}
+	return ht, nil
+}
+
+func splitNets(s string) []string {
+	var out []string
+	start := 0
+	for i := 0; i <= len(s); i++ {
+		if i == len(s) || s[i] == ',' {
+			if i > start {
+				out = append(out, s[start:i])
+			}
+			start = i + 1
+		}
+	}
+	return out
+}
+
+// siliconDrop is the diode's junction drop at 100 mA, Shockley's law
+// V = n·Vt·ln(I/Is + 1), the knee the supply model's Vf + Rd·I line uses.
+func siliconDrop(d valves.SiliconDiode) float64 {
+	if d.Is <= 0 || d.N <= 0 {
+		return 0.7
+	}
+	return d.N * 0.025852 * math.Log(0.1/d.Is+1)
+}
