@@ -82,15 +82,20 @@ type fitWeights struct {
 	PullEx              float64 // per (ex − ex0)²
 	ExBand              float64 // per unit² of ex outside [ExLow, ExHigh]
 	ExLow, ExHigh       float64
+	// Cutoff: per (ln(I/(CutoffFrac·Ia)))² when a triode's plate current
+	// at Vg1 = −2·Va/mu (well beyond cutoff) exceeds CutoffFrac of the
+	// row's Ia; keeps the curve physical away from the rows.
+	Cutoff, CutoffFrac float64
 }
 
-// defaultWeights: Ia counts most (the operating point is a DC question); mu
-// and ra are partly redundant with gm (mu = gm·ra) so they share a weight;
-// Koren's screen formula is crude, so Ig2 counts half.
+// defaultWeights: Ia and gm count fully; mu and ra are redundant with gm
+// (mu = gm·ra) so they count a quarter each; Koren's screen formula is
+// crude, so Ig2 counts half.
 var defaultWeights = fitWeights{
-	Ia: 1, Gm: 0.5, Mu: 0.25, Ra: 0.25, Ig2: 0.5,
+	Ia: 1, Gm: 1, Mu: 0.25, Ra: 0.25, Ig2: 0.5,
 	PullLog: 2e-3, PullKVB: 2e-3, PullEx: 2e-3,
 	ExBand: 10, ExLow: 1.3, ExHigh: 1.5,
+	Cutoff: 1, CutoffFrac: 0.005,
 }
 
 // DeriveStart makes a starting parameter set from rows when no published set
@@ -178,6 +183,17 @@ func residual(kind Kind, k Koren, rows []Row, w fitWeights) float64 {
 		if kind == Pentode {
 			add(w.Ig2, p.Ig2, r.Ig2)
 		}
+		if kind == Triode && w.Cutoff > 0 {
+			mu := r.Mu
+			if mu == 0 {
+				mu = k.Mu
+			}
+			ic, _, _ := k.TriodePlate(-2*r.Va/mu, r.Va)
+			if lim := w.CutoffFrac * r.Ia; ic > lim {
+				l := math.Log(ic / lim)
+				s += w.Cutoff * l * l
+			}
+		}
 	}
 	return s
 }
@@ -186,7 +202,9 @@ func residual(kind Kind, k Koren, rows []Row, w fitWeights) float64 {
 // the squared relative residuals of Ia, gm (dIa/dVg1), mu (gm·ra), ra
 // (1/(dIa/dVa)) and, for pentodes, Ig2 (Koren's screen formula, through kg2
 // and the shared mu and ex), plus a penalty pulling the parameters towards
-// start (in log space for mu, kg1, kg2, kp, kvb) and ex into 1.3–1.5. The
+// start (in log space for mu, kg1, kg2, kp, kvb) and ex into 1.3–1.5, and
+// for triodes a penalty when the plate current at Vg1 = −2·Va/mu (mu from
+// the row, else the model) exceeds 0.5 % of the row's Ia. The
 // minimiser is Nelder–Mead (see nelderMead), restarted from its own result
 // until the cost stops improving. start.GridOhms is carried over. It returns an error
 // for rectifiers (use FitPerveance), for no rows, for an invalid start, or
