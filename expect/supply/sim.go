@@ -30,6 +30,12 @@ type engine struct {
 	gs     []float64 // series conductance (stages ≥ 1)
 	lh     []float64 // L/h (stages ≥ 1), 0 = no inductor
 	parent []int
+	loadA  []float64
+	caps   []int // nodes with a capacitor
+	inds   []int // stages ≥ 1 with a series choke
+	ghist  []float64
+	col0   []float64 // column 0 of ginv: node response to the branch current
+	wPrev  float64   // last per-anode valve voltage (Newton warm start)
 	rhs, v []float64
 	// state packing
 	capNode, indNode []int
@@ -59,7 +65,7 @@ func newEngine(p Params, opt Options) (*engine, error) {
 		p: p, n: n, steps: opt.StepsPerCycle, h: 1 / (p.Hz * float64(opt.StepsPerCycle)),
 		nd: p.elements(), vsrc: make([]float64, opt.StepsPerCycle),
 		gc: make([]float64, n), hc: make([]float64, n), gs: make([]float64, n), lh: make([]float64, n),
-		parent: make([]int, n), rhs: make([]float64, n), v: make([]float64, n),
+		parent: make([]int, n), loadA: make([]float64, n), ghist: make([]float64, n), col0: make([]float64, n), rhs: make([]float64, n), v: make([]float64, n),
 		vc: make([]float64, n), il: make([]float64, n),
 	}
 	vpk := math.Sqrt2 * p.Vrms
@@ -73,6 +79,7 @@ func newEngine(p Params, opt Options) (*engine, error) {
 	g := make([]float64, n*n)
 	for k, st := range p.Stages {
 		e.parent[k] = st.Parent
+		e.loadA[k] = st.LoadA
 		if st.ShuntC > 0 {
 			e.gc[k] = 1 / (st.ESR + e.h/st.ShuntC)
 			e.hc[k] = e.h / st.ShuntC
@@ -90,6 +97,10 @@ func newEngine(p Params, opt Options) (*engine, error) {
 		}
 		e.lh[k] = st.SeriesL / e.h
 		e.gs[k] = 1 / (st.SeriesR + e.lh[k])
+		if st.SeriesL > 0 {
+			e.inds = append(e.inds, k)
+			e.ghist[k] = e.gs[k] * e.lh[k]
+		}
 		q := st.Parent
 		g[k*n+k] += e.gs[k]
 		g[q*n+q] += e.gs[k]
@@ -102,6 +113,10 @@ func newEngine(p Params, opt Options) (*engine, error) {
 		return nil, &ParamError{"Stages", "filter network is singular"}
 	}
 	e.ginv = inv
+	for r := 0; r < n; r++ {
+		e.col0[r] = inv[r*n]
+	}
+	e.caps = e.capNode
 	s0 := p.Stages[0]
 	e.choke0 = s0.SeriesL > 0
 	e.l0h = s0.SeriesL / e.h
@@ -123,16 +138,22 @@ func (e *engine) branchCurrent(drive float64) float64 {
 		return 0
 	}
 	if drive <= 0 {
+		e.wPrev = 0
 		return 0
 	}
 	// Per-anode voltage w: rBr·G·w^1.5 + nd·w = drive; the left side is
-	// increasing and convex, so Newton from an upper bound falls
-	// monotonically onto the root.
+	// increasing and convex in w, so Newton from any start lands at or
+	// above the root after one step and then falls monotonically onto it.
+	// Start from the previous step's root when there is one, else from
+	// an upper bound.
 	g := e.p.Rect.Perveance
 	a := e.rBr * g
 	w := drive / e.nd
 	if a > 0 {
 		w = math.Min(w, math.Cbrt(drive/a)*math.Cbrt(drive/a))
+	}
+	if e.wPrev > 0 && e.wPrev < w {
+		w = e.wPrev
 	}
 	for it := 0; it < 60; it++ {
 		sw := math.Sqrt(w)
@@ -147,6 +168,7 @@ func (e *engine) branchCurrent(drive float64) float64 {
 			break
 		}
 	}
+	e.wPrev = w
 	return g * w * math.Sqrt(w)
 }
 
@@ -154,19 +176,19 @@ func (e *engine) branchCurrent(drive float64) float64 {
 // returns the rectifier branch current; e.v holds the node voltages.
 func (e *engine) step(s int) float64 {
 	n := e.n
-	rhs, v := e.rhs, e.v
-	for k := 0; k < n; k++ {
-		rhs[k] = e.gc[k]*e.vc[k] - e.p.Stages[k].LoadA
+	rhs, v, vc, il := e.rhs[:n], e.v[:n], e.vc[:n], e.il[:n]
+	gc, loadA := e.gc[:n], e.loadA[:n]
+	for k := range rhs {
+		rhs[k] = gc[k]*vc[k] - loadA[k]
 	}
-	for k := 1; k < n; k++ {
-		if e.lh[k] > 0 {
-			j := e.gs[k] * e.lh[k] * e.il[k]
-			rhs[k] += j
-			rhs[e.parent[k]] -= j
-		}
+	for _, k := range e.inds {
+		j := e.ghist[k] * il[k]
+		rhs[k] += j
+		rhs[e.parent[k]] -= j
 	}
-	for r := 0; r < n; r++ {
-		row := e.ginv[r*n : r*n+n]
+	ginv := e.ginv[:n*n]
+	for r := range v {
+		row := ginv[r*n : r*n+n]
 		var acc float64
 		for c, x := range rhs {
 			acc += row[c] * x
@@ -175,31 +197,29 @@ func (e *engine) step(s int) float64 {
 	}
 	drive := e.vsrc[s] - v[0]
 	if e.choke0 {
-		drive += e.l0h * e.il[0]
+		drive += e.l0h * il[0]
 	}
 	i := e.branchCurrent(drive)
 	if i > 0 {
-		for r := 0; r < n; r++ {
-			v[r] += e.ginv[r*n] * i
+		col := e.col0[:n]
+		for r := range v {
+			v[r] += col[r] * i
 		}
 	}
-	for k := 0; k < n; k++ {
-		if e.gc[k] > 0 {
-			e.vc[k] += e.hc[k] * e.gc[k] * (v[k] - e.vc[k])
-		}
+	for _, k := range e.caps {
+		vc[k] += e.hc[k] * gc[k] * (v[k] - vc[k])
 	}
-	for k := 1; k < n; k++ {
-		if e.lh[k] > 0 {
-			e.il[k] = e.gs[k] * (v[e.parent[k]] - v[k] + e.lh[k]*e.il[k])
-		}
+	for _, k := range e.inds {
+		il[k] = e.gs[k] * (v[e.parent[k]] - v[k] + e.lh[k]*il[k])
 	}
 	if e.choke0 {
-		e.il[0] = i
+		il[0] = i
 	}
 	return i
 }
 
 func (e *engine) unpack(x []float64) {
+	e.wPrev = 0 // each cycle is a pure function of x
 	j := 0
 	for _, k := range e.capNode {
 		e.vc[k] = x[j]
@@ -339,8 +359,10 @@ func (e *engine) criticalL(v, i float64) float64 {
 // one-cycle map x ↦ P(x) (shooting; Jacobian by finite differences, one
 // extra cycle per state variable), falling back to plain cycle-by-cycle
 // integration whenever a Newton step does not reduce the residual. It is
-// reached when |P(x) − x| ≤ Tol·scale for every state (scale √2·Vrms for
-// voltages, the estimated DC load for currents).
+// reached when |P(x) − x| ≤ Tol·scale for every state: the scale is the
+// estimated DC load current for choke currents and, for a capacitor C, the
+// smaller of √2·Vrms and the voltage step I/(C·f) that the load current
+// would make in one cycle (so the charge balance holds to about Tol).
 //
 // A zero Options means DefaultOptions. Invalid parameters give a
 // *ParamError. If the cycle budget runs out, the last cycle is reported
@@ -360,7 +382,12 @@ func Simulate(p Params, opt Options) (Result, error) {
 	vpk := math.Sqrt2 * p.Vrms
 	for j := range scale {
 		if j < len(e.capNode) {
-			scale[j] = vpk
+			// A cycle-to-cycle change Δv on capacitor C means a mean
+			// charge imbalance of Δv·C·f amps: judge it against the load
+			// current as well as against the peak voltage, so that charge
+			// balance holds to Tol even for a large reservoir.
+			c := p.Stages[e.capNode[j]].ShuntC
+			scale[j] = math.Max(math.Min(vpk, iScale/(c*p.Hz)), 1e-7*vpk)
 		} else {
 			scale[j] = iScale
 		}
