@@ -80,6 +80,7 @@ type Model struct {
 	capSlots    map[string]int // capacitor ref → leakage slot
 	windingSlot map[string]int
 	slotNets    [][2]string
+	acOnly      map[string]bool // nets that carry only heater AC
 }
 
 // HTSupply describes the rectifier and filter as the supply simulation
@@ -174,8 +175,6 @@ func Build(d *design.Design) (*Model, error) {
 			m.addR(p.Ref, "", p.Terminals[0].Net, p.Terminals[1].Net, p.Value)
 		case design.Choke:
 			m.addR(p.Ref, "dcr", p.Terminals[0].Net, p.Terminals[1].Net, p.DCR)
-		case design.Fuse:
-			m.addR(p.Ref, "", p.Terminals[0].Net, p.Terminals[1].Net, 0.05)
 		case design.Pot:
 			a, b := p.Terminals[0].Net, p.Terminals[1].Net
 			w := p.Terminals[2].Net
@@ -230,6 +229,7 @@ func Build(d *design.Design) (*Model, error) {
 		m.srcHandle = m.ckt.AddVSource(inner, 0, 0)
 		m.srcRHandle = m.ckt.AddResistor(inner, top, 1)
 	}
+	m.acOnly = acOnlyNets(d)
 	if len(m.Sections) == 0 && ht == nil {
 		return nil, fmt.Errorf("%s: nothing to solve: no amplifying valves and no HT supply", d.File)
 	}
@@ -457,4 +457,39 @@ func siliconDrop(d valves.SiliconDiode) float64 {
 		return 0.7
 	}
 	return d.N * 0.025852 * math.Log(0.1/d.Is+1)
+}
+
+// acOnlyNets finds nets joined only to heater pins and non-HT windings:
+// they carry heater AC, and their DC level is not a useful reading.
+func acOnlyNets(d *design.Design) map[string]bool {
+	out := map[string]bool{}
+	for net, uses := range d.Nets {
+		if net == d.Ground {
+			continue
+		}
+		only := true
+		for _, u := range uses {
+			p := d.ByRef[u.Ref]
+			switch {
+			case p == nil:
+			case p.Kind == design.PowerTransformer:
+			case p.Kind == design.Valve:
+				pin := 0
+				fmt.Sscanf(u.Terminal, "pin %d", &pin)
+				e := ""
+				for _, vp := range p.Valve.Type.Pins {
+					if vp.Number == pin {
+						e = vp.Electrode
+					}
+				}
+				if e != valves.Heater && e != valves.HeaterCT {
+					only = false
+				}
+			default:
+				only = false
+			}
+		}
+		out[net] = only
+	}
+	return out
 }

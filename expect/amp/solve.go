@@ -115,6 +115,10 @@ type SupplyOP struct {
 	ConductionDeg         float64
 	FixedPointIterations  int
 	Simulated             bool // false when the fast (linearised) supply was used
+	// SecondaryRms is the loaded rms volts at a rectifier plate (per half
+	// for a centre tap): open-circuit volts less the rms current\'s drop
+	// in the source resistance (an approximation: the drop is not in phase).
+	SecondaryRms float64
 }
 
 // OP is a solved operating point.
@@ -161,6 +165,7 @@ type Solver struct {
 	sopt    supply.Options
 	lastVth float64
 	lastRth float64
+	lastSec float64
 	haveTh  bool
 	nomF    float64 // supply factor of the cached line
 }
@@ -456,6 +461,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 			return err
 		}
 		sp.Vth, sp.Rth = vth, rth
+		sp.SecondaryRms = s.lastSec * f / s.nomF
 		s.stageLoads(&p, sp)
 		for i, net := range m.HT.Nets {
 			sp.Nets[i].Net = net
@@ -519,10 +525,12 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	sp.PeakRectAmps, sp.RmsAmps, sp.TotalAmps = res.PeakRectAmps, res.RmsRectAmps, res.AvgRectAmps
 	sp.ConductionDeg = res.ConductionDeg
 	sp.Vth, sp.Rth, sp.Simulated = vth, rth, true
+	sp.SecondaryRms = max(0, p.Vrms-res.RmsRectAmps*p.Rs)
 	if c.Variac <= 0 || c.Variac == 1 {
 		if c.MainsVolts <= 0 || c.MainsVolts == m.D.Mains.Volts {
 			if !c.ColdValves {
 				s.lastVth, s.lastRth, s.nomF, s.haveTh = vth, rth, f, true
+				s.lastSec = sp.SecondaryRms
 			}
 		}
 	}

@@ -258,7 +258,7 @@ func fitWith(kind Kind, rows []Row, start Koren, w fitWeights) (Koren, FitReport
 	x := append([]float64(nil), x0...)
 	best := cost(x)
 	for run := 0; run < 8; run++ {
-		res, err := nelderMead(cost, x, 0.2, 1e-13, 1e-7, 40000)
+		res, err := minimise(cost, x, 40000)
 		if err != nil {
 			return Koren{}, rep, fmt.Errorf("valves: Fit: %w", err)
 		}

@@ -1,0 +1,80 @@
+// Command pinwalk computes what every valve socket pin of an amplifier
+// should read, walks a technician through a safe measurement order, and
+// ranks the likely faults from the readings.
+package main
+
+import (
+	"fmt"
+	"io"
+	"os"
+	"strings"
+)
+
+// Exit codes.
+const (
+	exitOK       = 0
+	exitProblems = 1 // the design or readings have errors, or a check failed
+	exitUsage    = 2 // the command line is wrong
+	exitFailure  = 3 // the computation failed (e.g. no convergence)
+)
+
+type command struct {
+	name    string
+	summary string
+	run     func(args []string, stdout, stderr io.Writer) int
+}
+
+func commands() []command {
+	return []command{
+		{"check", "validate a design file and print every problem found", runCheck},
+		{"expect", "what every pin and net should read, with tolerance bands", runExpect},
+		{"valves", "list the valve library, or show one type's pins, ratings and fit", runValves},
+	}
+}
+
+func usage(w io.Writer) {
+	fmt.Fprintf(w, `pinwalk: expected readings, safe measurement order and fault ranking for valve amplifiers.
+
+Usage:
+  pinwalk <command> [options] [DESIGN]
+
+Commands:
+`)
+	for _, c := range commands() {
+		fmt.Fprintf(w, "  %-9s %s\n", c.name, c.summary)
+	}
+	fmt.Fprintf(w, `
+DESIGN is a design file (YAML); "demo" or no file means the embedded demo
+design (demo:NAME picks another: %s).
+
+Run "pinwalk <command> --help" for a command's options.
+
+Valve amplifiers hold lethal voltages, and filter capacitors keep them after
+power-off. pinwalk's expectations do not replace training, local codes or
+licensed practice.
+`, strings.Join(demoNames(), ", "))
+}
+
+func main() {
+	os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
+}
+
+func run(args []string, stdout, stderr io.Writer) int {
+	if len(args) == 0 {
+		usage(stdout)
+		return exitOK
+	}
+	switch args[0] {
+	case "-h", "--help", "help":
+		usage(stdout)
+		return exitOK
+	}
+	for _, c := range commands() {
+		if c.name == args[0] {
+			return c.run(args[1:], stdout, stderr)
+		}
+	}
+	fmt.Fprintf(stderr, "pinwalk: unknown command %q\n\n", args[0])
+	usage(stderr)
+	return exitUsage
+}

@@ -1,0 +1,69 @@
+package main
+
+import (
+	"flag"
+	"fmt"
+	"io"
+	"sort"
+
+	"pinwalk/expect/units"
+	"pinwalk/expect/valves"
+)
+
+func runValves(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("valves", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	fs.Usage = func() {
+		fmt.Fprintln(stderr, `Usage: pinwalk valves [TYPE]
+
+Lists the valve library; with a type, shows its base and pins (numbered
+from below), heater, limits, model parameters and the datasheet rows the
+model was fitted to, with the model's figures beside each row.`)
+	}
+	if err := fs.Parse(args); err != nil {
+		return exitUsage
+	}
+	if fs.NArg() == 0 {
+		for _, t := range valves.All() {
+			fmt.Fprintf(stdout, "%-8s %-9s %-6s heater %s %s\n", t.Name, t.Kind, t.Base,
+				units.Format(t.Heater.Volts, units.Volts), units.Format(t.Heater.Amps, units.Amps))
+		}
+		return exitOK
+	}
+	t, ok := valves.Lookup(fs.Arg(0))
+	if !ok {
+		fmt.Fprintf(stderr, "pinwalk: unknown valve type %q\n", fs.Arg(0))
+		return exitProblems
+	}
+	fmt.Fprintf(stdout, "%s (%s, %s base)\n", t.Name, t.Kind, t.Base)
+	pins := append([]valves.Pin(nil), t.Pins...)
+	sort.Slice(pins, func(i, j int) bool { return pins[i].Number < pins[j].Number })
+	for _, p := range pins {
+		sec := ""
+		if p.Section != "" {
+			sec = " " + p.Section
+		}
+		fmt.Fprintf(stdout, "  pin %d  %s%s\n", p.Number, p.Electrode, sec)
+	}
+	fmt.Fprintf(stdout, "heater %s at %s", units.Format(t.Heater.Volts, units.Volts), units.Format(t.Heater.Amps, units.Amps))
+	if t.Heater.AltVolts > 0 {
+		fmt.Fprintf(stdout, " (or %s at %s)", units.Format(t.Heater.AltVolts, units.Volts), units.Format(t.Heater.AltAmps, units.Amps))
+	}
+	fmt.Fprintln(stdout)
+	l := t.Limits
+	fmt.Fprintf(stdout, "limits: plate %s, %s", units.Format(l.PlateWatts, units.Watts), units.Format(l.PlateVolts, units.Volts))
+	if l.ScreenWatts > 0 {
+		fmt.Fprintf(stdout, ", screen %s", units.Format(l.ScreenWatts, units.Watts))
+	}
+	fmt.Fprintln(stdout)
+	if t.Kind == valves.Rectifier {
+		fmt.Fprintf(stdout, "perveance %.3g A/V^1.5 per anode\n", t.Perveance)
+		return exitOK
+	}
+	k := t.Model
+	fmt.Fprintf(stdout, "Koren model: mu %.4g ex %.4g kg1 %.4g kg2 %.4g kp %.4g kvb %.4g\n", k.Mu, k.Ex, k.KG1, k.KG2, k.KP, k.KVB)
+	for _, r := range t.Rows {
+		fmt.Fprintf(stdout, "  row Va %s Vg1 %s: Ia %s  (%s)\n", units.Format(r.Va, units.Volts), units.Format(r.Vg1, units.Volts), units.Format(r.Ia, units.Amps), r.Source)
+	}
+	return exitOK
+}
