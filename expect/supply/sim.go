@@ -48,9 +48,7 @@ func newEngine(p Params, opt Options) (*engine, error) {
 	if err := p.Validate(); err != nil {
 		return nil, err
 	}
-	if opt.StepsPerCycle == 0 && opt.MaxCycles == 0 && opt.Tol == 0 {
-		opt = DefaultOptions()
-	}
+	opt = opt.withDefaults()
 	if opt.StepsPerCycle < 20 {
 		return nil, &ParamError{"Options.StepsPerCycle", "must be ≥ 20"}
 	}
@@ -364,13 +362,11 @@ func (e *engine) criticalL(v, i float64) float64 {
 // smaller of √2·Vrms and the voltage step I/(C·f) that the load current
 // would make in one cycle (so the charge balance holds to about Tol).
 //
-// A zero Options means DefaultOptions. Invalid parameters give a
+// Zero fields of opt take their DefaultOptions values. Invalid parameters give a
 // *ParamError. If the cycle budget runs out, the last cycle is reported
 // with an error wrapping ErrNoSteadyState.
 func Simulate(p Params, opt Options) (Result, error) {
-	if opt == (Options{}) {
-		opt = DefaultOptions()
-	}
+	opt = opt.withDefaults()
 	e, err := newEngine(p, opt)
 	if err != nil {
 		return Result{}, err
@@ -464,6 +460,21 @@ func Simulate(p Params, opt Options) (Result, error) {
 		return res, fmt.Errorf("%w (residual %.3g after %d cycles)", ErrNoSteadyState, r, res.Cycles)
 	}
 	return res, nil
+}
+
+// withDefaults fills zero fields from DefaultOptions.
+func (o Options) withDefaults() Options {
+	d := DefaultOptions()
+	if o.StepsPerCycle == 0 {
+		o.StepsPerCycle = d.StepsPerCycle
+	}
+	if o.MaxCycles == 0 {
+		o.MaxCycles = d.MaxCycles
+	}
+	if o.Tol == 0 {
+		o.Tol = d.Tol
+	}
+	return o
 }
 
 func finiteAll(x []float64) bool {

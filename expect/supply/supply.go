@@ -119,7 +119,8 @@ type Result struct {
 	CriticalL float64
 }
 
-// Options controls the simulation.
+// Options controls the simulation; zero fields take their DefaultOptions
+// values.
 type Options struct {
 	StepsPerCycle int     // backward-Euler steps per mains cycle (≥ 20)
 	MaxCycles     int     // budget of simulated cycles, Jacobian cycles included
