@@ -90,12 +90,6 @@ func (m *Model) RatingChecks(op, cold *OP) []Finding {
 		if sec.Pentode && lim.ScreenWatts > 0 && so.Pg2 > lim.ScreenWatts {
 			add(p, design.Error, "%s screen dissipation %s is over its %s rating", sec.Name(), units.Format(so.Pg2, units.Watts), units.Format(lim.ScreenWatts, units.Watts))
 		}
-		if lim.PlateVolts > 0 && cold != nil {
-			if va := cold.Sections[i].Va; va > lim.PlateVolts {
-				add(p, design.Warning, "%s plate reaches %s at switch-on, over its %s rating (cold valves usually tolerate this: check the datasheet's zero-signal or cold rating)",
-					sec.Name(), units.Format(va, units.Volts), units.Format(lim.PlateVolts, units.Volts))
-			}
-		}
 		// Grid-1 resistance: the largest resistor from the grid net.
 		rg := 0.0
 		gnet := m.D.ByRef[sec.Ref].Valve.Sections[sec.Section][valves.Grid]

@@ -365,6 +365,11 @@ func (s *Solver) supplyParams(c Conditions, v *Values) supply.Params {
 	p := supply.Params{Topology: ht.Topology, Vrms: ht.VrmsOC * f * v.HTVolts, Rs: ht.Rs * v.HTOhms,
 		Hz: s.m.D.Mains.Hz, Rect: ht.Rect}
 	p.Rect.Perveance *= v.RectScale
+	if v.HalfOpen && p.Topology == supply.CentreTap {
+		// One half of a full-wave rectifier open: the other half works on
+		// alone as a half-wave rectifier on its half-winding.
+		p.Topology = supply.HalfWave
+	}
 	if c.ColdValves && ht.Rect.Kind == supply.Valve {
 		// A cold valve rectifier conducts nothing; the cold-start peak is
 		// taken with a warm rectifier and cold amplifier valves instead.
