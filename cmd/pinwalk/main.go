@@ -29,6 +29,8 @@ func commands() []command {
 		{"check", "validate a design file and print every problem found", runCheck},
 		{"expect", "what every pin and net should read, with tolerance bands", runExpect},
 		{"valves", "list the valve library, or show one type's pins, ratings and fit", runValves},
+		{"new", "write a commented design file to start from, from a template", runNew},
+		{"show", "a readable summary of a design, to check it against the schematic", runShow},
 	}
 }
 

@@ -81,6 +81,16 @@ type Model struct {
 	windingSlot map[string]int
 	slotNets    [][2]string
 	acOnly      map[string]bool // nets that carry only heater AC
+	meterSlot   map[string]int
+}
+
+// MeterSlot returns the value slot of the meter position on a net: an
+// open resistance to chassis (Inf in the nominal values) that a meter's
+// input resistance replaces to model loading. ok is false for nets not in
+// the DC network.
+func (m *Model) MeterSlot(net string) (slot int, ok bool) {
+	slot, ok = m.meterSlot[net]
+	return slot, ok
 }
 
 // HTSupply describes the rectifier and filter as the supply simulation
@@ -230,6 +240,15 @@ func Build(d *design.Design) (*Model, error) {
 		m.srcRHandle = m.ckt.AddResistor(inner, top, 1)
 	}
 	m.acOnly = acOnlyNets(d)
+	// A meter slot on every DC net: open (Inf) unless a meter's input
+	// resistance is placed there to show the reading a real meter gives.
+	m.meterSlot = map[string]int{}
+	for _, net := range d.NetNames() {
+		if _, ok := m.nodeOf[net]; !ok || net == d.Ground || m.acOnly[net] {
+			continue
+		}
+		m.meterSlot[net] = m.addR("meter:"+net, "meter", net, d.Ground, math.Inf(1))
+	}
 	if len(m.Sections) == 0 && ht == nil {
 		return nil, fmt.Errorf("%s: nothing to solve: no amplifying valves and no HT supply", d.File)
 	}
