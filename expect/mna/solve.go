@@ -86,10 +86,16 @@ type workspace struct {
 	xstart []float64
 	xgood  []float64
 	xfail  []float64
+	branch []float64 // voltage-source currents of the last successful solve
 	r      []float64
 	rscale []float64
 	piv    []int
 	devRow []bool // node unknown touched by a device: its step is limited
+	// Sparsity pattern of the assembled matrix, row by row: the columns of
+	// row i are cols[rowPtr[i]:rowPtr[i+1]]. Used by the residual.
+	rowPtr []int
+	cols   []int
+	span   []int // per-row nonzero spans of the LU factors (see luFactor)
 }
 
 func (c *Circuit) prepare() {
@@ -108,6 +114,7 @@ func (c *Circuit) prepare() {
 	w.xstart = make([]float64, s)
 	w.xgood = make([]float64, s)
 	w.xfail = make([]float64, s)
+	w.branch = make([]float64, s-w.nn)
 	w.r = make([]float64, s)
 	w.rscale = make([]float64, s)
 	w.piv = make([]int, s)
@@ -119,7 +126,58 @@ func (c *Circuit) prepare() {
 			}
 		}
 	}
+	c.buildPattern()
+	w.span = make([]int, 2*s)
 	w.valid = true
+}
+
+// buildPattern records which entries of the assembled matrix can be
+// nonzero: the diagonal of every node row (gmin), resistor and voltage-source
+// stamps, and every pair of device terminals.
+func (c *Circuit) buildPattern() {
+	w := &c.ws
+	s := w.size
+	mark := make([]bool, s*s)
+	set := func(i, j int) {
+		if i >= 0 && j >= 0 {
+			mark[i*s+j] = true
+		}
+	}
+	for i := 0; i < w.nn; i++ {
+		set(i, i)
+	}
+	for _, r := range c.res {
+		a, b := r.a-1, r.b-1
+		set(a, a)
+		set(b, b)
+		set(a, b)
+		set(b, a)
+	}
+	for k, v := range c.vs {
+		row := w.nn + k
+		p, m := v.plus-1, v.minus-1
+		set(p, row)
+		set(row, p)
+		set(m, row)
+		set(row, m)
+	}
+	for _, d := range c.devs {
+		for _, a := range d.term {
+			for _, b := range d.term {
+				set(a-1, b-1)
+			}
+		}
+	}
+	w.rowPtr = make([]int, s+1)
+	w.cols = w.cols[:0]
+	for i := 0; i < s; i++ {
+		for j := 0; j < s; j++ {
+			if mark[i*s+j] {
+				w.cols = append(w.cols, j)
+			}
+		}
+		w.rowPtr[i+1] = len(w.cols)
+	}
 }
 
 // stampLinear writes the resistor and voltage-source stamps into abase and
@@ -240,12 +298,10 @@ func (c *Circuit) residual(opt *Options) (small, ok bool) {
 		row := w.a[i*s : i*s+s]
 		sum := -w.b[i]
 		scale := math.Abs(w.b[i])
-		for j, aij := range row {
-			if aij != 0 {
-				t := aij * w.x[j]
-				sum += t
-				scale += math.Abs(t)
-			}
+		for _, j := range w.cols[w.rowPtr[i]:w.rowPtr[i+1]] {
+			t := row[j] * w.x[j]
+			sum += t
+			scale += math.Abs(t)
 		}
 		w.r[i] = sum
 		w.rscale[i] = scale
@@ -286,10 +342,10 @@ func (c *Circuit) newton(opt *Options, lambda, gmin float64) (int, error) {
 			return it, nil
 		}
 		// Solve A·xnew = b, using b as the result vector.
-		if !luFactor(w.a, s, w.piv) {
+		if !luFactor(w.a, s, w.piv, w.span) {
 			return it + 1, ErrSingular
 		}
-		luSolve(w.a, s, w.piv, w.b)
+		luSolve(w.a, s, w.piv, w.span, w.b)
 		alpha := 1.0
 		if !linear && opt.MaxStepVolts > 0 {
 			maxd := 0.0
@@ -366,6 +422,9 @@ func (c *Circuit) Solve(opt Options, warm []float64, sol *Solution) error {
 			}
 			w.xstart[i-1] = warm[i]
 		}
+		// Branch currents are not in warm: take those of the last
+		// successful solve, so a warm start at the answer balances at once.
+		copy(w.xstart[w.nn:], w.branch)
 	}
 	copy(w.x, w.xstart)
 	total := 0
@@ -571,6 +630,7 @@ func (c *Circuit) store(sol *Solution, iters int, stage string) {
 	for k := range c.vs {
 		sol.SourceAmps[k] = -w.x[w.nn+k]
 	}
+	copy(w.branch, w.x[w.nn:])
 	sol.Iterations = iters
 	sol.Stage = stage
 }
