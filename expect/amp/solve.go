@@ -470,7 +470,6 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		s.stageLoads(&p, sp)
 		for i, net := range m.HT.Nets {
 			sp.Nets[i].Net = net
-			sp.Nets[i].Vdc = op.V[0] // filled by extract
 		}
 		s.extract(op, hv, frac)
 		return nil
@@ -624,3 +623,6 @@ func (s *Solver) extract(op *OP, hv map[string]float64, frac []float64) {
 		}
 	}
 }
+
+// simulate runs the supply simulation (a seam for benchmarks).
+func simulate(p supply.Params, o supply.Options) (supply.Result, error) { return supply.Simulate(p, o) }
