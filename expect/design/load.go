@@ -529,7 +529,11 @@ func (l *loader) part(d *Design, p *Part, n *yaml.Node) bool {
 		p.Setting = 0.5
 		if sn, ok := fields["setting"]; ok {
 			if s, ok := l.scalar(sn, field("setting"), "a wiper setting (0% to 100% from the first end)"); ok {
-				v, err := units.Parse(strings.TrimSuffix(s, "?"), units.Percent)
+				if strings.HasSuffix(s, "?") {
+					s = strings.TrimSpace(strings.TrimSuffix(s, "?"))
+					p.Placeholder = append(p.Placeholder, field("setting"))
+				}
+				v, err := units.Parse(s, units.Percent)
 				if err != nil || v < 0 || v > 100 {
 					l.errf(sn, field("setting"), "%q: expected a wiper setting from 0%% to 100%% measured from the first end", s)
 				} else {
@@ -831,7 +835,10 @@ func (l *loader) powerTransformer(p *Part, n *yaml.Node) {
 
 // windingVolts reads "6.3", "6.3V", "250-0-250" or "250-0-250V".
 func (l *loader) windingVolts(n *yaml.Node, field, s string, w *Winding, p *Part) {
-	s = strings.TrimSuffix(s, "?")
+	if strings.HasSuffix(s, "?") {
+		s = strings.TrimSpace(strings.TrimSuffix(s, "?"))
+		p.Placeholder = append(p.Placeholder, field)
+	}
 	if parts := strings.Split(s, "-0-"); len(parts) == 2 {
 		a, err1 := units.Parse(strings.TrimSpace(parts[0]), units.Volts)
 		b, err2 := units.Parse(strings.TrimSpace(parts[1]), units.Volts)
