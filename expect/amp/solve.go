@@ -46,6 +46,10 @@ type Values struct {
 	HalfOpen  bool
 	// Heater winding volts scale (ratio tolerance).
 	HeaterVolts float64
+	// CapOpen marks capacitors (by ref) that a fault hypothesis has gone
+	// open. It changes no DC value except through StageC; AC analysis reads
+	// it. nil means none.
+	CapOpen map[string]bool
 }
 
 // NominalValues returns a fresh copy of the nominal part values.
@@ -71,6 +75,12 @@ func (v *Values) Clone() *Values {
 	c.Koren = append([]valves.Koren(nil), v.Koren...)
 	c.Emission = append([]float64(nil), v.Emission...)
 	c.StageC = append([]float64(nil), v.StageC...)
+	if v.CapOpen != nil {
+		c.CapOpen = make(map[string]bool, len(v.CapOpen))
+		for k, b := range v.CapOpen {
+			c.CapOpen[k] = b
+		}
+	}
 	return &c
 }
 
