@@ -48,6 +48,7 @@ func Parse(name string, data []byte) (*Design, Problems) {
 		return nil, l.probs
 	}
 	var doc yaml.Node
+	data, l.marks = markFlowPlaceholders(data)
 	if err := yaml.Unmarshal(data, &doc); err != nil {
 		l.errAt(yamlErrPos(err), "file", "not valid YAML: %s", cleanYAMLError(err))
 		return nil, l.probs
@@ -107,6 +108,7 @@ func cleanYAMLError(err error) string {
 type loader struct {
 	file  string
 	probs Problems
+	marks map[Pos]bool // placeholder "?" rewritten by markFlowPlaceholders
 }
 
 func posOf(n *yaml.Node) Pos { return Pos{n.Line, n.Column} }
@@ -174,6 +176,9 @@ func join(a, b string) string {
 	if a == "" {
 		return b
 	}
+	if b == "" {
+		return a
+	}
 	return a + "." + b
 }
 
@@ -192,7 +197,74 @@ func (l *loader) scalar(n *yaml.Node, field, what string) (string, bool) {
 		l.errf(n, field, "expected %s, found %s", what, describe(n))
 		return "", false
 	}
-	return strings.TrimSpace(n.Value), true
+	v := n.Value
+	if n.Style == 0 && strings.HasSuffix(v, placeholderMark) &&
+		l.marks[Pos{n.Line, n.Column + utf8.RuneCountInString(v) - 1}] {
+		v = strings.TrimSuffix(v, placeholderMark) + "?"
+	}
+	return strings.TrimSpace(v), true
+}
+
+// placeholderMark stands in for a placeholder "?" inside a flow mapping
+// while the YAML is parsed; it has the same width so positions hold.
+const placeholderMark = "~"
+
+// markFlowPlaceholders lets a placeholder "?" end a plain value inside a
+// flow mapping or list ({resistor: 4K7?, between: [B1, P1]}), where YAML
+// does not allow it: each such "?" (after a value character and before ",",
+// "}" or "]" or the end of the line) is replaced by placeholderMark, and its
+// position returned so the loader turns it back into "?". Quoted text and
+// comments are left alone.
+func markFlowPlaceholders(data []byte) ([]byte, map[Pos]bool) {
+	if !strings.Contains(string(data), "?") {
+		return data, nil
+	}
+	out := []byte(string(data))
+	var marks map[Pos]bool
+	depth := 0
+	line, col := 1, 0
+	var quote byte
+	comment := false
+	for i := 0; i < len(out); i++ {
+		c := out[i]
+		if c == '\n' {
+			line, col, comment = line+1, 0, false
+			continue
+		}
+		if c&0xC0 != 0x80 { // count runes, not bytes
+			col++
+		}
+		switch {
+		case comment:
+		case quote != 0:
+			if c == quote {
+				quote = 0
+			}
+		case c == '#' && (i == 0 || out[i-1] == ' ' || out[i-1] == '\t' || out[i-1] == '\n'):
+			comment = true
+		case c == '\'' || c == '"':
+			if i == 0 || strings.ContainsRune(" \t\n{[,:", rune(out[i-1])) {
+				quote = c
+			}
+		case c == '{' || c == '[':
+			depth++
+		case c == '}' || c == ']':
+			depth = max(0, depth-1)
+		case c == '?' && depth > 0 && i > 0 && !strings.ContainsRune(" \t{[,:", rune(out[i-1])):
+			j := i + 1
+			for j < len(out) && (out[j] == ' ' || out[j] == '\t') {
+				j++
+			}
+			if j == len(out) || strings.ContainsRune(",}]\n\r", rune(out[j])) {
+				out[i] = placeholderMark[0]
+				if marks == nil {
+					marks = map[Pos]bool{}
+				}
+				marks[Pos{line, col}] = true
+			}
+		}
+	}
+	return out, marks
 }
 
 // value parses a quantity. A trailing "?" marks a placeholder to be
