@@ -101,7 +101,7 @@ func (l *loader) checkSupply(d *Design) {
 				l.add(p.Pos, Error, p.Ref, "write the winding as volts: 250-0-250 with centre: 0V",
 					"a full-wave rectifier with two anodes needs a centre-tapped winding; %s has none", w.Name)
 			} else if w.Centre != d.Ground {
-				l.add(w.Pos, Error, "secondaries."+w.Name+".centre", "centre tap not grounded: the HT centre tap normally goes to chassis (centre: "+d.Ground+")",
+				l.add(w.Pos, Error, windingField(d, w)+".centre", "centre tap not grounded: the HT centre tap normally goes to chassis (centre: "+d.Ground+")",
 					"the centre tap of %s is on net %s, not ground, so the full-wave rectifier has no return path", w.Name, w.Centre)
 			}
 		}
@@ -283,9 +283,22 @@ func (l *loader) checkHeaters(d *Design) {
 			continue
 		}
 		if ld.amps > w.RatedAmps*1.0001 {
-			l.add(w.Pos, Warning, "secondaries."+w.Name, "",
+			l.add(w.Pos, Warning, windingField(d, w), "",
 				"heater winding %s is loaded with %s by %s, over its %s rating",
 				w.Name, units.Format(ld.amps, units.Amps), strings.Join(ld.refs, ", "), units.Format(w.RatedAmps, units.Amps))
 		}
 	}
+}
+
+// windingField is the dotted field path of a secondary winding, as the
+// loader names it ("T1.power-transformer.secondaries.HT").
+func windingField(d *Design, w *Winding) string {
+	for _, p := range d.PartsOfKind(PowerTransformer) {
+		for _, x := range p.PT.Windings {
+			if x == w {
+				return p.Ref + "." + string(PowerTransformer) + ".secondaries." + w.Name
+			}
+		}
+	}
+	return "secondaries." + w.Name
 }
