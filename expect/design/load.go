@@ -57,8 +57,8 @@ func Parse(name string, data []byte) (*Design, Problems) {
 		l.errAt(Pos{1, 1}, "file", "the file is empty: expected a design starting with `pinwalk: %d`", SchemaVersion)
 		return nil, l.probs
 	}
-	if hasAlias(&doc) {
-		l.errAt(Pos{1, 1}, "file", "YAML anchors and aliases (& and *) are not allowed in design files: write each part out")
+	if a := findAlias(&doc); a != nil {
+		l.errf(a, "file", "YAML anchors and aliases (& and *) are not allowed in design files: write each part out")
 		return nil, l.probs
 	}
 	sum := sha256.Sum256(data)
@@ -71,16 +71,18 @@ func Parse(name string, data []byte) (*Design, Problems) {
 	return d, l.probs
 }
 
-func hasAlias(n *yaml.Node) bool {
+// findAlias returns the first node, in document order, that is an alias
+// or carries an anchor, or nil.
+func findAlias(n *yaml.Node) *yaml.Node {
 	if n.Kind == yaml.AliasNode || n.Anchor != "" {
-		return true
+		return n
 	}
 	for _, c := range n.Content {
-		if hasAlias(c) {
-			return true
+		if a := findAlias(c); a != nil {
+			return a
 		}
 	}
-	return false
+	return nil
 }
 
 func yamlErrPos(err error) Pos {
