@@ -111,6 +111,9 @@ type loader struct {
 	file  string
 	probs Problems
 	marks map[Pos]bool // placeholder "?" rewritten by markFlowPlaceholders
+	// groundPos is where the ground net is named (the top-level mapping
+	// when the file leaves it to the default).
+	groundPos Pos
 }
 
 func posOf(n *yaml.Node) Pos { return Pos{n.Line, n.Column} }
@@ -412,7 +415,9 @@ func (l *loader) design(d *Design, root *yaml.Node) {
 		}
 	}
 	d.Ground = "0V"
+	l.groundPos = posOf(root)
 	if v, ok := got["ground"]; ok {
+		l.groundPos = posOf(v)
 		if s, ok := l.netName(v, "ground"); ok {
 			d.Ground = s
 		}

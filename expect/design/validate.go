@@ -16,7 +16,7 @@ func (l *loader) validate(d *Design) {
 		return
 	}
 	if len(d.Nets[d.Ground]) == 0 {
-		l.add(Pos{1, 1}, Error, "ground", "name the chassis net with `ground: 0V` and connect the HT centre tap, cathode resistors and grid leaks to it",
+		l.add(l.groundPos, Error, "ground", "name the chassis net with `ground: 0V` and connect the HT centre tap, cathode resistors and grid leaks to it",
 			"nothing connects to the ground net %q", d.Ground)
 	}
 	names := d.NetNames()
