@@ -1,0 +1,457 @@
+package procedures
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"strings"
+	"time"
+
+	"pinwalk/expect/units"
+)
+
+// Expecter gives the expected band of a point under the session's
+// conditions and readings so far.
+type Expecter interface {
+	// Expect returns the band of a point key at a variac fraction (0 or 1
+	// for full mains), given the readings already taken.
+	Expect(point string, variac float64, readings []Reading) (Band, bool)
+}
+
+// Runner drives a procedure: it enforces gates, records readings, skips
+// and confirmations in the session, and saves the session after every
+// change.
+type Runner struct {
+	Proc *Procedure
+	Sess *Session
+	// Path is where the session is saved after every change ("" = not saved).
+	Path   string
+	Expect Expecter
+	// Now gives the time stamps (tests fix it).
+	Now func() time.Time
+	// Training: record attempts to go out of order, ask for predictions.
+	Training bool
+
+	cur int
+	// SaveErr is the last save failure (nil after a good save). The
+	// session stays in memory; Retry saving with SaveNow.
+	SaveErr error
+}
+
+// Errors a runner returns.
+var (
+	ErrGated      = errors.New("gated")
+	ErrNoMeasure  = errors.New("this step takes no reading")
+	ErrQuestioned = errors.New("reading questioned")
+)
+
+// GateError says which steps must be done first.
+type GateError struct {
+	Step     string
+	Blockers []string
+}
+
+func (e *GateError) Error() string {
+	return fmt.Sprintf("step %s cannot start yet: first %s", e.Step, strings.Join(e.Blockers, ", "))
+}
+
+func (e *GateError) Unwrap() error { return ErrGated }
+
+// NewRunner starts or resumes a procedure on a session: it moves to the
+// session's saved step (or the first step not done).
+func NewRunner(p *Procedure, s *Session, path string, ex Expecter) *Runner {
+	r := &Runner{Proc: p, Sess: s, Path: path, Expect: ex, Now: time.Now}
+	r.Training = s.Mode == Training || s.Mode == Practise
+	r.cur = -1
+	if s.Cursor != "" {
+		if i := p.Index(s.Cursor); i >= 0 && !r.Done(p.Steps[i].ID) {
+			r.cur = i
+		}
+	}
+	if r.cur < 0 {
+		r.cur = r.firstOpen(0)
+	}
+	return r
+}
+
+func (r *Runner) firstOpen(from int) int {
+	for i := from; i < len(r.Proc.Steps); i++ {
+		if !r.Done(r.Proc.Steps[i].ID) {
+			return i
+		}
+	}
+	for i := 0; i < from && i < len(r.Proc.Steps); i++ {
+		if !r.Done(r.Proc.Steps[i].ID) {
+			return i
+		}
+	}
+	return len(r.Proc.Steps) - 1
+}
+
+// Current returns the step the runner is on.
+func (r *Runner) Current() *Step {
+	if r.cur < 0 || r.cur >= len(r.Proc.Steps) {
+		return nil
+	}
+	return r.Proc.Steps[r.cur]
+}
+
+// CurrentIndex returns the current step's position.
+func (r *Runner) CurrentIndex() int { return r.cur }
+
+// Finished reports whether every step is done.
+func (r *Runner) Finished() bool {
+	for _, s := range r.Proc.Steps {
+		if !r.Done(s.ID) {
+			return false
+		}
+	}
+	return true
+}
+
+// Skipped reports whether a step was skipped, and why.
+func (r *Runner) Skipped(id string) (string, bool) {
+	for _, s := range r.Sess.Skips {
+		if s.Step == id {
+			return s.Reason, true
+		}
+	}
+	return "", false
+}
+
+// Done reports whether a step is passed (confirmed, or every measure has
+// an accepted reading) or skipped with a reason.
+func (r *Runner) Done(id string) bool {
+	if _, ok := r.Skipped(id); ok {
+		return true
+	}
+	for _, p := range r.Sess.Passes {
+		if p.Step == id {
+			return true
+		}
+	}
+	st := r.Proc.Step(id)
+	if st == nil || len(st.Measures) == 0 {
+		return false
+	}
+	for _, m := range st.Measures {
+		if r.Last(id, m.Point) == nil {
+			return false
+		}
+	}
+	return true
+}
+
+// Last returns the latest accepted reading of a point in a step, or nil.
+func (r *Runner) Last(step, point string) *Reading {
+	for i := len(r.Sess.Readings) - 1; i >= 0; i-- {
+		rd := &r.Sess.Readings[i]
+		if rd.Step == step && rd.Point == point && rd.Status != Retry {
+			return rd
+		}
+	}
+	return nil
+}
+
+// Blockers lists the gate steps of a step that are not done.
+func (r *Runner) Blockers(st *Step) []string {
+	var out []string
+	for _, g := range st.Gate {
+		if !r.Done(g) {
+			if gs := r.Proc.Step(g); gs != nil {
+				out = append(out, gs.Title)
+			} else {
+				out = append(out, g)
+			}
+		}
+	}
+	return out
+}
+
+// Goto moves to a step if its gate allows; in training mode a blocked
+// attempt is logged.
+func (r *Runner) Goto(id string) error {
+	i := r.Proc.Index(id)
+	if i < 0 {
+		return fmt.Errorf("no step %q", id)
+	}
+	if b := r.Blockers(r.Proc.Steps[i]); len(b) > 0 {
+		if r.Training {
+			r.Sess.Attempts = append(r.Sess.Attempts, Attempt{Step: id, Blocked: strings.Join(b, ", "), At: r.Now()})
+			r.save()
+		}
+		return &GateError{Step: r.Proc.Steps[i].Title, Blockers: b}
+	}
+	r.cur = i
+	r.Sess.Cursor = id
+	r.save()
+	return nil
+}
+
+// Next moves to the next step that is not done (wrapping to earlier open
+// steps), and returns it.
+func (r *Runner) Next() *Step {
+	r.cur = r.firstOpen(r.cur + 1)
+	if st := r.Current(); st != nil {
+		r.Sess.Cursor = st.ID
+	}
+	r.save()
+	return r.Current()
+}
+
+// Confirm marks the current step done (steps with no reading, or a
+// step whose readings are all in).
+func (r *Runner) Confirm() error {
+	st := r.Current()
+	if st == nil {
+		return errors.New("no step")
+	}
+	if b := r.Blockers(st); len(b) > 0 {
+		return &GateError{Step: st.Title, Blockers: b}
+	}
+	if len(st.Measures) > 0 && !r.Done(st.ID) {
+		return fmt.Errorf("%s needs its reading(s) first, or skip it with a reason", st.Title)
+	}
+	r.Sess.Passes = append(r.Sess.Passes, Pass{Step: st.ID, At: r.Now()})
+	r.touch()
+	return r.save()
+}
+
+// Skip skips the current step with a stated reason.
+func (r *Runner) Skip(reason string) error {
+	st := r.Current()
+	if st == nil {
+		return errors.New("no step")
+	}
+	reason = strings.TrimSpace(reason)
+	if len(reason) < 3 {
+		return errors.New("a skipped step needs a reason (a few words)")
+	}
+	r.Sess.Skips = append(r.Sess.Skips, Skip{Step: st.ID, Reason: reason, Safety: st.Safety, At: r.Now()})
+	r.touch()
+	return r.save()
+}
+
+// NextMeasure returns the first measure of the current step without an
+// accepted reading, or nil.
+func (r *Runner) NextMeasure() *Measure {
+	st := r.Current()
+	if st == nil {
+		return nil
+	}
+	for i := range st.Measures {
+		if r.Last(st.ID, st.Measures[i].Point) == nil {
+			return &st.Measures[i]
+		}
+	}
+	return nil
+}
+
+// Expected returns a measure's band under the current step's conditions.
+func (r *Runner) Expected(st *Step, m *Measure) (Band, bool) {
+	if r.Expect == nil {
+		return Band{}, false
+	}
+	return r.Expect.Expect(m.Point, st.Variac, r.Sess.Readings)
+}
+
+// Verdict is the outcome of a reading.
+type Verdict struct {
+	Reading Reading
+	Band    Band
+	HasBand bool
+	Message string
+}
+
+// ParseReading reads what the user typed for a measure: a number (the
+// measure's unit), or a value with SI or RKM notation. A value with the
+// unit of another quantity is an error; an absurd magnitude is questioned
+// (ErrQuestioned) unless the text ends in "!".
+func ParseReading(raw string, m *Measure, expect *Band) (float64, error) {
+	s := strings.TrimSpace(raw)
+	force := strings.HasSuffix(s, "!")
+	s = strings.TrimSpace(strings.TrimSuffix(s, "!"))
+	if s == "" {
+		return 0, errors.New("empty reading: type the meter's value, like 312 or 4.7mA")
+	}
+	q := units.Volts
+	switch m.Unit {
+	case "A":
+		q = units.Amps
+	case "Ω":
+		q = units.Ohms
+	}
+	low := strings.ToLower(s)
+	if q == units.Ohms && (low == "ol" || low == "open" || low == "inf" || low == "o.l" || low == "o.l.") {
+		return math.Inf(1), nil
+	}
+	v, err := units.Parse(s, q)
+	if err != nil {
+		var me *units.MismatchError
+		if errors.As(err, &me) {
+			return 0, fmt.Errorf("%s: this step measures %s (%s)", err.Error(), q.String(), m.Function)
+		}
+		return 0, err
+	}
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, fmt.Errorf("%q is not a reading", raw)
+	}
+	if !force {
+		limit := 5000.0 // volts: nothing in a valve amp
+		switch q {
+		case units.Amps:
+			limit = 20
+		case units.Ohms:
+			limit = 1e10
+		}
+		if expect != nil {
+			limit = math.Max(limit/10, 20*math.Max(math.Abs(expect.High), math.Abs(expect.Low)))
+		}
+		if math.Abs(v) > limit {
+			return v, fmt.Errorf("%w: %s is far beyond anything this amp can read here; check the meter's range and the decimal point, "+
+				"and type it again followed by ! if it really reads that", ErrQuestioned, units.Format(v, q))
+		}
+	}
+	return v, nil
+}
+
+// Enter records a reading for the current step's next measure (or the
+// measure with the given point key when point is not empty).
+func (r *Runner) Enter(point, raw string) (*Verdict, error) {
+	st := r.Current()
+	if st == nil {
+		return nil, errors.New("no step")
+	}
+	if b := r.Blockers(st); len(b) > 0 {
+		if r.Training {
+			r.Sess.Attempts = append(r.Sess.Attempts, Attempt{Step: st.ID, Blocked: strings.Join(b, ", "), At: r.Now()})
+			r.save()
+		}
+		return nil, &GateError{Step: st.Title, Blockers: b}
+	}
+	var m *Measure
+	if point == "" {
+		m = r.NextMeasure()
+		if m == nil && len(st.Measures) > 0 {
+			m = &st.Measures[len(st.Measures)-1]
+		}
+	} else {
+		for i := range st.Measures {
+			if st.Measures[i].Point == point {
+				m = &st.Measures[i]
+			}
+		}
+	}
+	if m == nil {
+		return nil, ErrNoMeasure
+	}
+	band, has := r.Expected(st, m)
+	var bp *Band
+	if has {
+		bp = &band
+	}
+	v, err := ParseReading(raw, m, bp)
+	if err != nil {
+		return nil, err
+	}
+	rd := Reading{Step: st.ID, Point: m.Point, Raw: raw, Value: v, Unit: m.Unit, At: r.Now(), Variac: st.Variac, Mains: r.Sess.Bench.Mains}
+	vd := &Verdict{Band: band, HasBand: has}
+	if has {
+		rd.Low, rd.High, rd.Nominal = band.Low, band.High, band.Nominal
+		switch {
+		case band.Contains(v):
+			rd.Status = InBand
+			vd.Message = "in band"
+		case nearEdge(v, band):
+			rd.Status = Retry
+			vd.Message = "just outside the band: re-seat the probes and measure again"
+		default:
+			rd.Status = OutOfBand
+			vd.Message = "OUT OF BAND"
+		}
+	} else {
+		rd.Status = Done
+		vd.Message = "recorded"
+	}
+	if rd.Status == Retry && r.lastRetry(st.ID, m.Point) {
+		// A second borderline reading stands: it is out of band.
+		rd.Status = OutOfBand
+		vd.Message = "out of band (confirmed by a second reading)"
+	}
+	r.Sess.Readings = append(r.Sess.Readings, rd)
+	vd.Reading = rd
+	r.touch()
+	return vd, r.save()
+}
+
+func (r *Runner) lastRetry(step, point string) bool {
+	for i := len(r.Sess.Readings) - 1; i >= 0; i-- {
+		rd := r.Sess.Readings[i]
+		if rd.Step == step && rd.Point == point {
+			return rd.Status == Retry
+		}
+	}
+	return false
+}
+
+// nearEdge: out of band by less than 2 % of the band's scale — within a
+// typical meter's and probe's uncertainty (common practice: re-measure).
+func nearEdge(v float64, b Band) bool {
+	scale := math.Max(math.Abs(b.High), math.Abs(b.Low))
+	tol := 0.02*scale + 1e-9
+	return (v < b.Low && b.Low-v <= tol) || (v > b.High && v-b.High <= tol)
+}
+
+// Predict records a trainee's prediction for a measure before its band is
+// shown, and says whether it lay within the band.
+func (r *Runner) Predict(st *Step, m *Measure, raw string) (Guess, error) {
+	v, err := ParseReading(raw, m, nil)
+	if err != nil {
+		return Guess{}, err
+	}
+	band, _ := r.Expected(st, m)
+	g := Guess{Point: m.Point, Raw: raw, Value: v, Low: band.Low, High: band.High, Good: band.Contains(v), At: r.Now()}
+	r.Sess.Guesses = append(r.Sess.Guesses, g)
+	r.touch()
+	return g, r.save()
+}
+
+// Note adds a note to the session.
+func (r *Runner) Note(text string) error {
+	st := r.Current()
+	id := ""
+	if st != nil {
+		id = st.ID
+	}
+	r.Sess.Notes = append(r.Sess.Notes, Note{Text: text, At: r.Now(), Step: id})
+	r.touch()
+	return r.save()
+}
+
+func (r *Runner) touch() { r.Sess.Updated = r.Now() }
+
+// SaveNow retries a failed save.
+func (r *Runner) SaveNow() error { return r.save() }
+
+func (r *Runner) save() error {
+	if r.Path == "" {
+		return nil
+	}
+	if st := r.Current(); st != nil {
+		r.Sess.Cursor = st.ID
+	}
+	r.SaveErr = r.Sess.Save(r.Path)
+	return r.SaveErr
+}
+
+// SkippedSafety lists skipped safety steps with reasons, for every
+// summary.
+func (r *Runner) SkippedSafety() []Skip {
+	var out []Skip
+	for _, s := range r.Sess.Skips {
+		if s.Safety {
+			out = append(out, s)
+		}
+	}
+	return out
+}

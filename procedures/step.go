@@ -1,0 +1,152 @@
+// Package procedures is what to measure, in what order, and what a
+// reading means: safety gates, bring-up, fault-finding, training and
+// practice procedures, sessions and inference over faults. It holds no
+// terminal code.
+package procedures
+
+import (
+	"fmt"
+	"strings"
+)
+
+// Kind classifies a step.
+type Kind string
+
+// Step kinds.
+const (
+	KindBriefing  Kind = "briefing"
+	KindMeter     Kind = "meter-proof"
+	KindDischarge Kind = "discharge"
+	KindEarth     Kind = "earth"
+	KindCold      Kind = "cold"
+	KindSymptoms  Kind = "symptoms"
+	KindHeaters   Kind = "heaters"
+	KindVariac    Kind = "variac"
+	KindLive      Kind = "live"
+	KindBias      Kind = "bias"
+	KindPowerUp   Kind = "power-up"
+	KindPowerDown Kind = "power-down"
+	KindConfirm   Kind = "confirm"
+	KindTone      Kind = "tone"
+	KindSummary   Kind = "summary"
+)
+
+// Function is the meter function a step needs.
+type Function string
+
+// Meter functions.
+const (
+	FuncDCV  Function = "DC volts"
+	FuncACV  Function = "AC volts"
+	FuncOhms Function = "resistance"
+	FuncDCA  Function = "DC current"
+	FuncNone Function = ""
+)
+
+// Measure is one reading a step asks for.
+type Measure struct {
+	Point    string   // point key: "V2.3 dc_volts", "cold:B1 ohms", "discharge:C1 dc_volts"
+	Label    string   // what it is: "V2 pin 3 plate"
+	Function Function // meter function
+	Range    string   // suggested meter range ("1000 V DC", "200 Ω")
+	Probes   string   // where the probes go
+	Unit     string   // "V", "A", "Ω"
+}
+
+// Band is an expected value with its tolerance band (SI units).
+type Band struct {
+	Nominal, Low, High float64
+	// Note qualifies the band ("emission-limited: valves barely conduct
+	// at this variac setting", "reading climbs as C1 charges").
+	Note string
+}
+
+// Contains says whether v lies in the band.
+func (b Band) Contains(v float64) bool { return v >= b.Low && v <= b.High }
+
+// Step is one step of a procedure.
+type Step struct {
+	ID          string
+	Kind        Kind
+	Title       string
+	Instruction string
+	Cautions    []string
+	// Live: mains or B+ is present on the amplifier during this step.
+	Live bool
+	// Safety: a safety step; skipping it is recorded and shown in every
+	// later summary.
+	Safety bool
+	// Measures are the readings the step asks for (none for a step that
+	// is only confirmed).
+	Measures []Measure
+	// Gate lists the steps that must be done (passed, or skipped with a
+	// reason) before this one may start.
+	Gate []string
+	// Variac is the fraction of mains applied during the step (0 = unplugged).
+	Variac float64
+	// Why explains the step (training mode shows it).
+	Why string
+	// StopIf lists the conditions that mean: switch off now.
+	StopIf []string
+}
+
+// Procedure is an ordered list of steps.
+type Procedure struct {
+	Mode  Mode
+	Title string
+	Steps []*Step
+}
+
+// Step returns the step with the given id, or nil.
+func (p *Procedure) Step(id string) *Step {
+	for _, s := range p.Steps {
+		if s.ID == id {
+			return s
+		}
+	}
+	return nil
+}
+
+// Index returns the position of a step, or -1.
+func (p *Procedure) Index(id string) int {
+	for i, s := range p.Steps {
+		if s.ID == id {
+			return i
+		}
+	}
+	return -1
+}
+
+// Cautions used by steps. Every live step carries LiveCaution.
+const (
+	LiveCaution = "LETHAL VOLTAGES: B+ and mains are present and filter capacitors keep their charge after power-off. " +
+		"Work one-handed (other hand away from the chassis), with insulated, shrouded probes (IEC/EN 61010-031; GS38 tips) " +
+		"and a meter rated above the highest voltage in this amp (CAT II or better). Follow local codes and licensed practice."
+	UnpluggedCaution = "Unplug the amp from the mains (plug out, not just switched off) before touching anything inside. " +
+		"Filter capacitors may still be charged: treat every node as live until you have measured it."
+	DischargeCaution = "Discharge through a resistor (a few kΩ, 5 W or more, on insulated leads), never with a screwdriver; " +
+		"then verify with the meter. Below 60 V DC is no longer hazardous-live (IEC 60065); go on to under 10 V before touching (common practice)."
+	VariacCaution = "Bring the amp up on a variac, ideally through a series lamp limiter, with a dummy load (or speaker) on the output. " +
+		"Watch the lamp and the meter; switch off at once on smoke, a red-glowing plate, arcing or a reading far outside its band."
+	EarthCaution = "A multimeter continuity reading is not a substitute for a proper high-current earth-bond test " +
+		"(IEC 60335-1 / UL 60065: ≤ 0.1 Ω at 25 A). Local codes and licensed practice rule."
+)
+
+// Summary line for a step, used in lists.
+func (s *Step) String() string {
+	live := ""
+	if s.Live {
+		live = " [LIVE]"
+	}
+	return fmt.Sprintf("%s%s", s.Title, live)
+}
+
+// HasCaution reports whether the step carries a caution containing text.
+func (s *Step) HasCaution(text string) bool {
+	for _, c := range s.Cautions {
+		if strings.Contains(c, text) {
+			return true
+		}
+	}
+	return false
+}
