@@ -363,10 +363,11 @@ func (l *loader) netName(n *yaml.Node, field string) (string, bool) {
 // design reads the top level.
 func (l *loader) design(d *Design, root *yaml.Node) {
 	top := []string{"pinwalk", "title", "mains", "tolerances", "ground", "parts", "notes"}
-	pairs := l.pairs(root, "", top)
 	if root.Kind != yaml.MappingNode {
+		l.errf(root, "file", "expected a design: a mapping of top-level fields (pinwalk: %d, title, mains, parts), found %s", SchemaVersion, describe(root))
 		return
 	}
+	pairs := l.pairs(root, "", top)
 	got := map[string]*yaml.Node{}
 	for _, kv := range pairs {
 		got[kv[0].Value] = kv[1]
