@@ -1180,7 +1180,7 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 			for k, v := range fields {
 				if contains(elecs, k) {
 					src[k] = v
-				} else if k != "heater" && k != "note" && k != string(Valve) {
+				} else if k != "heater" && k != "note" && k != string(Valve) && k != "A" && k != "B" { // A, B: reported below
 					l.errf(v, p.Ref+"."+k, "the %s has no %s: expected %s", vt.Name, k, strings.Join(elecs, ", "))
 				}
 			}
