@@ -1187,6 +1187,9 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 		}
 		for _, e := range elecs {
 			n, ok := src[e]
+			if ok {
+				p.fields[join(sec, e)] = posOf(n) // "grid", or "A.grid" on a double triode
+			}
 			if !ok {
 				if e == valves.Grid3 {
 					m[e] = "" // filled from the cathode below
@@ -1287,9 +1290,30 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 	}
 	sort.Ints(nums)
 	for _, n := range nums {
-		pos := p.Pos
-		p.Terminals = append(p.Terminals, Terminal{Name: fmt.Sprintf("pin %d", n), Net: vp.PinNets[n], Pos: pos})
+		p.Terminals = append(p.Terminals, Terminal{Name: fmt.Sprintf("pin %d", n), Net: vp.PinNets[n], Pos: pinPos(p, vt, n)})
 	}
+}
+
+// pinPos is where a valve pin's net is written: the electrode's field
+// ("grid", "A.grid"), the section ("B: unused") or the heater field,
+// falling back to the part's reference.
+func pinPos(p *Part, vt *valves.Type, num int) Pos {
+	for _, pin := range vt.Pins {
+		if pin.Number != num {
+			continue
+		}
+		switch pin.Electrode {
+		case valves.Heater, valves.HeaterCT:
+			return p.FieldPos("heater")
+		}
+		if pos, ok := p.fields[join(pin.Section, pin.Electrode)]; ok {
+			return pos
+		}
+		if pin.Section != "" {
+			return p.FieldPos(pin.Section)
+		}
+	}
+	return p.Pos
 }
 
 func electrodeHint(elecs []string) string {

@@ -219,15 +219,16 @@ func (l *loader) checkDCPaths(d *Design) {
 					continue
 				}
 				field := join(join(p.Ref, s), e)
+				pos := p.FieldPos(join(s, e))
 				switch e {
 				case valves.Grid:
-					l.add(p.Pos, Error, field, "grid left floating: add a grid leak resistor to ground or to the bias supply",
+					l.add(pos, Error, field, "grid left floating: add a grid leak resistor to ground or to the bias supply",
 						"grid net %s has no DC path to ground: the valve's bias is undefined", net)
 				case valves.Cathode:
-					l.add(p.Pos, Error, field, "add the cathode resistor, or tie the cathode to ground",
+					l.add(pos, Error, field, "add the cathode resistor, or tie the cathode to ground",
 						"cathode net %s has no DC path to ground: the valve cannot conduct", net)
 				default:
-					l.add(p.Pos, Error, field, "wire the "+e+" to B+ through its load or stopper",
+					l.add(pos, Error, field, "wire the "+e+" to B+ through its load or stopper",
 						"%s net %s has no DC path to the supply", e, net)
 				}
 			}
