@@ -43,8 +43,13 @@ func Parse(name string, data []byte) (*Design, Problems) {
 		l.errAt(Pos{1, 1}, "file", "file is larger than %d MiB: expected a design file written by hand", MaxFileBytes>>20)
 		return nil, l.probs
 	}
-	if !utf8.Valid(data) || strings.ContainsRune(string(data), 0) {
+	if strings.ContainsRune(string(data), 0) {
 		l.errAt(Pos{1, 1}, "file", "not a text file: expected a YAML design file in UTF-8")
+		return nil, l.probs
+	}
+	if !utf8.Valid(data) {
+		pos, b := firstInvalidUTF8(data)
+		l.errAt(pos, "file", "byte 0x%02X is not UTF-8 text: expected a design file saved as UTF-8", b)
 		return nil, l.probs
 	}
 	var doc yaml.Node
@@ -99,6 +104,25 @@ func yamlErrPos(err error) Pos {
 		line = 1
 	}
 	return Pos{line, 1}
+}
+
+// firstInvalidUTF8 returns the position and value of the first byte of
+// data that is not valid UTF-8 (data must hold one).
+func firstInvalidUTF8(data []byte) (Pos, byte) {
+	pos := Pos{1, 1}
+	for i := 0; i < len(data); {
+		r, size := utf8.DecodeRune(data[i:])
+		if r == utf8.RuneError && size <= 1 {
+			return pos, data[i]
+		}
+		if r == '\n' {
+			pos.Line, pos.Col = pos.Line+1, 1
+		} else {
+			pos.Col++
+		}
+		i += size
+	}
+	return pos, 0
 }
 
 func cleanYAMLError(err error) string {
