@@ -55,7 +55,11 @@ func Parse(name string, data []byte) (*Design, Problems) {
 	var doc yaml.Node
 	data, l.marks = markFlowPlaceholders(data)
 	if err := yaml.Unmarshal(data, &doc); err != nil {
-		l.errAt(yamlErrPos(err), "file", "not valid YAML: %s", cleanYAMLError(err))
+		if line := firstBadLine(data); line > 0 {
+			l.errAt(Pos{line, 1}, "file", "not valid YAML: %s", stripYAMLLine(cleanYAMLError(err)))
+		} else {
+			l.errAt(yamlErrPos(err), "file", "not valid YAML: %s", cleanYAMLError(err))
+		}
 		return nil, l.probs
 	}
 	if doc.Kind == 0 || len(doc.Content) == 0 {
@@ -123,6 +127,43 @@ func firstInvalidUTF8(data []byte) (Pos, byte) {
 		i += size
 	}
 	return pos, 0
+}
+
+// firstBadLine finds the line where YAML parsing first fails: the smallest
+// n such that the first n lines do not parse, by bisection (a prefix of a
+// block-style file that ends on a whole line parses unless it holds the
+// mistake). yaml.v3 reports parser errors at the start of the enclosing
+// block, counted from 0, so its own line number is not used when this finds
+// one. It returns 0 when no prefix fails on its own.
+func firstBadLine(data []byte) int {
+	lines := strings.SplitAfter(string(data), "\n")
+	fails := func(n int) bool {
+		var doc yaml.Node
+		return yaml.Unmarshal([]byte(strings.Join(lines[:n], "")), &doc) != nil
+	}
+	lo, hi := 1, len(lines)
+	if !fails(hi) {
+		return 0
+	}
+	for lo < hi {
+		mid := (lo + hi) / 2
+		if fails(mid) {
+			hi = mid
+		} else {
+			lo = mid + 1
+		}
+	}
+	return lo
+}
+
+// stripYAMLLine drops yaml.v3's "line N: " prefix from a message.
+func stripYAMLLine(msg string) string {
+	if strings.HasPrefix(msg, "line ") {
+		if i := strings.Index(msg, ": "); i > 0 {
+			return msg[i+2:]
+		}
+	}
+	return msg
 }
 
 func cleanYAMLError(err error) string {
