@@ -1,0 +1,443 @@
+// Package bands turns the whole-amplifier solver into tolerance bands: the
+// range each reading should fall in on a healthy amplifier built from parts
+// within their tolerances, under given bench conditions (mains, variac), as
+// read by a given meter.
+//
+// Run draws Monte Carlo samples of every part within its tolerance, of the
+// transformer, of the mains and of valve-to-valve spread (see sample.go
+// for the distributions), solves each with the solver's fast supply path
+// and reports, per point, the nominal value and the 2.5th and 97.5th
+// percentiles. Set.Condition re-weights the samples by the likelihood of
+// readings already taken (Bayes' rule), so the bands of points not yet
+// measured tighten. Loading shows where a meter's input resistance pulls a
+// reading. Results are deterministic for a seed and do not depend on the
+// number of workers.
+package bands
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"sort"
+	"sync"
+	"sync/atomic"
+
+	"pinwalk/expect/amp"
+	"pinwalk/expect/design"
+)
+
+// Options control a Run. The zero value asks for the nominal solve only.
+type Options struct {
+	Samples int    // Monte Carlo samples (0: nominal only)
+	Seed    uint64 // the same seed gives the same samples
+	Workers int    // goroutines; 0 means GOMAXPROCS
+	Cond    amp.Conditions
+	// FixedMains: the mains is known (measured, or fixed by the caller in
+	// Cond.MainsVolts) and is not sampled.
+	FixedMains bool
+	// Values, when set, is applied to the nominal values and to every
+	// sample after its tolerances are drawn (fault injection). An error on
+	// the nominal values fails the Run; on a sample it fails that sample.
+	Values func(m *amp.Model, v *amp.Values) error
+}
+
+// Set is the outcome of a Run: per point the nominal value and every
+// converged sample's value, with the samples' weights.
+type Set struct {
+	Points  []amp.PointDef // points with a finite nominal value
+	Nominal []float64      // per point, the nominal solve
+	// Values[j][i] is point i in converged sample j; Sample[j] is that
+	// sample's index (its generator stream) in 0..Samples-1.
+	Values [][]float64
+	Sample []int
+	// Weights per converged sample: all 1 until conditioned.
+	Weights []float64
+	Samples int // samples asked for
+	// Failed samples did not converge (or the Values hook failed on them);
+	// they are counted, never silently dropped. FailErrs holds up to
+	// MaxFailErrs distinct messages.
+	Failed   int
+	FailErrs []string
+	// ESS is the effective sample size (Σw)²/Σw², equal to the number of
+	// converged samples until conditioned.
+	ESS float64
+	// Degenerate: conditioning left fewer than MinESS effective samples;
+	// Reason says why and Tempered the fraction of the readings'
+	// log-likelihood kept to reach MinESS (1 when not degenerate).
+	Degenerate bool
+	Reason     string
+	Tempered   float64
+	Cond       amp.Conditions
+	NominalOP  *amp.OP
+	Readings   []Reading // readings the set is conditioned on
+
+	d     *design.Design
+	opt   Options
+	index map[string]int
+}
+
+// MaxFailErrs bounds the distinct failure messages kept.
+const MaxFailErrs = 5
+
+// blockSize is the number of samples solved by one fresh model and
+// solver: each block starts from the same solver state, which makes every
+// sample's result independent of which worker solved it and after what.
+const blockSize = 50
+
+// Band is a point's expected range.
+type Band struct {
+	Nominal, Low, High float64
+}
+
+// Width is High − Low.
+func (b Band) Width() float64 { return b.High - b.Low }
+
+// Contains reports whether x lies within the band.
+func (b Band) Contains(x float64) bool { return x >= b.Low && x <= b.High }
+
+// Run solves the design's nominal operating point at opt.Cond and then
+// opt.Samples tolerance samples. The nominal solve failing is an error;
+// failing samples are counted in Set.Failed.
+func Run(d *design.Design, opt Options) (*Set, error) {
+	if opt.Samples < 0 {
+		return nil, fmt.Errorf("bands: %d samples: expected 0 or more", opt.Samples)
+	}
+	nomRun, err := solveNominal(d, opt)
+	if err != nil {
+		return nil, err
+	}
+	m, nom := nomRun.m, nomRun.op
+	set := &Set{Samples: opt.Samples, Cond: opt.Cond, NominalOP: nom, d: d, opt: opt, Tempered: 1}
+	for _, pd := range m.Points() {
+		x := m.Value(nom, pd)
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			continue
+		}
+		set.Points = append(set.Points, pd)
+		set.Nominal = append(set.Nominal, x)
+	}
+	set.buildIndex()
+
+	n := opt.Samples
+	type result struct {
+		vals []float64
+		err  error
+	}
+	results := make([]result, n)
+	nBlocks := (n + blockSize - 1) / blockSize
+	workers := opt.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	workers = min(workers, max(nBlocks, 1))
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	var buildErr error
+	var once sync.Once
+	pl := newPlan(m)
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				b := int(next.Add(1) - 1)
+				if b >= nBlocks {
+					return
+				}
+				w, err := newBlockSolver(d, opt, nom)
+				if err != nil {
+					once.Do(func() { buildErr = err })
+					return
+				}
+				for k := b * blockSize; k < min(n, (b+1)*blockSize); k++ {
+					vals, err := w.sample(k, pl, set.Points)
+					results[k] = result{vals, err}
+				}
+			}
+		}()
+	}
+	wg.Wait()
+	if buildErr != nil {
+		return nil, buildErr
+	}
+	seen := map[string]bool{}
+	for k, r := range results {
+		if r.err != nil {
+			set.Failed++
+			msg := fmt.Sprintf("sample %d: %v", k, r.err)
+			if !seen[r.err.Error()] && len(set.FailErrs) < MaxFailErrs {
+				seen[r.err.Error()] = true
+				set.FailErrs = append(set.FailErrs, msg)
+			}
+			continue
+		}
+		set.Values = append(set.Values, r.vals)
+		set.Sample = append(set.Sample, k)
+		set.Weights = append(set.Weights, 1)
+	}
+	set.ESS = float64(len(set.Values))
+	return set, nil
+}
+
+// nominalRun is a solved nominal operating point with its model.
+type nominalRun struct {
+	m    *amp.Model
+	s    *amp.Solver
+	base *amp.Values
+	op   *amp.OP
+}
+
+// solveNominal builds the design and solves it in full (supply simulated)
+// at opt.Cond with the nominal values, after the Values hook.
+func solveNominal(d *design.Design, opt Options) (*nominalRun, error) {
+	m, err := amp.Build(d)
+	if err != nil {
+		return nil, err
+	}
+	s := amp.NewSolver(m)
+	base := m.NominalValues()
+	if opt.Values != nil {
+		if err := opt.Values(m, base); err != nil {
+			return nil, err
+		}
+	}
+	op := &amp.OP{}
+	if err := s.Solve(opt.Cond, base, false, op); err != nil {
+		return nil, fmt.Errorf("nominal solve: %w", err)
+	}
+	if err := s.CacheSupplyAt(opt.Cond, base, op); err != nil {
+		return nil, err
+	}
+	return &nominalRun{m: m, s: s, base: base, op: op}, nil
+}
+
+// blockSolver solves samples on its own model, starting every sample from
+// the nominal solution and the nominal supply line.
+type blockSolver struct {
+	m    *amp.Model
+	s    *amp.Solver
+	opt  Options
+	nom  *amp.OP
+	pris *amp.Values // nominal values (before the hook)
+	v    *amp.Values
+	op   amp.OP
+	rip  rippleScale
+}
+
+func newBlockSolver(d *design.Design, opt Options, nom *amp.OP) (*blockSolver, error) {
+	m, err := amp.Build(d)
+	if err != nil {
+		return nil, err
+	}
+	s := amp.NewSolver(m)
+	pris := m.NominalValues()
+	base := pris.Clone()
+	if opt.Values != nil {
+		if err := opt.Values(m, base); err != nil {
+			return nil, err
+		}
+	}
+	if err := s.CacheSupplyAt(opt.Cond, base, nom); err != nil {
+		return nil, err
+	}
+	return &blockSolver{m: m, s: s, opt: opt, nom: nom, pris: pris, v: pris.Clone(), rip: newRippleScale(m, base, nom)}, nil
+}
+
+// sample solves sample k and returns its point values.
+func (w *blockSolver) sample(k int, pl *plan, points []amp.PointDef) ([]float64, error) {
+	v := w.v
+	copyValues(v, w.pris)
+	r := rand.New(rand.NewPCG(w.opt.Seed, uint64(k)))
+	mf := pl.sample(r, w.m, v, w.opt.FixedMains)
+	if w.opt.Values != nil {
+		if err := w.opt.Values(w.m, v); err != nil {
+			return nil, err
+		}
+	}
+	c := w.opt.Cond
+	if mf != 1 {
+		mains := c.MainsVolts
+		if mains <= 0 {
+			mains = w.m.D.Mains.Volts
+		}
+		c.MainsVolts = mains * mf
+	}
+	w.s.SetWarm(w.nom.V)
+	if err := w.s.Solve(c, v, true, &w.op); err != nil {
+		return nil, err
+	}
+	w.rip.apply(&w.op, v)
+	out := make([]float64, len(points))
+	for i, pd := range points {
+		x := w.m.Value(&w.op, pd)
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return nil, fmt.Errorf("%s is not finite", pd.Key())
+		}
+		out[i] = x
+	}
+	return out, nil
+}
+
+func copyValues(dst, src *amp.Values) {
+	copy(dst.Slot, src.Slot)
+	copy(dst.Koren, src.Koren)
+	copy(dst.Emission, src.Emission)
+	copy(dst.StageC, src.StageC)
+	dst.HTVolts, dst.HTOhms, dst.RectScale = src.HTVolts, src.HTOhms, src.RectScale
+	dst.HalfOpen, dst.HeaterVolts = src.HalfOpen, src.HeaterVolts
+}
+
+// rippleScale estimates each filter net's ripple in a fast solve, which
+// does not simulate the rectifier: the nominal ripple scaled, to first
+// order, by the total DC load (a reservoir's ripple is Idc/(2fC) peak to
+// peak, charge balance; Schade 1943), by 1/C of every stage from the
+// reservoir to the net (the reservoir's charge balance, and each RC or LC
+// section's attenuation 1/(ωRC) or 1/(ω²LC) for a well-filtered stage,
+// Radiotron Designer's Handbook ch. 31) and by 1/R of every resistive
+// series element on the way.
+type rippleScale struct {
+	nomRipple []float64
+	nomLoad   float64
+	parent    []int
+	seriesOf  []int // slot of a resistive series element, or -1
+	nomR      []float64
+	nomC      []float64
+}
+
+func newRippleScale(m *amp.Model, base *amp.Values, nom *amp.OP) rippleScale {
+	var rs rippleScale
+	if m.HT == nil || nom.Supply == nil {
+		return rs
+	}
+	for i, n := range nom.Supply.Nets {
+		rs.nomRipple = append(rs.nomRipple, n.RippleRms)
+		rs.parent = append(rs.parent, m.HT.Parent[i])
+		sl := -1
+		r := 0.0
+		if ref := m.HT.SeriesRefs[i]; ref != "" {
+			if p := m.D.ByRef[ref]; p != nil && p.Kind == design.Resistor {
+				if s := m.SlotsOf(ref); len(s) > 0 {
+					sl = s[0]
+					r = base.Slot[sl]
+				}
+			}
+		}
+		rs.seriesOf = append(rs.seriesOf, sl)
+		rs.nomR = append(rs.nomR, r)
+		rs.nomC = append(rs.nomC, base.StageC[i])
+	}
+	rs.nomLoad = nom.Supply.Nets[0].FeedAmps
+	return rs
+}
+
+func (rs *rippleScale) apply(op *amp.OP, v *amp.Values) {
+	if op.Supply == nil || len(rs.nomRipple) != len(op.Supply.Nets) {
+		return
+	}
+	load := 1.0
+	if rs.nomLoad > 0 {
+		load = max(op.Supply.Nets[0].FeedAmps, 0) / rs.nomLoad
+	}
+	for i := range op.Supply.Nets {
+		f := load
+		for j := i; j >= 0; j = rs.parent[j] {
+			if v.StageC[j] > 0 {
+				f *= rs.nomC[j] / v.StageC[j]
+			}
+			if sl := rs.seriesOf[j]; sl >= 0 && v.Slot[sl] > 0 && !math.IsInf(v.Slot[sl], 1) {
+				f *= rs.nomR[j] / v.Slot[sl]
+			}
+		}
+		op.Supply.Nets[i].RippleRms = rs.nomRipple[i] * f
+	}
+}
+
+func (s *Set) buildIndex() {
+	s.index = make(map[string]int, len(s.Points))
+	for i, pd := range s.Points {
+		s.index[pd.Key()] = i
+	}
+}
+
+// Index returns the position of a point by its key (PointDef.Key(),
+// "V2.3 dc_volts").
+func (s *Set) Index(key string) (int, bool) {
+	i, ok := s.index[key]
+	return i, ok
+}
+
+// Band returns point i's nominal value and the weighted 2.5th and 97.5th
+// percentiles of its samples. With no converged samples Low and High are
+// the nominal value.
+func (s *Set) Band(i int) Band {
+	lo, hi := s.Percentiles(i, 0.025, 0.975)
+	return Band{Nominal: s.Nominal[i], Low: lo, High: hi}
+}
+
+// Percentiles returns point i's weighted p and q quantiles (0 ≤ p, q ≤ 1).
+// Sample j sits at cumulative position (W_j − w_j/2)/W (W_j the running
+// sum of weights in sorted order, W the total), which for equal weights is
+// Hazen's plotting position (k − ½)/n; between positions it interpolates
+// linearly, and outside them it takes the extreme sample.
+func (s *Set) Percentiles(i int, p, q float64) (float64, float64) {
+	type vw struct{ v, w float64 }
+	xs := make([]vw, 0, len(s.Values))
+	total := 0.0
+	for j, row := range s.Values {
+		if w := s.Weights[j]; w > 0 {
+			xs = append(xs, vw{row[i], w})
+			total += w
+		}
+	}
+	if len(xs) == 0 || !(total > 0) {
+		return s.Nominal[i], s.Nominal[i]
+	}
+	sort.Slice(xs, func(a, b int) bool { return xs[a].v < xs[b].v })
+	pos := make([]float64, len(xs))
+	cum := 0.0
+	for j, x := range xs {
+		pos[j] = (cum + x.w/2) / total
+		cum += x.w
+	}
+	at := func(f float64) float64 {
+		if f <= pos[0] {
+			return xs[0].v
+		}
+		if f >= pos[len(pos)-1] {
+			return xs[len(xs)-1].v
+		}
+		j := sort.SearchFloat64s(pos, f)
+		a, b := pos[j-1], pos[j]
+		t := (f - a) / (b - a)
+		return xs[j-1].v + t*(xs[j].v-xs[j-1].v)
+	}
+	return at(p), at(q)
+}
+
+// Mean returns point i's weighted mean over the samples (the nominal value
+// when there are none).
+func (s *Set) Mean(i int) float64 {
+	var sw, sx float64
+	for j, row := range s.Values {
+		sw += s.Weights[j]
+		sx += s.Weights[j] * row[i]
+	}
+	if !(sw > 0) {
+		return s.Nominal[i]
+	}
+	return sx / sw
+}
+
+// BandOf returns the band of a point by key.
+func (s *Set) BandOf(key string) (Band, error) {
+	i, ok := s.Index(key)
+	if !ok {
+		return Band{}, fmt.Errorf("bands: no point %q", key)
+	}
+	return s.Band(i), nil
+}
+
+// ErrNoSamples reports an operation that needs samples on a set without.
+var ErrNoSamples = errors.New("bands: no converged samples")

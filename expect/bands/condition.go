@@ -1,0 +1,199 @@
+package bands
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"pinwalk/expect/amp"
+	"pinwalk/expect/units"
+)
+
+// Reading is one measurement: the point's key (PointDef.Key()), the value
+// read (SI units) and the meter it was read with (zero: DefaultMeter).
+type Reading struct {
+	Key   string
+	Value float64
+	Meter Meter
+}
+
+// MinESS is the effective sample size below which a conditioned set is
+// called degenerate.
+const MinESS = 20
+
+// Model error (our choice): the solver's own error against a real
+// amplifier — device models fitted to datasheet rows, the linearised
+// supply, the heater model — taken as 2 % of the value plus a small
+// absolute floor per quantity, combined with the meter's accuracy.
+const modelErrFrac = 0.02
+
+func modelErrFloor(q string) float64 {
+	switch q {
+	case amp.DCVolts, amp.ACVolts:
+		return 0.1 // volts
+	case amp.RippleVolts:
+		return 5e-3 // volts
+	case amp.DCAmps, amp.ACAmps:
+		return 10e-6 // amps
+	}
+	return 0
+}
+
+// Sigma returns the standard deviation used for a reading's likelihood:
+// σ² = (meter accuracy)² + (model error)², the meter's error limit taken as
+// one σ (conservative) and the model error as above.
+func Sigma(r Reading, quantity string) float64 {
+	mt := r.Meter
+	if mt.isZero() {
+		mt = DefaultMeter()
+	}
+	acc := mt.Accuracy(r.Value)
+	model := modelErrFrac*math.Abs(r.Value) + modelErrFloor(quantity)
+	return math.Sqrt(acc*acc + model*model)
+}
+
+// Condition returns a copy of the set whose sample weights are multiplied
+// by the likelihood of the readings (Bayes' rule with a flat prior over
+// the samples): a Gaussian in (reading − prediction) with σ from Sigma.
+// A DC-volts prediction is first moved by the meter's loading of that net
+// at nominal (the loaded/unloaded ratio, or the difference where the
+// nominal is near zero), so a grid read through a 10 MΩ meter is compared
+// with what that meter would show.
+//
+// Weights are computed in log space, so they never underflow to NaN. If
+// fewer than MinESS effective samples remain, the set is flagged
+// Degenerate with a reason (a reading outside what the model predicts: a
+// fault or a design mismatch), and the log-likelihood is tempered (scaled
+// by the largest factor in (0, 1] that keeps MinESS samples) so the bands
+// lean towards the readings without collapsing onto one sample.
+//
+// An unknown key is an error. A set with no samples is returned with its
+// weights unchanged (and Degenerate set).
+func (s *Set) Condition(rs []Reading) (*Set, error) {
+	c := *s
+	c.Weights = append([]float64(nil), s.Weights...)
+	c.Readings = append(append([]Reading(nil), s.Readings...), rs...)
+	c.Degenerate, c.Reason, c.Tempered = false, "", 1
+	var list []readingFit
+	for _, r := range rs {
+		i, ok := s.Index(r.Key)
+		if !ok {
+			return nil, fmt.Errorf("bands: reading of %q: no such point (expected a key like \"V2.3 dc_volts\")", r.Key)
+		}
+		if math.IsNaN(r.Value) || math.IsInf(r.Value, 0) {
+			return nil, fmt.Errorf("bands: reading of %q is %v", r.Key, r.Value)
+		}
+		pd := s.Points[i]
+		e := readingFit{i: i, value: r.Value, sigma: Sigma(r, pd.Quantity), ratio: 1}
+		if pd.Quantity == amp.DCVolts {
+			ls, err := s.loadingOf(r.Meter, []string{r.Key})
+			if err == nil && len(ls) == 1 {
+				l := ls[0]
+				if math.Abs(l.Unloaded) > 0.5 {
+					e.ratio = l.Loaded / l.Unloaded
+				} else {
+					e.offset = l.Loaded - l.Unloaded
+				}
+			}
+		}
+		list = append(list, e)
+	}
+	if len(c.Values) == 0 {
+		c.ESS, c.Degenerate = 0, true
+		c.Reason = "no converged samples to condition"
+		return &c, nil
+	}
+	logL := make([]float64, len(c.Values))
+	for j, row := range c.Values {
+		for _, e := range list {
+			pred := row[e.i]*e.ratio + e.offset
+			z := (e.value - pred) / e.sigma
+			logL[j] -= z * z / 2
+		}
+	}
+	weigh := func(lambda float64) float64 {
+		best := math.Inf(-1)
+		for j := range logL {
+			if s.Weights[j] > 0 {
+				best = max(best, lambda*logL[j])
+			}
+		}
+		var sw, sw2 float64
+		for j := range logL {
+			w := 0.0
+			if s.Weights[j] > 0 {
+				w = s.Weights[j] * math.Exp(lambda*logL[j]-best)
+			}
+			c.Weights[j] = w
+			sw += w
+			sw2 += w * w
+		}
+		if !(sw2 > 0) {
+			return 0
+		}
+		return sw * sw / sw2
+	}
+	c.ESS = weigh(1)
+	if c.ESS >= MinESS || len(c.Values) < MinESS {
+		if c.ESS < MinESS {
+			c.Degenerate = true
+			c.Reason = fmt.Sprintf("only %d converged samples", len(c.Values))
+		}
+		return &c, nil
+	}
+	c.Degenerate = true
+	c.Reason = s.outsideReason(list)
+	// Temper: the largest λ with ESS(λ) ≥ MinESS, by bisection (ESS falls
+	// as λ grows).
+	lo, hi := 0.0, 1.0
+	for range 40 {
+		mid := (lo + hi) / 2
+		if weigh(mid) >= MinESS {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	c.ESS = weigh(lo)
+	c.Tempered = lo
+	return &c, nil
+}
+
+// readingFit is a reading prepared for weighing.
+type readingFit struct {
+	i      int     // point index
+	value  float64 // the reading
+	sigma  float64
+	ratio  float64 // meter loading applied to predictions: ratio…
+	offset float64 // …or offset
+}
+
+// outsideReason names the readings that lie outside what the samples
+// predict (beyond the band by more than 3σ of the reading).
+func (s *Set) outsideReason(rs []readingFit) string {
+	var bad []string
+	for _, r := range rs {
+		i, v, sg := r.i, r.value, r.sigma
+		b := s.Band(i)
+		b.Low, b.High = b.Low*r.ratio+r.offset, b.High*r.ratio+r.offset
+		if v < b.Low-3*sg || v > b.High+3*sg {
+			q := s.Points[i].Quantity
+			bad = append(bad, fmt.Sprintf("%s read %s against an expected %s – %s", s.Points[i].Key(),
+				fmtQ(v, q), fmtQ(b.Low, q), fmtQ(b.High, q)))
+		}
+	}
+	if len(bad) == 0 {
+		return "the readings together are unlikely for a healthy amplifier built to this design: a fault or a design mismatch"
+	}
+	return strings.Join(bad, "; ") + ": outside what the model predicts for a healthy amplifier built to this design (a fault or a design mismatch)"
+}
+
+func fmtQ(v float64, q string) string {
+	switch q {
+	case amp.DCVolts, amp.ACVolts, amp.RippleVolts:
+		return units.Format(v, units.Volts)
+	case amp.DCAmps, amp.ACAmps:
+		return units.Format(v, units.Amps)
+	}
+	return fmt.Sprintf("%.4g", v)
+}
