@@ -139,23 +139,23 @@ type capElem struct {
 
 // seElem is a single-ended output transformer: a —DCR— x —(Z ∥ jωL)— b.
 type seElem struct {
-	ref          string
-	a, x, b      int
-	slot         int
-	ohms, henrys float64
-	ratio        float64 // secondary/primary volts
+	ref, id, label string
+	a, x, b        int
+	slot           int
+	ohms, henrys   float64
+	ratio          float64 // secondary/primary volts
 }
 
 // ppElem is a push-pull output transformer: ends ea, eb through the half
 // DCRs to the ideal primary's ends xa, xb; centre tap c; j the common-mode
 // current unknown.
 type ppElem struct {
-	ref          string
-	ea, eb, c    int
-	xa, xb, j    int
-	slotA, slotB int
-	ohms, henrys float64
-	ratio        float64
+	ref, id, label string
+	ea, eb, c      int
+	xa, xb, j      int
+	slotA, slotB   int
+	ohms, henrys   float64
+	ratio          float64
 }
 
 type secElem struct {
@@ -196,6 +196,7 @@ type Analyzer struct {
 
 	reservoir int // node of the first HT filter net, -1 when none
 	filter    []int
+	filterLab []string
 	pins      []pinPoint
 	input     string // default input net, "" when none qualifies
 
@@ -304,7 +305,7 @@ func New(m *amp.Model) (*Analyzer, error) {
 				ratio = math.Sqrt(ot.Load / ot.Impedance)
 			}
 			if ot.Centre == "" {
-				e := seElem{ref: p.Ref, a: idx(ot.Ends[0]), b: idx(ot.Ends[1]), x: internal(), slot: -1,
+				e := seElem{ref: p.Ref, id: p.Ref + SpeakerSuffix, label: speakerLabel(d, p.Ref), a: idx(ot.Ends[0]), b: idx(ot.Ends[1]), x: internal(), slot: -1,
 					ohms: ot.Impedance, henrys: SEPrimaryHenries, ratio: ratio}
 				for _, s := range m.SlotsOf(p.Ref) {
 					if m.Slots[s].Role == "primary" {
@@ -314,7 +315,7 @@ func New(m *amp.Model) (*Analyzer, error) {
 				an.ses = append(an.ses, e)
 				continue
 			}
-			e := ppElem{ref: p.Ref, ea: idx(ot.Ends[0]), eb: idx(ot.Ends[1]), c: idx(ot.Centre),
+			e := ppElem{ref: p.Ref, id: p.Ref + SpeakerSuffix, label: speakerLabel(d, p.Ref), ea: idx(ot.Ends[0]), eb: idx(ot.Ends[1]), c: idx(ot.Centre),
 				xa: internal(), xb: internal(), j: len(an.pps), slotA: -1, slotB: -1,
 				ohms: ot.Impedance, henrys: PPPrimaryHenries, ratio: ratio}
 			for _, s := range m.SlotsOf(p.Ref) {
@@ -342,6 +343,7 @@ func New(m *amp.Model) (*Analyzer, error) {
 		an.reservoir = idx(m.HT.Nets[0])
 		for _, net := range m.HT.Nets {
 			an.filter = append(an.filter, idx(net))
+			an.filterLab = append(an.filterLab, "net "+net+" ripple")
 		}
 	}
 	for _, pd := range m.Points() {
@@ -680,12 +682,11 @@ func (an *Analyzer) Tone(op *amp.OP, v *amp.Values, opt Options, dst []Point) ([
 }
 
 func (an *Analyzer) speakers(dst []Point, q string, x []complex128) []Point {
-	d := an.m.D
 	for i, e := range an.ses {
-		dst = append(dst, point(e.ref+SpeakerSuffix, "", q, speakerLabel(d, e.ref), an.read(probe{node: -1, se: i, pp: -1}, x)))
+		dst = append(dst, point(e.id, "", q, e.label, an.read(probe{node: -1, se: i, pp: -1}, x)))
 	}
 	for i, e := range an.pps {
-		dst = append(dst, point(e.ref+SpeakerSuffix, "", q, speakerLabel(d, e.ref), an.read(probe{node: -1, se: -1, pp: i}, x)))
+		dst = append(dst, point(e.id, "", q, e.label, an.read(probe{node: -1, se: -1, pp: i}, x)))
 	}
 	return dst
 }
@@ -753,7 +754,7 @@ func (an *Analyzer) Hum(op *amp.OP, v *amp.Values, opt Options, dst []Point) ([]
 	dst = dst[:0]
 	for i, k := range an.filter {
 		net := an.m.HT.Nets[i]
-		dst = append(dst, point(net, net, HumVolts, "net "+net+" ripple", volt(x, k)))
+		dst = append(dst, point(net, net, HumVolts, an.filterLab[i], volt(x, k)))
 	}
 	for _, p := range an.pins {
 		if p.electrode == valves.Plate || p.electrode == valves.Screen {
