@@ -4,6 +4,8 @@ import (
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
+
+	"pinwalk/expect/amp"
 	"strings"
 	"testing"
 )
@@ -207,6 +209,12 @@ func TestHumDemos(t *testing.T) {
 			pa := find(t, pts, "V3.3").Volts
 			spk := find(t, pts, "OT1"+SpeakerSuffix).Volts
 			ratio := math.Sqrt(8.0 / 3400) // OT1: 3k4 plate to plate, 8 Ω
+			// Balanced halves: each plate follows the centre tap, which
+			// sits on the reservoir B1 (ideal centre tap, V(a)+V(b) = 2·V(ct)).
+			b1 := find(t, pts, "B1").Volts
+			if pb := find(t, pts, "V4.3").Volts; math.Abs(pa-b1) > 0.01*b1 || math.Abs(pb-b1) > 0.01*b1 {
+				t.Errorf("push-pull plate hum %.4g V and %.4g V, centre-tap ripple %.4g V", pa, pb, b1)
+			}
 			if spk > 0.01*pa*ratio {
 				t.Errorf("push-pull speaker hum %.3g V, plate hum %.3g V (×ratio %.3g V): no cancellation", spk, pa, pa*ratio)
 			}
@@ -301,5 +309,96 @@ func TestLUResidual(t *testing.T) {
 	}
 	if err := luSolve(make([]complex128, 4), make([]complex128, 2), 2); err == nil {
 		t.Error("zero matrix: want a singular error")
+	}
+}
+
+// Output transformers as reflected loads, driven straight at a plate with
+// the valves taken out. Single-ended: speaker volts = n·V·Zp/(R + Zp),
+// with Zp = Z ∥ jωL, R the primary DCR and n = √(Load/Z) the turns
+// ratio. Push-pull, one half driven and the other idle: an ideal
+// centre-tapped primary reflects Z/4 into the driven half (Radiotron
+// Designer's Handbook, 4th ed., push-pull class A, from memory), and the
+// whole primary carries twice the half's volts, so speaker volts =
+// 2·n·V·(Zp/4)/(R + Zp/4).
+func TestOutputTransformerLoad(t *testing.T) {
+	const hz = 1000.0
+	w := 2 * math.Pi * hz
+	zp := func(z, l float64) complex128 { return 1 / (complex(1/z, 0) + 1/complex(0, w*l)) }
+	cases := []struct {
+		design, from, ot, valve string
+		z, load, dcr, henries   float64
+		pushPull                bool
+	}{
+		// se-6v6-stereo.yaml OT1: 5k to 8 Ω, 250 Ω primary.
+		{"se-6v6-stereo", "OPL", "OT1", "V2", 5e3, 8, 250, SEPrimaryHenries, false},
+		// pp-el34-fixed.yaml OT1: 3k4 plate to plate, 8 Ω, 95 Ω half a.
+		{"pp-el34-fixed", "PA", "OT1", "V3", 3.4e3, 8, 95, PPPrimaryHenries, true},
+	}
+	for _, c := range cases {
+		s := solveText(t, demoText(t, c.design))
+		g, err := s.an.Gain(s.op, s.v, c.from, c.ot+SpeakerSuffix,
+			Options{Hz: hz, Open: map[string]bool{"V2": true, "V3": true, "V4": true}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		n := math.Sqrt(c.load / c.z)
+		var want complex128
+		if c.pushPull {
+			q := zp(c.z, c.henries) / 4
+			want = complex(2*n, 0) * q / (complex(c.dcr, 0) + q)
+		} else {
+			q := zp(c.z, c.henries)
+			want = complex(n, 0) * q / (complex(c.dcr, 0) + q)
+		}
+		// The SE primary's B+ end sits on a 100 µF filter capacitor
+		// (1.6 Ω at 1 kHz), not on true ground: allow 0.5 %.
+		if rel := math.Abs(cmplx.Abs(g)-cmplx.Abs(want)) / cmplx.Abs(want); rel > 0.005 {
+			t.Errorf("%s %s: speaker/plate %.5f, closed form %.5f: off by %.2f %%", c.design, c.ot, cmplx.Abs(g), cmplx.Abs(want), 100*rel)
+		}
+	}
+}
+
+// The default input is the first grid with only a grid leak to ground; the
+// ripple frequency follows the rectifier.
+func TestInputAndRippleHz(t *testing.T) {
+	for _, c := range []struct{ design, input string }{
+		{"bench-12ax7", "G1"},    // R1 1M to 0V
+		{"se-6v6-stereo", "GL1"}, // R10 1M to 0V; GL2 is driven through C11
+		{"pp-el34-fixed", "G1"},  // R10 1M to 0V; PIG2 has C20 and R21 to TAIL
+	} {
+		s := solveText(t, demoText(t, c.design))
+		if got := s.an.InputNet(); got != c.input {
+			t.Errorf("%s: input %q, want %q", c.design, got, c.input)
+		}
+		if _, err := s.an.Tone(s.op, s.v, Options{InputNet: "NOPE"}, nil); err == nil {
+			t.Errorf("%s: unknown input net accepted", c.design)
+		}
+	}
+	s := solveText(t, filterDesign)
+	v := s.v.Clone()
+	v.HalfOpen = true
+	// Full wave on 50 Hz mains ripples at 100 Hz; half wave at 50 Hz
+	// (Radiotron Designer's Handbook, 4th ed., rectifier chapter, from memory).
+	if a, b := RippleHz(s.m, s.v), RippleHz(s.m, v); a != 100 || b != 50 {
+		t.Errorf("ripple %g Hz full wave, %g Hz half open; want 100 and 50", a, b)
+	}
+}
+
+// A valve with no emission (Values.Emission 0, a dead valve) passes no
+// signal: its linearised gm and 1/ra are those of a cut-off device.
+func TestDeadValveNoGain(t *testing.T) {
+	s := solveText(t, demoText(t, "bench-12ax7"))
+	v := s.v.Clone()
+	v.Emission[0] = 0
+	var op amp.OP
+	if err := amp.NewSolver(s.m).Solve(amp.Conditions{}, v, false, &op); err != nil {
+		t.Fatal(err)
+	}
+	pts, err := s.an.Tone(&op, v, Options{}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if g := find(t, pts, "V1.6").Volts / DefaultVolts; g > 0.01 {
+		t.Errorf("dead 12AX7: stage gain %.3g, want about 0", g)
 	}
 }
