@@ -46,8 +46,8 @@ const TransformerRatioTol = 0.03
 const (
 	// SigmaKG is the σ of ln(KG1) and, for pentodes, of ln(KG2): plate
 	// (and screen) current at fixed voltages scale as 1/KG, so this alone
-	// gives about ±20 % (95 %).
-	SigmaKG = 0.10
+	// gives about ±23 % (95 %).
+	SigmaKG = 0.12
 	// SigmaMu is the relative σ of the amplification factor. Current near
 	// cutoff is very sensitive to mu (for a 12AX7 at 250 V, −2 V, a 1 %
 	// change in mu changes Ia by about 6 %), so mu varies only slightly.
