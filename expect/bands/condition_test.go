@@ -150,7 +150,7 @@ parts:
 	}
 	s := run(t, d, Options{})
 	ht := band(t, s, "HT dc_volts").Nominal // 250 V less µV in the supply's 1 mΩ floor
-	gmin := mna.DefaultOptions().Gmin      // the solver's shunt on every node
+	gmin := mna.DefaultOptions().Gmin       // the solver's shunt on every node
 	for _, spec := range []string{"10M", "20k/V:50V"} {
 		mt, _ := ParseMeter(spec)
 		ls, err := s.Loading(mt)
