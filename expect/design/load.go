@@ -337,6 +337,15 @@ func markFlowPlaceholders(data []byte) ([]byte, map[Pos]bool) {
 	return out, marks
 }
 
+// markField records the position of a nested field ("T1.power-transformer.
+// primary.dcr") so FieldPos finds it; the first position given is kept.
+func (p *Part) markField(field string, pos Pos) {
+	f := strings.TrimPrefix(field, p.Ref+".")
+	if _, ok := p.fields[f]; !ok && p.fields != nil {
+		p.fields[f] = pos
+	}
+}
+
 // value parses a quantity. A trailing "?" marks a placeholder to be
 // replaced with the amp's own value; it is recorded on the part.
 func (l *loader) value(n *yaml.Node, field string, q units.Quantity, p *Part) (float64, bool) {
@@ -348,6 +357,7 @@ func (l *loader) value(n *yaml.Node, field string, q units.Quantity, p *Part) (f
 		s = strings.TrimSpace(strings.TrimSuffix(s, "?"))
 		if p != nil {
 			p.Placeholder = append(p.Placeholder, field)
+			p.markField(field, posOf(n))
 		}
 	}
 	v, err := units.Parse(s, q)
@@ -677,6 +687,7 @@ func (l *loader) part(d *Design, p *Part, n *yaml.Node) bool {
 				if strings.HasSuffix(s, "?") {
 					s = strings.TrimSpace(strings.TrimSuffix(s, "?"))
 					p.Placeholder = append(p.Placeholder, field("setting"))
+					p.markField(field("setting"), posOf(sn))
 				}
 				v, err := units.Parse(s, units.Percent)
 				if err != nil || v < 0 || v > 100 {
@@ -983,6 +994,7 @@ func (l *loader) windingVolts(n *yaml.Node, field, s string, w *Winding, p *Part
 	if strings.HasSuffix(s, "?") {
 		s = strings.TrimSpace(strings.TrimSuffix(s, "?"))
 		p.Placeholder = append(p.Placeholder, field)
+		p.markField(field, posOf(n))
 	}
 	if parts := strings.Split(s, "-0-"); len(parts) == 2 {
 		a, err1 := units.Parse(strings.TrimSpace(parts[0]), units.Volts)
