@@ -601,8 +601,6 @@ func (s *Solver) network() error {
 // Solution exposes the raw network solution of the last solve.
 func (s *Solver) Solution() *mna.Solution { return &s.sol }
 
-var devCur [4]float64
-
 func (s *Solver) extract(op *OP, hv map[string]float64, frac []float64) {
 	m := s.m
 	op.V = append(op.V[:0], s.sol.V...)
@@ -610,6 +608,7 @@ func (s *Solver) extract(op *OP, hv map[string]float64, frac []float64) {
 	for i, sec := range m.Sections {
 		var so SectionOP
 		so.Va, so.Vg, so.Vk = op.V[sec.P], op.V[sec.G], op.V[sec.K]
+		var devCur [4]float64 // per call: solvers run in parallel goroutines
 		cur := devCur[:]
 		if sec.Pentode {
 			m.ckt.DeviceCurrents(sec.handle, op.V, cur[:4])
