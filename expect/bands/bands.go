@@ -40,6 +40,8 @@ type Options struct {
 	// Values, when set, is applied to the nominal values and to every
 	// sample after its tolerances are drawn (fault injection). An error on
 	// the nominal values fails the Run; on a sample it fails that sample.
+	// It is called from several goroutines at once, each with its own
+	// model: it must not write shared state.
 	Values func(m *amp.Model, v *amp.Values) error
 }
 
@@ -221,7 +223,6 @@ type blockSolver struct {
 	opt  Options
 	nom  *amp.OP
 	pris *amp.Values // nominal values (before the hook)
-	v    *amp.Values
 	op   amp.OP
 	rip  rippleScale
 }
@@ -242,13 +243,12 @@ func newBlockSolver(d *design.Design, opt Options, nom *amp.OP) (*blockSolver, e
 	if err := s.CacheSupplyAt(opt.Cond, base, nom); err != nil {
 		return nil, err
 	}
-	return &blockSolver{m: m, s: s, opt: opt, nom: nom, pris: pris, v: pris.Clone(), rip: newRippleScale(m, base, nom)}, nil
+	return &blockSolver{m: m, s: s, opt: opt, nom: nom, pris: pris, rip: newRippleScale(m, base, nom)}, nil
 }
 
 // sample solves sample k and returns its point values.
 func (w *blockSolver) sample(k int, pl *plan, points []amp.PointDef) ([]float64, error) {
-	v := w.v
-	copyValues(v, w.pris)
+	v := w.pris.Clone() // a fresh copy: the hook may set any field
 	r := rand.New(rand.NewPCG(w.opt.Seed, uint64(k)))
 	mf := pl.sample(r, w.m, v, w.opt.FixedMains)
 	if w.opt.Values != nil {
@@ -278,15 +278,6 @@ func (w *blockSolver) sample(k int, pl *plan, points []amp.PointDef) ([]float64,
 		out[i] = x
 	}
 	return out, nil
-}
-
-func copyValues(dst, src *amp.Values) {
-	copy(dst.Slot, src.Slot)
-	copy(dst.Koren, src.Koren)
-	copy(dst.Emission, src.Emission)
-	copy(dst.StageC, src.StageC)
-	dst.HTVolts, dst.HTOhms, dst.RectScale = src.HTVolts, src.HTOhms, src.RectScale
-	dst.HalfOpen, dst.HeaterVolts = src.HalfOpen, src.HeaterVolts
 }
 
 // rippleScale estimates each filter net's ripple in a fast solve, which

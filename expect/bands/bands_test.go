@@ -167,9 +167,8 @@ func TestSeedAndWorkers(t *testing.T) {
 // about half of them.
 func TestFailedSamplesCounted(t *testing.T) {
 	d := load(t, demoA)
-	r11 := -1
 	opt := Options{Samples: 200, Seed: 5, Values: func(m *amp.Model, v *amp.Values) error {
-		r11 = m.SlotsOf("R11")[0]
+		r11 := m.SlotsOf("R11")[0]
 		if v.Slot[r11] > m.Nominal[r11] {
 			return errTest
 		}
