@@ -76,8 +76,31 @@ func Parse(name string, data []byte) (*Design, Problems) {
 	if len(l.probs.Errors()) == 0 {
 		l.validate(d)
 	}
+	l.templateHints(d)
 	l.probs.Sort()
 	return d, l.probs
+}
+
+// templateHints points "missing ..." errors with no hint of their own at a
+// template that shows the whole part (see templates.go).
+func (l *loader) templateHints(d *Design) {
+	for i := range l.probs {
+		pr := &l.probs[i]
+		if pr.Severity != Error || pr.Hint != "" || !strings.HasPrefix(pr.Msg, "missing ") {
+			continue
+		}
+		ref, _, _ := strings.Cut(pr.Field, ".")
+		p := d.ByRef[ref]
+		if p == nil {
+			if pr.Field == "pinwalk" || pr.Field == "mains" || pr.Field == "parts" {
+				pr.Hint = "see `pinwalk new --list`: every template starts with these top-level fields"
+			}
+			continue
+		}
+		pushPull := p.OT != nil && p.OT.Centre != ""
+		bridge := p.Rect != nil && p.Rect.Bridge
+		pr.Hint = TemplateHint(p.Kind, pushPull, bridge)
+	}
 }
 
 // findAlias returns the first node, in document order, that is an alias
@@ -216,15 +239,71 @@ func (l *loader) pairs(n *yaml.Node, field string, allowed []string) [][2]*yaml.
 			msg := fmt.Sprintf("unknown field %q", key)
 			if dym := didYouMean(key, allowed); dym != "" {
 				msg += ": " + dym
+			} else if syn := fieldSynonym(key, allowed); syn != "" {
+				msg += fmt.Sprintf(": did you mean %q? (expected one of %s)", syn, strings.Join(allowed, ", "))
 			} else {
 				msg += ": expected one of " + strings.Join(allowed, ", ")
 			}
-			l.errf(k, join(field, key), "%s", msg)
+			l.add(posOf(k), Error, join(field, key), unknownFieldHint(key, v, allowed), "%s", msg)
 			continue
 		}
 		out = append(out, [2]*yaml.Node{k, v})
 	}
 	return out
+}
+
+// fieldSynonyms maps words people write for a field to the field names
+// the design file uses; the first one the context allows is suggested.
+var fieldSynonyms = map[string][]string{
+	"between":    {"ends"},
+	"ends":       {"between"},
+	"nets":       {"between", "ends"},
+	"pins":       {"between", "ends"},
+	"impedance":  {"load"},
+	"speaker":    {"load"},
+	"wiring":     {"volts"},
+	"voltage":    {"volts"},
+	"rating":     {"rated", "watts", "volts"},
+	"current":    {"rated"},
+	"amps":       {"rated"},
+	"power":      {"watts"},
+	"dielectric": {"kind"},
+	"type":       {"kind", "build"},
+	"material":   {"kind", "build"},
+	"anode":      {"plate", "plates", "anodes"},
+	"anodes":     {"plates"},
+	"plates":     {"anodes"},
+	"g1":         {"grid"},
+	"g2":         {"screen"},
+	"g3":         {"suppressor"},
+	"k":          {"cathode"},
+	"filament":   {"heater"},
+	"heaters":    {"heater"},
+	"windings":   {"secondaries"},
+	"wiper_net":  {"wiper"},
+	"position":   {"setting"},
+}
+
+func fieldSynonym(key string, allowed []string) string {
+	for _, s := range fieldSynonyms[strings.ToLower(key)] {
+		if contains(allowed, s) {
+			return s
+		}
+	}
+	return ""
+}
+
+// unknownFieldHint gives a one-line hint for an unknown field in common
+// cases: a comma in unquoted text inside {...}, or a winding written
+// directly under power-transformer.
+func unknownFieldHint(key string, v *yaml.Node, allowed []string) string {
+	switch {
+	case strings.ContainsAny(key, " \t") && v.Tag == "!!null":
+		return "a comma inside {...} starts a new field: quote text that has commas, like note: 'bleeder, also minimum load'"
+	case contains(allowed, "secondaries") && v.Kind == yaml.MappingNode:
+		return "windings go under secondaries: (secondaries: {" + key + ": {volts: .., rated: .., ends: [..]}})"
+	}
+	return ""
 }
 
 func describe(n *yaml.Node) string {

@@ -5,9 +5,12 @@ import (
 	"strings"
 )
 
-// editDistance is the Levenshtein distance between a and b, case-folded.
+// editDistance is the optimal-string-alignment distance between a and b,
+// case-folded: Levenshtein's insertions, deletions and substitutions, plus
+// swapping two adjacent letters, each costing 1.
 func editDistance(a, b string) int {
 	ra, rb := []rune(strings.ToLower(a)), []rune(strings.ToLower(b))
+	prev2 := make([]int, len(rb)+1)
 	prev := make([]int, len(rb)+1)
 	cur := make([]int, len(rb)+1)
 	for j := range prev {
@@ -21,8 +24,11 @@ func editDistance(a, b string) int {
 				cost = 0
 			}
 			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
+			if i > 1 && j > 1 && ra[i-1] == rb[j-2] && ra[i-2] == rb[j-1] {
+				cur[j] = min(cur[j], prev2[j-2]+1) // adjacent transposition: "gird" for "grid"
+			}
 		}
-		prev, cur = cur, prev
+		prev2, prev, cur = prev, cur, prev2
 	}
 	return prev[len(rb)]
 }
