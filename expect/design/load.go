@@ -282,6 +282,12 @@ var fieldSynonyms = map[string][]string{
 	"windings":   {"secondaries"},
 	"wiper_net":  {"wiper"},
 	"position":   {"setting"},
+	"film":       {"capacitor"},
+	"mica":       {"capacitor"},
+	"ceramic":    {"capacitor"},
+	"resistors":  {"resistor"},
+	"caps":       {"capacitor", "electrolytic"},
+	"chokes":     {"winding"},
 }
 
 func fieldSynonym(key string, allowed []string) string {
