@@ -29,7 +29,8 @@ type Check struct {
 	// Tol is the low and high reading with every element at its low or
 	// high tolerance (exact bounds by Rayleigh's monotonicity law).
 	Tol [2]float64
-	// Kind is "b+", "plate", "screen", "grid", "cathode", "net" or
+	// Kind is "b+" (HT filter or bench supply nets), "bias" (a bias
+	// supply's output), "plate", "screen", "grid", "cathode", "net" or
 	// "winding".
 	Kind string
 }
@@ -62,7 +63,13 @@ func Checks(d *design.Design) ([]Check, error) {
 		return nil
 	}
 	for _, bp := range bPlusNets(d) {
-		if err := addNet(bp, "b+"); err != nil {
+		kind := "b+"
+		for _, p := range d.PartsOfKind(design.BiasSupply) {
+			if p.Terminals[0].Net == bp {
+				kind = "bias"
+			}
+		}
+		if err := addNet(bp, kind); err != nil {
 			return nil, err
 		}
 	}
