@@ -55,6 +55,13 @@ func TestTemplatesCheckAndSolve(t *testing.T) {
 			for _, f := range m.RatingChecks(&hot, &cold) {
 				t.Errorf("rating check: %s: %s: %s", f.Severity, f.Ref, f.Msg)
 			}
+			if lim, ok := firstNetRatio[tp.Name]; ok {
+				// B+ at the first filter net as a multiple of the HT winding's rms volts.
+				r := hot.Supply.Nets[0].Vdc / d.ByRef["T1"].PT.Winding("HT").Volts
+				if r < lim[0] || r > lim[1] {
+					t.Errorf("first filter net at %.3f × the winding's rms volts, want %.2f to %.2f", r, lim[0], lim[1])
+				}
+			}
 			if m.HT != nil {
 				for _, n := range hot.Supply.Nets {
 					t.Logf("%s %.0f V %.1f mA", n.Net, n.Vdc, n.LoadAmps*1e3)
@@ -66,6 +73,20 @@ func TestTemplatesCheckAndSolve(t *testing.T) {
 			}
 		})
 	}
+}
+
+// firstNetRatio bounds the first filter net's DC volts over the HT
+// winding's rms volts (per half for a centre tap) for the supply templates.
+// Choke input: at most 2√2/π = 0.900 less the winding, diode and choke
+// drops (Radiotron Designer's Handbook, 4th ed., ch. 30, choke-input
+// filters (from memory)). Capacitor input at a moderate load: between
+// about 1.2 and the peak √2 = 1.414 less the diode drop (common practice).
+var firstNetRatio = map[string][2]float64{
+	"supply-choke-input": {0.80, 0.900},
+	"supply-ct-crc":      {1.20, 1.41},
+	"supply-ct-clc":      {1.20, 1.41},
+	"supply-bridge-crc":  {1.20, 1.41},
+	"supply-valve-rect":  {1.00, 1.41}, // a valve rectifier drops tens of volts more
 }
 
 func TestTemplateByName(t *testing.T) {
