@@ -2,14 +2,18 @@ package main
 
 import (
 	"encoding/json"
+	"errors"
 	"flag"
 	"fmt"
 	"io"
 	"math"
+	"strconv"
 	"strings"
 
 	"pinwalk/expect/amp"
+	"pinwalk/expect/bands"
 	"pinwalk/expect/design"
+	"pinwalk/expect/faults"
 	"pinwalk/expect/units"
 )
 
@@ -58,6 +62,16 @@ type jsonNet struct {
 	ColdPeak float64 `json:"cold_peak_volts"`
 }
 
+// jsonLoading is a point whose reading the meter visibly pulls.
+type jsonLoading struct {
+	ID        string  `json:"id"`
+	Quantity  string  `json:"quantity"`
+	Net       string  `json:"net"`
+	Nominal   float64 `json:"nominal"`
+	Loaded    float64 `json:"through_meter"`
+	ChangePct float64 `json:"change_pct"`
+}
+
 type jsonReport struct {
 	Design struct {
 		File  string `json:"file"`
@@ -65,35 +79,130 @@ type jsonReport struct {
 		Hash  string `json:"sha256"`
 	} `json:"design"`
 	Conditions struct {
-		Mains  float64 `json:"mains_volts"`
-		Variac float64 `json:"variac"`
+		Mains      float64  `json:"mains_volts"`
+		MainsFixed bool     `json:"mains_fixed"`
+		Variac     float64  `json:"variac"`
+		Faults     []string `json:"faults"`
 	} `json:"conditions"`
-	Points    []jsonPoint     `json:"points"`
-	Sections  []jsonSection   `json:"sections"`
-	Resistors []jsonResistor  `json:"resistors"`
-	Supply    []jsonNet       `json:"supply,omitempty"`
-	Windings  []amp.WindingOP `json:"heater_windings"`
-	Findings  []string        `json:"findings"`
+	// Monte Carlo: samples asked, failed (did not converge), the seed, and
+	// up to a few distinct failure messages.
+	Samples      int             `json:"samples"`
+	Failed       int             `json:"failed"`
+	FailErrors   []string        `json:"fail_errors,omitempty"`
+	Seed         uint64          `json:"seed"`
+	Meter        string          `json:"meter"`
+	MeterOhms    float64         `json:"meter_ohms"`
+	MeterLoading []jsonLoading   `json:"meter_loading"`
+	Points       []jsonPoint     `json:"points"`
+	Sections     []jsonSection   `json:"sections"`
+	Resistors    []jsonResistor  `json:"resistors"`
+	Supply       []jsonNet       `json:"supply,omitempty"`
+	Windings     []amp.WindingOP `json:"heater_windings"`
+	Findings     []string        `json:"findings"`
+}
+
+// faultFlags collects repeated --fault REF:MODE options.
+type faultFlags []faults.Fault
+
+func (f *faultFlags) String() string {
+	var parts []string
+	for _, x := range *f {
+		parts = append(parts, x.String())
+	}
+	return strings.Join(parts, ",")
+}
+
+func (f *faultFlags) Set(s string) error {
+	x, err := faults.Parse(s)
+	if err != nil {
+		return err
+	}
+	*f = append(*f, x)
+	return nil
 }
 
 func runExpect(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("expect", flag.ContinueOnError)
 	fs.SetOutput(stderr)
 	asJSON := fs.Bool("json", false, "print JSON with a stable shape (top-level points array)")
-	mains := fs.String("mains", "", "mains volts at the wall (default: the design's)")
+	mains := fs.String("mains", "", "mains volts at the wall, as measured (default: the design's, sampled within its tolerance)")
+	variac := fs.String("variac", "", "variac setting in percent of the mains, e.g. 25 (default 100); \"steps\" prints 25/50/75/100 %")
+	meterSpec := fs.String("meter", "10M", "the voltmeter: a digital meter's input resistance (10M) or an analogue meter's sensitivity and range (20k/V:500V)")
+	cold := fs.Bool("cold", false, "cold checks instead: resistances to measure with the amplifier off and discharged")
+	samples := fs.Int("samples", 1000, "Monte Carlo samples for the tolerance bands (0: nominal only)")
+	seed := fs.Uint64("seed", 1, "random seed of the samples (the same seed gives the same bands)")
+	var flts faultFlags
+	fs.Var(&flts, "fault", "assume a fault, REF:MODE (e.g. R7:open, V2:weak); repeatable")
 	fs.Usage = func() {
 		fmt.Fprintln(stderr, `Usage: pinwalk expect [options] DESIGN
 
 Solves the whole amplifier (HT supply, every valve, every net) and prints
 what each socket pin should read: DC volts to chassis and the current in
 each electrode, heater volts and current, the supply's filter nets with
-ripple, valve and resistor dissipation.`)
+ripple, valve and resistor dissipation. Each reading has a band: the
+2.5th to 97.5th percentile over Monte Carlo samples of every part within
+its tolerance, the transformer, the mains and valve-to-valve spread.
+Readings that the chosen meter's input resistance visibly pulls are listed
+with what the meter will show.`)
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
+	// Flags may come before or after the design (Go's flag package stops
+	// at the first argument that is not a flag: parse the rest again).
+	var pos []string
+	for rest := args; ; {
+		if err := fs.Parse(rest); err != nil {
+			if errors.Is(err, flag.ErrHelp) {
+				return exitOK
+			}
+			return exitUsage
+		}
+		if fs.NArg() == 0 {
+			break
+		}
+		pos = append(pos, fs.Arg(0))
+		rest = fs.Args()[1:]
+	}
+	if len(pos) > 1 {
+		fmt.Fprintf(stderr, "pinwalk: expect takes one design, found %d: %s\n", len(pos), strings.Join(pos, " "))
 		return exitUsage
 	}
-	d, probs, err := loadDesign(fs.Arg(0), stderr)
+	designArg := ""
+	if len(pos) == 1 {
+		designArg = pos[0]
+	}
+	if *samples < 0 || *samples > 1000000 {
+		fmt.Fprintf(stderr, "pinwalk: --samples %d: expected 0 to 1000000\n", *samples)
+		return exitUsage
+	}
+	meter, err := bands.ParseMeter(*meterSpec)
+	if err != nil {
+		fmt.Fprintf(stderr, "pinwalk: --meter: %v\n", err)
+		return exitUsage
+	}
+	cond := amp.Conditions{}
+	fixed := false
+	if *mains != "" {
+		v, err := units.Parse(*mains, units.Volts)
+		if err != nil || v < 50 || v > 300 {
+			fmt.Fprintf(stderr, "pinwalk: --mains %q: expected the mains volts at the wall, like 230 or 240V\n", *mains)
+			return exitUsage
+		}
+		cond.MainsVolts, fixed = v, true
+	}
+	steps := false
+	if *variac != "" {
+		if *variac == "steps" {
+			steps = true
+		} else {
+			pct, err := strconv.ParseFloat(strings.TrimSuffix(strings.TrimSpace(*variac), "%"), 64)
+			if err != nil || !(pct > 0 && pct <= 130) {
+				fmt.Fprintf(stderr, "pinwalk: --variac %q: expected a setting in percent of the mains, above 0 and at most 130, like 25 or 50%%, or \"steps\"\n", *variac)
+				return exitUsage
+			}
+			cond.Variac = pct / 100
+		}
+	}
+	d, probs, err := loadDesign(designArg, stderr)
 	if err != nil {
 		for _, p := range probs.Errors() {
 			fmt.Fprintln(stderr, p.Error())
@@ -101,32 +210,53 @@ ripple, valve and resistor dissipation.`)
 		fmt.Fprintf(stderr, "pinwalk: %v\n", err)
 		return exitProblems
 	}
-	cond := amp.Conditions{}
-	if *mains != "" {
-		v, err := units.Parse(*mains, units.Volts)
-		if err != nil || v < 50 || v > 300 {
-			fmt.Fprintf(stderr, "pinwalk: --mains %q: expected the mains volts at the wall, like 230 or 240V\n", *mains)
-			return exitUsage
-		}
-		cond.MainsVolts = v
+	if *cold {
+		return runColdExpect(d, *asJSON, stdout, stderr)
 	}
 	m, err := amp.Build(d)
 	if err != nil {
 		fmt.Fprintf(stderr, "pinwalk: %v\n", err)
 		return exitProblems
 	}
-	s := amp.NewSolver(m)
-	var op amp.OP
-	if err := s.Solve(cond, m.NominalValues(), false, &op); err != nil {
+	for _, f := range flts {
+		if err := faults.Check(m, f); err != nil {
+			fmt.Fprintf(stderr, "pinwalk: --fault: %v\n", err)
+			return exitUsage
+		}
+	}
+	opt := bands.Options{Samples: *samples, Seed: *seed, Cond: cond, FixedMains: fixed}
+	if len(flts) > 0 {
+		opt.Values = func(m *amp.Model, v *amp.Values) error {
+			for _, f := range flts {
+				if err := faults.Apply(m, v, f); err != nil {
+					return err
+				}
+			}
+			return nil
+		}
+	}
+	if steps {
+		return runVariacSteps(d, opt, *asJSON, stdout, stderr)
+	}
+	set, err := bands.Run(d, opt)
+	if err != nil {
 		fmt.Fprintf(stderr, "pinwalk: %v\n", err)
 		return exitFailure
 	}
-	var cold amp.OP
-	var coldOP *amp.OP
-	if s.ColdStart(d.Mains.Volts*(1+d.Mains.Tol.Hi), &cold) == nil {
-		coldOP = &cold
+	loading, err := set.Loading(meter)
+	if err != nil {
+		fmt.Fprintf(stderr, "pinwalk: meter loading: %v\n", err)
+		return exitFailure
 	}
-	rep := buildReport(d, m, &op, coldOP, cond)
+	s := amp.NewSolver(m)
+	var coldOP amp.OP
+	var coldPtr *amp.OP
+	if s.ColdStart(d.Mains.Volts*(1+d.Mains.Tol.Hi), &coldOP) == nil {
+		coldPtr = &coldOP
+	}
+	op := set.NominalOP
+	rep := buildReport(d, m, op, coldPtr, cond)
+	fillBands(rep, set, loading, meter, opt, flts)
 	if *asJSON {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
@@ -136,8 +266,40 @@ ripple, valve and resistor dissipation.`)
 		}
 		return exitOK
 	}
-	printReport(stdout, d, m, &op, rep)
+	printReport(stdout, d, m, op, rep)
 	return exitOK
+}
+
+// fillBands puts the Monte Carlo bands, the sample counts and the meter
+// loading notes into the report. A band is the 2.5th to 97.5th percentile,
+// widened to take in the nominal value where a skewed spread leaves it
+// just outside.
+func fillBands(rep *jsonReport, set *bands.Set, loading []bands.Loading, meter bands.Meter, opt bands.Options, flts faultFlags) {
+	rep.Samples, rep.Failed, rep.FailErrors, rep.Seed = set.Samples, set.Failed, set.FailErrs, opt.Seed
+	rep.Conditions.MainsFixed = opt.FixedMains
+	rep.Conditions.Faults = []string{}
+	for _, f := range flts {
+		rep.Conditions.Faults = append(rep.Conditions.Faults, f.String())
+	}
+	for k := range rep.Points {
+		p := &rep.Points[k]
+		i, ok := set.Index(p.ID + " " + p.Quantity)
+		if !ok {
+			continue
+		}
+		b := set.Band(i)
+		p.Low, p.High = round(min(b.Low, b.Nominal)), round(max(b.High, b.Nominal))
+	}
+	rep.Meter, rep.MeterOhms = meter.Name, meter.Ohms()
+	rep.MeterLoading = []jsonLoading{}
+	for _, l := range loading {
+		if !l.Significant {
+			continue
+		}
+		id, q, _ := strings.Cut(l.Key, " ")
+		rep.MeterLoading = append(rep.MeterLoading, jsonLoading{ID: id, Quantity: q, Net: l.Net,
+			Nominal: round(l.Unloaded), Loaded: round(l.Loaded), ChangePct: round(100 * l.Change)})
+	}
 }
 
 func buildReport(d *design.Design, m *amp.Model, op, cold *amp.OP, cond amp.Conditions) *jsonReport {
@@ -220,25 +382,58 @@ func fmtQ(v float64, q string) string {
 
 func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *jsonReport) {
 	fmt.Fprintf(w, "%s\n%s\n", d.Title, strings.Repeat("=", len([]rune(d.Title))))
-	fmt.Fprintf(w, "Mains %s, design file %s\n\n", units.Format(rep.Conditions.Mains, units.Volts), d.File)
 	fmt.Fprintln(w, "DANGER: these voltages are lethal and filter capacitors hold them after power-off.")
 	fmt.Fprintln(w, "Measure one-handed with insulated, shrouded probes and a meter rated above the highest")
 	fmt.Fprintln(w, "voltage here; follow local codes and licensed practice.")
 	fmt.Fprintln(w)
+	mainsNote := "sampled within the design's tolerance"
+	if rep.Conditions.MainsFixed {
+		mainsNote = "as measured"
+	}
+	fmt.Fprintf(w, "Mains %s (%s), variac %.0f%%, design file %s\n", units.Format(rep.Conditions.Mains, units.Volts), mainsNote,
+		100*rep.Conditions.Variac, d.File)
+	if len(rep.Conditions.Faults) > 0 {
+		fmt.Fprintf(w, "Assuming the fault(s): %s\n", strings.Join(rep.Conditions.Faults, ", "))
+	}
+	if rep.Samples > 0 {
+		fmt.Fprintf(w, "Bands: 95%% of %d Monte Carlo samples (parts within tolerance, transformer, mains, valve spread; seed %d)\n",
+			rep.Samples-rep.Failed, rep.Seed)
+	} else {
+		fmt.Fprintln(w, "Nominal values only (--samples 0): no bands")
+	}
+	if rep.Failed > 0 {
+		fmt.Fprintf(w, "WARNING: %d of %d samples did not converge and are left out of the bands:\n", rep.Failed, rep.Samples)
+		for _, e := range rep.FailErrors {
+			fmt.Fprintf(w, "  %s\n", e)
+		}
+	}
+	fmt.Fprintln(w)
+	byKey := map[string]jsonPoint{}
+	for _, p := range rep.Points {
+		byKey[p.ID+" "+p.Quantity] = p
+	}
+	bandOf := func(id, q string) string {
+		p, ok := byKey[id+" "+q]
+		if !ok || rep.Samples == 0 {
+			return ""
+		}
+		return fmtQ(p.Low, q) + " – " + fmtQ(p.High, q)
+	}
 	points := m.Points()
 	for _, vp := range d.Valves() {
 		fmt.Fprintf(w, "%s  %s (%s base, pins seen from below)\n", vp.Ref, vp.Valve.Type.Name, vp.Valve.Type.Base)
 		for _, pd := range amp.PinsOfValve(points, vp.Ref) {
 			v := m.Value(op, pd)
-			fmt.Fprintf(w, "  %-44s %-12s %12s\n", pd.Label, qtyWord(pd.Quantity), fmtQ(v, pd.Quantity))
+			fmt.Fprintf(w, "  %-44s %-12s %12s   %s\n", pd.Label, qtyWord(pd.Quantity), fmtQ(v, pd.Quantity), bandOf(pd.ID, pd.Quantity))
 		}
 		fmt.Fprintln(w)
 	}
 	if op.Supply != nil {
 		fmt.Fprintln(w, "HT supply (from the rectifier outwards)")
 		for _, n := range rep.Supply {
-			fmt.Fprintf(w, "  %-8s %10s DC  ripple %10s rms  load %9s  switch-on peak %10s\n", n.Net,
-				units.Format(n.Volts, units.Volts), units.Format(n.Ripple, units.Volts), units.Format(n.LoadAmps, units.Amps), units.Format(n.ColdPeak, units.Volts))
+			fmt.Fprintf(w, "  %-8s %10s DC (%s)  ripple %10s rms  load %9s  switch-on peak %10s\n", n.Net,
+				units.Format(n.Volts, units.Volts), bandOf(n.Net, amp.DCVolts), units.Format(n.Ripple, units.Volts),
+				units.Format(n.LoadAmps, units.Amps), units.Format(n.ColdPeak, units.Volts))
 		}
 		fmt.Fprintf(w, "  rectifier peak current %s per path\n\n", units.Format(op.Supply.PeakRectAmps, units.Amps))
 	}
@@ -247,7 +442,18 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 		if pd.Valve != "" || pd.Quantity != amp.DCVolts || isSupplyNet(rep, pd.Net) || strings.HasPrefix(pd.Net, "~") {
 			continue
 		}
-		fmt.Fprintf(w, "  %-8s %10s\n", pd.Net, fmtQ(m.Value(op, pd), pd.Quantity))
+		fmt.Fprintf(w, "  %-8s %10s   %s\n", pd.Net, fmtQ(m.Value(op, pd), pd.Quantity), bandOf(pd.ID, pd.Quantity))
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintf(w, "Meter loading (%s, %s input)\n", rep.Meter, units.Format(rep.MeterOhms, units.Ohms))
+	if len(rep.MeterLoading) == 0 {
+		fmt.Fprintln(w, "  no reading moves by more than 1 % under the meter")
+	} else {
+		fmt.Fprintln(w, "  these read differently through the meter (high-impedance nodes):")
+		for _, l := range rep.MeterLoading {
+			fmt.Fprintf(w, "  %-8s %-8s expected %10s, the meter shows %10s (%+.1f%%)\n", l.ID, l.Net,
+				fmtQ(l.Nominal, l.Quantity), fmtQ(l.Loaded, l.Quantity), l.ChangePct)
+		}
 	}
 	fmt.Fprintln(w)
 	fmt.Fprintln(w, "Valve dissipation")
@@ -308,4 +514,89 @@ func qtyWord(q string) string {
 		return "ripple"
 	}
 	return q
+}
+
+// jsonStep is one variac setting of `expect --variac steps`.
+type jsonStep struct {
+	Variac  float64     `json:"variac"`
+	Samples int         `json:"samples"`
+	Failed  int         `json:"failed"`
+	Points  []jsonPoint `json:"points"`
+	Cold    []jsonNet   `json:"cold_peak"`
+}
+
+// runVariacSteps prints the supply nets and every plate and cathode
+// current at 25, 50, 75 and 100 % variac, with bands, and each filter
+// net's switch-on peak at that setting (nominal and at high mains).
+func runVariacSteps(d *design.Design, opt bands.Options, asJSON bool, stdout, stderr io.Writer) int {
+	steps, err := bands.VariacSteps(d, opt, bands.VariacSettings)
+	if err != nil {
+		fmt.Fprintf(stderr, "pinwalk: %v\n", err)
+		return exitFailure
+	}
+	var out []jsonStep
+	for _, st := range steps {
+		js := jsonStep{Variac: st.Variac, Samples: st.Set.Samples, Failed: st.Set.Failed}
+		c := opt.Cond
+		c.Variac = st.Variac
+		peaks, err := bands.ColdPeaks(d, c)
+		if err != nil {
+			fmt.Fprintf(stderr, "pinwalk: %v\n", err)
+			return exitFailure
+		}
+		for _, p := range peaks {
+			js.Cold = append(js.Cold, jsonNet{Net: p.Net, Volts: round(p.Nominal), ColdPeak: round(p.HighMains)})
+		}
+		for i, pd := range st.Set.Points {
+			keep := pd.Valve == "" && pd.Quantity == amp.DCVolts && isFilterNet(peaks, pd.Net) ||
+				pd.Quantity == amp.DCAmps && (pd.Electrode == "plate" || pd.Electrode == "cathode")
+			if !keep {
+				continue
+			}
+			b := st.Set.Band(i)
+			js.Points = append(js.Points, jsonPoint{ID: pd.ID, Quantity: pd.Quantity, Unit: amp.UnitOf(pd.Quantity),
+				Nominal: round(b.Nominal), Low: round(min(b.Low, b.Nominal)), High: round(max(b.High, b.Nominal)), Label: pd.Label, Net: pd.Net})
+		}
+		out = append(out, js)
+	}
+	if asJSON {
+		enc := json.NewEncoder(stdout)
+		enc.SetIndent("", "  ")
+		if err := enc.Encode(struct {
+			Steps []jsonStep `json:"variac_steps"`
+		}{out}); err != nil {
+			fmt.Fprintf(stderr, "pinwalk: %v\n", err)
+			return exitFailure
+		}
+		return exitOK
+	}
+	fmt.Fprintf(stdout, "%s: bring-up on a variac\n", d.Title)
+	fmt.Fprintln(stdout, "DANGER: these voltages are lethal and filter capacitors hold them after power-off.")
+	fmt.Fprintln(stdout, "At low settings the heaters run cool, the valves barely conduct and B+ rises towards its")
+	fmt.Fprintln(stdout, "switch-on peak: the figures there are emission-limited estimates, not precise values.")
+	for _, js := range out {
+		fmt.Fprintf(stdout, "\nVariac %.0f%%", 100*js.Variac)
+		if js.Failed > 0 {
+			fmt.Fprintf(stdout, "  (WARNING: %d of %d samples did not converge)", js.Failed, js.Samples)
+		}
+		fmt.Fprintln(stdout)
+		for _, p := range js.Points {
+			fmt.Fprintf(stdout, "  %-36s %12s   %s – %s\n", p.Label+" "+qtyWord(p.Quantity), fmtQ(p.Nominal, p.Quantity),
+				fmtQ(p.Low, p.Quantity), fmtQ(p.High, p.Quantity))
+		}
+		for _, c := range js.Cold {
+			fmt.Fprintf(stdout, "  %-36s %12s   at high mains %s\n", "net "+c.Net+" switch-on peak", units.Format(c.Volts, units.Volts),
+				units.Format(c.ColdPeak, units.Volts))
+		}
+	}
+	return exitOK
+}
+
+func isFilterNet(peaks []bands.ColdPeak, net string) bool {
+	for _, p := range peaks {
+		if p.Net == net {
+			return true
+		}
+	}
+	return false
 }

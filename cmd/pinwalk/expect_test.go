@@ -1,0 +1,120 @@
+package main
+
+import (
+	"encoding/json"
+	"strings"
+	"testing"
+)
+
+type expectDoc struct {
+	Conditions struct {
+		Variac float64  `json:"variac"`
+		Faults []string `json:"faults"`
+	} `json:"conditions"`
+	Samples      int    `json:"samples"`
+	Failed       int    `json:"failed"`
+	Meter        string `json:"meter"`
+	MeterLoading []struct {
+		ID        string  `json:"id"`
+		ChangePct float64 `json:"change_pct"`
+	} `json:"meter_loading"`
+	Points []struct {
+		ID, Quantity       string
+		Nominal, Low, High float64
+	} `json:"points"`
+}
+
+func expectJSON(t *testing.T, args ...string) expectDoc {
+	t.Helper()
+	code, out, errOut := runCLI(append([]string{"expect", "--json"}, args...)...)
+	if code != exitOK {
+		t.Fatalf("expect %v: exit %d: %s", args, code, errOut)
+	}
+	var doc expectDoc
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	return doc
+}
+
+func point(doc expectDoc, id, q string) (nom, lo, hi float64, ok bool) {
+	for _, p := range doc.Points {
+		if p.ID == id && p.Quantity == q {
+			return p.Nominal, p.Low, p.High, true
+		}
+	}
+	return 0, 0, 0, false
+}
+
+// Bands are real (low < nominal < high for a plate), samples are
+// reported, and flags may follow the design.
+func TestExpectBandsJSON(t *testing.T) {
+	doc := expectJSON(t, "demo", "--samples", "300", "--seed", "4")
+	if doc.Samples != 300 || doc.Failed != 0 {
+		t.Fatalf("samples %d failed %d", doc.Samples, doc.Failed)
+	}
+	nom, lo, hi, ok := point(doc, "V2.3", "dc_volts")
+	if !ok || !(lo < nom && nom < hi) || hi-lo < 0.03*nom {
+		t.Errorf("V2.3 plate band %g – %g around %g", lo, hi, nom)
+	}
+}
+
+// A fault changes the expectations: an open output-valve grid leak in the
+// PP demo (R30) leaves V3's grid without its negative bias, so V3 draws far
+// more current (common practice: a lost bias feed makes the valve run
+// away), and a 1 MΩ meter range visibly pulls the phase inverter's grids.
+func TestExpectFaultAndMeter(t *testing.T) {
+	ok := expectJSON(t, "--samples", "100", "demo:pp-el34-fixed")
+	bad := expectJSON(t, "--samples", "100", "--fault", "R30:open", "--meter", "20k/V:50V", "demo:pp-el34-fixed")
+	if len(bad.Conditions.Faults) != 1 || bad.Conditions.Faults[0] != "R30:open" {
+		t.Errorf("faults %v", bad.Conditions.Faults)
+	}
+	n0, _, _, _ := point(ok, "V3.3", "dc_amps")
+	n1, _, _, _ := point(bad, "V3.3", "dc_amps")
+	if !(n1 > 2*n0) {
+		t.Errorf("V3 plate current %g A with R30 open, %g A healthy", n1, n0)
+	}
+	if !strings.Contains(bad.Meter, "50 V range") {
+		t.Errorf("meter %q", bad.Meter)
+	}
+	found := false
+	for _, l := range bad.MeterLoading {
+		if l.ID == "PIG1" && l.ChangePct < -50 {
+			found = true
+		}
+	}
+	if !found {
+		t.Errorf("PIG1 not listed as pulled down by a 1 MΩ meter: %+v", bad.MeterLoading)
+	}
+}
+
+func TestExpectBadFlags(t *testing.T) {
+	for _, args := range [][]string{
+		{"expect", "--fault", "R99:open", "demo"},
+		{"expect", "--fault", "R11:opn", "demo"},
+		{"expect", "--variac", "0", "demo"},
+		{"expect", "--meter", "20k/V", "demo"},
+		{"expect", "--samples", "-1", "demo"},
+	} {
+		code, _, errOut := runCLI(args...)
+		if code != exitUsage || errOut == "" {
+			t.Errorf("%v: exit %d, stderr %q", args, code, errOut)
+		}
+	}
+}
+
+// The variac steps and a single setting: at 25 % the demo's B1 sits near
+// its switch-on peak and the output valves barely conduct.
+func TestExpectVariac(t *testing.T) {
+	doc := expectJSON(t, "--variac", "25", "--samples", "50", "demo")
+	if doc.Conditions.Variac != 0.25 {
+		t.Errorf("variac %g", doc.Conditions.Variac)
+	}
+	if ia, _, _, _ := point(doc, "V2.3", "dc_amps"); ia > 1e-4 {
+		t.Errorf("V2 plate current %g A at 25 %% variac", ia)
+	}
+	code, out, errOut := runCLI("expect", "--variac", "steps", "--samples", "20", "demo")
+	if code != exitOK || !strings.Contains(out, "Variac 25%") || !strings.Contains(out, "Variac 100%") || !strings.Contains(out, "DANGER") {
+		t.Errorf("steps: exit %d\n%s%s", code, out, errOut)
+	}
+}
