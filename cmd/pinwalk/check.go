@@ -1,7 +1,6 @@
 package main
 
 import (
-	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -24,11 +23,8 @@ peak (high mains, valves cold), valve dissipation, grid-1 resistance and
 heater windings. Exit status 1 when any design has errors.`)
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return exitOK
-		}
-		return exitUsage
+	if code, done := parseFlags(fs, args); done {
+		return code
 	}
 	files := fs.Args()
 	if len(files) == 0 {

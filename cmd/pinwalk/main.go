@@ -4,6 +4,8 @@
 package main
 
 import (
+	"errors"
+	"flag"
 	"fmt"
 	"io"
 	"os"
@@ -79,4 +81,16 @@ func run(args []string, stdout, stderr io.Writer) int {
 	fmt.Fprintf(stderr, "pinwalk: unknown command %q\n\n", args[0])
 	usage(stderr)
 	return exitUsage
+}
+
+// parseFlags parses a subcommand's flags. When done is true the command
+// returns code at once: 0 after --help, exitUsage on a bad flag.
+func parseFlags(fs *flag.FlagSet, args []string) (code int, done bool) {
+	if err := fs.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return exitOK, true
+		}
+		return exitUsage, true
+	}
+	return exitOK, false
 }

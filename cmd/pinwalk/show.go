@@ -23,8 +23,8 @@ with no DC path to ground, an overloaded heater winding, a screen with no
 stopper, an electrolytic with no voltage rating). A design with errors is
 not shown: its errors are printed instead (exit status 1).`)
 	}
-	if err := fs.Parse(args); err != nil {
-		return exitUsage
+	if code, done := parseFlags(fs, args); done {
+		return code
 	}
 	if fs.NArg() > 1 {
 		fs.Usage()

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -21,11 +20,8 @@ Lists the valve library; with a type, shows its base and pins (numbered
 from below), heater, limits, model parameters and the datasheet rows the
 model was fitted to, with the model's figures beside each row.`)
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return exitOK
-		}
-		return exitUsage
+	if code, done := parseFlags(fs, args); done {
+		return code
 	}
 	if fs.NArg() == 0 {
 		for _, t := range valves.All() {
