@@ -132,6 +132,7 @@ func runExpect(args []string, stdout, stderr io.Writer) int {
 	samples := fs.Int("samples", 1000, "Monte Carlo samples for the tolerance bands (0: nominal only)")
 	seed := fs.Uint64("seed", 1, "random seed of the samples (the same seed gives the same bands)")
 	var flts faultFlags
+	tone := fs.String("tone", "", "also the AC level of a test tone at every grid, plate and cathode and the speaker, FREQ:LEVEL at the input grid (e.g. 1kHz:100mV)")
 	fs.Var(&flts, "fault", "assume a fault, REF:MODE (e.g. R7:open, V2:weak); repeatable")
 	fs.Usage = func() {
 		fmt.Fprintln(stderr, `Usage: pinwalk expect [options] DESIGN
@@ -238,6 +239,19 @@ with what the meter will show.`)
 	if steps {
 		return runVariacSteps(d, opt, *asJSON, stdout, stderr)
 	}
+	if *tone != "" {
+		topt, err := parseTone(*tone)
+		if err != nil {
+			fmt.Fprintf(stderr, "pinwalk: --tone: %v\n", err)
+			return exitUsage
+		}
+		extra, err := toneExtra(m, opt, topt)
+		if err != nil {
+			fmt.Fprintf(stderr, "pinwalk: --tone: %v\n", err)
+			return exitFailure
+		}
+		opt.Extra = extra
+	}
 	set, err := bands.Run(d, opt)
 	if err != nil {
 		fmt.Fprintf(stderr, "pinwalk: %v\n", err)
@@ -257,6 +271,7 @@ with what the meter will show.`)
 	op := set.NominalOP
 	rep := buildReport(d, m, op, coldPtr, cond)
 	fillBands(rep, set, loading, meter, opt, flts)
+	addTonePoints(rep, set)
 	if *asJSON {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
@@ -456,6 +471,7 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 		}
 	}
 	fmt.Fprintln(w)
+	printTone(w, rep)
 	fmt.Fprintln(w, "Valve dissipation")
 	for _, s := range rep.Sections {
 		line := fmt.Sprintf("  %-5s %-7s plate %8s (%3.0f%%)", s.ID, s.Type, units.Format(s.Pa, units.Watts), s.PaPct)

@@ -521,8 +521,8 @@ func (an *Analyzer) stamp(op *amp.OP, v *amp.Values, w float64, opt *Options) {
 		add(e.a, e.b, 1/complex(r, w*e.henries))
 	}
 	for _, e := range an.caps {
-		if open[e.ref] {
-			continue
+		if open[e.ref] || v.CapOpen[e.ref] {
+			continue // open by the caller, or by a fault hypothesis in the values
 		}
 		c := e.farads
 		if s, ok := opt.CapScale[e.ref]; ok {

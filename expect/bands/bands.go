@@ -43,6 +43,17 @@ type Options struct {
 	// It is called from several goroutines at once, each with its own
 	// model: it must not write shared state.
 	Values func(m *amp.Model, v *amp.Values) error
+	// Extra, when set, adds points computed from each solved operating
+	// point (AC tone levels, hum) to the set, sampled like the DC ones.
+	Extra *Extra
+}
+
+// Extra describes points beyond the model's DC points. New is called once
+// per model (one per worker) and returns the evaluator for that model;
+// Eval writes one value per Points entry into dst.
+type Extra struct {
+	Points []amp.PointDef
+	New    func(m *amp.Model) (Eval func(op *amp.OP, v *amp.Values, dst []float64) error, err error)
 }
 
 // Set is the outcome of a Run: per point the nominal value and every
@@ -120,6 +131,19 @@ func Run(d *design.Design, opt Options) (*Set, error) {
 		set.Points = append(set.Points, pd)
 		set.Nominal = append(set.Nominal, x)
 	}
+	nDC := len(set.Points)
+	if opt.Extra != nil {
+		eval, err := opt.Extra.New(m)
+		if err != nil {
+			return nil, err
+		}
+		xs := make([]float64, len(opt.Extra.Points))
+		if err := eval(nom, nomRun.base, xs); err != nil {
+			return nil, fmt.Errorf("nominal extra points: %w", err)
+		}
+		set.Points = append(set.Points, opt.Extra.Points...)
+		set.Nominal = append(set.Nominal, xs...)
+	}
 	set.buildIndex()
 
 	n := opt.Samples
@@ -154,7 +178,7 @@ func Run(d *design.Design, opt Options) (*Set, error) {
 					return
 				}
 				for k := b * blockSize; k < min(n, (b+1)*blockSize); k++ {
-					vals, err := w.sample(k, pl, set.Points)
+					vals, err := w.sample(k, pl, set.Points[:nDC], len(set.Points))
 					results[k] = result{vals, err}
 				}
 			}
@@ -225,6 +249,7 @@ type blockSolver struct {
 	pris *amp.Values // nominal values (before the hook)
 	op   amp.OP
 	rip  rippleScale
+	xev  func(op *amp.OP, v *amp.Values, dst []float64) error
 }
 
 func newBlockSolver(d *design.Design, opt Options, nom *amp.OP) (*blockSolver, error) {
@@ -243,11 +268,17 @@ func newBlockSolver(d *design.Design, opt Options, nom *amp.OP) (*blockSolver, e
 	if err := s.CacheSupplyAt(opt.Cond, base, nom); err != nil {
 		return nil, err
 	}
-	return &blockSolver{m: m, s: s, opt: opt, nom: nom, pris: pris, rip: newRippleScale(m, base, nom)}, nil
+	w := &blockSolver{m: m, s: s, opt: opt, nom: nom, pris: pris, rip: newRippleScale(m, base, nom)}
+	if opt.Extra != nil {
+		if w.xev, err = opt.Extra.New(m); err != nil {
+			return nil, err
+		}
+	}
+	return w, nil
 }
 
 // sample solves sample k and returns its point values.
-func (w *blockSolver) sample(k int, pl *plan, points []amp.PointDef) ([]float64, error) {
+func (w *blockSolver) sample(k int, pl *plan, points []amp.PointDef, total int) ([]float64, error) {
 	v := w.pris.Clone() // a fresh copy: the hook may set any field
 	r := rand.New(rand.NewPCG(w.opt.Seed, uint64(k)))
 	mf := pl.sample(r, w.m, v, w.opt.FixedMains)
@@ -269,13 +300,18 @@ func (w *blockSolver) sample(k int, pl *plan, points []amp.PointDef) ([]float64,
 		return nil, err
 	}
 	w.rip.apply(&w.op, v)
-	out := make([]float64, len(points))
+	out := make([]float64, total)
 	for i, pd := range points {
 		x := w.m.Value(&w.op, pd)
 		if math.IsNaN(x) || math.IsInf(x, 0) {
 			return nil, fmt.Errorf("%s is not finite", pd.Key())
 		}
 		out[i] = x
+	}
+	if w.xev != nil {
+		if err := w.xev(&w.op, v, out[len(points):]); err != nil {
+			return nil, err
+		}
 	}
 	return out, nil
 }
