@@ -171,7 +171,7 @@ func TestLoadTooLarge(t *testing.T) {
 		t.Fatalf("got %d errors, want 1: %v", len(errs), ps)
 	}
 	e := errs[0]
-	if e.File != path || e.Pos != (Pos{1, 1}) || e.Field != "file" || !strings.Contains(e.Msg, "larger than 2 MiB") {
+	if e.File != path || e.Pos != (Pos{1, 1}) || e.Field != "file" || !strings.Contains(e.Msg, "larger than 256 KiB") {
 		t.Errorf("got %s", e.Error())
 	}
 	// Exactly at the limit is allowed through to the parser (comments only

@@ -18,7 +18,7 @@ import (
 )
 
 // MaxFileBytes is the largest design file the loader reads.
-const MaxFileBytes = 2 << 20
+const MaxFileBytes = 256 << 10
 
 // Load reads and validates a design file. It returns the design (nil
 // when the file could not be parsed at all) and every problem found; the
@@ -40,7 +40,7 @@ func Load(path string) (*Design, Problems) {
 func Parse(name string, data []byte) (*Design, Problems) {
 	l := &loader{file: name}
 	if len(data) > MaxFileBytes {
-		l.errAt(Pos{1, 1}, "file", "file is larger than %d MiB: expected a design file written by hand", MaxFileBytes>>20)
+		l.errAt(Pos{1, 1}, "file", "file is larger than %d KiB: expected a design file written by hand", MaxFileBytes>>10)
 		return nil, l.probs
 	}
 	if strings.ContainsRune(string(data), 0) {

@@ -1,0 +1,50 @@
+package design
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// FuzzParse feeds arbitrary bytes to the design loader. Seeds: the demo
+// designs, the templates and the malformed catalogue. Whatever the input,
+// Parse must not panic, every problem must carry a position inside the
+// file and a field, and a design returned without errors must have every
+// part's terminals on known nets.
+func FuzzParse(f *testing.F) {
+	for _, glob := range []string{"../../testdata/designs/*.yaml", "../../testdata/bad/*.yaml"} {
+		files, _ := filepath.Glob(glob)
+		for _, p := range files {
+			if data, err := os.ReadFile(p); err == nil {
+				f.Add(data)
+			}
+		}
+	}
+	for _, t := range Templates() {
+		f.Add(t.Text)
+	}
+	f.Add([]byte("pinwalk: 1\nparts: {R1: {resistor: 4K7?, between: [A, A]}}\n"))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		d, probs := Parse("fuzz.yaml", data)
+		lines := strings.Count(string(data), "\n") + 2
+		for _, p := range probs {
+			if p.Pos.Line < 1 || p.Pos.Line > lines || p.Pos.Col < 1 {
+				t.Fatalf("problem outside the file (%d lines): %v", lines, p)
+			}
+			if p.Field == "" || p.Msg == "" {
+				t.Fatalf("problem without field or message: %#v", p)
+			}
+		}
+		if d == nil || len(probs.Errors()) > 0 {
+			return
+		}
+		for _, p := range d.Parts {
+			for _, term := range p.Terminals {
+				if _, ok := d.Nets[term.Net]; !ok {
+					t.Fatalf("%s terminal %s on unknown net %q", p.Ref, term.Name, term.Net)
+				}
+			}
+		}
+	})
+}
