@@ -18,7 +18,7 @@ func FuzzParseSession(f *testing.F) {
 		}
 	}
 	s := &Session{Pinwalk: SessionVersion, Design: DesignRef{File: "demo", Hash: "ab12"}, Mode: BringUp,
-		Started: time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC),
+		Started:  time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC),
 		Readings: []Reading{{Step: "live.B1", Point: "B1 dc_volts", Raw: "312", Value: 312, Unit: "V", Status: InBand}}}
 	dir := f.TempDir()
 	if err := s.Save(filepath.Join(dir, "s.yaml")); err == nil {
