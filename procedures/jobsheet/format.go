@@ -1,0 +1,119 @@
+package jobsheet
+
+import (
+	"math"
+	"strconv"
+	"strings"
+
+	"pinwalk/expect/units"
+	"pinwalk/procedures"
+)
+
+func short(h string) string {
+	if len(h) > 12 {
+		return h[:12] + "…"
+	}
+	return h
+}
+
+func quantity(unit string) units.Quantity {
+	switch unit {
+	case "V":
+		return units.Volts
+	case "A":
+		return units.Amps
+	case "Ω":
+		return units.Ohms
+	case "W":
+		return units.Watts
+	}
+	return units.None
+}
+
+// fmtVal prints a value with its unit, 3 significant figures with an SI
+// prefix; an infinite resistance prints as "open (OL)".
+func fmtVal(v float64, unit string) string {
+	if math.IsInf(v, 1) && unit == "Ω" {
+		return "open (OL)"
+	}
+	q := quantity(unit)
+	if q == units.None {
+		return strconv.FormatFloat(v, 'g', 3, 64) + unit
+	}
+	return units.Format(clean(v), q)
+}
+
+// fmtBand prints a band "261 V to 298 V".
+func fmtBand(lo, hi float64, unit string) string {
+	return fmtVal(lo, unit) + " to " + fmtVal(hi, unit)
+}
+
+// fmtChange prints a signed difference with its unit.
+func fmtChange(d float64, unit string) string {
+	if d > 0 {
+		return "+" + fmtVal(d, unit)
+	}
+	if d < 0 {
+		return "−" + fmtVal(-d, unit)
+	}
+	return "no change"
+}
+
+// StatusText gives a status as a symbol and a word, so that it never
+// depends on colour.
+func StatusText(s procedures.Status) string {
+	switch s {
+	case procedures.InBand:
+		return "✓ in band"
+	case procedures.OutOfBand:
+		return "✗ OUT OF BAND"
+	case procedures.Retry:
+		return "? re-measure"
+	case procedures.Done:
+		return "• recorded"
+	case procedures.Skipped:
+		return "– skipped"
+	}
+	if s == "" {
+		return "–"
+	}
+	return string(s)
+}
+
+// ModeText names a session mode.
+func ModeText(m procedures.Mode) string {
+	switch m {
+	case procedures.BringUp:
+		return "bring-up"
+	case procedures.FaultFind:
+		return "fault-finding"
+	case procedures.Training:
+		return "training"
+	case procedures.Practise:
+		return "practice"
+	}
+	return string(m)
+}
+
+func pct(v, of float64) string {
+	if of <= 0 {
+		return "–"
+	}
+	return strconv.FormatFloat(100*v/of, 'f', 0, 64) + " %"
+}
+
+func variacText(vs []float64) string {
+	var parts []string
+	on := false
+	for _, v := range vs {
+		if v == 0 {
+			continue
+		}
+		on = true
+		parts = append(parts, strconv.FormatFloat(100*v, 'f', 0, 64)+" %")
+	}
+	if !on {
+		return "not used (full mains)"
+	}
+	return "readings at " + strings.Join(parts, ", ") + " of mains"
+}
