@@ -40,6 +40,12 @@ type Session struct {
 	Practice *Practice `yaml:"practice,omitempty"`
 	Outcome  *Outcome  `yaml:"outcome,omitempty"`
 	Cursor   string    `yaml:"at-step,omitempty"` // the step the user was on
+	// Added are the steps a fault-finding or practice session added as it
+	// went (the procedure grows); kept so a resumed session rebuilds the
+	// same procedure.
+	Added []*Step `yaml:"added-steps,omitempty"`
+	// Seed of the bands (and of a practice session's simulated amp).
+	Seed uint64 `yaml:"seed,omitempty"`
 }
 
 // DesignRef names the design a session was taken against.

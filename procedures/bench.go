@@ -1,0 +1,519 @@
+package procedures
+
+import (
+	"fmt"
+	"math"
+	"strings"
+	"sync"
+
+	"pinwalk/expect/amp"
+	"pinwalk/expect/bands"
+	"pinwalk/expect/cold"
+	"pinwalk/expect/design"
+	"pinwalk/expect/units"
+)
+
+// Point keys outside the amplifier model's own points.
+const (
+	// EarthKey: mains earth pin to chassis, ohms.
+	EarthKey = "earth ohms"
+	// MainsKey: the mains (or variac output at 100 %) as measured, AC volts.
+	MainsKey = "mains ac_volts"
+	// coldPrefix, dischargePrefix and biasPrefix start the keys of cold
+	// resistance ("cold:B1 ohms"), discharge ("discharge:C1 dc_volts") and
+	// bias-setting ("bias:V3 dc_volts") points.
+	coldPrefix      = "cold:"
+	dischargePrefix = "discharge:"
+	biasPrefix      = "bias:"
+)
+
+// Earth continuity band, ohms: a multimeter reading well under 1 Ω after
+// nulling the leads (common practice; see EarthCaution for the proper
+// earth-bond test, IEC 60335-1 / UL 60065).
+const EarthMaxOhms = 1.0
+
+// Bias targets as fractions of the output valve's rated plate dissipation
+// at idle (common practice for class AB push-pull: 60–70 %, aiming at 65 %).
+const (
+	BiasTarget = 0.65
+	BiasLow    = 0.60
+	BiasHigh   = 0.70
+)
+
+// openOhms: a cold reading above this counts as open (beyond the top
+// range of most handheld meters; common practice).
+const openOhms = 20e6
+
+// BenchOptions configure a BenchModel.
+type BenchOptions struct {
+	Samples int    // Monte Carlo samples per variac setting (0: 300)
+	Seed    uint64 // the same seed gives the same bands
+	Workers int
+	Meter   bands.Meter // zero: bands.DefaultMeter
+}
+
+// BenchModel is what a design should read on the bench: it implements
+// Expecter for every point a procedure asks about — the model's live
+// points at each variac setting (Monte Carlo bands, computed lazily per
+// setting and mains and conditioned on the readings already taken), cold
+// resistances, discharge verification, earth continuity, the mains and
+// bias-setting targets. It is safe for concurrent use.
+type BenchModel struct {
+	D     *design.Design
+	M     *amp.Model
+	Cold  []cold.Check
+	Drain []cold.Discharge
+	// Peaks are the switch-on (cold-start) peaks of the HT filter nets.
+	Peaks []bands.ColdPeak
+	opt   BenchOptions
+
+	mu   sync.Mutex
+	sets map[setKey]*bands.Set
+	cond map[string]*bands.Set // conditioned sets, by variac, mains and readings
+}
+
+type setKey struct{ variac, mains float64 }
+
+// NewBenchModel computes the cold and discharge expectations of a design
+// at once; the live bands are computed when first asked for.
+func NewBenchModel(d *design.Design, opt BenchOptions) (*BenchModel, error) {
+	if opt.Samples <= 0 {
+		opt.Samples = 300
+	}
+	m, err := amp.Build(d)
+	if err != nil {
+		return nil, err
+	}
+	cc, err := cold.Checks(d)
+	if err != nil {
+		return nil, fmt.Errorf("cold checks: %w", err)
+	}
+	dr, err := cold.DischargeTimes(d, m, 0)
+	if err != nil {
+		return nil, err
+	}
+	pk, err := bands.ColdPeaks(d, amp.Conditions{})
+	if err != nil {
+		return nil, err
+	}
+	return &BenchModel{D: d, M: m, Cold: cc, Drain: dr, Peaks: pk, opt: opt,
+		sets: map[setKey]*bands.Set{}, cond: map[string]*bands.Set{}}, nil
+}
+
+// ColdKey returns the point key of a cold check: "cold:B1 ohms".
+func ColdKey(c cold.Check) string { return coldPrefix + c.ID + " ohms" }
+
+// DischargeKey returns the point key of a capacitor's discharge check.
+func DischargeKey(ref string) string { return dischargePrefix + ref + " dc_volts" }
+
+// BiasKey returns the point key of an output valve's bias setting: volts
+// across its cathode sense resistor, or amps when it has none.
+func BiasKey(ref string, sense bool) string {
+	if sense {
+		return biasPrefix + ref + " dc_volts"
+	}
+	return biasPrefix + ref + " dc_amps"
+}
+
+// HighestVolts is the highest voltage present in the amplifier: the
+// largest switch-on peak of an HT net at the top of the mains tolerance,
+// the mains peak, and any bias or bench supply — what the meter must be
+// rated for.
+func (b *BenchModel) HighestVolts() float64 {
+	v := b.D.Mains.Volts * (1 + b.D.Mains.Tol.Hi) * math.Sqrt2
+	for _, p := range b.Peaks {
+		v = math.Max(v, math.Abs(p.HighMains))
+	}
+	for _, dr := range b.Drain {
+		v = math.Max(v, math.Abs(dr.PeakVolts))
+	}
+	for _, p := range b.D.Parts {
+		if p.Kind == design.BiasSupply || p.Kind == design.DCSupply {
+			v = math.Max(v, math.Abs(p.Value))
+		}
+	}
+	return v
+}
+
+// set returns the unconditioned bands at a variac setting and mains.
+func (b *BenchModel) set(variac, mains float64) (*bands.Set, error) {
+	if variac <= 0 {
+		variac = 1
+	}
+	k := setKey{variac, mains}
+	b.mu.Lock()
+	s, ok := b.sets[k]
+	b.mu.Unlock()
+	if ok {
+		return s, nil
+	}
+	opt := bands.Options{Samples: b.opt.Samples, Seed: b.opt.Seed, Workers: b.opt.Workers,
+		Cond: amp.Conditions{MainsVolts: mains, Variac: variac}, FixedMains: mains > 0}
+	s, err := bands.Run(b.D, opt)
+	if err != nil {
+		return nil, err
+	}
+	b.mu.Lock()
+	b.sets[k] = s
+	b.mu.Unlock()
+	return s, nil
+}
+
+// Set returns the bands at a variac setting, conditioned on the readings
+// (those of model points at every variac setting: samples with the same
+// index share their part values across settings, so a reading at 25 %
+// informs the bands at 100 %), under the mains the readings measured
+// (MainsKey, the latest) or the session stated.
+func (b *BenchModel) Set(variac float64, readings []Reading) (*bands.Set, error) {
+	if variac <= 0 {
+		variac = 1
+	}
+	mains := 0.0
+	for _, r := range readings {
+		if r.Point == MainsKey && r.Status != Retry && r.Value > 50 {
+			mains = r.Value
+		}
+	}
+	if mains == 0 {
+		for _, r := range readings {
+			if r.Mains > 0 {
+				mains = r.Mains
+			}
+		}
+	}
+	base, err := b.set(variac, mains)
+	if err != nil {
+		return nil, err
+	}
+	// Group usable readings by variac setting.
+	by := map[float64][]bands.Reading{}
+	var sig strings.Builder
+	for _, r := range readings {
+		if r.Status == Retry || strings.Contains(r.Point, ":") || r.Point == MainsKey || r.Point == EarthKey {
+			continue
+		}
+		if math.IsNaN(r.Value) || math.IsInf(r.Value, 0) {
+			continue
+		}
+		if _, ok := base.Index(r.Point); !ok {
+			continue
+		}
+		v := r.Variac
+		if v <= 0 {
+			v = 1
+		}
+		by[v] = append(by[v], bands.Reading{Key: r.Point, Value: r.Value, Meter: b.opt.Meter})
+		fmt.Fprintf(&sig, "%s=%g@%g;", r.Point, r.Value, v)
+	}
+	if len(by) == 0 {
+		return base, nil
+	}
+	ck := fmt.Sprintf("%g|%g|%s", variac, mains, sig.String())
+	b.mu.Lock()
+	c, ok := b.cond[ck]
+	b.mu.Unlock()
+	if ok {
+		return c, nil
+	}
+	// Weights from readings at other settings, carried over by sample index.
+	prior := map[int]float64{}
+	for _, s := range base.Sample {
+		prior[s] = 1
+	}
+	for v, rs := range by {
+		if v == variac {
+			continue
+		}
+		other, err := b.set(v, mains)
+		if err != nil {
+			continue
+		}
+		oc, err := other.Condition(rs)
+		if err != nil {
+			continue
+		}
+		w := map[int]float64{}
+		for j, s := range oc.Sample {
+			w[s] = oc.Weights[j]
+		}
+		for s := range prior {
+			prior[s] *= w[s] // a sample that failed there counts as unlikely
+		}
+	}
+	cs := *base
+	cs.Weights = make([]float64, len(base.Weights))
+	total := 0.0
+	for j, s := range base.Sample {
+		cs.Weights[j] = prior[s]
+		total += prior[s]
+	}
+	if !(total > 0) {
+		copy(cs.Weights, base.Weights)
+	}
+	out := &cs
+	if rs := by[variac]; len(rs) > 0 {
+		if out, err = cs.Condition(rs); err != nil {
+			return nil, err
+		}
+	}
+	b.mu.Lock()
+	b.cond[ck] = out
+	b.mu.Unlock()
+	return out, nil
+}
+
+// Expect implements Expecter.
+func (b *BenchModel) Expect(point string, variac float64, readings []Reading) (Band, bool) {
+	switch {
+	case point == EarthKey:
+		return Band{Nominal: 0.1, Low: 0, High: EarthMaxOhms,
+			Note: "after nulling the meter leads; a multimeter reading is no substitute for an earth-bond test (IEC 60335-1 / UL 60065: ≤ 0.1 Ω at 25 A)"}, true
+	case point == MainsKey:
+		v := b.D.Mains.Volts
+		if variac > 0 && variac != 1 {
+			v *= variac
+		}
+		return Band{Nominal: v, Low: v * (1 + b.D.Mains.Tol.Lo), High: v * (1 + b.D.Mains.Tol.Hi),
+			Note: "the design's mains and its tolerance"}, true
+	case strings.HasPrefix(point, dischargePrefix):
+		ref := strings.TrimSuffix(strings.TrimPrefix(point, dischargePrefix), " dc_volts")
+		for _, dr := range b.Drain {
+			if dr.Ref == ref {
+				return Band{Nominal: 0, Low: -cold.TouchVolts, High: cold.TouchVolts, Note: dischargeNote(dr)}, true
+			}
+		}
+		return Band{Nominal: 0, Low: -cold.TouchVolts, High: cold.TouchVolts,
+			Note: fmt.Sprintf("below %g V before touching (common practice); %g V DC is the hazardous-live level (IEC 60065)", cold.TouchVolts, cold.HazardVolts)}, true
+	case strings.HasPrefix(point, coldPrefix):
+		id := strings.TrimSuffix(strings.TrimPrefix(point, coldPrefix), " ohms")
+		for _, c := range b.Cold {
+			if c.ID == id {
+				return coldBand(c), true
+			}
+		}
+		return Band{}, false
+	case strings.HasPrefix(point, biasPrefix):
+		return b.biasBand(point, readings)
+	}
+	s, err := b.Set(variac, readings)
+	if err != nil {
+		return Band{}, false
+	}
+	i, ok := s.Index(point)
+	if !ok {
+		return Band{}, false
+	}
+	bb := s.Band(i)
+	// Widen by the meter's accuracy and a small floor for the model's own
+	// error (bands.Sigma's floor), so a 0 V grid may read a few millivolts.
+	mt := b.opt.Meter
+	if mt.InputOhms == 0 && mt.OhmsPerVolt == 0 {
+		mt = bands.DefaultMeter()
+	}
+	floor := 0.1 // volts
+	if s.Points[i].Quantity == amp.DCAmps || s.Points[i].Quantity == amp.ACAmps {
+		floor = 10e-6
+	}
+	widen := mt.Accuracy(math.Max(math.Abs(bb.Low), math.Abs(bb.High))) + floor
+	out := Band{Nominal: bb.Nominal, Low: bb.Low - widen, High: bb.High + widen}
+	if len(s.Readings) > 0 || len(readings) > 0 {
+		out.Nominal = s.Mean(i)
+	}
+	if s.Degenerate {
+		out.Note = "earlier readings do not fit a healthy amp: " + s.Reason
+	}
+	if v := variac; v > 0 && v < 0.9 && b.M.HT != nil {
+		out.Note = join(out.Note, fmt.Sprintf("at %.0f %% mains the heaters run cool and the valves barely conduct (emission-limited): B+ sits near the no-load peak", 100*v))
+	}
+	return out, true
+}
+
+// coldBand widens a cold check's exact tolerance corners by a meter's
+// resistance accuracy (±1.5 % + 0.3 Ω of leads, common practice for a
+// handheld meter with unnulled leads).
+func coldBand(c cold.Check) Band {
+	if c.Open {
+		return Band{Nominal: math.Inf(1), Low: openOhms, High: math.Inf(1), Note: join("reads open (OL)", c.Note)}
+	}
+	return Band{Nominal: c.Ohms, Low: math.Max(0, c.Tol[0]*0.985-0.3), High: c.Tol[1]*1.015 + 0.3, Note: c.Note}
+}
+
+func dischargeNote(dr cold.Discharge) string {
+	if dr.NoPath {
+		return dr.Warning
+	}
+	s := fmt.Sprintf("%s (%s on %s) can hold %s; its bleed path (%s) takes it below %g V DC (hazardous-live level, IEC 60065) in %s and below %g V in %s",
+		dr.Ref, units.Format(dr.Farads, units.Farads), dr.Net, units.Format(math.Abs(dr.PeakVolts), units.Volts),
+		units.Format(dr.BleedOhms, units.Ohms), cold.HazardVolts, fmtDur(dr.To60), cold.TouchVolts, fmtDur(dr.To10))
+	if dr.Warning != "" {
+		s += "; " + dr.Warning
+	}
+	return s
+}
+
+// fmtDur formats seconds: "12 s", "3.4 min", "1.2 h".
+func fmtDur(t float64) string {
+	switch {
+	case math.IsInf(t, 1):
+		return "forever"
+	case t < 60:
+		return fmt.Sprintf("%.2g s", t)
+	case t < 3600:
+		return fmt.Sprintf("%.2g min", t/60)
+	}
+	return fmt.Sprintf("%.2g h", t/3600)
+}
+
+func join(a, b string) string {
+	if a == "" {
+		return b
+	}
+	if b == "" {
+		return a
+	}
+	return a + "; " + b
+}
+
+// BiasStage is a fixed-bias output valve and how its idle current is read.
+type BiasStage struct {
+	Ref, Pot string // valve and the bias control that sets it ("" when none found)
+	Section  int    // index in Model.Sections
+	// SenseRef is the cathode sense resistor (≤ 10 Ω from cathode to
+	// chassis), "" when there is none; SenseOhms its value.
+	SenseRef             string
+	SenseOhms            float64
+	CathodePin, PlatePin int
+	MaxWatts             float64 // rated plate dissipation
+}
+
+// BiasStages finds the fixed-bias output valves: pentodes whose grid
+// returns through resistors and pots to a bias supply without passing
+// through chassis.
+func (b *BenchModel) BiasStages() []BiasStage {
+	d := b.D
+	var supplies []string
+	for _, p := range d.PartsOfKind(design.BiasSupply) {
+		supplies = append(supplies, p.Terminals[0].Net)
+	}
+	if len(supplies) == 0 {
+		return nil
+	}
+	var out []BiasStage
+	for i, s := range b.M.Sections {
+		if !s.Pentode {
+			continue
+		}
+		p := d.ByRef[s.Ref]
+		e := p.Valve.Sections[s.Section]
+		reach, pot := resistiveReach(d, e["grid"])
+		found := false
+		for _, n := range supplies {
+			found = found || reach[n]
+		}
+		if !found {
+			continue
+		}
+		bs := BiasStage{Ref: s.Ref, Pot: pot, Section: i, MaxWatts: s.Type.Limits.PlateWatts}
+		for _, pin := range s.Type.Pins {
+			if pin.Section != s.Section {
+				continue
+			}
+			switch pin.Electrode {
+			case "cathode":
+				if bs.CathodePin == 0 {
+					bs.CathodePin = pin.Number
+				}
+			case "plate":
+				bs.PlatePin = pin.Number
+			}
+		}
+		for _, r := range d.PartsOfKind(design.Resistor) {
+			a, c := r.Terminals[0].Net, r.Terminals[1].Net
+			if r.Value <= 10 && ((a == e["cathode"] && c == d.Ground) || (c == e["cathode"] && a == d.Ground)) {
+				bs.SenseRef, bs.SenseOhms = r.Ref, r.Value
+			}
+		}
+		out = append(out, bs)
+	}
+	return out
+}
+
+// resistiveReach returns the nets reached from a net through resistors
+// and pots without passing through chassis, and the first pot met.
+func resistiveReach(d *design.Design, from string) (map[string]bool, string) {
+	seen := map[string]bool{from: true}
+	queue := []string{from}
+	pot := ""
+	for len(queue) > 0 {
+		n := queue[0]
+		queue = queue[1:]
+		for _, u := range d.Nets[n] {
+			p := d.ByRef[u.Ref]
+			if p == nil || (p.Kind != design.Resistor && p.Kind != design.Pot) {
+				continue
+			}
+			if p.Kind == design.Pot && pot == "" {
+				pot = p.Ref
+			}
+			for _, t := range p.Terminals {
+				if t.Net != d.Ground && !seen[t.Net] {
+					seen[t.Net] = true
+					queue = append(queue, t.Net)
+				}
+			}
+		}
+	}
+	return seen, pot
+}
+
+// biasBand is the target idle reading of a fixed-bias output valve: the
+// cathode current for BiasLow…BiasHigh of its rated plate dissipation at
+// its plate-to-cathode volts (measured when the plate has been read,
+// else the model's), the screen current added in the model's ratio
+// Ig2/Ia, times the sense resistance for a volts reading.
+func (b *BenchModel) biasBand(point string, readings []Reading) (Band, bool) {
+	rest := strings.TrimPrefix(point, biasPrefix)
+	ref, q, _ := strings.Cut(rest, " ")
+	var bs *BiasStage
+	for _, s := range b.BiasStages() {
+		if s.Ref == ref {
+			bs = &s
+			break
+		}
+	}
+	if bs == nil || bs.MaxWatts <= 0 {
+		return Band{}, false
+	}
+	s, err := b.Set(1, readings)
+	if err != nil {
+		return Band{}, false
+	}
+	op := s.NominalOP.Sections[bs.Section]
+	va := op.Va - op.Vk
+	src := "the model's plate volts"
+	plateKey := fmt.Sprintf("%s.%d dc_volts", ref, bs.PlatePin)
+	for _, r := range readings {
+		if r.Point == plateKey && r.Status != Retry && r.Value > 50 {
+			va = r.Value - op.Vk
+			src = "the plate volts you measured"
+		}
+	}
+	if va <= 0 {
+		return Band{}, false
+	}
+	ratio := 1.0
+	if op.Ia > 0 {
+		ratio += op.Ig2 / op.Ia
+	}
+	scale := ratio
+	if q == "dc_volts" {
+		if bs.SenseOhms <= 0 {
+			return Band{}, false
+		}
+		scale *= bs.SenseOhms
+	}
+	at := func(f float64) float64 { return f * bs.MaxWatts / va * scale }
+	note := fmt.Sprintf("idle plate current for %.0f %% of the %s plate rating (%.0f W) at %s (%s), screen current added (common practice: %.0f–%.0f %% for class AB push-pull)",
+		100*BiasTarget, b.M.Sections[bs.Section].Type.Name, bs.MaxWatts, units.Format(va, units.Volts), src, 100*BiasLow, 100*BiasHigh)
+	return Band{Nominal: at(BiasTarget), Low: at(BiasLow), High: at(BiasHigh), Note: note}, true
+}

@@ -1,0 +1,524 @@
+package procedures
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"pinwalk/expect/amp"
+	"pinwalk/expect/bands"
+	"pinwalk/expect/cold"
+	"pinwalk/expect/design"
+	"pinwalk/expect/units"
+	"pinwalk/expect/valves"
+)
+
+// Step ids of the fixed steps.
+const (
+	StepBriefing = "briefing"
+	StepMeter    = "meter-proof"
+	StepEarth    = "earth"
+	StepHeaters  = "heaters"
+	StepMains    = "mains"
+	StepSupply   = "supply"
+	StepSummary  = "summary"
+)
+
+// meterRatings are common meter voltage ratings, volts.
+var meterRatings = []float64{600, 1000, 1500}
+
+// MeterRating returns the smallest common meter voltage rating above the
+// highest voltage in the amp, with 10 % margin (common practice).
+func MeterRating(highest float64) float64 {
+	for _, r := range meterRatings {
+		if r >= 1.1*highest {
+			return r
+		}
+	}
+	return math.Ceil(1.1*highest/500) * 500
+}
+
+// safetySteps returns the briefing, meter proof, discharge and earth steps
+// shared by every procedure, and the ids a live step must wait for.
+func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
+	hi := b.HighestVolts()
+	rating := MeterRating(hi)
+	brief := &Step{ID: StepBriefing, Kind: KindBriefing, Safety: true,
+		Title: "Safety briefing",
+		Instruction: fmt.Sprintf("This amplifier holds lethal voltages: up to %s at switch-on (the cold-start peak at high mains), and its filter capacitors keep their charge after power-off. "+
+			"Work with one hand (the other away from the chassis), with insulated, shrouded probes (IEC/EN 61010-031; GS38 tips) and a meter rated CAT II or better for at least %s (above %s, including the cold-start peak). "+
+			"These steps do not replace training: defer to local codes and licensed practice. Confirm when you have read this.",
+			units.Format(hi, units.Volts), units.Format(rating, units.Volts), units.Format(hi, units.Volts)),
+		Cautions: []string{LiveCaution},
+		Why:      "Most bench accidents happen on the first touch of a charged capacitor or a live chassis; the meter and probes must outrate the highest voltage present, which is the switch-on peak before the valves warm up, not the running B+.",
+	}
+	meter := &Step{ID: StepMeter, Kind: KindMeter, Safety: true, Gate: []string{StepBriefing},
+		Title:       "Prove the meter",
+		Instruction: "Check the meter on a known source (a proving unit, or a known live supply) on the DC volts range, and check the leads for continuity. Confirm when it reads correctly.",
+		Why:         "A meter with a blown fuse or a broken lead reads 0 V on a charged capacitor: prove it works before trusting a reading of \"safe\" (prove–test–prove, common practice).",
+	}
+	steps = append(steps, brief, meter)
+	gate = []string{StepBriefing, StepMeter}
+	for _, dr := range b.Drain {
+		st := &Step{ID: "discharge-" + dr.Ref, Kind: KindDischarge, Safety: true, Gate: []string{StepMeter},
+			Title: fmt.Sprintf("Discharge and verify %s (%s on %s)", dr.Ref, units.Format(dr.Farads, units.Farads), dr.Net),
+			Instruction: fmt.Sprintf("Unplugged: discharge %s through a resistor tool, then measure DC volts across it (%s to chassis). It must read below %g V before you touch anything; %g V DC is the hazardous-live level (IEC 60065). %s",
+				dr.Ref, dr.Net, cold.TouchVolts, cold.HazardVolts, dischargeNote(dr)),
+			Cautions: []string{UnpluggedCaution, DischargeCaution},
+			Measures: []Measure{{Point: DischargeKey(dr.Ref), Label: dr.Ref + " volts after discharge", Function: FuncDCV,
+				Range: rangeFor(math.Abs(dr.PeakVolts), "V DC"), Probes: fmt.Sprintf("red on %s (%s), black on chassis", dr.Net, dr.Ref), Unit: "V"}},
+			Why: fmt.Sprintf("%s can hold %s after power-off; its bleed path takes %s to fall below %g V, and a bleeder can fail open: only a meter reading proves it is safe.",
+				dr.Ref, units.Format(math.Abs(dr.PeakVolts), units.Volts), fmtDur(dr.To10), cold.TouchVolts),
+		}
+		if dr.NoPath || dr.Warning != "" {
+			st.Cautions = append([]string{strings.ToUpper(dr.Warning[:1]) + dr.Warning[1:]}, st.Cautions...)
+		}
+		steps = append(steps, st)
+		gate = append(gate, st.ID)
+	}
+	// Other large capacitors to chassis that may hold B+ (a supply's
+	// decoupling after a resistor): verified too, without a bleed time.
+	inDrain := map[string]bool{}
+	for _, dr := range b.Drain {
+		inDrain[dr.Ref] = true
+	}
+	for _, c := range b.D.PartsOfKind(design.Capacitor) {
+		a, z := c.Terminals[0].Net, c.Terminals[1].Net
+		if inDrain[c.Ref] || c.Value < 1e-6 || (c.Volts > 0 && c.Volts < 100) || (a != b.D.Ground && z != b.D.Ground) {
+			continue
+		}
+		net := a
+		if a == b.D.Ground {
+			net = z
+		}
+		st := &Step{ID: "discharge-" + c.Ref, Kind: KindDischarge, Safety: true, Gate: []string{StepMeter},
+			Title: fmt.Sprintf("Discharge and verify %s (%s on %s)", c.Ref, units.Format(c.Value, units.Farads), net),
+			Instruction: fmt.Sprintf("Unplugged: discharge %s through a resistor tool, then measure DC volts across it (%s to chassis). It must read below %g V before you touch anything; %g V DC is the hazardous-live level (IEC 60065).",
+				c.Ref, net, cold.TouchVolts, cold.HazardVolts),
+			Cautions: []string{UnpluggedCaution, DischargeCaution},
+			Measures: []Measure{{Point: DischargeKey(c.Ref), Label: c.Ref + " volts after discharge", Function: FuncDCV,
+				Range: rangeFor(c.Volts, "V DC"), Probes: fmt.Sprintf("red on %s (%s), black on chassis", net, c.Ref), Unit: "V"}},
+			Why: fmt.Sprintf("%s is rated %s and can hold a charge after power-off; only a meter reading proves it is safe.", c.Ref, units.Format(c.Volts, units.Volts)),
+		}
+		steps = append(steps, st)
+		gate = append(gate, st.ID)
+	}
+	if len(gate) == 2 {
+		// No capacitor to discharge: verify the supply nets are dead.
+		st := &Step{ID: "discharge-verify", Kind: KindDischarge, Safety: true, Gate: []string{StepMeter},
+			Title:       "Verify the amp is dead",
+			Instruction: fmt.Sprintf("Unplugged: measure DC volts from each supply net to chassis; every one must read below %g V before you touch anything. Enter the highest reading.", cold.TouchVolts),
+			Cautions:    []string{UnpluggedCaution, DischargeCaution},
+			Measures:    []Measure{{Point: DischargeKey("supply"), Label: "highest supply net volts", Function: FuncDCV, Range: "1000 V DC", Probes: "red on each supply net in turn, black on chassis", Unit: "V"}},
+			Why:         "Any stored charge or a supply left connected shows here; prove it dead before touching.",
+		}
+		steps = append(steps, st)
+		gate = append(gate, st.ID)
+	}
+	earth := &Step{ID: StepEarth, Kind: KindEarth, Safety: true, Gate: []string{StepMeter},
+		Title: "Mains earth to chassis continuity",
+		Instruction: fmt.Sprintf("Unplugged, power switch on: null the meter leads, then measure from the mains plug's earth pin to bare chassis metal (and to any exposed metal part). Expect well under %g Ω. "+
+			"If the amp has no mains earth (a bench-supplied stage), measure the bench supply's earth to the chassis, or skip with that reason.", EarthMaxOhms),
+		Cautions: []string{UnpluggedCaution, EarthCaution},
+		Measures: []Measure{{Point: EarthKey, Label: "earth pin to chassis", Function: FuncOhms, Range: "200 Ω", Probes: "one lead on the plug's earth pin, the other on bare chassis metal", Unit: "Ω"}},
+		Why:      "The earth bond is what blows the fuse instead of electrifying the chassis when a live wire touches it. A poor bond (paint under the lug, a loose nut) reads ohms, not milliohms.",
+	}
+	steps = append(steps, earth)
+	gate = append(gate, StepEarth)
+	return steps, gate
+}
+
+// rangeFor suggests a meter range for a value.
+func rangeFor(v float64, unit string) string {
+	for _, r := range []float64{2, 20, 200, 600, 1000} {
+		if v <= 0.9*r {
+			return fmt.Sprintf("%g %s", r, unit)
+		}
+	}
+	return "1000 " + unit + " (or above: check the meter's rating)"
+}
+
+// coldSteps groups the cold checks by kind.
+func coldSteps(b *BenchModel, gate []string) []*Step {
+	groups := []struct{ kind, title, why string }{
+		{"b+", "B+ nets", "A short or a leaky capacitor on a B+ net shows as a low resistance now, before power can burn anything; the bleeder sets the expected value."},
+		{"bias", "bias supply", "The bias network must be intact before power: an open bias pot or resistor leaves the output valves with no negative grid volts, and they run away."},
+		{"plate", "plates", "Each plate should see its load resistor or transformer winding to B+ and on through the bleeder: an open load reads high."},
+		{"screen", "screens", "Screens see their stopper to B+; an open stopper reads high."},
+		{"grid", "grids", "Each grid should see its grid leak; an open leak reads very high and the valve would run away when powered."},
+		{"cathode", "cathodes", "Cathode resistors and sense resistors read directly: a shorted bypass capacitor reads near 0 Ω."},
+		{"net", "other nets", "Every other DC net, for completeness."},
+		{"winding", "windings", "Transformer and choke windings: an open winding reads OL, a shorted turn barely shows here (compare the halves of a centre-tapped winding)."},
+	}
+	var out []*Step
+	for _, g := range groups {
+		var ms []Measure
+		for _, c := range b.Cold {
+			if c.Kind != g.kind {
+				continue
+			}
+			ms = append(ms, Measure{Point: ColdKey(c), Label: c.ID + " resistance", Function: FuncOhms,
+				Range: ohmsRange(c), Probes: fmt.Sprintf("red on %s, black on %s", c.From, c.To), Unit: "Ω"})
+		}
+		if len(ms) == 0 {
+			continue
+		}
+		out = append(out, &Step{ID: "cold-" + g.kind, Kind: KindCold, Gate: gate,
+			Title:       "Cold resistance: " + g.title,
+			Instruction: "Unplugged and discharged, valves out of their sockets (a valve rectifier too): measure each resistance. Readings may climb while the meter charges the filter capacitors: wait for them to settle.",
+			Cautions:    []string{UnpluggedCaution},
+			Measures:    ms, Why: g.why})
+	}
+	return out
+}
+
+func ohmsRange(c cold.Check) string {
+	if c.Open {
+		return "top resistance range"
+	}
+	for _, r := range []float64{200, 2e3, 20e3, 200e3, 2e6, 20e6} {
+		if c.Tol[1] <= 0.9*r {
+			return units.Format(r, units.Ohms)
+		}
+	}
+	return "top resistance range"
+}
+
+// pointMeasure builds a measure for a model point.
+func pointMeasure(pd amp.PointDef, bandHigh float64) Measure {
+	label := pd.Label
+	probe := "red on net " + pd.Net
+	if pd.Valve != "" {
+		label += " (from below)"
+		probe = fmt.Sprintf("red on %s pin %d (socket viewed from below)", pd.Valve, pd.Pin)
+	}
+	m := Measure{Point: pd.Key(), Label: label, Probes: probe + ", black on chassis"}
+	switch pd.Quantity {
+	case amp.DCVolts:
+		m.Function, m.Unit, m.Range = FuncDCV, "V", rangeFor(math.Abs(bandHigh), "V DC")
+	case amp.ACVolts:
+		m.Function, m.Unit, m.Range = FuncACV, "V", rangeFor(math.Abs(bandHigh), "V AC")
+		if pd.Electrode == valves.Heater {
+			m.Probes = fmt.Sprintf("across the heater pins of %s (from below): %s", pd.Valve, strings.TrimPrefix(pd.Label, pd.Valve+" heater, "))
+		}
+	case amp.DCAmps:
+		m.Function, m.Unit, m.Range = FuncDCA, "A", "200 mA DC"
+	}
+	return m
+}
+
+// BringUpProcedure generates the bring-up procedure of a design: briefing, meter
+// proof, discharge and earth checks, cold resistances, heaters, the
+// variac ramp, live DC checks from the supply outwards, bias setting for
+// fixed-bias output valves, summary.
+func BringUpProcedure(b *BenchModel) (*Procedure, error) {
+	p := &Procedure{Mode: BringUp, Title: "Bring-up: " + b.D.Title}
+	safe, gate := safetySteps(b)
+	p.Steps = append(p.Steps, safe...)
+	cs := coldSteps(b, gate)
+	p.Steps = append(p.Steps, cs...)
+	liveGate := append([]string(nil), gate...)
+	for _, c := range cs {
+		liveGate = append(liveGate, c.ID)
+	}
+	live, err := liveSteps(b, liveGate, true)
+	if err != nil {
+		return nil, err
+	}
+	p.Steps = append(p.Steps, live...)
+	p.Steps = append(p.Steps, summaryStep())
+	return p, nil
+}
+
+func summaryStep() *Step {
+	return &Step{ID: StepSummary, Kind: KindSummary, Title: "Summary",
+		Instruction: "Switch off, unplug and let the capacitors bleed down. Review the readings below; confirm to finish.",
+		Why:         "The summary is the record: every reading against its band, and every safety step skipped with its reason."}
+}
+
+// heaterPoints returns the heater AC-volts points, one per valve.
+func heaterPoints(pts []amp.PointDef) []amp.PointDef {
+	var out []amp.PointDef
+	for _, pd := range pts {
+		if pd.Quantity == amp.ACVolts && pd.Electrode == valves.Heater {
+			out = append(out, pd)
+		}
+	}
+	return out
+}
+
+// supplyNets returns the B+ nets in order: HT filter nets, then bias and
+// bench supply outputs.
+func supplyNets(b *BenchModel) []string {
+	var out []string
+	if b.M.HT != nil {
+		out = append(out, b.M.HT.Nets...)
+	}
+	for _, p := range b.D.Parts {
+		if p.Kind == design.BiasSupply || p.Kind == design.DCSupply {
+			out = append(out, p.Terminals[0].Net)
+		}
+	}
+	return out
+}
+
+// valveRectifier returns the HT valve rectifier, or nil.
+func (b *BenchModel) valveRectifier() *design.Part {
+	if b.M.HT != nil && b.M.HT.Rectifier != nil && b.M.HT.Rectifier.Kind == design.Valve {
+		return b.M.HT.Rectifier
+	}
+	return nil
+}
+
+// liveSteps: heaters, variac ramp, supply, valves, bias. With ramp false
+// (fault-finding) the heater step is left out and the ramp is one step.
+func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
+	set, err := b.Set(1, nil)
+	if err != nil {
+		return nil, err
+	}
+	has := func(key string) (float64, bool) {
+		i, ok := set.Index(key)
+		if !ok {
+			return 0, false
+		}
+		return set.Band(i).High, true
+	}
+	pts := b.M.Points()
+	byKey := map[string]amp.PointDef{}
+	for _, pd := range pts {
+		byKey[pd.Key()] = pd
+	}
+	liveC := []string{LiveCaution, VariacCaution}
+	var out []*Step
+	heaters := heaterPoints(pts)
+	firstNet := ""
+	if nets := supplyNets(b); len(nets) > 0 {
+		firstNet = nets[0] + " " + amp.DCVolts
+	}
+	prev := ""
+	if ramp && len(heaters) > 0 {
+		st := &Step{ID: StepHeaters, Kind: KindHeaters, Live: true, Variac: 1, Gate: gate, Cautions: liveC,
+			Title:  "Heaters first",
+			Why:    "Heaters are checked before B+ so that a wiring error on the heater winding shows before any HT flows; a cathode heated before B+ is applied also avoids stripping it (common practice).",
+			StopIf: []string{"the series lamp stays bright", "a heater reads far outside its band", "smoke, a smell of hot varnish, or the fuse blows"}}
+		if r := b.valveRectifier(); r != nil {
+			st.Instruction = fmt.Sprintf("Pull the rectifier valve %s (%s) so no HT can come up. Fit every other valve. Plug in through the variac and series lamp, bring the variac up to 100 %% and measure each heater's AC volts at the socket.", r.Ref, r.Valve.Type.Name)
+		} else if b.M.HT != nil {
+			st.Instruction = "This amp has a silicon rectifier: if you can, keep HT off for this step by lifting the HT winding's centre-tap lead or the rectifier's output (unplugged and discharged first). If you cannot, go on: B+ will come up with the heaters, so treat the whole amp as fully live. Fit every valve, bring the variac up to 100 % and measure each heater's AC volts at the socket."
+		} else {
+			st.Instruction = "Leave the bench HT supply off. Bring the variac up to 100 % and measure each heater's AC volts at the socket."
+		}
+		for _, pd := range heaters {
+			hi, ok := has(pd.Key())
+			if ok {
+				st.Measures = append(st.Measures, pointMeasure(pd, hi))
+			}
+		}
+		st.Instruction += " Heater volts within ±10 % of rated are normal (common practice); with the rectifier out they read a little high."
+		if len(st.Measures) > 0 {
+			out = append(out, st)
+			prev = st.ID
+		}
+	}
+	settings := bands.VariacSettings
+	if !ramp {
+		settings = []float64{1}
+	}
+	for _, f := range settings {
+		g := append([]string(nil), gate...)
+		if prev != "" {
+			g = append(g, prev)
+		}
+		st := &Step{ID: fmt.Sprintf("variac-%.0f", 100*f), Kind: KindVariac, Live: true, Variac: f, Gate: g, Cautions: liveC,
+			Title: fmt.Sprintf("Variac to %.0f %%", 100*f),
+			StopIf: []string{"B+ above its band (the valves are not conducting, or the bleeder is open)", "B+ far below its band, or the series lamp glows bright and stays bright (a short or a heavy load)",
+				"a plate glows red", "smoke, arcing, a smell of hot varnish, or the fuse blows"},
+			Why: "Raising the mains in steps limits the damage a fault can do and lets electrolytics that have stood a long time re-form; the expected B+ at each step tells a healthy supply from a shorted or open one."}
+		if f == 1 && !ramp {
+			st.ID, st.Kind, st.Title = "power-up", KindPowerUp, "Power up on the variac"
+		}
+		if r := b.valveRectifier(); r != nil && ramp && f == settings[0] {
+			st.Instruction = fmt.Sprintf("Switch off and refit the rectifier %s. ", r.Ref)
+		}
+		st.Instruction += fmt.Sprintf("Set the variac to %.0f %% of the mains, wait a minute for the heaters, watch the series lamp, and measure:", 100*f)
+		if !ramp {
+			st.Instruction = "Plug in through the variac and series lamp and bring it up slowly (25 %, 50 %, 75 %, 100 %), watching the lamp and B+. At 100 % measure:"
+		}
+		if firstNet != "" {
+			if hi, ok := has(firstNet); ok {
+				st.Measures = append(st.Measures, pointMeasure(byKey[firstNet], hi))
+			}
+		}
+		if len(heaters) > 0 {
+			if hi, ok := has(heaters[0].Key()); ok {
+				st.Measures = append(st.Measures, pointMeasure(heaters[0], hi))
+			}
+		}
+		if len(st.Measures) == 0 {
+			continue
+		}
+		out = append(out, st)
+		prev = st.ID
+	}
+	if !ramp {
+		return out, nil
+	}
+	g := append(append([]string(nil), gate...), prev)
+	sup := &Step{ID: StepSupply, Kind: KindLive, Live: true, Variac: 1, Gate: g, Cautions: liveC,
+		Title:       "Supply nets at full mains",
+		Instruction: "At 100 % mains, measure each B+ and supply net from the rectifier outwards.",
+		Why:         "Each filter stage drops a little more B+; the drop across each series part is its current times its resistance, so a wrong step points at the stage that draws too much or too little.",
+		StopIf:      []string{"a net far outside its band", "a resistor or the choke running hot"}}
+	for _, n := range supplyNets(b) {
+		k := n + " " + amp.DCVolts
+		if hi, ok := has(k); ok {
+			sup.Measures = append(sup.Measures, pointMeasure(byKey[k], hi))
+		}
+	}
+	if len(sup.Measures) > 0 {
+		out = append(out, sup)
+		prev = sup.ID
+	}
+	valveGate := append(append([]string(nil), gate...), prev)
+	stepOf := map[string]string{}
+	for _, v := range valveOrder(b) {
+		st := &Step{ID: "valve-" + v.Ref, Kind: KindLive, Live: true, Variac: 1, Gate: valveGate, Cautions: liveC,
+			Title:       fmt.Sprintf("%s (%s): DC volts", v.Ref, v.Valve.Type.Name),
+			Instruction: fmt.Sprintf("At 100 %% mains, measure %s's electrodes to chassis, one pin at a time (pins counted clockwise from the key, socket viewed from below).", v.Ref),
+			Why:         "Plate, screen, cathode and grid volts together give the valve's operating point: a low plate with a high cathode means heavy current, a high plate with 0 V cathode means no current (an open cathode path, a dead valve, or no heater).",
+			StopIf:      []string{"a plate glows red", "a positive grid on a valve whose grid should sit at 0 V (a leaky coupling capacitor)"}}
+		for _, pd := range pts {
+			if pd.Valve != v.Ref || pd.Quantity != amp.DCVolts || pd.Net == b.D.Ground {
+				continue
+			}
+			switch pd.Electrode {
+			case valves.Plate, valves.Screen, valves.Cathode, valves.Grid:
+			default:
+				continue
+			}
+			if hi, ok := has(pd.Key()); ok {
+				st.Measures = append(st.Measures, pointMeasure(pd, hi))
+			}
+		}
+		if len(st.Measures) > 0 {
+			out = append(out, st)
+			stepOf[v.Ref] = st.ID
+		}
+	}
+	for _, bs := range b.BiasStages() {
+		sense := bs.SenseRef != ""
+		key := BiasKey(bs.Ref, sense)
+		bd, ok := b.Expect(key, 1, nil)
+		if !ok {
+			continue
+		}
+		g := append([]string(nil), valveGate...)
+		if id := stepOf[bs.Ref]; id != "" {
+			g = append(g, id)
+		}
+		m := Measure{Point: key, Label: bs.Ref + " idle current", Function: FuncDCA, Unit: "A", Range: "200 mA DC",
+			Probes: fmt.Sprintf("meter in series with %s's plate feed (or the transformer-shunt method)", bs.Ref)}
+		instr := fmt.Sprintf("Set %s's idle current with its bias control%s", bs.Ref, potName(bs.Pot))
+		if sense {
+			m = Measure{Point: key, Label: fmt.Sprintf("volts across %s (%s cathode sense)", bs.SenseRef, units.Format(bs.SenseOhms, units.Ohms)),
+				Function: FuncDCV, Unit: "V", Range: "2 V DC",
+				Probes: fmt.Sprintf("red on %s pin %d cathode (from below), black on chassis: across %s", bs.Ref, bs.CathodePin, bs.SenseRef)}
+			instr += fmt.Sprintf(": the cathode sense resistor %s (%s) turns the cathode current into volts, %g mV per mA", bs.SenseRef, units.Format(bs.SenseOhms, units.Ohms), bs.SenseOhms)
+		}
+		instr += fmt.Sprintf(". Target %s (%.0f %% of the plate rating), within %s – %s. Start from the most negative grid bias (least current), adjust slowly, let it settle for a few minutes, then enter the final reading.",
+			fmtBand(bd.Nominal, m.Unit), 100*BiasTarget, fmtBand(bd.Low, m.Unit), fmtBand(bd.High, m.Unit))
+		out = append(out, &Step{ID: "bias-" + bs.Ref, Kind: KindBias, Live: true, Variac: 1, Gate: g, Cautions: liveC,
+			Title: fmt.Sprintf("Set the bias of %s", bs.Ref), Instruction: instr, Measures: []Measure{m},
+			StopIf: []string{"the current keeps climbing (thermal runaway)", "a plate glows red", "the bias control has no effect (an open bias path)"},
+			Why:    "A fixed-bias output valve's idle current is set, not self-regulated: too little gives crossover distortion, too much overheats the plate. 60–70 % of the rated plate dissipation at idle is the usual class AB setting (common practice)."})
+	}
+	return out, nil
+}
+
+func potName(pot string) string {
+	if pot == "" {
+		return ""
+	}
+	return " (" + pot + ")"
+}
+
+func fmtBand(v float64, unit string) string {
+	switch unit {
+	case "A":
+		return units.Format(v, units.Amps)
+	case "Ω":
+		if math.IsInf(v, 1) {
+			return "open"
+		}
+		return units.Format(v, units.Ohms)
+	}
+	return units.Format(v, units.Volts)
+}
+
+// valveOrder returns the amplifying valves from the supply outwards: by
+// the stage of the HT filter nearest to their plates (through resistors,
+// chokes and transformer windings), then in design order.
+func valveOrder(b *BenchModel) []*design.Part {
+	stage := map[string]int{}
+	for i, n := range supplyNets(b) {
+		if _, ok := stage[n]; !ok {
+			stage[n] = i
+		}
+	}
+	d := b.D
+	nearest := func(from string) int {
+		seen := map[string]bool{from: true}
+		q := []string{from}
+		for len(q) > 0 {
+			n := q[0]
+			q = q[1:]
+			if s, ok := stage[n]; ok {
+				return s
+			}
+			for _, u := range d.Nets[n] {
+				p := d.ByRef[u.Ref]
+				if p == nil {
+					continue
+				}
+				switch p.Kind {
+				case design.Resistor, design.Choke, design.OutputTransformer, design.Pot:
+				default:
+					continue
+				}
+				for _, t := range p.Terminals {
+					if t.Net != d.Ground && !seen[t.Net] {
+						seen[t.Net] = true
+						q = append(q, t.Net)
+					}
+				}
+			}
+		}
+		return 1 << 20
+	}
+	type vo struct {
+		p     *design.Part
+		stage int
+		i     int
+	}
+	var vs []vo
+	for i, p := range d.Valves() {
+		if p.Valve.Type.Kind == valves.Rectifier {
+			continue
+		}
+		best := 1 << 20
+		for _, e := range p.Valve.Sections {
+			if n := e[valves.Plate]; n != "" {
+				best = min(best, nearest(n))
+			}
+		}
+		vs = append(vs, vo{p, best, i})
+	}
+	sort.SliceStable(vs, func(a, c int) bool { return vs[a].stage < vs[c].stage })
+	out := make([]*design.Part, len(vs))
+	for i, v := range vs {
+		out[i] = v.p
+	}
+	return out
+}
