@@ -1,0 +1,200 @@
+package cold
+
+import (
+	"math"
+
+	"pinwalk/expect/amp"
+	"pinwalk/expect/design"
+	"pinwalk/expect/faults"
+	"pinwalk/expect/valves"
+)
+
+// shortOhms stands for a short in the cold network (a solder bridge or a
+// shorted capacitor): small but finite, so the nodal matrix stays regular.
+const shortOhms = 1e-3
+
+// FaultChecks returns the cold checks of a design with one fault in place:
+// the readings of base (Checks(d), same order, IDs, leads and notes) with
+// Ohms, Tol and Open recomputed on the faulted network. changed is false
+// when the fault leaves the cold network as it is (a valve, a rectifier, a
+// supply gone dead, an open capacitor): base is then returned unchanged.
+// m is d compiled by amp.Build (for the HT winding and heater windings).
+//
+// What a fault does cold: a resistor open loses its element, short is
+// 1 mΩ, high multiplies it by faults.HighFactor; a pot with its wiper
+// open loses both halves; a shorted capacitor is 1 mΩ across it, a leaky
+// one its leakage resistance (faults.LeakyElectrolyticOhms or
+// faults.LeakyFilmOhms); a choke open loses its winding; an output
+// transformer "OT1.a"/"OT1.b" loses one half, a push-pull "OT1" open (the
+// centre-tap lead) parts the centre tap from both halves, a single-ended
+// one loses its primary; a power transformer open loses the HT winding,
+// heater-open the heater windings feeding amplifying valves; a fuse open
+// loses its 0 Ω link. The tolerance corners stay exact bounds (Rayleigh's
+// monotonicity, see resistance): the fault's own element has no tolerance.
+func FaultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault) (out []Check, changed bool, err error) {
+	if err := faults.Check(m, f); err != nil {
+		return nil, false, err
+	}
+	n := buildNetwork(d)
+	if !alterNetwork(n, m, f) {
+		return base, false, nil
+	}
+	n.adj = map[string][]int{}
+	for i, e := range n.edges {
+		n.adj[e.a] = append(n.adj[e.a], i)
+		n.adj[e.b] = append(n.adj[e.b], i)
+	}
+	out = make([]Check, len(base))
+	for i, c := range base {
+		out[i] = c
+		r, open, err := n.resistance(c.From, c.To, 0)
+		if err != nil {
+			return nil, true, err
+		}
+		if open {
+			out[i].Ohms, out[i].Open = math.Inf(1), true
+			out[i].Tol = [2]float64{math.Inf(1), math.Inf(1)}
+			continue
+		}
+		lo, _, err := n.resistance(c.From, c.To, -1)
+		if err != nil {
+			return nil, true, err
+		}
+		hi, _, err := n.resistance(c.From, c.To, 1)
+		if err != nil {
+			return nil, true, err
+		}
+		out[i].Ohms, out[i].Open, out[i].Tol = r, false, [2]float64{lo, hi}
+	}
+	return out, true, nil
+}
+
+// alterNetwork puts a fault into the cold network's edges and reports
+// whether anything changed (adjacency is left for the caller to rebuild).
+func alterNetwork(n *network, m *amp.Model, f faults.Fault) bool {
+	d := n.d
+	ref, half := f.Ref, ""
+	if d.ByRef[ref] == nil {
+		for _, h := range []string{"a", "b"} {
+			if len(ref) > 2 && ref[len(ref)-2:] == "."+h && d.ByRef[ref[:len(ref)-2]] != nil {
+				ref, half = ref[:len(ref)-2], h
+			}
+		}
+	}
+	p := d.ByRef[ref]
+	if p == nil {
+		return false
+	}
+	var keep []edge
+	changed := false
+	drop := func(match func(e edge) bool) {
+		keep = keep[:0]
+		for _, e := range n.edges {
+			if match(e) {
+				changed = true
+				continue
+			}
+			keep = append(keep, e)
+		}
+		n.edges = append([]edge(nil), keep...)
+	}
+	mine := func(e edge) bool { return e.ref == p.Ref }
+	between := func(a, b string) func(e edge) bool {
+		return func(e edge) bool {
+			return e.ref == p.Ref && ((e.a == a && e.b == b) || (e.a == b && e.b == a))
+		}
+	}
+	switch p.Kind {
+	case design.Resistor:
+		switch f.Mode {
+		case faults.Open:
+			drop(mine)
+		case faults.Short, faults.High:
+			for i := range n.edges {
+				if mine(n.edges[i]) {
+					changed = true
+					if f.Mode == faults.Short {
+						n.edges[i].ohms, n.edges[i].tol = shortOhms, design.Tolerance{}
+					} else {
+						n.edges[i].ohms *= faults.HighFactor
+					}
+				}
+			}
+		}
+	case design.Pot, design.Choke, design.Fuse:
+		if f.Mode == faults.Open {
+			drop(mine)
+		}
+	case design.Capacitor:
+		a, b := p.Terminals[0].Net, p.Terminals[1].Net
+		switch f.Mode {
+		case faults.Short:
+			n.edges = append(n.edges, edge{a: a, b: b, ohms: shortOhms, ref: p.Ref})
+			changed = true
+		case faults.Leaky:
+			r := faults.LeakyFilmOhms
+			if p.Material == "electrolytic" {
+				r = faults.LeakyElectrolyticOhms
+			}
+			n.edges = append(n.edges, edge{a: a, b: b, ohms: r, ref: p.Ref})
+			changed = true
+		}
+	case design.OutputTransformer:
+		ot := p.OT
+		switch {
+		case half == "a":
+			drop(between(ot.Centre, ot.Ends[0]))
+		case half == "b":
+			drop(between(ot.Centre, ot.Ends[1]))
+		case ot.Centre == "":
+			drop(mine)
+		default:
+			// The centre-tap lead open: both halves stay joined end to
+			// end, parted from the centre-tap net.
+			lead := p.Ref + "~centre-tap"
+			for i := range n.edges {
+				e := &n.edges[i]
+				if e.ref != p.Ref {
+					continue
+				}
+				if e.a == ot.Centre {
+					e.a, changed = lead, true
+				} else if e.b == ot.Centre {
+					e.b, changed = lead, true
+				}
+			}
+		}
+	case design.PowerTransformer:
+		var ws []*design.Winding
+		switch f.Mode {
+		case faults.Open:
+			if m.HT != nil && m.HT.Winding != nil {
+				ws = append(ws, m.HT.Winding)
+			}
+		case faults.HeaterOpen:
+			seen := map[*design.Winding]bool{}
+			for _, h := range m.Heaters {
+				if h.Transformer == p.PT && h.Winding != nil && !seen[h.Winding] && amplifying(d, h.Ref) {
+					seen[h.Winding] = true
+					ws = append(ws, h.Winding)
+				}
+			}
+		}
+		for _, w := range ws {
+			if w.Centre != "" {
+				drop(between(w.Centre, w.Ends[0]))
+				drop(between(w.Centre, w.Ends[1]))
+			} else {
+				drop(between(w.Ends[0], w.Ends[1]))
+			}
+		}
+	}
+	return changed
+}
+
+// amplifying reports whether a valve reference is an amplifying valve
+// (not a rectifier).
+func amplifying(d *design.Design, ref string) bool {
+	p := d.ByRef[ref]
+	return p != nil && p.Valve != nil && p.Valve.Type.Kind != valves.Rectifier
+}

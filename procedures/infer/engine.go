@@ -1,0 +1,641 @@
+// Package infer ranks the likely faults of an amplifier from the readings
+// a technician has taken, and says which reading to take next.
+//
+// It is model-based diagnosis in the manner of J. de Kleer and B. C.
+// Williams, "Diagnosing multiple faults", Artificial Intelligence 32
+// (1987) 97–130: every hypothesis (healthy, or one part failed in one
+// mode, see expect/faults) predicts what each point reads; Bayes' rule,
+// p(h | readings) ∝ p(readings | h)·p(h), turns readings into a
+// posterior; the next measurement is the one whose reading is expected to
+// reduce the entropy of the posterior most (the mutual information
+// between hypothesis and reading), per unit of effort.
+//
+// Predictions are not single numbers: each hypothesis has a cloud of
+// Monte Carlo samples of every part within its tolerance, the mains and
+// valve-to-valve spread (expect/bands) with the fault applied on top, at
+// every DC point of amp.Model.Points and at the cold resistance points of
+// expect/cold under the fault. A reading's likelihood under a hypothesis
+// is the mean over its samples of a Gaussian kernel whose σ combines the
+// meter's accuracy and the model's own error (bands.Sigma), with a small
+// outlier floor so that one slightly-off reading never rules a hypothesis
+// out entirely.
+package infer
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"sort"
+	"strings"
+	"sync"
+
+	"pinwalk/expect/amp"
+	"pinwalk/expect/bands"
+	"pinwalk/expect/cold"
+	"pinwalk/expect/design"
+	"pinwalk/expect/faults"
+	"pinwalk/expect/valves"
+)
+
+// Options configure an Engine.
+type Options struct {
+	// Samples per hypothesis (tolerance cloud); 0 means DefaultSamples.
+	Samples int
+	// Seed of the tolerance samples: the same seed gives the same ranking.
+	Seed uint64
+	// Workers solving hypotheses in parallel; 0 means GOMAXPROCS.
+	Workers int
+	// Meter the DC readings are taken with (zero: bands.DefaultMeter);
+	// its accuracy sets the reading σ and its input resistance the
+	// loading applied to DC-volts predictions.
+	Meter bands.Meter
+	// Symptoms reported by the owner (see Symptoms); they shift the priors.
+	Symptoms []string
+	// Cond are the bench conditions of the live readings. A MainsVolts
+	// given here is taken as measured and not sampled.
+	Cond amp.Conditions
+}
+
+// DefaultSamples is the tolerance cloud size per hypothesis.
+const DefaultSamples = 200
+
+// Healthy is the name of the no-fault hypothesis.
+const Healthy = "healthy"
+
+// Likelihood constants (our choices).
+const (
+	// OutlierFloor is the probability that any one reading is an outlier
+	// (misread, wrong pin, a fault outside the model), spread uniformly
+	// over the point's plausible range: it keeps every hypothesis's
+	// likelihood above zero.
+	OutlierFloor = 0.02
+	// MisfitSigmas: the best hypothesis fits when, after conditioning on
+	// the readings, no reading lies further than this many σ from its
+	// prediction.
+	MisfitSigmas = 4.0
+	// KernelBandwidth smooths each hypothesis's cloud: every sample's
+	// kernel is widened by this fraction of the cloud's own spread at the
+	// point (kernel density estimation; Silverman's rule of thumb,
+	// (4/(d+2))^(1/(d+4))·n^(−1/(d+4)), gives 0.6–0.75 for n = 200 samples
+	// and d = 10–20 independently varying parts: B. W. Silverman, "Density
+	// Estimation for Statistics and Data Analysis", 1986, §4.3.2). Without
+	// it, a few hundred samples cannot cover a tolerance space of dozens of
+	// parts at the 2 % resolution of a reading, and the likelihood would
+	// rest on the one nearest sample.
+	KernelBandwidth = 0.6
+	// OpenOhms: a cold reading at or above this is "open" (over range on
+	// a typical meter's top resistance range, common practice: 40–60 MΩ).
+	OpenOhms = 60e6
+)
+
+// point is one measurable point of the engine: a DC point of the model
+// (index into the sample clouds) or a cold point.
+type point struct {
+	key      string
+	label    string
+	quantity string // amp quantity, or amp.Ohms for cold points
+	cold     bool
+	pulled   bool // needs a valve pulled (a valve's heater cold)
+	pd       amp.PointDef
+	ck       cold.Check
+	ratio    float64 // meter loading on DC volts: prediction·ratio + offset
+	offset   float64
+	width    float64 // background width (outlier floor density 1/width)
+}
+
+// coldPred is a hypothesis's cold reading: the tolerance corners, or open.
+type coldPred struct {
+	lo, nom, hi float64
+	open        bool
+}
+
+// hyp is one hypothesis with its precomputed predictions.
+type hyp struct {
+	name                     string // Healthy or "REF:mode"
+	label                    string
+	fault                    *faults.Fault
+	prior                    float64    // normalised, after symptoms
+	err                      error      // the nominal did not solve
+	n                        int        // samples in the cloud
+	failed                   int        // samples that did not converge
+	x                        []float64  // DC predictions, point-major: x[k*n+s]; NaN where the point is missing
+	valid                    []bool     // per DC point
+	bandLo, bandHi, mean, sd []float64  // per DC point: 2.5/97.5 percentiles, mean, sd
+	cold                     []coldPred // per cold point
+}
+
+// Engine holds the hypotheses and their predictions for one design, meter
+// and bench conditions. Rank may be called from several goroutines.
+type Engine struct {
+	d                 *design.Design
+	m                 *amp.Model
+	opt               Options
+	roles             map[string]map[string]bool
+	points            []point // DC points first (nDC of them), then cold points
+	nDC               int
+	index             map[string]int
+	hyps              []*hyp
+	byName            map[string]int
+	groupAll, groupDC []int // group leader per hypothesis
+
+	mu    sync.Mutex
+	cache *llCache
+	pairs map[string]*hyp
+}
+
+// New builds the hypotheses of a design and precomputes their sample
+// clouds: one full solve per hypothesis with its fault applied, then
+// opt.Samples fast solves on tolerance samples with the fault on top, on
+// opt.Workers goroutines. A hypothesis whose nominal does not solve stays
+// in the list with its error (Unsolved) and is never ranked; samples that
+// fail are counted (Failed). It fails only when the healthy amplifier
+// itself does not solve, or on an unknown symptom.
+func New(d *design.Design, opt Options) (*Engine, error) {
+	if err := checkSymptoms(opt.Symptoms); err != nil {
+		return nil, err
+	}
+	if opt.Samples <= 0 {
+		opt.Samples = DefaultSamples
+	}
+	if opt.Workers <= 0 {
+		opt.Workers = runtime.GOMAXPROCS(0)
+	}
+	if opt.Meter.InputOhms == 0 && opt.Meter.OhmsPerVolt == 0 {
+		opt.Meter = bands.DefaultMeter()
+	}
+	m, err := amp.Build(d)
+	if err != nil {
+		return nil, err
+	}
+	e := &Engine{d: d, m: m, opt: opt, index: map[string]int{}, byName: map[string]int{}, pairs: map[string]*hyp{}}
+
+	healthy, err := bands.Run(d, e.bandsOptions(nil, opt.Samples, opt.Seed, opt.Workers))
+	if err != nil {
+		return nil, fmt.Errorf("infer: the healthy amplifier does not solve: %w", err)
+	}
+	e.roles = partRoles(m, healthy.NominalOP)
+	loading, _ := healthy.Loading(opt.Meter)
+	load := map[string]bands.Loading{}
+	for _, l := range loading {
+		load[l.Key] = l
+	}
+	for _, pd := range m.Points() {
+		p := point{key: pd.Key(), label: pd.Label, quantity: pd.Quantity, pd: pd, ratio: 1}
+		if l, ok := load[p.key]; ok {
+			if math.Abs(l.Unloaded) > 0.5 {
+				p.ratio = l.Loaded / l.Unloaded
+			} else {
+				p.offset = l.Loaded - l.Unloaded
+			}
+		}
+		e.addPoint(p)
+	}
+	e.nDC = len(e.points)
+	checks, err := cold.Checks(d)
+	if err != nil {
+		return nil, fmt.Errorf("infer: cold checks: %w", err)
+	}
+	for _, c := range checks {
+		e.addPoint(point{key: ColdKey(c.ID), label: coldLabel(c), quantity: amp.Ohms, cold: true, ck: c})
+	}
+	for _, v := range d.Valves() {
+		if v.Valve.Type.Heater.Amps > 0 {
+			e.addPoint(point{key: ColdKey(v.Ref + " heater"), label: v.Ref + " heater, valve pulled (cold)",
+				quantity: amp.Ohms, cold: true, pulled: true, ck: cold.Check{ID: v.Ref + " heater"}})
+		}
+	}
+
+	// Hypotheses and priors.
+	all := faults.All(m)
+	e.hyps = append(e.hyps, &hyp{name: Healthy, label: "no modelled fault (healthy)"})
+	for i := range all {
+		f := all[i]
+		e.hyps = append(e.hyps, &hyp{name: f.String(), label: faults.Describe(f, m), fault: &f})
+	}
+	total := 0.0
+	for _, h := range e.hyps[1:] {
+		h.prior = priorOf(d, e.roles, *h.fault) * symptomFactor(d, e.roles, h.fault, opt.Symptoms)
+		total += priorOf(d, e.roles, *h.fault)
+	}
+	e.hyps[0].prior = healthyShare / (1 - healthyShare) * total * symptomFactor(d, e.roles, nil, opt.Symptoms)
+	sum := 0.0
+	for i, h := range e.hyps {
+		e.byName[h.name] = i
+		sum += h.prior
+	}
+	for _, h := range e.hyps {
+		h.prior /= sum
+	}
+
+	// Clouds, in parallel; the healthy one is already solved.
+	e.fill(e.hyps[0], healthy)
+	jobs := make(chan *hyp)
+	var wg sync.WaitGroup
+	for range opt.Workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for h := range jobs {
+				set, err := bands.Run(d, e.bandsOptions([]faults.Fault{*h.fault}, opt.Samples, opt.Seed, 1))
+				if err != nil {
+					h.err = err
+					continue
+				}
+				e.fill(h, set)
+			}
+		}()
+	}
+	for _, h := range e.hyps[1:] {
+		jobs <- h
+	}
+	close(jobs)
+	wg.Wait()
+	if err := e.coldAll(checks); err != nil {
+		return nil, err
+	}
+	e.widths()
+	e.groupAll = e.group(true)
+	e.groupDC = e.group(false)
+	return e, nil
+}
+
+// bandsOptions are the tolerance-sampling options for a set of faults.
+func (e *Engine) bandsOptions(fs []faults.Fault, samples int, seed uint64, workers int) bands.Options {
+	o := bands.Options{Samples: samples, Seed: seed, Workers: workers, Cond: e.opt.Cond, FixedMains: e.opt.Cond.MainsVolts > 0}
+	if len(fs) > 0 {
+		o.Values = func(m *amp.Model, v *amp.Values) error {
+			for _, f := range fs {
+				if err := faults.Apply(m, v, f); err != nil {
+					return err
+				}
+			}
+			return nil
+		}
+	}
+	return o
+}
+
+func (e *Engine) addPoint(p point) {
+	if _, dup := e.index[p.key]; dup {
+		return
+	}
+	e.index[p.key] = len(e.points)
+	e.points = append(e.points, p)
+}
+
+// ColdKey returns the observation key of a cold point: "cold:B1 ohms",
+// "cold:OT1 primary ohms", "cold:V3 heater ohms".
+func ColdKey(id string) string { return "cold:" + id + " " + amp.Ohms }
+
+func coldLabel(c cold.Check) string {
+	if c.Kind == "winding" {
+		return c.ID + " winding resistance (cold)"
+	}
+	return c.ID + " to chassis, resistance (cold)"
+}
+
+// fill stores a hypothesis's cloud from a bands set (meter loading applied
+// to DC-volts predictions).
+func (e *Engine) fill(h *hyp, set *bands.Set) {
+	n := len(set.Values)
+	rows := set.Values
+	if n == 0 { // no converged sample: the nominal stands alone
+		rows = [][]float64{set.Nominal}
+		n = 1
+	}
+	h.n, h.failed = n, set.Failed
+	h.x = make([]float64, e.nDC*n)
+	h.valid = make([]bool, e.nDC)
+	h.bandLo, h.bandHi = make([]float64, e.nDC), make([]float64, e.nDC)
+	h.mean, h.sd = make([]float64, e.nDC), make([]float64, e.nDC)
+	col := make([]float64, n)
+	for k := 0; k < e.nDC; k++ {
+		p := &e.points[k]
+		i, ok := set.Index(p.key)
+		if !ok {
+			for s := range n {
+				h.x[k*n+s] = math.NaN()
+			}
+			continue
+		}
+		h.valid[k] = true
+		var sx, sxx float64
+		for s := range n {
+			v := rows[s][i]*p.ratio + p.offset
+			h.x[k*n+s] = v
+			col[s] = v
+			sx += v
+			sxx += v * v
+		}
+		mu := sx / float64(n)
+		h.mean[k], h.sd[k] = mu, math.Sqrt(max(sxx/float64(n)-mu*mu, 0))
+		sort.Float64s(col)
+		h.bandLo[k], h.bandHi[k] = quantile(col, 0.025), quantile(col, 0.975)
+	}
+}
+
+// quantile of sorted xs by Hazen's plotting position.
+func quantile(xs []float64, q float64) float64 {
+	n := len(xs)
+	pos := q*float64(n) - 0.5
+	if pos <= 0 {
+		return xs[0]
+	}
+	if pos >= float64(n-1) {
+		return xs[n-1]
+	}
+	i := int(pos)
+	t := pos - float64(i)
+	return xs[i] + t*(xs[i+1]-xs[i])
+}
+
+// coldAll computes every hypothesis's cold predictions.
+func (e *Engine) coldAll(base []cold.Check) error {
+	nc := len(e.points) - e.nDC
+	type res struct {
+		h   *hyp
+		cs  []cold.Check
+		err error
+	}
+	jobs := make(chan *hyp)
+	out := make(chan res)
+	var wg sync.WaitGroup
+	for range e.opt.Workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for h := range jobs {
+				if h.fault == nil {
+					out <- res{h, base, nil}
+					continue
+				}
+				cs, _, err := cold.FaultChecks(e.d, e.m, base, *h.fault)
+				out <- res{h, cs, err}
+			}
+		}()
+	}
+	go func() {
+		for _, h := range e.hyps {
+			jobs <- h
+		}
+		close(jobs)
+		wg.Wait()
+		close(out)
+	}()
+	var firstErr error
+	for r := range out {
+		if r.err != nil {
+			if firstErr == nil {
+				firstErr = fmt.Errorf("infer: cold checks under %s: %w", r.h.name, r.err)
+			}
+			continue
+		}
+		r.h.cold = make([]coldPred, nc)
+		for j, c := range r.cs {
+			r.h.cold[j] = coldPred{lo: c.Tol[0], nom: c.Ohms, hi: c.Tol[1], open: c.Open}
+		}
+		for j := len(r.cs); j < nc; j++ {
+			r.h.cold[j] = e.heaterCold(e.points[e.nDC+j], r.h)
+		}
+	}
+	return firstErr
+}
+
+// Cold heater resistance of a valve out of its socket: a tungsten heater's
+// cold resistance is roughly a tenth to a quarter of its hot resistance
+// V/I (common practice: the resistance of tungsten rises several times
+// from room temperature to working temperature).
+const (
+	ohmsFloor    = 0.2
+	heaterColdLo = 0.08
+	heaterColdHi = 0.25
+)
+
+func (e *Engine) heaterCold(p point, h *hyp) coldPred {
+	ref := strings.TrimSuffix(p.ck.ID, " heater")
+	v := e.d.ByRef[ref]
+	if h.fault != nil && h.fault.Ref == ref && h.fault.Mode == faults.HeaterOpen {
+		return coldPred{lo: math.Inf(1), nom: math.Inf(1), hi: math.Inf(1), open: true}
+	}
+	hot := v.Valve.Type.Heater.Volts / v.Valve.Type.Heater.Amps
+	return coldPred{lo: heaterColdLo * hot, nom: math.Sqrt(heaterColdLo*heaterColdHi) * hot, hi: heaterColdHi * hot}
+}
+
+// widths sets each point's background width: the span of every
+// hypothesis's predictions, widened.
+func (e *Engine) widths() {
+	for k := range e.points {
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, h := range e.hyps {
+			if h.err != nil {
+				continue
+			}
+			if k < e.nDC {
+				if h.valid[k] {
+					lo, hi = min(lo, h.bandLo[k], h.mean[k]-3*h.sd[k]), max(hi, h.bandHi[k], h.mean[k]+3*h.sd[k])
+				}
+			} else if c := h.cold[k-e.nDC]; !c.open {
+				lo, hi = min(lo, c.lo), max(hi, c.hi)
+			}
+		}
+		if !(hi > lo) {
+			lo, hi = 0, 1
+		}
+		span := hi - lo
+		e.points[k].width = 1.5*span + 10*sigmaOf(e.points[k].quantity, max(math.Abs(lo), math.Abs(hi)), e.opt.Meter)
+	}
+}
+
+// sigmaOf is the σ of a reading of x (bands.Sigma: meter accuracy and model
+// error combined).
+func sigmaOf(q string, x float64, mt bands.Meter) float64 {
+	if q == amp.Ohms {
+		// A digital meter's resistance ranges, and the leads' own
+		// resistance as a floor (common practice: about 0.1–0.3 Ω).
+		return max(bands.Sigma(bands.Reading{Value: x, Meter: bands.DigitalMeter}, q), ohmsFloor)
+	}
+	return bands.Sigma(bands.Reading{Value: x, Meter: mt}, q)
+}
+
+// Keys returns every point key the engine predicts, DC points in
+// amp.Model.Points order, then cold points ("cold:B1 ohms").
+func (e *Engine) Keys() []string {
+	out := make([]string, len(e.points))
+	for i, p := range e.points {
+		out[i] = p.key
+	}
+	return out
+}
+
+// Hypotheses returns the hypothesis names: "healthy", then every single
+// fault ("R7:open") in design order.
+func (e *Engine) Hypotheses() []string {
+	out := make([]string, len(e.hyps))
+	for i, h := range e.hyps {
+		out[i] = h.name
+	}
+	return out
+}
+
+// Label returns a point's description ("V2 pin 3 plate"), or "".
+func (e *Engine) Label(key string) string {
+	if i, ok := e.index[key]; ok {
+		return e.points[i].label
+	}
+	return ""
+}
+
+// Describe returns a hypothesis's description ("R7 (470 Ω) open circuit").
+func (e *Engine) Describe(name string) string {
+	if i, ok := e.byName[name]; ok {
+		return e.hyps[i].label
+	}
+	return name
+}
+
+// Prior returns a hypothesis's prior probability (after symptoms).
+func (e *Engine) Prior(name string) float64 {
+	if i, ok := e.byName[name]; ok {
+		return e.hyps[i].prior
+	}
+	return 0
+}
+
+// Unsolved lists the hypotheses whose nominal did not solve, with the
+// error: they are never ranked.
+func (e *Engine) Unsolved() []string {
+	var out []string
+	for _, h := range e.hyps {
+		if h.err != nil {
+			out = append(out, h.name+": "+h.err.Error())
+		}
+	}
+	return out
+}
+
+// Failed returns the number of tolerance samples, over all hypotheses,
+// that did not converge, and the number asked for.
+func (e *Engine) Failed() (failed, asked int) {
+	for _, h := range e.hyps {
+		if h.err == nil {
+			failed += h.failed
+			asked += e.opt.Samples
+		}
+	}
+	return failed, asked
+}
+
+// Band returns the predicted band of a point under a hypothesis: the
+// 2.5th and 97.5th percentiles of its tolerance cloud (as read through the
+// meter) and the cloud's mean; for a cold point the tolerance corners and
+// the nominal (+Inf for open). ok is false for an unknown hypothesis or
+// key, an unsolved hypothesis, or a point the hypothesis does not predict.
+func (e *Engine) Band(fault, key string) (lo, nominal, hi float64, ok bool) {
+	hi0, okh := e.byName[fault]
+	k, okk := e.index[key]
+	if !okh || !okk {
+		return 0, 0, 0, false
+	}
+	h := e.hyps[hi0]
+	if h.err != nil {
+		return 0, 0, 0, false
+	}
+	if k >= e.nDC {
+		c := h.cold[k-e.nDC]
+		return c.lo, c.nom, c.hi, true
+	}
+	if !h.valid[k] {
+		return 0, 0, 0, false
+	}
+	return h.bandLo[k], h.mean[k], h.bandHi[k], true
+}
+
+// Simulate returns what a real amplifier with the given fault (or
+// "healthy") would read at every point: one fresh tolerance sample, drawn
+// from a generator stream the precomputed clouds never use, solved with
+// the fault applied, read through the meter (its loading, and a reading
+// error drawn from a normal with σ = half the meter's error limit,
+// truncated at the limit). Cold points are drawn uniformly between the
+// hypothesis's tolerance corners, with the same meter error (an open
+// reading stays +Inf).
+func (e *Engine) Simulate(fault string, seed uint64) (map[string]float64, error) {
+	i, ok := e.byName[fault]
+	if !ok {
+		return nil, fmt.Errorf("infer: no hypothesis %q%s", fault, didYouMean(fault, e.Hypotheses()))
+	}
+	h := e.hyps[i]
+	var fs []faults.Fault
+	if h.fault != nil {
+		fs = []faults.Fault{*h.fault}
+	}
+	// A seed distinct from the clouds' (they use stream k < Samples of
+	// opt.Seed): a mixed seed that is never equal to opt.Seed.
+	s2 := mix64(seed ^ 0x5bd1e9955bd1e995)
+	if s2 == e.opt.Seed {
+		s2++
+	}
+	set, err := bands.Run(e.d, e.bandsOptions(fs, 1, s2, 1))
+	if err != nil {
+		return nil, err
+	}
+	if len(set.Values) == 0 {
+		return nil, fmt.Errorf("infer: simulated sample under %s did not converge: %s", fault, strings.Join(set.FailErrs, "; "))
+	}
+	r := rand.New(rand.NewPCG(seed, 0x9e3779b97f4a7c15))
+	noise := func(x float64, q string) float64 {
+		mt := e.opt.Meter
+		if q == amp.Ohms {
+			mt = bands.DigitalMeter
+		}
+		lim := mt.Accuracy(x)
+		z := r.NormFloat64()
+		for math.Abs(z) > 2 {
+			z = r.NormFloat64()
+		}
+		return x + z*lim/2
+	}
+	out := map[string]float64{}
+	for k := 0; k < e.nDC; k++ {
+		p := &e.points[k]
+		j, ok := set.Index(p.key)
+		if !ok {
+			continue
+		}
+		out[p.key] = noise(set.Values[0][j]*p.ratio+p.offset, p.quantity)
+	}
+	for j, c := range h.cold {
+		p := &e.points[e.nDC+j]
+		if c.open {
+			out[p.key] = math.Inf(1)
+			continue
+		}
+		out[p.key] = max(0, noise(c.lo+(c.hi-c.lo)*r.Float64(), amp.Ohms))
+	}
+	return out, nil
+}
+
+// mix64 is the SplitMix64 finaliser (a bijection on uint64).
+func mix64(z uint64) uint64 {
+	z += 0x9e3779b97f4a7c15
+	z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9
+	z = (z ^ (z >> 27)) * 0x94d049bb133111eb
+	return z ^ (z >> 31)
+}
+
+func didYouMean(w string, cands []string) string {
+	if s := design.Suggest(w, cands); len(s) > 0 {
+		return fmt.Sprintf(" (did you mean %q?)", s[0])
+	}
+	return ""
+}
+
+// heaterPins returns a valve's heater pins for a setup note ("2 and 7").
+func heaterPins(v *design.Part) string {
+	ps := v.Valve.Type.PinsOf("", valves.Heater)
+	s := make([]string, len(ps))
+	for i, p := range ps {
+		s[i] = fmt.Sprint(p)
+	}
+	return strings.Join(s, " and ")
+}
