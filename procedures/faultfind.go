@@ -1,5 +1,3 @@
-//go:build !noinfer
-
 package procedures
 
 import (

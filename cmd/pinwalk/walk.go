@@ -1,0 +1,102 @@
+package main
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"time"
+
+	"pinwalk/procedures"
+	"pinwalk/tui"
+)
+
+// walkInput is where walk reads its answers (tests replace it).
+var walkInput io.Reader = os.Stdin
+
+// runWalk runs a procedure on a design: bring-up, fault-finding,
+// training or practice, saving a session file after every entry.
+// --plain gives line-by-line prompts on stdin/stdout.
+func runWalk(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("walk", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	plain := fs.Bool("plain", false, "line-by-line prompts on stdin/stdout (no screen control, no colour): for scripts, logs and screen readers")
+	mode := fs.String("mode", "bringup", "procedure: bringup, faultfind, training or practice")
+	sessPath := fs.String("session", "", "session file: resumed when it exists, created otherwise (default: DESIGN-MODE-DATE.pinwalk.yaml here)")
+	seed := fs.Uint64("seed", 1, "seed of the bands and of a practice session's hidden fault")
+	samples := fs.Int("samples", 0, "Monte Carlo samples per variac setting (default 300)")
+	accept := fs.Bool("accept-changed-design", false, "continue a session whose design file changed since it started")
+	fs.Usage = func() {
+		fmt.Fprintf(stderr, "Usage: pinwalk walk [DESIGN] --plain [--mode bringup|faultfind|training|practice] [--session FILE] [--seed N]\n\n")
+		fs.PrintDefaults()
+	}
+	var pos []string
+	rest := args
+	for {
+		if code, done := parseFlags(fs, rest); done {
+			return code
+		}
+		if fs.NArg() == 0 {
+			break
+		}
+		pos = append(pos, fs.Arg(0))
+		rest = fs.Args()[1:]
+	}
+	if len(pos) > 1 {
+		fmt.Fprintf(stderr, "pinwalk walk: one design expected, got %d\n", len(pos))
+		return exitUsage
+	}
+	arg := ""
+	if len(pos) == 1 {
+		arg = pos[0]
+	}
+	m, err := procedures.ParseMode(*mode)
+	if err != nil {
+		fmt.Fprintf(stderr, "pinwalk walk: %v\n", err)
+		return exitUsage
+	}
+	d, probs, err := loadDesign(arg, stderr)
+	if err != nil {
+		for _, p := range probs.Errors() {
+			fmt.Fprintln(stderr, p.Error())
+		}
+		fmt.Fprintf(stderr, "pinwalk walk: %v\n", err)
+		return exitProblems
+	}
+	now := time.Now()
+	path := *sessPath
+	if path == "" {
+		path = procedures.DefaultSessionPath(d, m, now)
+	}
+	var sess *procedures.Session
+	if _, err := os.Stat(path); err == nil {
+		sess, err = procedures.LoadSession(path)
+		if err != nil {
+			fmt.Fprintf(stderr, "pinwalk walk: %v\n", err)
+			return exitProblems
+		}
+		fmt.Fprintf(stdout, "Resuming session %s (%s, %d readings)\n", path, sess.Mode, len(sess.Readings))
+	} else {
+		sess = procedures.NewSession(d, m, *seed, now)
+		fmt.Fprintf(stdout, "New session: %s\n", path)
+	}
+	w, err := procedures.Open(d, sess, path, procedures.WalkOptions{Samples: *samples, Seed: *seed, AcceptChanged: *accept})
+	if err != nil {
+		var dc *procedures.DesignChangedError
+		if errors.As(err, &dc) {
+			fmt.Fprintf(stderr, "pinwalk walk: %v\n", err)
+			return exitProblems
+		}
+		fmt.Fprintf(stderr, "pinwalk walk: %v\n", err)
+		return exitFailure
+	}
+	if !*plain {
+		fmt.Fprintln(stderr, "pinwalk walk: the full-screen view is not available yet; running in --plain mode")
+	}
+	if err := tui.RunPlain(w, walkInput, stdout); err != nil {
+		fmt.Fprintf(stderr, "pinwalk walk: %v\n", err)
+		return exitFailure
+	}
+	return exitOK
+}
