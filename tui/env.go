@@ -1,0 +1,106 @@
+package tui
+
+import (
+	"slices"
+
+	tea "github.com/charmbracelet/bubbletea"
+
+	"pinwalk/procedures"
+)
+
+// env is what every view reads: the runner (the engine), styles, glyphs,
+// keys, and the expected bands fetched so far. The root model owns it;
+// views hold a pointer and never write to the runner themselves except
+// through the actions the root gives them.
+type env struct {
+	run    *procedures.Runner
+	st     *Styles
+	g      Glyphs
+	keys   KeyMap
+	labels map[string]string // point key → label, from the procedure's measures
+	bands  map[bandKey]bandEntry
+	cfg    *Config
+}
+
+// bandKey names a band: a point at a variac setting, conditioned on the
+// first n readings of the session.
+type bandKey struct {
+	Point  string
+	Variac float64
+	N      int
+}
+
+type bandEntry struct {
+	Band    procedures.Band
+	Has     bool
+	Pending bool
+}
+
+// bandMsg carries a band computed in a command.
+type bandMsg struct {
+	Key   bandKey
+	Band  procedures.Band
+	Has   bool
+	Error string
+}
+
+// band returns the cached band of a point, and a command that computes it
+// when it is not cached yet (nil otherwise).
+func (e *env) band(point string, variac float64) (bandEntry, tea.Cmd) {
+	k := bandKey{point, variac, len(e.run.Sess.Readings)}
+	if b, ok := e.bands[k]; ok {
+		return b, nil
+	}
+	if e.run.Expect == nil {
+		e.bands[k] = bandEntry{}
+		return bandEntry{}, nil
+	}
+	e.bands[k] = bandEntry{Pending: true}
+	ex := e.run.Expect
+	readings := slices.Clone(e.run.Sess.Readings)
+	return bandEntry{Pending: true}, func() tea.Msg {
+		b, ok := ex.Expect(point, variac, readings)
+		return bandMsg{Key: k, Band: b, Has: ok}
+	}
+}
+
+// cachedBand returns a band only if it is already known (no command).
+func (e *env) cachedBand(point string, variac float64) bandEntry {
+	return e.bands[bandKey{point, variac, len(e.run.Sess.Readings)}]
+}
+
+// label returns a point's label, or the key itself.
+func (e *env) label(point string) string {
+	if l, ok := e.labels[point]; ok && l != "" {
+		return l
+	}
+	return point
+}
+
+// lastReading returns the latest accepted reading of a point in any step.
+func (e *env) lastReading(point string) *procedures.Reading {
+	rs := e.run.Sess.Readings
+	for i := len(rs) - 1; i >= 0; i-- {
+		if rs[i].Point == point && rs[i].Status != procedures.Retry {
+			return &rs[i]
+		}
+	}
+	return nil
+}
+
+// guessFor returns the trainee's prediction for a point, if any.
+func (e *env) guessFor(point string) *procedures.Guess {
+	gs := e.run.Sess.Guesses
+	for i := len(gs) - 1; i >= 0; i-- {
+		if gs[i].Point == point {
+			return &gs[i]
+		}
+	}
+	return nil
+}
+
+// changedMsg says the session changed (a reading, skip, confirmation,
+// note or move): the root saves it and refreshes what depends on it.
+type changedMsg struct{}
+
+func changed() tea.Msg { return changedMsg{} }

@@ -1,0 +1,158 @@
+package tui
+
+import (
+	"fmt"
+	"strings"
+
+	"github.com/charmbracelet/bubbles/key"
+	tea "github.com/charmbracelet/bubbletea"
+
+	"pinwalk/procedures/infer"
+)
+
+// rankMsg carries a ranking computed in a command.
+type rankMsg struct {
+	Seq  int
+	Rank *infer.Ranking
+	Err  error
+}
+
+// gotoPointMsg asks the root to move to the step that measures a point.
+type gotoPointMsg struct{ Key, Label string }
+
+// suspectsView lists the ranked faults with probability bars and their
+// reasons, the groups no reading can split, and the suggested next
+// measurement.
+type suspectsView struct {
+	e       *env
+	w, h    int
+	rank    *infer.Ranking
+	err     error
+	pending bool
+	stale   bool // readings changed since this ranking
+	top     int  // first line shown (scrolling)
+	note    string
+}
+
+func newSuspectsView(e *env) suspectsView { return suspectsView{e: e} }
+
+// SetSize sets the view's size in cells.
+func (v *suspectsView) SetSize(w, h int) { v.w, v.h = max(0, w), max(0, h) }
+
+func (v suspectsView) Update(msg tea.Msg) (suspectsView, tea.Cmd) {
+	switch msg := msg.(type) {
+	case rankMsg:
+		v.rank, v.err, v.pending, v.stale = msg.Rank, msg.Err, false, false
+		return v, nil
+	case tea.KeyMsg:
+		switch {
+		case key.Matches(msg, v.e.keys.Down):
+			v.top++
+		case key.Matches(msg, v.e.keys.Up):
+			v.top = max(0, v.top-1)
+		case key.Matches(msg, v.e.keys.GoSuggested), key.Matches(msg, v.e.keys.Enter):
+			if v.rank != nil && v.rank.Next != nil {
+				p := v.rank.Next
+				return v, func() tea.Msg { return gotoPointMsg{Key: p.Key, Label: p.Label} }
+			}
+		}
+	}
+	return v, nil
+}
+
+func (v suspectsView) View() string {
+	s, g := v.e.st, v.e.g
+	w := max(20, v.w)
+	var lines []string
+	switch {
+	case v.err != nil:
+		return s.Bad.Render(truncate("Cannot rank the suspects: "+v.err.Error(), w))
+	case v.rank == nil && v.pending:
+		return s.Dim.Render("Ranking the suspects on the readings so far " + g.Ellipsis + " (this takes a few seconds the first time)")
+	case v.rank == nil:
+		return s.Dim.Render("No ranking yet: it is worked out from the readings when this view is opened.")
+	}
+	rk := v.rank
+	head := fmt.Sprintf("Suspects on %d reading(s)", len(v.e.run.Sess.Readings))
+	if v.pending || v.stale {
+		head += " " + g.Dot + " updating " + g.Ellipsis
+	}
+	lines = append(lines, s.Title.Render(head))
+	if !rk.Fits && rk.FitNote != "" {
+		for _, l := range wrap(g.OutOfBand+" NO SINGLE FAULT FITS: "+rk.FitNote, w) {
+			lines = append(lines, s.Bad.Render(l))
+		}
+	}
+	if p := rk.Next; p != nil {
+		live := "unplugged"
+		if p.Live {
+			live = "LIVE"
+		}
+		lines = append(lines, s.Label.Render(truncate(fmt.Sprintf("Next: %s (%s) %s %.2f bits %s ctrl+g goes there", p.Label, live, g.Dot, p.GainBits, g.Dot), w)))
+		if p.Setup != "" {
+			lines = append(lines, s.Dim.Render(truncate("  "+p.Setup, w)))
+		}
+	} else {
+		lines = append(lines, s.Dim.Render("No measurement left that would tell the suspects apart."))
+	}
+	lines = append(lines, "")
+	barW := 10
+	if w >= 110 {
+		barW = 20
+	}
+	labelW := max(12, min(40, w-barW-16))
+	var body []string
+	for i, su := range rk.Suspects {
+		grp := ""
+		if su.Group >= 0 && su.Group < len(rk.Groups) && len(rk.Groups[su.Group]) > 1 {
+			grp = fmt.Sprintf(" [group %d]", su.Group+1)
+		}
+		line := fmt.Sprintf("%2d %s %5.1f%% %s%s", i+1, bar(g, su.Probability, barW), 100*su.Probability, truncate(su.Label, labelW), grp)
+		st := s.Dim
+		switch {
+		case i == 0:
+			st = s.Title
+		case su.Probability >= 0.1:
+			st = s.Warn
+		}
+		body = append(body, st.Render(truncate(line, w)))
+		nwhy := 1
+		if w >= 110 {
+			nwhy = 2
+		}
+		for j, why := range su.Why {
+			if j == nwhy {
+				break
+			}
+			body = append(body, s.Dim.Render(truncate("      "+why, w)))
+		}
+	}
+	var groups []string
+	for i, gr := range rk.Groups {
+		if len(gr) < 2 {
+			continue
+		}
+		line := fmt.Sprintf("group %d, no reading tells these apart: %s", i+1, strings.Join(gr, " = "))
+		groups = append(groups, truncate(line, w))
+		if i < len(rk.GroupNotes) && rk.GroupNotes[i] != "" {
+			groups = append(groups, s.Dim.Render(truncate("  "+rk.GroupNotes[i], w)))
+		}
+	}
+	if len(groups) > 0 {
+		body = append(body, "")
+		body = append(body, groups...)
+	}
+	room := max(0, v.h-len(lines))
+	top := min(v.top, max(0, len(body)-room))
+	end := min(len(body), top+room)
+	if top > 0 || end < len(body) {
+		if room > 0 {
+			end = min(len(body), top+room-1)
+			lines = append(lines, body[top:end]...)
+			lines = append(lines, s.Dim.Render(fmt.Sprintf("  lines %d–%d of %d: ↑/↓ scroll", top+1, end, len(body))))
+			return strings.Join(lines, "\n")
+		}
+	}
+	lines = append(lines, body[top:end]...)
+	return strings.Join(lines, "\n")
+}

@@ -1,0 +1,231 @@
+package tui
+
+import (
+	"fmt"
+	"strings"
+
+	"github.com/charmbracelet/lipgloss"
+
+	"pinwalk/procedures"
+)
+
+// modeName words a session mode for the header.
+func modeName(m procedures.Mode) string {
+	switch m {
+	case procedures.BringUp:
+		return "BRING-UP"
+	case procedures.FaultFind:
+		return "FAULT-FINDING"
+	case procedures.Training:
+		return "TRAINING"
+	case procedures.Practise:
+		return "PRACTICE"
+	}
+	return strings.ToUpper(string(m))
+}
+
+// View draws the screen: header, tabs, the body (the view or an overlay),
+// the status line and the short help.
+func (m Model) View() string {
+	body := m.frozen
+	if !m.busy {
+		body = m.body()
+	}
+	lines := []string{m.header(), m.tabs()}
+	bl := strings.Split(body, "\n")
+	bh := m.bodyHeight()
+	if len(bl) > bh {
+		bl = bl[:bh]
+	}
+	for len(bl) < bh {
+		bl = append(bl, "")
+	}
+	lines = append(lines, bl...)
+	lines = append(lines, m.statusLine(), m.help.ShortHelpView(m.e.keys.ShortHelp()))
+	return strings.Join(lines, "\n")
+}
+
+// body is the current view, or the overlay over it.
+func (m Model) body() string {
+	bh := m.bodyHeight()
+	switch m.over {
+	case overHelp:
+		return m.place(m.helpBox(), bh)
+	case overQuit:
+		return m.place(m.quitBox(), bh)
+	case overSteps:
+		return m.stepsList(bh)
+	case overDetail:
+		return m.detail(bh)
+	}
+	switch m.view {
+	case viewSockets:
+		return m.sock.View()
+	case viewSuspects:
+		if m.practice() {
+			return m.e.st.Dim.Render("Practice: the suspects are yours to work out. Type next for the best next measurement,\nmeasure KEY to choose one, m to take the reading, name REF:MODE when you know.")
+		}
+		return m.sus.View()
+	case viewAmp:
+		return m.ov.View()
+	}
+	return m.step.View()
+}
+
+func (m Model) place(box string, h int) string {
+	return lipgloss.Place(m.w, h, lipgloss.Center, lipgloss.Center, box)
+}
+
+func (m Model) header() string {
+	s, r := m.e.st, m.e.run
+	left := s.Header.Render("pinwalk") + " " + m.e.g.Dot + " " + modeName(r.Sess.Mode) + " " + m.e.g.Dot + " " + r.Sess.Design.Title
+	done := 0
+	for _, st := range r.Proc.Steps {
+		if r.Done(st.ID) {
+			done++
+		}
+	}
+	right := fmt.Sprintf("%d/%d steps done", done, len(r.Proc.Steps))
+	return joinEnds(truncate(left, m.w-lipgloss.Width(right)-2), right, m.w)
+}
+
+func (m Model) tabs() string {
+	s := m.e.st
+	var parts []string
+	for i, n := range viewNames {
+		if i == m.view {
+			parts = append(parts, s.TabOn.Render("["+n+"]"))
+		} else {
+			parts = append(parts, s.Tab.Render(" "+n+" "))
+		}
+	}
+	return truncate(strings.Join(parts, " ")+s.Dim.Render("   tab: next view"), m.w)
+}
+
+// statusLine: the save state always (an error in words, with the retry
+// key), then the latest information.
+func (m Model) statusLine() string {
+	s, g := m.e.st, m.e.g
+	var save string
+	switch {
+	case m.path == "":
+		save = s.Warn.Render("not saved to a file (no session path)")
+	case m.saveErr != nil:
+		save = s.StatusEr.Render(g.OutOfBand + " NOT SAVED: " + m.saveErr.Error() + " (readings kept in memory; ctrl+r retries)")
+	case m.saving || m.dirty:
+		save = s.Status.Render("saving " + g.Ellipsis)
+	default:
+		save = s.Status.Render(g.Done + " saved")
+	}
+	line := save
+	if m.info != "" {
+		line += s.Status.Render("  " + g.Dot + " " + m.info)
+	}
+	return truncate(line, m.w)
+}
+
+func (m Model) helpBox() string {
+	h := m.help
+	h.Width = max(20, m.w-6)
+	body := m.e.st.Title.Render("Keys") + "\n\n" + h.FullHelpView(m.e.keys.FullHelp()) + "\n\n" +
+		m.e.st.Dim.Render("Readings: 312, 312V, 4.7mA, 4m7A, 2k2, 4k7Ω, 1M, OL (open).\nEnd with ! to record a value the program questions.") + "\n" +
+		m.e.st.Dim.Render("Esc or F1 closes this.")
+	return m.e.st.Overlay.Render(body)
+}
+
+func (m Model) quitBox() string {
+	s := m.e.st
+	var lines []string
+	lines = append(lines, s.Title.Render("Quit pinwalk?"), "")
+	switch {
+	case m.path == "":
+		lines = append(lines, s.Warn.Render("This session has no file: its readings go when you quit."))
+	case m.saveErr != nil:
+		lines = append(lines, s.Bad.Render(m.e.g.OutOfBand+" The last save FAILED:"), s.Bad.Render(truncate(m.saveErr.Error(), m.w-8)),
+			"Your readings are still in memory. ctrl+r tries again;", "y tries once more and quits only if it works.")
+	case m.saving || m.dirty:
+		lines = append(lines, "The last change is being saved; y quits as soon as it is on disk.")
+	default:
+		lines = append(lines, "Your session is already saved (every change is saved as you go):", truncate(m.path, m.w-8),
+			"Start pinwalk walk with the same session file to carry on.")
+	}
+	lines = append(lines, "", s.Prompt.Render("y quit   n stay"))
+	return s.Overlay.Render(strings.Join(lines, "\n"))
+}
+
+// stepsList is the list of steps with their state; Enter goes to one
+// (gates permitting).
+func (m Model) stepsList(h int) string {
+	s, g, r := m.e.st, m.e.g, m.e.run
+	var lines []string
+	lines = append(lines, s.Title.Render("Steps")+s.Dim.Render("  ↑/↓ choose, Enter go, Esc close"))
+	room := max(1, h-1)
+	top := max(0, min(m.listCursor-room/2, len(r.Proc.Steps)-room))
+	for i := top; i < len(r.Proc.Steps) && i < top+room; i++ {
+		st := r.Proc.Steps[i]
+		mark := g.NotYet
+		style := s.Dim
+		if r.Done(st.ID) {
+			mark, style = g.Done, s.Good
+			if _, sk := r.Skipped(st.ID); sk {
+				mark, style = g.Skipped, s.Warn
+			}
+		} else if len(r.Blockers(st)) > 0 {
+			mark = "-"
+		}
+		cur := "  "
+		if i == m.listCursor {
+			cur = g.Current + " "
+			style = s.Title
+		}
+		live := ""
+		if st.Live {
+			live = " LIVE"
+		}
+		here := ""
+		if i == r.CurrentIndex() {
+			here = "  (you are here)"
+		}
+		lines = append(lines, style.Render(truncate(fmt.Sprintf("%s%s %2d %s%s%s", cur, mark, i+1, st.Title, live, here), m.w)))
+	}
+	return strings.Join(lines, "\n")
+}
+
+// detail is the full text of the current step.
+func (m Model) detail(h int) string {
+	s, r := m.e.st, m.e.run
+	st := r.Current()
+	if st == nil {
+		return ""
+	}
+	w := m.w
+	var lines []string
+	lines = append(lines, s.Title.Render(st.Title)+s.Dim.Render("  (↑/↓ scroll, any other key closes)"))
+	for _, c := range st.Cautions {
+		head := "CAUTION: "
+		if st.Live {
+			head = "DANGER: "
+		}
+		lines = append(lines, wrap(head+c, w)...)
+	}
+	lines = append(lines, "")
+	lines = append(lines, wrap(st.Instruction, w)...)
+	if st.Why != "" {
+		lines = append(lines, wrap("Why: "+st.Why, w)...)
+	}
+	for _, c := range st.StopIf {
+		lines = append(lines, wrap("Switch off if: "+c, w)...)
+	}
+	if b := r.Blockers(st); len(b) > 0 {
+		lines = append(lines, wrap("Needs first: "+strings.Join(b, ", "), w)...)
+	}
+	for _, ms := range st.Measures {
+		lines = append(lines, wrap(fmt.Sprintf("Reading: %s · %s %s · probes: %s", ms.Label, ms.Function, ms.Range, ms.Probes), w)...)
+	}
+	top := min(m.scroll, max(0, len(lines)-h))
+	lines = lines[top:]
+	if len(lines) > h {
+		lines = lines[:h]
+	}
+	return strings.Join(lines, "\n")
+}
