@@ -1,12 +1,15 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"flag"
 	"fmt"
 	"io"
 	"os"
 	"time"
+
+	"github.com/charmbracelet/x/term"
 
 	"pinwalk/procedures"
 	"pinwalk/tui"
@@ -91,12 +94,26 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "pinwalk walk: %v\n", err)
 		return exitFailure
 	}
+	if !*plain && isTerminal(stdout) && walkInput == os.Stdin && isTerminal(os.Stdin) {
+		if err := tui.Run(context.Background(), tui.Config{Walk: w}); err != nil {
+			fmt.Fprintf(stderr, "pinwalk walk: %v (the session file keeps every reading saved before this)\n", err)
+			return exitFailure
+		}
+		return exitOK
+	}
 	if !*plain {
-		fmt.Fprintln(stderr, "pinwalk walk: the full-screen view is not available yet; running in --plain mode")
+		fmt.Fprintln(stderr, "pinwalk walk: not a terminal; running in --plain mode")
 	}
 	if err := tui.RunPlain(w, walkInput, stdout); err != nil {
 		fmt.Fprintf(stderr, "pinwalk walk: %v\n", err)
 		return exitFailure
 	}
 	return exitOK
+}
+
+// isTerminal reports whether w is a terminal (the full-screen view needs
+// one; anything else gets the plain line-by-line mode).
+func isTerminal(w any) bool {
+	f, ok := w.(*os.File)
+	return ok && term.IsTerminal(f.Fd())
 }
