@@ -9,6 +9,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
 	"strings"
 )
 
@@ -33,6 +34,7 @@ func commands() []command {
 		{"valves", "list the valve library, or show one type's pins, ratings and fit", runValves},
 		{"new", "write a commented design file to start from, from a template", runNew},
 		{"show", "a readable summary of a design, to check it against the schematic", runShow},
+		{"report", "a job sheet from a session (Markdown or HTML), or two sessions compared", runReport},
 		{"walk", "guided bring-up, fault-finding, training or practice (--plain for line-by-line prompts)", runWalk},
 	}
 }
@@ -52,7 +54,8 @@ Commands:
 DESIGN is a design file (YAML); "demo" or no file means the embedded demo
 design (demo:NAME picks another: %s).
 
-Run "pinwalk <command> --help" for a command's options.
+Run "pinwalk <command> --help" for a command's options. With no arguments
+on a terminal, pinwalk opens the demo design's bring-up full-screen.
 
 Valve amplifiers hold lethal voltages, and filter capacitors keep them after
 power-off. pinwalk's expectations do not replace training, local codes or
@@ -66,6 +69,9 @@ func main() {
 
 func run(args []string, stdout, stderr io.Writer) int {
 	if len(args) == 0 {
+		if isTerminal(stdout) && isTerminal(os.Stdin) {
+			return runWalk([]string{"demo", "--mode", "bringup", "--session", demoSessionPath(), "--accept-changed-design"}, stdout, stderr)
+		}
 		usage(stdout)
 		return exitOK
 	}
@@ -94,4 +100,20 @@ func parseFlags(fs *flag.FlagSet, args []string) (code int, done bool) {
 		return exitUsage, true
 	}
 	return exitOK, false
+}
+
+// demoSessionPath is where a bare "pinwalk" keeps its demo bring-up
+// session: in the user's cache directory (the temporary directory when
+// there is none), so trying the demo writes nothing in the current
+// directory and a second run carries on where the first stopped.
+func demoSessionPath() string {
+	dir, err := os.UserCacheDir()
+	if err != nil {
+		dir = os.TempDir()
+	}
+	dir = filepath.Join(dir, "pinwalk")
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		dir = os.TempDir()
+	}
+	return filepath.Join(dir, "demo-bringup.pinwalk.yaml")
 }
