@@ -104,7 +104,10 @@ type PlateChart struct {
 	// CathodeVolts is the operating cathode volts; ScreenVolts the screen
 	// to cathode volts the pentode curves are drawn at.
 	CathodeVolts, ScreenVolts float64
-	Curves                    []Curve
+	// OperatingGrid is the operating grid-to-cathode volts (its curve is
+	// dashed).
+	OperatingGrid float64
+	Curves        []Curve
 	// DC is the DC load line from (B+, 0) to (0, B+/R); nil when the
 	// plate load is not known. AC is the output stage's AC load line
 	// through the expected operating point (nil for other stages).
@@ -119,7 +122,7 @@ type PlateChart struct {
 
 // Chart geometry in pixels.
 const (
-	chartW, chartH = 760.0, 460.0
+	chartW, chartH = 820.0, 460.0
 	plotL, plotT   = 70.0, 40.0
 	plotW, plotH   = 520.0, 360.0
 )
@@ -171,6 +174,7 @@ func newPlateChart(m *amp.Model, op *amp.OP, i int, load *PlateLoad, meas *OpPoi
 	// Grid voltages: 0 down past twice the bias in nice steps, and the
 	// operating one.
 	bias := so.Vg - so.Vk
+	c.OperatingGrid = bias
 	step := niceStep(math.Max(2*math.Abs(bias), 1), 6)
 	var grids []float64
 	for g := 0.0; g >= -math.Max(2*math.Abs(bias), step)-1e-9; g -= step {
@@ -255,8 +259,9 @@ func svgID(s string) string {
 	return b.String()
 }
 
+// mA prints a tick value in amps as milliamps, without float noise.
 func mA(v float64) string {
-	return strconv.FormatFloat(v*1000, 'f', -1, 64)
+	return strconv.FormatFloat(math.Round(v*1e7)/1e4, 'f', -1, 64)
 }
 
 // gridText prints a grid voltage "−5 V", "0 V".
@@ -297,7 +302,6 @@ func (c *PlateChart) Desc() string {
 	return b.String()
 }
 
-
 // SVG renders the chart as an inline SVG element (no scripts, no external
 // resources) with a <title> and <desc>, axis labels with units, shapes as
 // well as dash patterns to tell the lines apart, and a legend.
@@ -329,12 +333,10 @@ func (c *PlateChart) SVG() string {
 		fmt.Fprintf(&b, `<polyline class="curve" fill="none" %s points="%s"/>`+"\n", style, strings.Join(pts, " "))
 		last := cv.Pts[len(cv.Pts)-1]
 		lx, ly := a.Px(last[0], last[1])
-		label := "Vgk " + gridText(cv.GridVolts)
 		if cv.Operating {
-			label = gridText(cv.GridVolts) + " (operating)"
-		} else {
-			label = gridText(cv.GridVolts)
+			continue // named in the legend: its label would crowd a neighbour's
 		}
+		label := gridText(cv.GridVolts)
 		if last[1] >= a.YMax*(1-1e-9) {
 			fmt.Fprintf(&b, `<text x="%s" y="%s" font-size="11" text-anchor="middle">%s</text>`+"\n", f1(lx), f1(a.Top-4), xmlEsc(label))
 		} else {
@@ -377,11 +379,11 @@ func (c *PlateChart) SVG() string {
 	fmt.Fprintf(&b, `<circle class="op-expected" cx="%s" cy="%s" r="5" fill="#000"/>`+"\n", f1(ex), f1(ey))
 	if c.Measured != nil {
 		mx, my := a.Px(c.Measured[0], c.Measured[1])
-		fmt.Fprintf(&b, `<rect class="op-measured" x="%s" y="%s" width="11" height="11" fill="#fff" stroke="#000" stroke-width="2"/>`+"\n", f1(mx-5.5), f1(my-5.5))
+		fmt.Fprintf(&b, `<rect class="op-measured" x="%s" y="%s" width="13" height="13" fill="none" stroke="#000" stroke-width="2"/>`+"\n", f1(mx-6.5), f1(my-6.5))
 	}
 	// Legend, right of the plot.
-	lx := a.Left + a.Width + 62
-	ly := a.Top + a.Height - 96
+	lx := a.Left + a.Width + 50
+	ly := a.Top + a.Height - 116
 	leg := func(i int, sym, text string) {
 		y := ly + float64(i)*20
 		fmt.Fprintf(&b, sym+"\n", f1(lx), f1(y), f1(lx+22), f1(y))
@@ -396,6 +398,8 @@ func (c *PlateChart) SVG() string {
 		leg(i, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#000" stroke-width="1.6" stroke-dasharray="9 5"/>`, "AC load line")
 		i++
 	}
+	leg(i, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#000" stroke-width="1.2" stroke-dasharray="2 3"/>`, "Vgk "+gridText(c.OperatingGrid)+" (operating)")
+	i++
 	if c.PlateWatts > 0 {
 		leg(i, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#555" stroke-dasharray="1 2"/>`, "max "+fmtVal(c.PlateWatts, "W"))
 		i++
@@ -435,7 +439,11 @@ func writeAxes(b *strings.Builder, a Axes, xTitle, yTitle string, xTick, yTick f
 // roundTo removes floating-point noise from a tick value.
 func roundTo(v, step float64) float64 {
 	q := step / 1000
-	return math.Round(v/q) * q
+	v = math.Round(v/q) * q
+	if v == 0 {
+		return 0 // not −0
+	}
+	return v
 }
 
 // SupplySVG draws the B+ chain: one row per filter net, the expected band
