@@ -151,12 +151,41 @@ func reportSheet(path, designArg string, stderr io.Writer) (*jobsheet.Sheet, int
 			fmt.Fprintf(stderr, "pinwalk: warning: %s has changed since session %s was taken (sha256 %.12s…, session recorded %.12s…)\n", arg, path, d.Hash, s.Design.Hash)
 		}
 	}
-	sh, err := jobsheet.Build(s, jobsheet.Options{Design: d})
+	opt := jobsheet.Options{Design: d}
+	if d != nil {
+		opt.Proc = reportProcedure(d, s)
+		if s.Mode == procedures.FaultFind || s.Mode == procedures.Practise {
+			opt.Suspects = jobsheet.InferSuspects(0, s.Seed)
+		}
+	}
+	sh, err := jobsheet.Build(s, opt)
 	if err != nil {
 		fmt.Fprintf(stderr, "pinwalk: %v\n", err)
 		return nil, exitFailure
 	}
 	return sh, exitOK
+}
+
+// reportProcedure rebuilds the procedure of a session's mode, for step
+// titles and safety flags; nil when it cannot be built (the sheet then
+// shows step ids).
+func reportProcedure(d *design.Design, s *procedures.Session) *procedures.Procedure {
+	b, err := procedures.NewBenchModel(d, procedures.BenchOptions{Seed: s.Seed})
+	if err != nil {
+		return nil
+	}
+	var p *procedures.Procedure
+	switch s.Mode {
+	case procedures.BringUp, procedures.Training:
+		p, err = procedures.BringUpProcedure(b)
+	case procedures.FaultFind, procedures.Practise:
+		p, err = procedures.FaultFindProcedure(b, s.Mode)
+	}
+	if err != nil || p == nil {
+		return nil
+	}
+	p.Steps = append(p.Steps, s.Added...)
+	return p
 }
 
 func fileExists(p string) bool {

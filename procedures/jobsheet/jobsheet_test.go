@@ -378,3 +378,40 @@ func TestOutOfBandRanking(t *testing.T) {
 		t.Errorf("scores %g, %g; want 3, 1", got[0].Score, got[1].Score)
 	}
 }
+
+// TestInferSuspects: a fault-finding session ranks its suspects with the
+// inference engine; probabilities come most probable first and sum to at
+// most 1.
+func TestInferSuspects(t *testing.T) {
+	s, err := procedures.LoadSession(fixture)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s.Mode = procedures.FaultFind
+	sh, err := Build(s, Options{Design: loadDesignA(t), Suspects: InferSuspects(40, 1)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !sh.Ranked || len(sh.Suspects) == 0 {
+		t.Fatalf("no ranked suspects (warnings: %v)", sh.Warnings)
+	}
+	sum := 0.0
+	for i, x := range sh.Suspects {
+		if math.IsNaN(x.Score) {
+			continue
+		}
+		sum += x.Score
+		if i > 0 && x.Score > sh.Suspects[i-1].Score {
+			t.Errorf("suspect %d (%s, %g) ranked below a less probable one (%g)", i+1, x.Name, x.Score, sh.Suspects[i-1].Score)
+		}
+	}
+	if sum > 1+1e-9 {
+		t.Errorf("probabilities sum to %g", sum)
+	}
+	var b bytes.Buffer
+	sh.Markdown(&b)
+	if !strings.Contains(b.String(), "Suspects, most likely first") || !strings.Contains(b.String(), sh.Suspects[0].Name) {
+		t.Error("the Markdown does not list the ranked suspects")
+	}
+	t.Logf("top suspects: %v", sh.Suspects[:min(3, len(sh.Suspects))])
+}
