@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strings"
 
 	"pinwalk/procedures"
 )
@@ -80,7 +81,7 @@ func (c *Comparison) document() *document {
 			}
 		}
 	}
-	top.table(&table{Head: []string{"", "Before", "After"}, Rows: [][]string{
+	top.table(&table{Head: []string{"Item", "Before", "After"}, Rows: [][]string{
 		{"Session", ModeText(c.Old.Mode), ModeText(c.New.Mode)},
 		{"Started", c.Old.Started.Format(TimeLayout + " MST"), c.New.Started.Format(TimeLayout + " MST")},
 		{"Amp", orDash(c.Old.Session.Bench.AmpID), orDash(c.New.Session.Bench.AmpID)},
@@ -111,7 +112,7 @@ func (c *Comparison) document() *document {
 			d := r.New.Value - r.Old.Value
 			change = fmtChange(d, r.Unit)
 			if r.Old.Value != 0 && d != 0 {
-				change += fmt.Sprintf(" (%+.1f %%)", 100*d/math.Abs(r.Old.Value))
+				change += strings.Replace(fmt.Sprintf(" (%+.1f %%)", 100*d/math.Abs(r.Old.Value)), "-", "−", 1)
 			}
 			if r.Old.Status == procedures.OutOfBand && r.New.Status == procedures.InBand {
 				fixed++
