@@ -31,13 +31,39 @@ const shortOhms = 1e-3
 // heater-open the heater windings feeding amplifying valves; a fuse open
 // loses its 0 Ω link. The tolerance corners stay exact bounds (Rayleigh's
 // monotonicity, see resistance): the fault's own element has no tolerance.
-func FaultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault) (out []Check, changed bool, err error) {
+// With corners false only the nominal reading is solved and the corners
+// are the base reading's corners scaled by the new reading (the relative
+// spread kept): a third of the work, for callers that need speed more
+// than exact bounds. Readings whose network the fault does not reach are
+// copied from base.
+func FaultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault, corners bool) (out []Check, changed bool, err error) {
 	if err := faults.Check(m, f); err != nil {
 		return nil, false, err
 	}
 	n := buildNetwork(d)
+	orig := buildNetwork(d)
 	if !alterNetwork(n, m, f) {
 		return base, false, nil
+	}
+	// Nets whose elements the fault touched: a reading whose component
+	// (before the fault) holds none of them is unchanged.
+	touched := map[string]bool{}
+	key := func(e edge) [3]string { return [3]string{e.ref, e.a, e.b} }
+	before := map[[3]string]edge{}
+	for _, e := range orig.edges {
+		before[key(e)] = e
+	}
+	after := map[[3]string]bool{}
+	for _, e := range n.edges {
+		after[key(e)] = true
+		if b, ok := before[key(e)]; !ok || b.ohms != e.ohms {
+			touched[e.a], touched[e.b] = true, true
+		}
+	}
+	for k, e := range before {
+		if !after[k] {
+			touched[e.a], touched[e.b] = true, true
+		}
 	}
 	n.adj = map[string][]int{}
 	for i, e := range n.edges {
@@ -47,6 +73,16 @@ func FaultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault) (
 	out = make([]Check, len(base))
 	for i, c := range base {
 		out[i] = c
+		hit := false
+		for net := range orig.reach(c.From, "") {
+			if touched[net] {
+				hit = true
+				break
+			}
+		}
+		if !hit {
+			continue
+		}
 		r, open, err := n.resistance(c.From, c.To, 0)
 		if err != nil {
 			return nil, true, err
@@ -54,6 +90,14 @@ func FaultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault) (
 		if open {
 			out[i].Ohms, out[i].Open = math.Inf(1), true
 			out[i].Tol = [2]float64{math.Inf(1), math.Inf(1)}
+			continue
+		}
+		if !corners {
+			lo, hi := r, r
+			if c.Ohms > 0 && !c.Open {
+				lo, hi = r*c.Tol[0]/c.Ohms, r*c.Tol[1]/c.Ohms
+			}
+			out[i].Ohms, out[i].Open, out[i].Tol = r, false, [2]float64{lo, hi}
 			continue
 		}
 		lo, _, err := n.resistance(c.From, c.To, -1)

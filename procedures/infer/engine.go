@@ -370,7 +370,7 @@ func (e *Engine) coldAll(base []cold.Check) error {
 					out <- res{h, base, nil}
 					continue
 				}
-				cs, _, err := cold.FaultChecks(e.d, e.m, base, *h.fault)
+				cs, _, err := cold.FaultChecks(e.d, e.m, base, *h.fault, false)
 				out <- res{h, cs, err}
 			}
 		}()

@@ -538,10 +538,27 @@ func (e *Engine) group(coldToo bool) []int {
 	return leader
 }
 
-// separator returns a point that separates two hypotheses (their bands,
-// widened by 3σ of a reading, do not overlap), or −1. With coldOnly only
-// cold points are tried.
+// SeparateDPrime is the separation above which two hypotheses' predictions
+// at a point count as telling them apart: the difference of their means
+// over the root mean square of their spreads (with the reading's σ), the
+// detectability index d' of signal detection theory (D. M. Green and J. A.
+// Swets, "Signal Detection Theory and Psychophysics", 1966). At d' = 2 a
+// single reading halfway between the means is misclassified about 16 % of
+// the time; bands that do not overlap at all also separate.
+const SeparateDPrime = 2.0
+
+// separator returns a point that separates two hypotheses (d' above
+// SeparateDPrime, or bands apart by more than 3σ of a reading), or −1.
+// DC points are tried unless coldOnly; cold points when coldToo or
+// coldOnly.
 func (e *Engine) separator(a, b *hyp, coldToo, coldOnly bool) int {
+	apart := func(q string, ma, va, mb, vb, loa, hia, lob, hib float64) bool {
+		sg := sigmaOf(q, max(math.Abs(ma), math.Abs(mb)), e.opt.Meter)
+		if gap := max(lob-hia, loa-hib); gap > 3*sg {
+			return true
+		}
+		return math.Abs(ma-mb) > SeparateDPrime*math.Sqrt((va+vb)/2+sg*sg)
+	}
 	if !coldOnly {
 		for k := 0; k < e.nDC; k++ {
 			if !a.valid[k] || !b.valid[k] {
@@ -550,12 +567,8 @@ func (e *Engine) separator(a, b *hyp, coldToo, coldOnly bool) int {
 				}
 				continue
 			}
-			gap := max(b.bandLo[k]-a.bandHi[k], a.bandLo[k]-b.bandHi[k])
-			if gap <= 0 {
-				continue
-			}
-			mid := (max(math.Abs(a.mean[k]), math.Abs(b.mean[k])))
-			if gap > 3*sigmaOf(e.points[k].quantity, mid, e.opt.Meter) {
+			if apart(e.points[k].quantity, a.mean[k], a.sd[k]*a.sd[k], b.mean[k], b.sd[k]*b.sd[k],
+				a.bandLo[k], a.bandHi[k], b.bandLo[k], b.bandHi[k]) {
 				return k
 			}
 		}
@@ -571,8 +584,8 @@ func (e *Engine) separator(a, b *hyp, coldToo, coldOnly bool) int {
 		if ca.open {
 			continue
 		}
-		gap := max(cb.lo-ca.hi, ca.lo-cb.hi)
-		if gap > 3*sigmaOf(amp.Ohms, max(ca.hi, cb.hi), e.opt.Meter) {
+		va, vb := (ca.hi-ca.lo)*(ca.hi-ca.lo)/12, (cb.hi-cb.lo)*(cb.hi-cb.lo)/12
+		if apart(amp.Ohms, (ca.lo+ca.hi)/2, va, (cb.lo+cb.hi)/2, vb, ca.lo, ca.hi, cb.lo, cb.hi) {
 			return e.nDC + j
 		}
 	}
