@@ -276,3 +276,31 @@ func BenchmarkRankDemoB(b *testing.B) {
 		e.Rank(all, nil)
 	}
 }
+
+// TestMutualInfoClosedForms: two equally likely hypotheses whose readings
+// never overlap carry one bit; identical predictions carry none; for two
+// normals N(±a, 1) with equal weights, I = H(X) − H(X|H), with H(X|H) the
+// normal's entropy ½·ln(2πe) (closed form) and H(X) integrated finely.
+func TestMutualInfoClosedForms(t *testing.T) {
+	if got := mutualInfo([]comp{{0.5, 0, 1}, {0.5, 1000, 1}}) / math.Ln2; math.Abs(got-1) > 1e-3 {
+		t.Errorf("separated: %.4f bits, want 1", got)
+	}
+	if got := mutualInfo([]comp{{0.3, 5, 2}, {0.7, 5, 2}}); got != 0 {
+		t.Errorf("identical: %.4g nats, want 0", got)
+	}
+	for _, a := range []float64{0.5, 1, 2} {
+		hx := 0.0
+		dx := 1e-3
+		for x := -12.0; x <= 12; x += dx {
+			f := 0.5*math.Exp(-(x-a)*(x-a)/2)/math.Sqrt(2*math.Pi) + 0.5*math.Exp(-(x+a)*(x+a)/2)/math.Sqrt(2*math.Pi)
+			if f > 0 {
+				hx -= f * math.Log(f) * dx
+			}
+		}
+		want := hx - 0.5*math.Log(2*math.Pi*math.E)
+		got := mutualInfo([]comp{{0.5, -a, 1}, {0.5, a, 1}})
+		if math.Abs(got-want) > 0.01 {
+			t.Errorf("a=%g: I = %.4f nats, want %.4f", a, got, want)
+		}
+	}
+}
