@@ -34,6 +34,7 @@ func commands() []command {
 		{"valves", "list the valve library, or show one type's pins, ratings and fit", runValves},
 		{"new", "write a commented design file to start from, from a template", runNew},
 		{"show", "a readable summary of a design, to check it against the schematic", runShow},
+		{"diagnose", "rank the likely faults from readings and say what to measure next", runDiagnose},
 		{"report", "a job sheet from a session (Markdown or HTML), or two sessions compared", runReport},
 		{"walk", "guided bring-up, fault-finding, training or practice (--plain for line-by-line prompts)", runWalk},
 	}
