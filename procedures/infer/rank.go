@@ -74,7 +74,8 @@ type Ranking struct {
 // Listing limits.
 const (
 	MinListed = 8    // suspects always listed
-	MinShown  = 1e-3 // and any other with at least this probability
+	MinShown  = 1e-3 // and any other with at least this probability…
+	MaxListed = 15   // …up to this many
 	maxWhy    = 4
 	pairTopK  = 4
 )
@@ -117,7 +118,7 @@ func (e *Engine) Rank(obs []Observation, allowed func(key string) bool) *Ranking
 	groupIx := map[int]int{}
 	for n, i := range order {
 		h := e.hyps[i]
-		if h.err != nil || (n >= MinListed && post[i] < MinShown) {
+		if h.err != nil || (n >= MinListed && post[i] < MinShown) || len(r.Suspects) == MaxListed {
 			continue
 		}
 		leader := e.groupAll[i]
@@ -144,7 +145,7 @@ func (e *Engine) Rank(obs []Observation, allowed func(key string) bool) *Ranking
 			r.FitNote = fmt.Sprintf("no single fault explains the readings: with the best candidate (%s) %s. Usual causes: the design file does not match the amplifier (a changed or wrong part value, a modification), a misread or wrong pin, or more than one fault.",
 				e.hyps[best].label, strings.Join(bad, "; "))
 			r.Pairs = e.rankPairs(use, order, post)
-			if len(r.Pairs) > 0 {
+			if len(r.Pairs) > 0 && r.Pairs[0].Probability >= 0.5 {
 				r.FitNote += fmt.Sprintf(" Best two-fault explanation: %s (%.0f %%).", r.Pairs[0].Label, 100*r.Pairs[0].Probability)
 			}
 		}
@@ -239,8 +240,10 @@ func coldLogLik(c coldPred, r, lb float64) float64 {
 	switch {
 	case readOpen && c.open:
 		return math.Log(1 - OutlierFloor)
-	case readOpen || c.open:
-		return math.Log(OutlierFloor)
+	case readOpen:
+		return math.Log(OutlierFloor) // an open reading where a value is predicted
+	case c.open:
+		return lb // a value read where open is predicted: an outlier density
 	}
 	sg := sigmaOf(amp.Ohms, r, bandsZeroMeter)
 	var dens float64

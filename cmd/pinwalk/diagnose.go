@@ -1,0 +1,370 @@
+package main
+
+import (
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+
+	"gopkg.in/yaml.v3"
+
+	"pinwalk/expect/amp"
+	"pinwalk/expect/bands"
+	"pinwalk/expect/design"
+	"pinwalk/expect/units"
+	"pinwalk/procedures/infer"
+)
+
+// symptomFlags collects repeated --symptom options.
+type symptomFlags []string
+
+func (s *symptomFlags) String() string     { return strings.Join(*s, ",") }
+func (s *symptomFlags) Set(v string) error { *s = append(*s, v); return nil }
+
+// rawReading is one line of a readings file before its key is checked.
+type rawReading struct {
+	id, value string
+	line      int
+}
+
+// readingsFile is a parsed readings file.
+type readingsFile struct {
+	cond     amp.Conditions
+	meter    string
+	readings []rawReading
+}
+
+// parseReadingsFile reads a YAML mapping of point id to reading, with an
+// optional `conditions:` mapping (mains, variac, meter).
+func parseReadingsFile(name string, data []byte) (*readingsFile, []string) {
+	var doc yaml.Node
+	if err := yaml.Unmarshal(data, &doc); err != nil {
+		return nil, []string{fmt.Sprintf("%s: %v", name, err)}
+	}
+	if len(doc.Content) == 0 {
+		return nil, []string{fmt.Sprintf("%s: empty: expected a mapping of point id to reading, like `V2.3: 245V`", name)}
+	}
+	root := doc.Content[0]
+	if root.Kind != yaml.MappingNode {
+		return nil, []string{fmt.Sprintf("%s:%d: expected a mapping of point id to reading, like `V2.3: 245V`", name, root.Line)}
+	}
+	rf := &readingsFile{}
+	var errs []string
+	for i := 0; i+1 < len(root.Content); i += 2 {
+		k, v := root.Content[i], root.Content[i+1]
+		if k.Value == "conditions" {
+			if v.Kind != yaml.MappingNode {
+				errs = append(errs, fmt.Sprintf("%s:%d: conditions: expected a mapping (mains, variac, meter)", name, v.Line))
+				continue
+			}
+			for j := 0; j+1 < len(v.Content); j += 2 {
+				ck, cv := v.Content[j], v.Content[j+1]
+				switch ck.Value {
+				case "mains":
+					x, err := units.Parse(cv.Value, units.Volts)
+					if err != nil || x < 50 || x > 300 {
+						errs = append(errs, fmt.Sprintf("%s:%d: conditions: mains %q: expected the mains volts at the wall, like 230V", name, cv.Line, cv.Value))
+						continue
+					}
+					rf.cond.MainsVolts = x
+				case "variac":
+					s := strings.TrimSuffix(strings.TrimSpace(cv.Value), "%")
+					x, err := strconv.ParseFloat(s, 64)
+					if err != nil || !(x > 0 && x <= 130) {
+						errs = append(errs, fmt.Sprintf("%s:%d: conditions: variac %q: expected a setting in percent of the mains, like 50%%", name, cv.Line, cv.Value))
+						continue
+					}
+					rf.cond.Variac = x / 100
+				case "meter":
+					rf.meter = cv.Value
+				default:
+					errs = append(errs, fmt.Sprintf("%s:%d: conditions: unknown field %q%s: expected mains, variac or meter", name, ck.Line, ck.Value,
+						suggestHint(ck.Value, []string{"mains", "variac", "meter"})))
+				}
+			}
+			continue
+		}
+		if v.Kind != yaml.ScalarNode {
+			errs = append(errs, fmt.Sprintf("%s:%d: %s: expected one reading, like 245V", name, v.Line, k.Value))
+			continue
+		}
+		rf.readings = append(rf.readings, rawReading{id: k.Value, value: v.Value, line: k.Line})
+	}
+	return rf, errs
+}
+
+func suggestHint(w string, cands []string) string {
+	if s := design.Suggest(w, cands); len(s) > 0 {
+		return fmt.Sprintf(" (did you mean %q?)", s[0])
+	}
+	return ""
+}
+
+// resolveReading turns a readings-file entry into an observation: "V2.3"
+// and net names are DC volts, "V2.3 dc_amps" names the quantity, "cold:B1"
+// is a cold resistance ("open" or "OL" for an open reading).
+func resolveReading(e *infer.Engine, keys map[string]bool, ids []string, file string, r rawReading) (infer.Observation, error) {
+	id := strings.TrimSpace(r.id)
+	key := id
+	switch {
+	case strings.HasPrefix(id, "cold:") && !strings.HasSuffix(id, " "+amp.Ohms):
+		key = id + " " + amp.Ohms
+	case !strings.HasPrefix(id, "cold:") && !strings.Contains(id, " "):
+		key = id + " " + amp.DCVolts
+	}
+	if !keys[key] {
+		return infer.Observation{}, fmt.Errorf("%s:%d: %s: no such point in the design%s", file, r.line, id, suggestHint(id, ids))
+	}
+	q := key[strings.LastIndexByte(key, ' ')+1:]
+	uq := units.Volts
+	switch q {
+	case amp.DCAmps, amp.ACAmps:
+		uq = units.Amps
+	case amp.Ohms:
+		uq = units.Ohms
+		switch strings.ToLower(strings.TrimSpace(r.value)) {
+		case "open", "ol", "inf", "o.l.", "over":
+			return infer.Observation{Key: key, Value: math.Inf(1)}, nil
+		}
+	}
+	x, err := units.Parse(r.value, uq)
+	if err != nil {
+		return infer.Observation{}, fmt.Errorf("%s:%d: %s: %v", file, r.line, id, err)
+	}
+	return infer.Observation{Key: key, Value: x}, nil
+}
+
+type jsonSuspect struct {
+	Part        string   `json:"part"`
+	Mode        string   `json:"mode"`
+	Label       string   `json:"label"`
+	Probability float64  `json:"probability"`
+	Group       int      `json:"group"`
+	Why         []string `json:"why"`
+}
+
+type jsonProbe struct {
+	ID       string  `json:"id"`
+	Label    string  `json:"label"`
+	GainBits float64 `json:"gain_bits"`
+	Cost     float64 `json:"cost"`
+	Live     bool    `json:"live"`
+	Setup    string  `json:"setup"`
+}
+
+type jsonDiagnosis struct {
+	Design     string        `json:"design"`
+	Readings   int           `json:"readings"`
+	Symptoms   []string      `json:"symptoms"`
+	Suspects   []jsonSuspect `json:"suspects"`
+	Groups     [][]string    `json:"groups"`
+	GroupNotes []string      `json:"group_notes"`
+	Fits       bool          `json:"fits"`
+	FitNote    string        `json:"fit_note,omitempty"`
+	Pairs      []jsonSuspect `json:"pairs,omitempty"`
+	Next       *jsonProbe    `json:"next"`
+	Unsolved   []string      `json:"unsolved,omitempty"`
+}
+
+func toJSONSuspect(s infer.Suspect) jsonSuspect {
+	part, mode := "", s.Fault
+	if i := strings.LastIndexByte(s.Fault, ':'); i > 0 && !strings.Contains(s.Fault, "+") {
+		part, mode = s.Fault[:i], s.Fault[i+1:]
+	}
+	return jsonSuspect{Part: part, Mode: mode, Label: s.Label, Probability: s.Probability, Group: s.Group, Why: s.Why}
+}
+
+func runDiagnose(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("diagnose", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	readings := fs.String("readings", "", "YAML file of readings: point id to value (V2.3: 245V, B1: 318, \"V2.3 dc_amps\": 45mA, cold:B1: 220k)")
+	var symptoms symptomFlags
+	fs.Var(&symptoms, "symptom", "a reported symptom, repeatable: "+strings.Join(infer.Symptoms, ", "))
+	asJSON := fs.Bool("json", false, "print JSON (suspects, next, fits, groups)")
+	meterSpec := fs.String("meter", "", "the voltmeter: 10M (digital) or 20k/V:500V (analogue); default the readings file's, else 10M")
+	samples := fs.Int("samples", infer.DefaultSamples, "tolerance samples per hypothesis")
+	seed := fs.Uint64("seed", 1, "random seed of the samples")
+	fs.Usage = func() {
+		fmt.Fprintln(stderr, `Usage: pinwalk diagnose [options] DESIGN --readings FILE
+
+Ranks the likely faults from the readings taken so far: every single-part
+fault the model knows is solved with the parts' tolerances, and each is
+weighed by how well it predicts the readings (Bayes' rule). Prints the
+suspects with why, suspects no reading can tell apart, and the reading
+that would narrow them down most for the effort.`)
+		fs.PrintDefaults()
+	}
+	var pos []string
+	for rest := args; ; {
+		if err := fs.Parse(rest); err != nil {
+			if errors.Is(err, flag.ErrHelp) {
+				return exitOK
+			}
+			return exitUsage
+		}
+		if fs.NArg() == 0 {
+			break
+		}
+		pos = append(pos, fs.Arg(0))
+		rest = fs.Args()[1:]
+	}
+	if len(pos) > 1 {
+		fmt.Fprintf(stderr, "pinwalk: diagnose takes one design, found %d: %s\n", len(pos), strings.Join(pos, " "))
+		return exitUsage
+	}
+	if *readings == "" {
+		fmt.Fprintln(stderr, "pinwalk: diagnose: --readings FILE is required (a YAML mapping of point id to reading, like `V2.3: 245V`)")
+		return exitUsage
+	}
+	if *samples < 10 || *samples > 5000 {
+		fmt.Fprintf(stderr, "pinwalk: --samples %d: expected 10 to 5000\n", *samples)
+		return exitUsage
+	}
+	designArg := ""
+	if len(pos) == 1 {
+		designArg = pos[0]
+	}
+	d, probs, err := loadDesign(designArg, stderr)
+	if err != nil {
+		for _, p := range probs.Errors() {
+			fmt.Fprintln(stderr, p.Error())
+		}
+		fmt.Fprintf(stderr, "pinwalk: %v\n", err)
+		return exitProblems
+	}
+	data, err := os.ReadFile(*readings)
+	if err != nil {
+		fmt.Fprintf(stderr, "pinwalk: %v\n", err)
+		return exitProblems
+	}
+	rf, errs := parseReadingsFile(*readings, data)
+	if len(errs) > 0 {
+		for _, e := range errs {
+			fmt.Fprintln(stderr, e)
+		}
+		return exitProblems
+	}
+	spec := rf.meter
+	if *meterSpec != "" {
+		spec = *meterSpec
+	}
+	meter, err := bands.ParseMeter(spec)
+	if err != nil {
+		fmt.Fprintf(stderr, "pinwalk: meter: %v\n", err)
+		return exitUsage
+	}
+	e, err := infer.New(d, infer.Options{Samples: *samples, Seed: *seed, Meter: meter, Symptoms: symptoms, Cond: rf.cond})
+	if err != nil {
+		fmt.Fprintf(stderr, "pinwalk: %v\n", err)
+		if strings.Contains(err.Error(), "symptom") {
+			return exitUsage
+		}
+		return exitFailure
+	}
+	keys := map[string]bool{}
+	var ids []string
+	for _, k := range e.Keys() {
+		keys[k] = true
+		ids = append(ids, k)
+		if i := strings.LastIndexByte(k, ' '); i > 0 {
+			ids = append(ids, k[:i])
+		}
+	}
+	var obs []infer.Observation
+	bad := false
+	for _, r := range rf.readings {
+		o, err := resolveReading(e, keys, ids, *readings, r)
+		if err != nil {
+			fmt.Fprintln(stderr, err)
+			bad = true
+			continue
+		}
+		obs = append(obs, o)
+	}
+	if bad {
+		return exitProblems
+	}
+	rk := e.Rank(obs, nil)
+	if *asJSON {
+		out := jsonDiagnosis{Design: d.File, Readings: len(obs), Symptoms: append([]string{}, symptoms...), Groups: rk.Groups,
+			GroupNotes: append([]string{}, rk.GroupNotes...), Fits: rk.Fits, FitNote: rk.FitNote, Unsolved: rk.Unsolved}
+		for _, s := range rk.Suspects {
+			out.Suspects = append(out.Suspects, toJSONSuspect(s))
+		}
+		for _, s := range rk.Pairs {
+			out.Pairs = append(out.Pairs, toJSONSuspect(s))
+		}
+		if n := rk.Next; n != nil {
+			out.Next = &jsonProbe{ID: n.Key, Label: n.Label, GainBits: n.GainBits, Cost: n.Cost, Live: n.Live, Setup: n.Setup}
+		}
+		enc := json.NewEncoder(stdout)
+		enc.SetIndent("", "  ")
+		if err := enc.Encode(out); err != nil {
+			return exitFailure
+		}
+		return exitOK
+	}
+	printDiagnosis(stdout, d, e, rk, len(obs), symptoms)
+	return exitOK
+}
+
+// bar draws a probability as a bar of plain characters: "#####....." .
+func bar(p float64, width int) string {
+	n := int(math.Round(p * float64(width)))
+	n = max(0, min(width, n))
+	return strings.Repeat("#", n) + strings.Repeat(".", width-n)
+}
+
+func printDiagnosis(w io.Writer, d *design.Design, e *infer.Engine, rk *infer.Ranking, n int, symptoms []string) {
+	fmt.Fprintf(w, "Diagnosis: %s\n", d.Title)
+	fmt.Fprintf(w, "%d reading(s)", n)
+	if len(symptoms) > 0 {
+		fmt.Fprintf(w, "; symptoms: %s", strings.Join(symptoms, ", "))
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintln(w)
+	fmt.Fprintln(w, "Suspects (most likely first):")
+	for i, s := range rk.Suspects {
+		fmt.Fprintf(w, "%3d. [%s] %5.1f %%  %-14s %s", i+1, bar(s.Probability, 20), 100*s.Probability, s.Fault, s.Label)
+		if len(rk.Groups[s.Group]) > 1 {
+			fmt.Fprintf(w, "  (group %d)", s.Group+1)
+		}
+		fmt.Fprintln(w)
+		for _, y := range s.Why {
+			fmt.Fprintf(w, "        - %s\n", y)
+		}
+	}
+	if len(rk.GroupNotes) > 0 {
+		fmt.Fprintln(w)
+		fmt.Fprintln(w, "Cannot be told apart:")
+		for _, g := range rk.GroupNotes {
+			fmt.Fprintf(w, "  - %s\n", g)
+		}
+	}
+	if !rk.Fits {
+		fmt.Fprintln(w)
+		fmt.Fprintf(w, "NOTHING FITS WELL: %s\n", rk.FitNote)
+		for _, p := range rk.Pairs {
+			fmt.Fprintf(w, "  [%s] %5.1f %%  %s\n", bar(p.Probability, 20), 100*p.Probability, p.Label)
+		}
+	}
+	for _, u := range rk.Unsolved {
+		fmt.Fprintf(w, "note: hypothesis not solved (left out): %s\n", u)
+	}
+	fmt.Fprintln(w)
+	if nx := rk.Next; nx != nil {
+		fmt.Fprintf(w, "Next measurement: %s (%s): expected gain %.2f bits, effort %g\n", nx.Label, nx.Key, nx.GainBits, nx.Cost)
+		fmt.Fprintf(w, "  Setup: %s\n", nx.Setup)
+		if nx.Live {
+			fmt.Fprintln(w, "  CAUTION: this reading is taken with the amplifier powered. The voltages are lethal; one hand, clip the")
+			fmt.Fprintln(w, "  black lead first, use a meter and probes rated above the highest voltage in the amplifier.")
+		}
+	} else {
+		fmt.Fprintln(w, "No further reading left to suggest.")
+	}
+}

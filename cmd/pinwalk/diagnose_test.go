@@ -1,0 +1,45 @@
+package main
+
+import (
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// TestDiagnoseCLI: an open plate resistor's readings put it on top (JSON
+// shape), an unknown id is an error naming file:line with a suggestion.
+func TestDiagnoseCLI(t *testing.T) {
+	dir := t.TempDir()
+	good := filepath.Join(dir, "r.yaml")
+	// R24 (82 kΩ plate load of V2 section A) open: the plate reads about 0 V.
+	os.WriteFile(good, []byte("conditions: {mains: 230V}\nV2.6: 0.2V\nPIB: 200\n\"V3.8 dc_amps\": 40mA\n"), 0o644)
+	code, out, errOut := runCLI("diagnose", "--json", "--samples", "60", "../../testdata/designs/pp-el34-fixed.yaml", "--readings", good)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	var doc struct {
+		Suspects []struct {
+			Part, Mode  string
+			Probability float64
+		}
+		Next *struct {
+			ID       string  `json:"id"`
+			GainBits float64 `json:"gain_bits"`
+		}
+		Fits bool
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.Suspects) == 0 || doc.Suspects[0].Part != "R24" || doc.Suspects[0].Mode != "open" || doc.Next == nil {
+		t.Fatalf("top suspect %+v, next %+v: want R24 open and a next probe", doc.Suspects[:1], doc.Next)
+	}
+	bad := filepath.Join(dir, "bad.yaml")
+	os.WriteFile(bad, []byte("V2.6: 0.2V\nPIAA: 3V\n"), 0o644)
+	code, _, errOut = runCLI("diagnose", "--samples", "20", "../../testdata/designs/pp-el34-fixed.yaml", "--readings", bad)
+	if code != exitProblems || !strings.Contains(errOut, "bad.yaml:2: PIAA") || !strings.Contains(errOut, "did you mean") {
+		t.Errorf("unknown id: exit %d, stderr %q", code, errOut)
+	}
+}
