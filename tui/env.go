@@ -88,13 +88,40 @@ func (e *env) lastReading(point string) *procedures.Reading {
 	return nil
 }
 
-// guessFor returns the trainee's prediction for a point, if any.
-func (e *env) guessFor(point string) *procedures.Guess {
+// guessFor returns the trainee's prediction for a point in a step, if
+// any. Predictions carry no step, so they are matched by time: the one
+// made after the point's previous reading and before this step's reading
+// of it (or, when the step has no reading yet, after the point's latest
+// reading anywhere).
+func (e *env) guessFor(step, point string) *procedures.Guess {
+	rs := e.run.Sess.Readings
+	var until, after *procedures.Reading
+	for i := len(rs) - 1; i >= 0; i-- {
+		if rd := &rs[i]; rd.Point == point && rd.Step == step && rd.Status != procedures.Retry {
+			until = rd
+			break
+		}
+	}
+	for i := len(rs) - 1; i >= 0; i-- {
+		rd := &rs[i]
+		if rd.Point == point && rd.Step != step && (until == nil || rd.At.Before(until.At)) {
+			after = rd
+			break
+		}
+	}
 	gs := e.run.Sess.Guesses
 	for i := len(gs) - 1; i >= 0; i-- {
-		if gs[i].Point == point {
-			return &gs[i]
+		g := &gs[i]
+		if g.Point != point {
+			continue
 		}
+		if until != nil && g.At.After(until.At) {
+			continue
+		}
+		if after != nil && !g.At.After(after.At) {
+			return nil
+		}
+		return g
 	}
 	return nil
 }

@@ -5,6 +5,7 @@ import (
 	"strings"
 
 	"github.com/charmbracelet/lipgloss"
+	"github.com/charmbracelet/x/ansi"
 
 	"pinwalk/expect/units"
 	"pinwalk/procedures"
@@ -172,7 +173,8 @@ func statusMark(s *Styles, g Glyphs, st procedures.Status) (string, string, lipg
 	return g.NotYet, "not yet", s.Dim
 }
 
-// truncate cuts s to width cells.
+// truncate cuts s to width cells (escape sequences kept whole), marking
+// the cut with an ellipsis.
 func truncate(s string, width int) string {
 	if width <= 0 {
 		return ""
@@ -180,11 +182,7 @@ func truncate(s string, width int) string {
 	if lipgloss.Width(s) <= width {
 		return s
 	}
-	rs := []rune(s)
-	for len(rs) > 0 && lipgloss.Width(string(rs))+1 > width {
-		rs = rs[:len(rs)-1]
-	}
-	return string(rs) + "…"
+	return ansi.Truncate(s, width, "…")
 }
 
 // wrap breaks text into lines of at most width cells, at spaces.

@@ -232,7 +232,7 @@ func (v socketView) View() string {
 		lines = append(lines, table...)
 	default:
 		lines = append(lines, drawing...)
-		lines = append(lines, s.Dim.Render(fmt.Sprintf("Legend: %s in band  %s out of band  %s re-measure  %s not yet · wider screen shows the table", g.InBand, g.OutOfBand, g.Retry, g.NotYet)))
+		lines = append(lines, s.Dim.Render(truncate(fmt.Sprintf("%s in band  %s out of band  %s re-measure  %s not yet %s a taller or wider screen shows the table", g.InBand, g.OutOfBand, g.Retry, g.NotYet, g.Dot), w)))
 	}
 	if len(lines) > v.h && v.h > 0 {
 		lines = lines[:v.h]

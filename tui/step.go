@@ -69,7 +69,7 @@ func (v *stepView) setMode(m inputMode) {
 // predicting reports whether the input asks for a trainee's prediction
 // for measure m (training and practice, before the band is shown).
 func (v *stepView) predicting(m *procedures.Measure) bool {
-	return m != nil && v.e.run.Training && v.e.guessFor(m.Point) == nil
+	return m != nil && v.e.run.Training && v.e.guessFor(v.e.run.Current().ID, m.Point) == nil
 }
 
 // bandCmds asks for the bands of the current step's measures.
@@ -270,8 +270,6 @@ func (v stepView) View() string {
 	}
 	top := []string{joinEnds(s.Title.Render(truncate(title, w-lipgloss.Width(state)-2)), s.Warn.Render(state), w)}
 
-	box := v.cautionBox(st, w)
-
 	var mid []string
 	if b := r.Blockers(st); len(b) > 0 && !r.Done(st.ID) {
 		mid = append(mid, s.Bad.Render(g.OutOfBand+" NOT YET: first "+strings.Join(b, ", ")))
@@ -288,12 +286,11 @@ func (v stepView) View() string {
 				n = i + 1
 			}
 		}
-		mid = append(mid, s.Label.Render(fmt.Sprintf("Reading %d of %d: ", n, len(st.Measures)))+shown.Label)
-		meter := "Meter: " + string(shown.Function)
+		meter := " " + g.Dot + " " + string(shown.Function)
 		if shown.Range != "" {
-			meter += ", range " + shown.Range
+			meter += ", " + shown.Range
 		}
-		mid = append(mid, truncate(meter, w))
+		mid = append(mid, truncate(s.Label.Render(fmt.Sprintf("Reading %d of %d: ", n, len(st.Measures)))+shown.Label+meter, w))
 		if shown.Probes != "" {
 			for _, l := range wrap("Probes: "+shown.Probes, w) {
 				mid = append(mid, l)
@@ -320,6 +317,9 @@ func (v stepView) View() string {
 		mid = append(mid, v.finishLines(w)...)
 	}
 
+	// The caution box gets what the fixed parts leave, less one line for
+	// the instruction, but never less than its heading and two lines.
+	box := v.cautionBox(st, w, max(5, v.h-len(top)-len(mid)-1))
 	boxLines := strings.Split(box, "\n")
 	if box == "" {
 		boxLines = nil
@@ -355,7 +355,7 @@ func (v stepView) View() string {
 // cautionBox draws the step's cautions in a bordered box headed DANGER on
 // live steps and CAUTION otherwise; the heading word is there without
 // colour too.
-func (v stepView) cautionBox(st *procedures.Step, w int) string {
+func (v stepView) cautionBox(st *procedures.Step, w, height int) string {
 	if len(st.Cautions) == 0 && !st.Live {
 		return ""
 	}
@@ -374,7 +374,7 @@ func (v stepView) cautionBox(st *procedures.Step, w int) string {
 	}
 	// A box taller than a third of the screen is cut, never dropped: the
 	// heading stays, the rest is one key away.
-	limit := max(3, v.h/2-1)
+	limit := height - 2
 	if len(lines) > limit {
 		lines = append(lines[:limit-1:limit-1], s.Bad.Render("more cautions: ctrl+e shows them all"))
 	}
@@ -412,7 +412,7 @@ func (v stepView) gaugeLines(st *procedures.Step, m *procedures.Measure, w int) 
 		val := v.last.Reading.Value
 		mk.Reading, mk.Status = &val, v.last.Reading.Status
 	}
-	if gu := v.e.guessFor(m.Point); gu != nil && v.e.run.Training {
+	if gu := v.e.guessFor(st.ID, m.Point); gu != nil && v.e.run.Training {
 		val := gu.Value
 		mk.Guess = &val
 	}

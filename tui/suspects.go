@@ -79,7 +79,11 @@ func (v suspectsView) View() string {
 	}
 	lines = append(lines, s.Title.Render(head))
 	if !rk.Fits && rk.FitNote != "" {
-		for _, l := range wrap(g.OutOfBand+" NO SINGLE FAULT FITS: "+rk.FitNote, w) {
+		note := wrap(g.OutOfBand+" NO SINGLE FAULT FITS: "+rk.FitNote, w)
+		if len(note) > 3 {
+			note = append(note[:2:2], truncate(note[2], w-16)+" (ctrl+e: all)")
+		}
+		for _, l := range note {
 			lines = append(lines, s.Bad.Render(l))
 		}
 	}

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"strings"
 
+	"github.com/charmbracelet/bubbles/key"
 	"github.com/charmbracelet/lipgloss"
 
 	"pinwalk/procedures"
@@ -41,7 +42,7 @@ func (m Model) View() string {
 		bl = append(bl, "")
 	}
 	lines = append(lines, bl...)
-	lines = append(lines, m.statusLine(), m.help.ShortHelpView(m.e.keys.ShortHelp()))
+	lines = append(lines, m.statusLine(), truncate(m.help.ShortHelpView(m.e.keys.ShortHelp()), m.w))
 	return strings.Join(lines, "\n")
 }
 
@@ -111,7 +112,7 @@ func (m Model) statusLine() string {
 	case m.path == "":
 		save = s.Warn.Render("not saved to a file (no session path)")
 	case m.saveErr != nil:
-		save = s.StatusEr.Render(g.OutOfBand + " NOT SAVED: " + m.saveErr.Error() + " (readings kept in memory; ctrl+r retries)")
+		save = s.StatusEr.Render(g.OutOfBand + " NOT SAVED (kept in memory; ctrl+r retries): " + m.saveErr.Error())
 	case m.saving || m.dirty:
 		save = s.Status.Render("saving " + g.Ellipsis)
 	default:
@@ -126,8 +127,23 @@ func (m Model) statusLine() string {
 
 func (m Model) helpBox() string {
 	h := m.help
-	h.Width = max(20, m.w-6)
-	body := m.e.st.Title.Render("Keys") + "\n\n" + h.FullHelpView(m.e.keys.FullHelp()) + "\n\n" +
+	h.Width = 0 // each column whole; the columns are laid out here
+	var cols []string
+	for _, g := range m.e.keys.FullHelp() {
+		cols = append(cols, h.FullHelpView([][]key.Binding{g}))
+	}
+	// Side by side when they fit, else the first two side by side and the
+	// rest below, else one under another.
+	var keys string
+	switch all := lipgloss.JoinHorizontal(lipgloss.Top, interleave(cols, "   ")...); {
+	case lipgloss.Width(all) <= m.w-6:
+		keys = all
+	case len(cols) > 2 && lipgloss.Width(lipgloss.JoinHorizontal(lipgloss.Top, cols[0], "   ", cols[1])) <= m.w-6:
+		keys = lipgloss.JoinHorizontal(lipgloss.Top, cols[0], "   ", lipgloss.JoinVertical(lipgloss.Left, append([]string{cols[1], ""}, cols[2:]...)...))
+	default:
+		keys = lipgloss.JoinVertical(lipgloss.Left, cols...)
+	}
+	body := m.e.st.Title.Render("Keys") + "\n\n" + keys + "\n\n" +
 		m.e.st.Dim.Render("Readings: 312, 312V, 4.7mA, 4m7A, 2k2, 4k7Ω, 1M, OL (open).\nEnd with ! to record a value the program questions.") + "\n" +
 		m.e.st.Dim.Render("Esc or F1 closes this.")
 	return m.e.st.Overlay.Render(body)
@@ -200,6 +216,9 @@ func (m Model) detail(h int) string {
 	}
 	w := m.w
 	var lines []string
+	if m.view == viewSuspects && m.sus.rank != nil && !m.practice() {
+		return m.scrolled(m.rankDetail(w), h)
+	}
 	lines = append(lines, s.Title.Render(st.Title)+s.Dim.Render("  (↑/↓ scroll, any other key closes)"))
 	for _, c := range st.Cautions {
 		head := "CAUTION: "
@@ -222,10 +241,52 @@ func (m Model) detail(h int) string {
 	for _, ms := range st.Measures {
 		lines = append(lines, wrap(fmt.Sprintf("Reading: %s · %s %s · probes: %s", ms.Label, ms.Function, ms.Range, ms.Probes), w)...)
 	}
+	return m.scrolled(lines, h)
+}
+
+// scrolled shows h lines from the overlay's scroll position.
+func (m Model) scrolled(lines []string, h int) string {
 	top := min(m.scroll, max(0, len(lines)-h))
 	lines = lines[top:]
 	if len(lines) > h {
 		lines = lines[:h]
 	}
 	return strings.Join(lines, "\n")
+}
+
+// rankDetail is the whole ranking in words: the fit note, every suspect
+// with all its reasons, the groups and their notes.
+func (m Model) rankDetail(w int) []string {
+	s, rk := m.e.st, m.sus.rank
+	lines := []string{s.Title.Render("Suspects in full") + s.Dim.Render("  (↑/↓ scroll, any other key closes)")}
+	if !rk.Fits && rk.FitNote != "" {
+		lines = append(lines, wrap("No single fault fits: "+rk.FitNote, w)...)
+	}
+	for i, su := range rk.Suspects {
+		lines = append(lines, wrap(fmt.Sprintf("%d. %s (%s) %.1f %%", i+1, su.Label, su.Fault, 100*su.Probability), w)...)
+		for _, why := range su.Why {
+			lines = append(lines, wrap("   "+why, w)...)
+		}
+	}
+	for i, g := range rk.Groups {
+		if len(g) > 1 {
+			lines = append(lines, wrap(fmt.Sprintf("Group %d: %s", i+1, strings.Join(g, " = ")), w)...)
+			if i < len(rk.GroupNotes) && rk.GroupNotes[i] != "" {
+				lines = append(lines, wrap("   "+rk.GroupNotes[i], w)...)
+			}
+		}
+	}
+	return lines
+}
+
+// interleave puts sep between the strings.
+func interleave(ss []string, sep string) []string {
+	var out []string
+	for i, s := range ss {
+		if i > 0 {
+			out = append(out, sep)
+		}
+		out = append(out, s)
+	}
+	return out
 }
