@@ -104,7 +104,7 @@ func (v suspectsView) View() string {
 	if w >= 110 {
 		barW = 20
 	}
-	labelW := max(12, min(40, w-barW-16))
+	labelW := max(12, w-barW-28)
 	var body []string
 	for i, su := range rk.Suspects {
 		grp := ""

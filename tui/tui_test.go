@@ -427,3 +427,35 @@ func BenchmarkKeyToFrame(b *testing.B) {
 		}
 	})
 }
+
+// TestFaultFindLoop: in fault-finding the measuring loop runs in a
+// command after every change; once the safety steps are done it adds its
+// first measurement, which the step view shows, and the suspects view
+// shows the loop's ranking.
+func TestFaultFindLoop(t *testing.T) {
+	walk, _ := openWalk(t, "se-6v6-stereo", procedures.FaultFind)
+	m := newModel(t, walk, 100, 30)
+	r := walk.R
+	for n := 0; n < 60 && len(r.Sess.Added) == 0; n++ {
+		st := r.Current()
+		if ms := r.NextMeasure(); ms != nil {
+			b, _ := r.Expected(st, ms)
+			m = drive(t, m, typeText(typed(b.Nominal, ms.Unit))...)
+			continue
+		}
+		m = drive(t, m, keyMsg(tea.KeyEnter))
+	}
+	if len(r.Sess.Added) == 0 {
+		t.Fatalf("the loop added no step; at %s", r.Current().ID)
+	}
+	if m.busy || len(m.queue) > 0 {
+		t.Errorf("still busy after the loop reported (queue %d)", len(m.queue))
+	}
+	if s := screen(m); !strings.Contains(s, r.Current().Title) {
+		t.Errorf("step view does not show the added step %q:\n%s", r.Current().Title, s)
+	}
+	m = drive(t, m, keyMsg(tea.KeyTab), keyMsg(tea.KeyTab))
+	if m.sus.rank == nil || !strings.Contains(screen(m), "Suspects on") {
+		t.Errorf("suspects view has no ranking:\n%s", screen(m))
+	}
+}

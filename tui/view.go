@@ -174,7 +174,7 @@ func (m Model) quitBox() string {
 func (m Model) stepsList(h int) string {
 	s, g, r := m.e.st, m.e.g, m.e.run
 	var lines []string
-	lines = append(lines, s.Title.Render("Steps")+s.Dim.Render("  ↑/↓ choose, Enter go, Esc close"))
+	lines = append(lines, s.Title.Render("Steps")+s.Dim.Render(fmt.Sprintf("  ↑/↓ choose, Enter go, Esc close  (%s done, %s skipped, %s open, - waits on earlier steps)", g.Done, g.Skipped, g.NotYet)))
 	room := max(1, h-1)
 	top := max(0, min(m.listCursor-room/2, len(r.Proc.Steps)-room))
 	for i := top; i < len(r.Proc.Steps) && i < top+room; i++ {
