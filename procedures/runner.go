@@ -285,6 +285,9 @@ func ParseReading(raw string, m *Measure, expect *Band) (float64, error) {
 	if q == units.Ohms && (low == "ol" || low == "open" || low == "inf" || low == "o.l" || low == "o.l.") {
 		return math.Inf(1), nil
 	}
+	if _, q2, err := units.ParseAny(s); err == nil && q2 != units.None && q2 != q {
+		return 0, fmt.Errorf("%s is a %s: this step measures %s (%s)", s, q2.String(), q.String(), m.Function)
+	}
 	v, err := units.Parse(s, q)
 	if err != nil {
 		var me *units.MismatchError

@@ -230,7 +230,8 @@ func ParseSession(name string, data []byte) (*Session, error) {
 				fmt.Sscanf(msg[i+5:], "%d", &line)
 			}
 		}
-		return nil, &SessionError{File: name, Line: line, Col: 1, Field: "session", Msg: msg}
+		return nil, &SessionError{File: name, Line: line, Col: 1, Field: "session",
+			Msg: "damaged session (" + strings.TrimPrefix(msg, fmt.Sprintf("line %d: ", line)) + "): the file may be truncated or edited by hand; expected a pinwalk session file"}
 	}
 	if s.Pinwalk != SessionVersion {
 		return nil, &SessionError{File: name, Line: 1, Col: 1, Field: "pinwalk-session",

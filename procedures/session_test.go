@@ -1,0 +1,117 @@
+package procedures
+
+import (
+	"bufio"
+	"errors"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+)
+
+// TestBadSessions runs the catalogue of damaged session files: each gives a
+// *SessionError naming the file, a line inside it, the field and what was
+// expected, and never a panic.
+func TestBadSessions(t *testing.T) {
+	f, err := os.Open("../testdata/bad-sessions/want.tsv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	sc := bufio.NewScanner(f)
+	n := 0
+	for sc.Scan() {
+		parts := strings.Split(sc.Text(), "\t")
+		if len(parts) != 3 {
+			continue
+		}
+		name, field, sub := parts[0], parts[1], parts[2]
+		n++
+		t.Run(name, func(t *testing.T) {
+			path := filepath.Join("..", "testdata", "bad-sessions", name)
+			_, err := LoadSession(path)
+			var se *SessionError
+			if !errors.As(err, &se) {
+				t.Fatalf("got %v (%T), want a *SessionError", err, err)
+			}
+			if se.File != path || se.Line < 1 || se.Field != field || !strings.Contains(se.Msg, sub) {
+				t.Errorf("got %q, want file %s, field %s, message containing %q", se.Error(), path, field, sub)
+			}
+		})
+	}
+	if n < 10 {
+		t.Fatalf("only %d catalogue entries", n)
+	}
+}
+
+// TestSaveFailureKeepsReading: saving into a directory that cannot be
+// written (read-only, or a full disk) gives a visible error, and the
+// reading stays in memory so a retry after the problem is fixed saves it.
+func TestSaveFailureKeepsReading(t *testing.T) {
+	if os.Geteuid() == 0 {
+		// root ignores directory permissions: use a path under a file
+		// instead, which fails for every user.
+	}
+	dir := t.TempDir()
+	blocker := filepath.Join(dir, "not-a-dir")
+	if err := os.WriteFile(blocker, []byte("x"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(blocker, "session.yaml") // its parent is a file: every save fails
+	p := &Procedure{Mode: BringUp, Steps: []*Step{
+		{ID: "a", Title: "Measure B1", Kind: KindLive, Measures: []Measure{{Point: "B1 dc_volts", Unit: "V", Function: FuncDCV}}},
+	}}
+	s := &Session{Design: DesignRef{File: "x", Hash: "h"}, Mode: BringUp}
+	r := NewRunner(p, s, path, nil)
+	r.Now = func() time.Time { return time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC) }
+	if _, err := r.Enter("", "312"); err == nil {
+		t.Fatal("saving into an unwritable place reported no error")
+	}
+	if r.SaveErr == nil {
+		t.Fatal("SaveErr not set")
+	}
+	if len(s.Readings) != 1 || s.Readings[0].Value != 312 {
+		t.Fatalf("reading lost from memory: %+v", s.Readings)
+	}
+	// The problem is fixed (the user frees space or picks another file):
+	// a retry saves everything typed so far.
+	r.Path = filepath.Join(dir, "session.yaml")
+	if err := r.SaveNow(); err != nil {
+		t.Fatal(err)
+	}
+	back, err := LoadSession(r.Path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(back.Readings) != 1 || back.Readings[0].Raw != "312" {
+		t.Fatalf("retry saved %+v", back.Readings)
+	}
+}
+
+// TestReadingQuestioned: a reading with the wrong unit is refused, an
+// absurd magnitude is questioned until confirmed with "!".
+func TestReadingQuestioned(t *testing.T) {
+	m := &Measure{Point: "B1 dc_volts", Unit: "V", Function: FuncDCV}
+	band := &Band{Nominal: 300, Low: 290, High: 310}
+	if _, err := ParseReading("4K7", m, band); err == nil || !strings.Contains(err.Error(), "resistance") {
+		t.Errorf("4K7 for a voltage: got %v, want a unit error", err)
+	}
+	if _, err := ParseReading("12mA", m, band); err == nil {
+		t.Error("12mA for a voltage accepted")
+	}
+	if _, err := ParseReading("2500000", m, band); !errors.Is(err, ErrQuestioned) {
+		t.Errorf("2 500 000 V: got %v, want it questioned", err)
+	}
+	if v, err := ParseReading("2500000!", m, band); err != nil || v != 2.5e6 {
+		t.Errorf("confirmed absurd reading: %v, %v", v, err)
+	}
+	if v, err := ParseReading("312", m, band); err != nil || v != 312 {
+		t.Errorf("312: %v, %v", v, err)
+	}
+	for _, bad := range []string{"", "abc", "3..1", "NaN", "inf", "1e999", "--5"} {
+		if _, err := ParseReading(bad, m, band); err == nil {
+			t.Errorf("%q accepted as a reading", bad)
+		}
+	}
+}
