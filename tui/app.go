@@ -407,7 +407,10 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 	case tea.KeyMsg:
 		return m.key(msg)
 	}
-	return m, nil
+	// Anything else belongs to the input field (its paste results).
+	var cmd tea.Cmd
+	m.step.in, cmd = m.step.in.Update(msg)
+	return m, cmd
 }
 
 // gotoPoint moves to the first open step measuring a point.

@@ -1,108 +1,61 @@
 package tui
 
 import (
-	"strings"
-	"unicode"
-
-	tea "github.com/charmbracelet/bubbletea"
+	"github.com/charmbracelet/bubbles/cursor"
+	"github.com/charmbracelet/bubbles/key"
+	"github.com/charmbracelet/bubbles/textinput"
+	"github.com/muesli/termenv"
 )
 
-// lineInput is a one-line text field for readings, predictions, notes and
-// skip reasons: runes (µ and Ω arrive as KeyRunes), backspace, delete,
-// left/right, home/end, ctrl+u (clear) and ctrl+w (delete a word).
+// inputCharLimit is the longest line the field takes (a reading is a few
+// characters; a note or a skip reason a sentence or two).
+const inputCharLimit = 120
+
+// newInput returns the one-line field for readings, predictions, notes
+// and skip reasons: a bubbles text input, focused, with a steady cursor
+// (a blinking one would need a timer command for nothing) and with its
+// editing keys taken from the key map, so that the keys the program uses
+// for commands (ctrl+k skip, ctrl+e full text, ctrl+n/ctrl+p steps, tab,
+// the arrows up and down) never edit the text. Letters, digits, µ and Ω
+// arrive as runes and are typed as they are.
 //
-// bubbles/textinput would do, but it pulls in a clipboard module that is
-// not in this module's go.sum; a reading field needs none of its paste
-// support, so this small field stands in with the same Value/SetValue/
-// Reset/Update/View shape.
-type lineInput struct {
-	Prompt      string
-	Placeholder string
-	CharLimit   int
-	Cursor      string // drawn at the cursor position (the terminal cursor is hidden)
-	value       []rune
-	pos         int
-	width       int
-}
-
-func newLineInput(cursor string) lineInput {
-	return lineInput{CharLimit: 120, Cursor: cursor}
-}
-
-func (in *lineInput) Value() string { return string(in.value) }
-
-func (in *lineInput) SetValue(s string) {
-	in.value = []rune(s)
-	in.pos = len(in.value)
-}
-
-func (in *lineInput) Reset() { in.value, in.pos = nil, 0 }
-
-func (in *lineInput) SetWidth(w int) { in.width = max(0, w) }
-
-func (in lineInput) Update(msg tea.Msg) (lineInput, tea.Cmd) {
-	k, ok := msg.(tea.KeyMsg)
-	if !ok {
-		return in, nil
-	}
-	switch k.Type {
-	case tea.KeyRunes, tea.KeySpace:
-		rs := k.Runes
-		if k.Type == tea.KeySpace {
-			rs = []rune{' '}
-		}
-		for _, r := range rs {
-			if !unicode.IsPrint(r) || (in.CharLimit > 0 && len(in.value) >= in.CharLimit) {
-				continue
+// When the renderer draws no colour (NO_COLOR, not a terminal, the test
+// renderer) reverse video is dropped too, so the cursor is drawn as the
+// glyph g.Cursor in front of the character under it.
+func newInput(st *Styles, g Glyphs, k KeyMap) textinput.Model {
+	in := textinput.New()
+	in.CharLimit = inputCharLimit
+	in.Prompt = "> "
+	in.PromptStyle = st.Prompt
+	in.TextStyle = st.Input
+	in.PlaceholderStyle = st.Dim
+	in.Cursor.Style = st.R.NewStyle()
+	if st.R.ColorProfile() == termenv.Ascii {
+		mark := g.Cursor
+		in.Cursor.Style = in.Cursor.Style.Transform(func(under string) string {
+			if under == " " {
+				return mark
 			}
-			in.value = append(in.value[:in.pos], append([]rune{r}, in.value[in.pos:]...)...)
-			in.pos++
-		}
-	case tea.KeyBackspace:
-		if in.pos > 0 {
-			in.value = append(in.value[:in.pos-1], in.value[in.pos:]...)
-			in.pos--
-		}
-	case tea.KeyDelete:
-		if in.pos < len(in.value) {
-			in.value = append(in.value[:in.pos], in.value[in.pos+1:]...)
-		}
-	case tea.KeyLeft:
-		in.pos = max(0, in.pos-1)
-	case tea.KeyRight:
-		in.pos = min(len(in.value), in.pos+1)
-	case tea.KeyHome, tea.KeyCtrlA:
-		in.pos = 0
-	case tea.KeyEnd:
-		in.pos = len(in.value)
-	case tea.KeyCtrlU:
-		in.value, in.pos = in.value[in.pos:], 0
-	case tea.KeyCtrlW:
-		i := in.pos
-		for i > 0 && in.value[i-1] == ' ' {
-			i--
-		}
-		for i > 0 && in.value[i-1] != ' ' {
-			i--
-		}
-		in.value = append(in.value[:i], in.value[in.pos:]...)
-		in.pos = i
+			return mark + under
+		})
 	}
-	return in, nil
-}
-
-func (in lineInput) View() string {
-	var b strings.Builder
-	b.WriteString(in.Prompt)
-	if len(in.value) == 0 {
-		b.WriteString(in.Cursor)
-		if in.Placeholder != "" {
-			b.WriteString(" " + in.Placeholder)
-		}
-		return b.String()
+	in.Cursor.SetMode(cursor.CursorStatic)
+	in.KeyMap = textinput.KeyMap{
+		CharacterForward:        key.NewBinding(key.WithKeys("right", "ctrl+f")),
+		CharacterBackward:       key.NewBinding(key.WithKeys("left", "ctrl+b")),
+		WordForward:             key.NewBinding(key.WithKeys("alt+right", "ctrl+right", "alt+f")),
+		WordBackward:            key.NewBinding(key.WithKeys("alt+left", "ctrl+left", "alt+b")),
+		DeleteWordBackward:      k.DeleteWord,
+		DeleteWordForward:       key.NewBinding(key.WithKeys("alt+delete", "alt+d")),
+		DeleteBeforeCursor:      k.Clear,
+		DeleteCharacterBackward: key.NewBinding(key.WithKeys("backspace", "ctrl+h")),
+		DeleteCharacterForward:  key.NewBinding(key.WithKeys("delete", "ctrl+d")),
+		LineStart:               k.LineStart,
+		LineEnd:                 k.LineEnd,
+		Paste:                   k.Paste,
+		// DeleteAfterCursor (ctrl+k) and the suggestion keys (tab, up,
+		// down, ctrl+n, ctrl+p) are commands here: left unbound.
 	}
-	b.WriteString(string(in.value[:in.pos]))
-	b.WriteString(in.Cursor)
-	b.WriteString(string(in.value[in.pos:]))
-	return b.String()
+	in.Focus()
+	return in
 }

@@ -3,10 +3,12 @@ package tui
 import "github.com/charmbracelet/bubbles/key"
 
 // KeyMap is every key the program answers to; the help overlay and the
-// short help line are drawn from it, so help and behaviour cannot drift
-// apart. Printable keys are left to the reading input (readings use
-// letters: 4k7, 2m2A, OL, 300V!), so commands on the step view are
-// control keys, Tab, Enter, Esc and F1.
+// short help line are drawn from it, and the reading field takes its
+// editing keys from it, so help and behaviour cannot drift apart.
+//
+// Printable keys belong to the reading field (readings use letters: 4k7,
+// 2m2A, OL, 300V!), so no command is a single letter: commands are Ctrl
+// keys (shown as ^K for Ctrl+K), Tab, Enter, Esc and F1.
 type KeyMap struct {
 	NextView, PrevView    key.Binding
 	Enter                 key.Binding
@@ -20,44 +22,80 @@ type KeyMap struct {
 	Cancel                key.Binding
 	Quit                  key.Binding
 	Yes, No               key.Binding
+
+	// Editing keys of the reading field.
+	LineStart, LineEnd key.Binding
+	Clear, DeleteWord  key.Binding
+	Paste              key.Binding
 }
 
-// DefaultKeyMap returns the key bindings.
+// DefaultKeyMap returns the key bindings, with Unicode arrows in the help.
 func DefaultKeyMap() KeyMap {
 	return KeyMap{
 		NextView:    key.NewBinding(key.WithKeys("tab"), key.WithHelp("tab", "next view")),
 		PrevView:    key.NewBinding(key.WithKeys("shift+tab"), key.WithHelp("shift+tab", "previous view")),
 		Enter:       key.NewBinding(key.WithKeys("enter"), key.WithHelp("enter", "record / confirm")),
-		NextStep:    key.NewBinding(key.WithKeys("ctrl+n"), key.WithHelp("ctrl+n", "next open step")),
-		PrevStep:    key.NewBinding(key.WithKeys("ctrl+p"), key.WithHelp("ctrl+p", "previous step")),
-		Steps:       key.NewBinding(key.WithKeys("ctrl+l"), key.WithHelp("ctrl+l", "list of steps")),
-		Skip:        key.NewBinding(key.WithKeys("ctrl+k"), key.WithHelp("ctrl+k", "skip step (why?)")),
-		Note:        key.NewBinding(key.WithKeys("ctrl+o"), key.WithHelp("ctrl+o", "add a note")),
-		Detail:      key.NewBinding(key.WithKeys("ctrl+e"), key.WithHelp("ctrl+e", "full step text")),
-		GoSuggested: key.NewBinding(key.WithKeys("ctrl+g"), key.WithHelp("ctrl+g", "go to suggested")),
-		Up:          key.NewBinding(key.WithKeys("up"), key.WithHelp("↑", "up / previous")),
-		Down:        key.NewBinding(key.WithKeys("down"), key.WithHelp("↓", "down / next")),
+		NextStep:    key.NewBinding(key.WithKeys("ctrl+n"), key.WithHelp("^N", "next open step")),
+		PrevStep:    key.NewBinding(key.WithKeys("ctrl+p"), key.WithHelp("^P", "previous step")),
+		Steps:       key.NewBinding(key.WithKeys("ctrl+l"), key.WithHelp("^L", "list of steps")),
+		Skip:        key.NewBinding(key.WithKeys("ctrl+k"), key.WithHelp("^K", "skip step (asks why)")),
+		Note:        key.NewBinding(key.WithKeys("ctrl+o"), key.WithHelp("^O", "add a note")),
+		Detail:      key.NewBinding(key.WithKeys("ctrl+e"), key.WithHelp("^E", "full text")),
+		GoSuggested: key.NewBinding(key.WithKeys("ctrl+g"), key.WithHelp("^G", "go to suggested")),
+		Up:          key.NewBinding(key.WithKeys("up"), key.WithHelp("↑", "up / scroll")),
+		Down:        key.NewBinding(key.WithKeys("down"), key.WithHelp("↓", "down / scroll")),
 		Left:        key.NewBinding(key.WithKeys("left"), key.WithHelp("←", "previous valve")),
 		Right:       key.NewBinding(key.WithKeys("right"), key.WithHelp("→", "next valve")),
-		RetrySave:   key.NewBinding(key.WithKeys("ctrl+r"), key.WithHelp("ctrl+r", "retry saving")),
-		Help:        key.NewBinding(key.WithKeys("f1", "?"), key.WithHelp("F1/?", "help")),
+		RetrySave:   key.NewBinding(key.WithKeys("ctrl+r"), key.WithHelp("^R", "retry saving")),
+		Help:        key.NewBinding(key.WithKeys("f1", "?"), key.WithHelp("F1", "help")),
 		Cancel:      key.NewBinding(key.WithKeys("esc"), key.WithHelp("esc", "cancel / close")),
-		Quit:        key.NewBinding(key.WithKeys("ctrl+c", "ctrl+q"), key.WithHelp("ctrl+c", "quit (asks first)")),
+		Quit:        key.NewBinding(key.WithKeys("ctrl+c", "ctrl+q"), key.WithHelp("^C", "quit (asks first)")),
 		Yes:         key.NewBinding(key.WithKeys("y", "Y"), key.WithHelp("y", "yes")),
 		No:          key.NewBinding(key.WithKeys("n", "N", "esc"), key.WithHelp("n", "no")),
+
+		LineStart:  key.NewBinding(key.WithKeys("home", "ctrl+a"), key.WithHelp("home ^A", "start of line")),
+		LineEnd:    key.NewBinding(key.WithKeys("end"), key.WithHelp("end", "end of line")),
+		Clear:      key.NewBinding(key.WithKeys("ctrl+u"), key.WithHelp("^U", "delete to the start")),
+		DeleteWord: key.NewBinding(key.WithKeys("ctrl+w", "alt+backspace"), key.WithHelp("^W", "delete a word")),
+		Paste:      key.NewBinding(key.WithKeys("ctrl+v"), key.WithHelp("^V", "paste")),
 	}
 }
 
-// ShortHelp is the one-line help at the foot of the screen.
+// asciiHelp words the arrow keys without arrows, for ASCII terminals.
+func (k *KeyMap) asciiHelp() {
+	k.Up.SetHelp("up", k.Up.Help().Desc)
+	k.Down.SetHelp("down", k.Down.Help().Desc)
+	k.Left.SetHelp("left", k.Left.Help().Desc)
+	k.Right.SetHelp("right", k.Right.Help().Desc)
+}
+
+// keyGroup is one titled column of the help overlay.
+type keyGroup struct {
+	Title string
+	Keys  []key.Binding
+}
+
+// Groups is the full key list by purpose, for the help overlay.
+func (k KeyMap) Groups() []keyGroup {
+	return []keyGroup{
+		{"Readings and steps", []key.Binding{k.Enter, k.Skip, k.Note, k.Detail, k.NextStep, k.PrevStep, k.Steps}},
+		{"Views", []key.Binding{k.NextView, k.PrevView, k.Left, k.Right, k.Up, k.Down, k.GoSuggested}},
+		{"Editing the reading", []key.Binding{k.LineStart, k.LineEnd, k.Clear, k.DeleteWord, k.Paste}},
+		{"Session", []key.Binding{k.Help, k.Cancel, k.RetrySave, k.Quit}},
+	}
+}
+
+// ShortHelp is the one-line help at the foot of the screen (the step
+// view's; see Model.shortHelp for the other views).
 func (k KeyMap) ShortHelp() []key.Binding {
-	return []key.Binding{k.Enter, k.NextView, k.NextStep, k.Skip, k.Help, k.Quit}
+	return []key.Binding{k.Enter, k.Skip, k.Detail, k.Steps, k.NextView, k.Help, k.Quit}
 }
 
-// FullHelp is the help overlay, in columns.
+// FullHelp is the key list in the groups of the help overlay.
 func (k KeyMap) FullHelp() [][]key.Binding {
-	return [][]key.Binding{
-		{k.Enter, k.NextStep, k.PrevStep, k.Steps, k.Skip, k.Note, k.Detail},
-		{k.NextView, k.PrevView, k.Up, k.Down, k.Left, k.Right, k.GoSuggested},
-		{k.RetrySave, k.Help, k.Cancel, k.Quit},
+	var out [][]key.Binding
+	for _, g := range k.Groups() {
+		out = append(out, g.Keys)
 	}
+	return out
 }

@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"github.com/charmbracelet/bubbles/key"
+	"github.com/charmbracelet/bubbles/textinput"
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/lipgloss"
 
@@ -27,7 +28,7 @@ const (
 type stepView struct {
 	e      *env
 	w, h   int
-	in     lineInput
+	in     textinput.Model
 	mode   inputMode
 	msg    string // verdict or error from the last action
 	msgBad bool
@@ -35,11 +36,7 @@ type stepView struct {
 }
 
 func newStepView(e *env) stepView {
-	in := newLineInput(e.g.BarFull)
-	if e.g.BarFull == "#" {
-		in.Cursor = "_"
-	}
-	v := stepView{e: e, in: in}
+	v := stepView{e: e, in: newInput(e.st, e.g, e.keys)}
 	v.setMode(modeReading)
 	return v
 }
@@ -47,7 +44,13 @@ func newStepView(e *env) stepView {
 // SetSize sets the view's size in cells.
 func (v *stepView) SetSize(w, h int) {
 	v.w, v.h = max(0, w), max(0, h)
-	v.in.SetWidth(v.w - 2)
+	v.fitInput()
+}
+
+// fitInput gives the field the width the prompt leaves (the text scrolls
+// sideways beyond it).
+func (v *stepView) fitInput() {
+	v.in.Width = max(1, v.w-lipgloss.Width(v.in.Prompt)-2)
 }
 
 func (v *stepView) setMode(m inputMode) {
@@ -64,6 +67,7 @@ func (v *stepView) setMode(m inputMode) {
 		v.in.Prompt = "> "
 		v.in.Placeholder = ""
 	}
+	v.fitInput()
 }
 
 // predicting reports whether the input asks for a trainee's prediction

@@ -15,6 +15,11 @@ type Glyphs struct {
 	Rule, BandRule, EndL, EndR, BandL, BandR        string // gauge body
 	Arrow, Ellipsis, Dot                            string
 	Key                                             string // the octal key in the socket drawing
+	Dash                                            string // no value
+	To                                              string // between the ends of a range: 262 V–301 V
+	Left, Right, UpDown                             string // arrow keys in headings and hints
+	Cursor                                          string // the input's cursor when colour is off
+	Sep                                             string // between hints in the help line
 }
 
 // UnicodeGlyphs are the default marks.
@@ -25,6 +30,7 @@ func UnicodeGlyphs() Glyphs {
 		BarFull: "█", BarEmpty: "░",
 		Rule: "─", BandRule: "═", EndL: "├", EndR: "┤", BandL: "[", BandR: "]",
 		Arrow: "→", Ellipsis: "…", Dot: "·", Key: "▲",
+		Dash: "—", To: "–", Left: "←", Right: "→", UpDown: "↑/↓", Cursor: "█", Sep: " • ",
 	}
 }
 
@@ -36,6 +42,7 @@ func ASCIIGlyphs() Glyphs {
 		BarFull: "#", BarEmpty: ".",
 		Rule: "-", BandRule: "=", EndL: "|", EndR: "|", BandL: "[", BandR: "]",
 		Arrow: "->", Ellipsis: "...", Dot: ".", Key: "^",
+		Dash: "-", To: "..", Left: "<-", Right: "->", UpDown: "up/down", Cursor: "_", Sep: " | ",
 	}
 }
 
