@@ -1,12 +1,14 @@
 package procedures
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
 	"strings"
 
 	"pinwalk/expect/amp"
+	"pinwalk/expect/bands"
 	"pinwalk/expect/design"
 	"pinwalk/expect/faults"
 	"pinwalk/expect/units"
@@ -21,6 +23,12 @@ const (
 	// MinColdGainBits: a cold measurement expected to tell less than this
 	// is not worth taking before power-up (our choice).
 	MinColdGainBits = 0.05
+	// LiveGainShare: before power-up, the amp is powered up as soon as the
+	// best cold measurement is expected to tell less than this share of
+	// what the best live one would (our choice): the cold checks that
+	// rule out shorts and opens come first, then the amp is brought up
+	// rather than walking every remaining cold path.
+	LiveGainShare = 0.1
 	// MaxProbes bounds the measuring loop.
 	MaxProbes = 40
 	// StepSymptoms and StepPowerUp are fixed step ids of fault-finding.
@@ -211,7 +219,12 @@ func (l *faultLoop) openAdded() bool {
 	return false
 }
 
-// Advance implements Loop.
+// Advance implements Loop. Once the safety steps are done it ranks the
+// suspects after every reading and adds (and moves to) the best next
+// measurement, until one suspect (or one group no reading separates) is
+// clear; then it adds the confirm and replacement steps (and in practice
+// the naming step). When no cold measurement is worth taking it adds the
+// power-up step first.
 func (l *faultLoop) Advance() error {
 	r := l.w.R
 	if !l.baseDone() || l.openAdded() || r.Sess.Outcome != nil {
@@ -219,9 +232,6 @@ func (l *faultLoop) Advance() error {
 	}
 	if err := l.practice(); err != nil {
 		return err
-	}
-	if r.Sess.Mode == Practise {
-		return nil // the trainee chooses: next, measure KEY, name
 	}
 	rk, err := l.Rank()
 	if err != nil {
@@ -240,16 +250,8 @@ func (l *faultLoop) Advance() error {
 // addNext adds the best next measurement, or the power-up step when no
 // cold measurement is worth taking.
 func (l *faultLoop) addNext(rk *infer.Ranking) error {
-	if !l.powered() && (rk.Next == nil || rk.Next.GainBits < MinColdGainBits) {
-		if l.w.R.Proc.Step(StepPowerUp) == nil {
-			st, err := l.powerUpStep()
-			if err != nil {
-				return err
-			}
-			l.w.AddStep(st)
-			l.w.R.Next()
-		}
-		return nil
+	if !l.powered() && powerNow(rk.Next, l.liveNext) {
+		return l.addPowerUp()
 	}
 	if rk.Next == nil {
 		l.conclude(rk.Suspects[0].Fault, false)
@@ -259,21 +261,119 @@ func (l *faultLoop) addNext(rk *infer.Ranking) error {
 	return nil
 }
 
+// powerNow reports whether to power up rather than take the best cold
+// measurement: none is left, or it is expected to tell less than
+// MinColdGainBits, or less than LiveGainShare of the best live one.
+func powerNow(cold *infer.Probe, live func() *infer.Probe) bool {
+	if cold == nil || cold.GainBits < MinColdGainBits {
+		return true
+	}
+	lp := live()
+	return lp != nil && cold.GainBits < LiveGainShare*lp.GainBits
+}
+
+// liveNext is the best live measurement on the readings so far.
+func (l *faultLoop) liveNext() *infer.Probe {
+	e, err := l.engine()
+	if err != nil {
+		return nil
+	}
+	return e.Rank(l.observations(), func(k string) bool { return !strings.HasPrefix(k, coldPrefix) }).Next
+}
+
+// addPowerUp adds the power-up step (once) and moves to it; an open
+// suggested cold measurement that has no reading yet is withdrawn.
+func (l *faultLoop) addPowerUp() error {
+	w := l.w
+	if w.R.Proc.Step(StepPowerUp) == nil {
+		st, err := l.powerUpStep()
+		if err != nil {
+			return err
+		}
+		l.withdraw()
+		w.AddStep(st)
+	}
+	if w.R.Done(StepPowerUp) {
+		return nil
+	}
+	if err := w.R.Goto(StepPowerUp); err != nil {
+		return err
+	}
+	return nil
+}
+
+// withdraw removes the suggested measurements that are open and have no
+// reading (the user chose another point, or powered up instead).
+func (l *faultLoop) withdraw() {
+	r := l.w.R
+	var keepP []*Step
+	for _, st := range r.Proc.Steps {
+		if strings.HasPrefix(st.ID, "probe-") && !r.Done(st.ID) && !l.hasReading(st.ID) {
+			continue
+		}
+		keepP = append(keepP, st)
+	}
+	r.Proc.Steps = keepP
+	var keepA []*Step
+	for _, st := range r.Sess.Added {
+		if r.Proc.Step(st.ID) != nil {
+			keepA = append(keepA, st)
+		}
+	}
+	r.Sess.Added = keepA
+}
+
+func (l *faultLoop) hasReading(step string) bool {
+	for _, rd := range l.w.R.Sess.Readings {
+		if rd.Step == step {
+			return true
+		}
+	}
+	return false
+}
+
+// powerUpStep is the variac ramp of fault-finding: one step whose
+// instruction lists, for each variac setting, the expected B+ and heater
+// volts (healthy amp), with the live and variac cautions and the stop
+// criteria; the readings are taken at 100 %. It is gated on every safety
+// step (discharge and earth included).
 func (l *faultLoop) powerUpStep() (*Step, error) {
+	b := l.w.B
 	g := append([]string(nil), l.safety...)
-	steps, err := liveSteps(l.w.B, g, false)
+	st := &Step{ID: StepPowerUp, Kind: KindPowerUp, Live: true, Variac: 1, Gate: g, Title: "Power up on the variac",
+		Cautions: []string{LiveCaution, VariacCaution},
+		StopIf: []string{"B+ far below its band at any setting, or the series lamp glows bright and stays bright (a short or a heavy load)",
+			"B+ above its band (the valves are not conducting, or the bleeder is open)",
+			"a plate glows red", "smoke, arcing, a smell of hot varnish, or the fuse blows"},
+		Why: "No cold measurement tells the suspects apart any more: the rest needs the amp powered, brought up slowly so that a short cannot do more damage."}
+	steps, err := liveSteps(b, g, false)
 	if err != nil {
 		return nil, err
 	}
-	if len(steps) == 0 {
-		return &Step{ID: StepPowerUp, Kind: KindPowerUp, Live: true, Variac: 1, Gate: g, Title: "Power up on the variac",
-			Cautions:    []string{LiveCaution, VariacCaution},
-			Instruction: "Plug in through the variac and series lamp and bring it up slowly to 100 %. Confirm when it is up.",
-			Why:         "No cold measurement tells the suspects apart any more: the rest needs the amp powered."}, nil
+	if len(steps) > 0 {
+		st.Measures = steps[0].Measures
 	}
-	st := steps[0]
-	st.ID, st.Kind = StepPowerUp, KindPowerUp
-	st.Why = "No cold measurement tells the suspects apart any more: the rest needs the amp powered, brought up slowly so a short cannot do more damage."
+	var ramp []string
+	for _, f := range bands.VariacSettings {
+		var parts []string
+		for _, m := range st.Measures {
+			if bd, ok := b.Expect(m.Point, f, nil); ok {
+				parts = append(parts, fmt.Sprintf("%s %s", m.Label, FormatBand(bd, m.Unit)))
+			}
+		}
+		if len(parts) > 0 {
+			ramp = append(ramp, fmt.Sprintf("%.0f %%: %s", 100*f, strings.Join(parts, "; ")))
+		}
+	}
+	st.Instruction = "Plug in through the variac and series lamp, with a dummy load on the output, and bring it up in steps, waiting a minute at each and watching the lamp and the meter."
+	if len(ramp) > 0 {
+		st.Instruction += " Expected (healthy amp) at each setting: " + strings.Join(ramp, " | ") + "."
+	}
+	if len(st.Measures) > 0 {
+		st.Instruction += " At 100 % enter the readings."
+	} else {
+		st.Instruction += " Confirm when it is up at 100 %."
+	}
 	return st, nil
 }
 
@@ -294,6 +394,7 @@ func measureFor(key, label, setup string) Measure {
 
 // addProbe adds a step measuring one point and moves to it.
 func (l *faultLoop) addProbe(p infer.Probe, rk *infer.Ranking) *Step {
+	l.withdraw()
 	n := l.countProbes() + 1
 	st := &Step{ID: fmt.Sprintf("probe-%d", n), Title: "Measure " + p.Label, Measures: []Measure{measureFor(p.Key, p.Label, p.Setup)}}
 	g := append([]string(nil), l.safety...)
@@ -309,16 +410,13 @@ func (l *faultLoop) addProbe(p infer.Probe, rk *infer.Ranking) *Step {
 		st.Instruction = "Unplugged and discharged: " + p.Setup
 	}
 	st.Gate = g
-	st.Why = fmt.Sprintf("Expected to tell the suspects apart by about %.2f bits (the most of any measurement allowed now)", p.GainBits)
-	if rk != nil && len(rk.Suspects) > 0 {
-		var top []string
-		for i, s := range rk.Suspects {
-			if i == 3 {
-				break
-			}
-			top = append(top, fmt.Sprintf("%s %.0f %%", s.Label, 100*s.Probability))
-		}
-		st.Why += "; leading suspects: " + strings.Join(top, ", ")
+	if p.GainBits > 0 {
+		st.Why = fmt.Sprintf("Expected to tell the suspects apart by about %.2f bits (the most of any measurement allowed now)", p.GainBits)
+	} else {
+		st.Why = "Your choice of measurement"
+	}
+	if top := shortRanking(rk, 3); top != "" {
+		st.Why += "; leading suspects: " + top
 	}
 	st.Why += "."
 	l.w.AddStep(st)
@@ -346,7 +444,7 @@ func (l *faultLoop) conclude(fault string, clear bool) {
 	conf.Instruction = confirmText(l.w.B, first)
 	if f, err := faults.Parse(first); err == nil {
 		if p := l.w.B.D.ByRef[f.Ref]; p != nil && p.Kind == design.Resistor {
-			conf.Measures = []Measure{{Point: "part:" + p.Ref + " ohms", Label: p.Ref + " out of circuit", Function: FuncOhms, Unit: "Ω", Range: "autorange",
+			conf.Measures = []Measure{{Point: partKey(p.Ref), Label: p.Ref + " out of circuit", Function: FuncOhms, Unit: "Ω", Range: "autorange",
 				Probes: "across " + p.Ref + " with one end lifted"}}
 		}
 	}
@@ -355,6 +453,11 @@ func (l *faultLoop) conclude(fault string, clear bool) {
 		Why: "A replacement must meet the ratings the circuit puts on it, with margin: watts at least twice the dissipation, volts at least the switch-on peak (common practice)."}
 	l.w.AddStep(conf)
 	l.w.AddStep(rep)
+	if r.Sess.Mode == Practise && r.Proc.Step(StepName) == nil {
+		l.w.AddStep(&Step{ID: StepName, Kind: KindConfirm, Gate: []string{StepReplace}, Title: "Name the fault",
+			Instruction: "Type name REF:MODE for the fault you think the amp has (the measurements point at " + fault + "); the tool then reveals the fault and scores your path.",
+			Why:         "Naming the fault before it is revealed is the test: the readings, not a guess, should lead to it."})
+	}
 	r.Sess.Outcome = &Outcome{Found: fault, At: r.Now(), Summary: "Found by measurement: " + desc}
 	if !clear {
 		r.Sess.Outcome.Summary = "Not clear after the measurements available; most likely: " + desc
@@ -476,12 +579,44 @@ func Replacement(b *BenchModel, fault string) string {
 	return fmt.Sprintf("Replace %s (%s) with a part of the same value and ratings; find why it failed before powering up again.", p.Ref, p.Kind)
 }
 
-// Hint implements Loop: the leading suspects.
+// shortRanking lists the n most probable suspects with their
+// probabilities: "R7 (470 Ω) open circuit 62 %, …".
+func shortRanking(rk *infer.Ranking, n int) string {
+	if rk == nil {
+		return ""
+	}
+	var top []string
+	for i, s := range rk.Suspects {
+		if i == n {
+			break
+		}
+		top = append(top, fmt.Sprintf("%s %.0f %%", s.Label, 100*s.Probability))
+	}
+	return strings.Join(top, ", ")
+}
+
+// Hint implements Loop: on a suggested measurement, why it was chosen
+// (its expected gain in bits); in fault-finding the leading suspects.
+// Practice shows the reason after the trainee's prediction instead.
 func (l *faultLoop) Hint() []string {
-	if l.rank == nil || len(l.rank.Suspects) == 0 || l.w.R.Sess.Mode == Practise {
-		return nil
+	r := l.w.R
+	if l.rank == nil && l.baseDone() {
+		l.Rank()
 	}
 	var out []string
+	st := r.Current()
+	if r.Sess.Mode == Practise {
+		if st != nil && st.ID == StepPowerUp && l.rank != nil && l.rank.Next != nil {
+			out = append(out, fmt.Sprintf("best cold measurement left: %s, about %.2f bits", l.rank.Next.Label, l.rank.Next.GainBits))
+		}
+		return out
+	}
+	if st != nil && (strings.HasPrefix(st.ID, "probe-") || st.ID == StepPowerUp) && st.Why != "" {
+		out = append(out, st.Why)
+	}
+	if l.rank == nil || len(l.rank.Suspects) == 0 {
+		return out
+	}
 	for i, s := range l.rank.Suspects {
 		if i == 5 {
 			break
@@ -494,11 +629,23 @@ func (l *faultLoop) Hint() []string {
 	return out
 }
 
-// Command implements Loop: symptoms, next, measure [KEY], name FAULT.
+// NoReading is the message for a reading typed on a step that takes
+// none.
+const NoReading = "this step takes no reading: press Enter (or y) to confirm, or s REASON to skip"
+
+// Command implements Loop: symptoms LIST, next, power, measure KEY, stop,
+// and in practice m (take the simulated reading) and name FAULT.
 func (l *faultLoop) Command(line string) (bool, []string, error) {
 	r := l.w.R
 	word, rest, _ := strings.Cut(strings.TrimSpace(line), " ")
 	rest = strings.TrimSpace(rest)
+	practice := r.Sess.Mode == Practise
+	if st := r.Current(); practice && st != nil && st.ID == StepName && !r.Done(StepName) {
+		switch strings.ToLower(word) {
+		case "", "y", "yes":
+			return true, []string{"name the fault first: name REF:MODE (like R7:open)"}, nil
+		}
+	}
 	switch strings.ToLower(word) {
 	case "symptoms", "symptom":
 		var list []string
@@ -519,37 +666,61 @@ func (l *faultLoop) Command(line string) (bool, []string, error) {
 		r.Sess.Symptoms = list
 		return true, []string{"symptoms: " + strings.Join(list, ", ")}, r.SaveNow()
 	case "next":
-		if r.Sess.Mode != Practise {
-			return false, nil, nil
-		}
 		if !l.baseDone() {
 			return true, nil, fmt.Errorf("finish the safety steps first")
 		}
-		if err := l.practice(); err != nil {
+		if st := r.Current(); st != nil && !r.Done(st.ID) && (strings.HasPrefix(st.ID, "probe-") || st.ID == StepPowerUp) {
+			return true, []string{"this is the best next measurement: " + st.Title}, nil
+		}
+		if err := l.Advance(); err != nil {
 			return true, nil, err
 		}
-		if l.openAdded() {
-			return true, []string{"finish the current measurement first (m)"}, nil
+		return true, []string{"next: " + r.Current().Title}, nil
+	case "power":
+		if !l.baseDone() {
+			return true, nil, fmt.Errorf("finish the safety steps first (discharge and earth) before powering up")
+		}
+		if l.powered() {
+			return true, []string{"the amp is already powered up"}, nil
+		}
+		if err := l.addPowerUp(); err != nil {
+			return true, nil, err
+		}
+		return true, []string{"next: " + r.Current().Title}, r.SaveNow()
+	case "stop":
+		if !l.baseDone() {
+			return true, nil, fmt.Errorf("finish the safety steps first")
+		}
+		if r.Sess.Outcome != nil {
+			return true, []string{"the measuring is already over"}, nil
 		}
 		rk, err := l.Rank()
 		if err != nil {
 			return true, nil, err
 		}
-		r.Sess.Notes = append(r.Sess.Notes, Note{Text: "asked for the next measurement", At: r.Now()})
-		if err := l.addNext(rk); err != nil {
-			return true, nil, err
+		l.withdraw()
+		f, ok := clearSuspect(rk)
+		if !ok {
+			f = rk.Suspects[0].Fault
 		}
-		return true, []string{"next: " + r.Current().Title}, nil
+		l.conclude(f, ok)
+		return true, []string{"stopped measuring; next: " + r.Current().Title}, r.SaveNow()
 	case "measure", "m":
-		if r.Sess.Mode != Practise {
-			return false, nil, nil
-		}
 		if rest != "" {
 			return true, nil, l.choose(rest)
 		}
+		if !practice {
+			if r.NextMeasure() == nil {
+				return true, []string{NoReading}, nil
+			}
+			return true, []string{"type the meter's reading (m takes a simulated reading only in practice)"}, nil
+		}
+		if r.NextMeasure() == nil {
+			return true, []string{NoReading}, nil
+		}
 		return true, nil, l.answer()
 	case "name":
-		if r.Sess.Mode != Practise {
+		if !practice {
 			return false, nil, nil
 		}
 		out, err := l.name(rest)
@@ -558,27 +729,77 @@ func (l *faultLoop) Command(line string) (bool, []string, error) {
 	return false, nil, nil
 }
 
-// choose adds a step for a point the trainee picked.
+// choose adds a step for a point the user picked (in place of the
+// suggested one, which is withdrawn if it has no reading yet).
 func (l *faultLoop) choose(key string) error {
-	if err := l.practice(); err != nil {
+	if !l.baseDone() {
+		// In practice the attempt is logged by the gate.
+		if err := l.practice(); err != nil {
+			return err
+		}
+	}
+	e, err := l.engine()
+	if err != nil {
 		return err
 	}
-	if _, ok := l.sim[key]; !ok {
+	label := e.Label(key)
+	if label == "" {
 		return fmt.Errorf("no point %q: expected a key like \"V2.3 dc_volts\" or \"cold:B1 ohms\"", key)
 	}
 	live := !strings.HasPrefix(key, coldPrefix)
-	if live && !l.powered() && l.w.R.Proc.Step(StepPowerUp) == nil {
-		st, err := l.powerUpStep()
-		if err != nil {
-			return err
-		}
-		l.w.AddStep(st)
-	}
 	if !live && l.powered() {
-		return fmt.Errorf("the amp is powered: cold readings need it unplugged and discharged again (not modelled in practice)")
+		return fmt.Errorf("the amp is powered: cold readings need it unplugged and discharged again")
 	}
-	l.addProbe(infer.Probe{Key: key, Label: key, Setup: "measure " + key, Live: live}, l.rank)
+	if live && !l.powered() {
+		if l.baseDone() {
+			if err := l.addPowerUp(); err != nil {
+				return err
+			}
+		} else if l.w.R.Proc.Step(StepPowerUp) == nil {
+			st, err := l.powerUpStep()
+			if err != nil {
+				return err
+			}
+			l.w.AddStep(st)
+		}
+	}
+	setup := "measure " + key
+	if l.rank != nil && l.rank.Next != nil && l.rank.Next.Key == key {
+		setup = l.rank.Next.Setup
+	}
+	st := l.addProbe(infer.Probe{Key: key, Label: label, Setup: setup, Live: live}, l.rank)
+	if live && !l.powered() {
+		// Power up first: the chosen live point waits behind it.
+		l.w.R.Goto(StepPowerUp)
+	}
+	_ = st
 	return nil
+}
+
+// partKey is the point key of a part measured out of circuit.
+func partKey(ref string) string { return "part:" + ref + " ohms" }
+
+// partOhms is what the simulated amp's part reads out of circuit: open,
+// shorted or drifted high when it is the hidden fault, its nominal value
+// otherwise.
+func (l *faultLoop) partOhms(point string) (float64, bool) {
+	ref := strings.TrimSuffix(strings.TrimPrefix(point, "part:"), " ohms")
+	p := l.w.B.D.ByRef[ref]
+	if p == nil {
+		return 0, false
+	}
+	v := p.Value
+	if f, err := faults.Parse(l.w.R.Sess.Practice.Fault); err == nil && f.Ref == ref {
+		switch f.Mode {
+		case faults.Open:
+			v = math.Inf(1)
+		case faults.Short:
+			v = 0.05
+		case faults.High:
+			v *= faults.HighFactor
+		}
+	}
+	return v, true
 }
 
 // answer enters the simulated amp's reading for the current measure.
@@ -587,7 +808,7 @@ func (l *faultLoop) answer() error {
 	st := r.Current()
 	m := r.NextMeasure()
 	if st == nil || m == nil {
-		return fmt.Errorf("this step takes no reading")
+		return errors.New(NoReading)
 	}
 	if err := l.practice(); err != nil {
 		return err
@@ -599,6 +820,8 @@ func (l *faultLoop) answer() error {
 		v, ok = 0.4, true // discharged through the resistor tool
 	case m.Point == EarthKey:
 		v, ok = 0.15, true
+	case strings.HasPrefix(m.Point, "part:"):
+		v, ok = l.partOhms(m.Point)
 	}
 	if !ok {
 		return fmt.Errorf("the simulated amp has no reading for %s", m.Point)
@@ -610,7 +833,12 @@ func (l *faultLoop) answer() error {
 			raw = fmt.Sprintf("%.6gohm!", v)
 		}
 	}
-	_, err := r.Enter(m.Point, raw)
+	vd, err := r.Enter(m.Point, raw)
+	if err == nil && vd.Reading.Status == Retry {
+		// The simulated meter reads the same again: the second reading
+		// stands (out of band).
+		_, err = r.Enter(m.Point, raw)
+	}
 	return err
 }
 
@@ -631,12 +859,16 @@ func (l *faultLoop) name(fault string) ([]string, error) {
 	if err != nil {
 		return nil, err
 	}
+	e, err := l.engine()
+	if err != nil {
+		return nil, err
+	}
 	p := s.Practice
 	p.Named, p.Revealed = fault, true
 	probes := 0
 	var path []string
 	for _, st := range r.Proc.Steps {
-		if strings.HasPrefix(st.ID, "probe-") && r.Done(st.ID) {
+		if strings.HasPrefix(st.ID, "probe-") && r.Done(st.ID) && len(st.Measures) > 0 {
 			probes++
 			path = append(path, st.Measures[0].Point)
 		}
@@ -645,20 +877,8 @@ func (l *faultLoop) name(fault string) ([]string, error) {
 	correct := 0
 	if fault == p.Fault {
 		correct = 50
-	} else if l.rank != nil {
-		for _, g := range l.rank.Groups {
-			in := func(x string) bool {
-				for _, y := range g {
-					if y == x {
-						return true
-					}
-				}
-				return false
-			}
-			if in(fault) && in(p.Fault) {
-				correct = 35 // indistinguishable by measurement
-			}
-		}
+	} else if e.SameGroup(fault, p.Fault, true) {
+		correct = 35 // indistinguishable by measurement
 	}
 	fewer := max(0, 20-2*max(0, probes-len(best)))
 	p.Score = safe + correct + fewer
@@ -669,8 +889,19 @@ func (l *faultLoop) name(fault string) ([]string, error) {
 		fmt.Sprintf("Best path (%d readings): %s", len(best), strings.Join(best, ", ")),
 		fmt.Sprintf("Score %d of 100: safe order %d/30 (%d out-of-order attempts), fault %d/50, readings %d/20", p.Score, safe, len(s.Attempts), correct, fewer),
 	}
-	st := &Step{ID: StepName, Kind: KindConfirm, Title: "Fault named: " + fault, Instruction: strings.Join(out, "\n"), Why: "Compare your path with the best one: each reading should split the suspects as evenly as possible, cold first."}
-	l.w.AddStep(st)
+	st := r.Proc.Step(StepName)
+	if st == nil {
+		st = &Step{ID: StepName, Kind: KindConfirm, Why: "Compare your path with the best one: each reading should split the suspects as evenly as possible, cold first."}
+		l.w.AddStep(st)
+	}
+	st.Title, st.Instruction, st.Gate = "Fault named: "+fault, strings.Join(out, "\n"), nil
+	for _, a := range s.Added {
+		if a.ID == StepName {
+			a.Title, a.Instruction, a.Gate = st.Title, st.Instruction, nil
+		}
+	}
+	// The measuring is over: suggested measurements not taken are withdrawn.
+	l.withdraw()
 	r.Sess.Passes = append(r.Sess.Passes, Pass{Step: StepName, At: r.Now()})
 	r.Goto(StepSummary)
 	return out, r.SaveNow()
@@ -697,7 +928,9 @@ func (l *faultLoop) BestPath() ([]string, error) {
 		if _, ok := clearSuspect(rk); ok {
 			break
 		}
-		if rk.Next == nil || (!powered && rk.Next.GainBits < MinColdGainBits) {
+		if rk.Next == nil || (!powered && powerNow(rk.Next, func() *infer.Probe {
+			return e.Rank(obs, func(k string) bool { return !strings.HasPrefix(k, coldPrefix) && !seen[k] }).Next
+		})) {
 			if powered {
 				break
 			}

@@ -143,7 +143,7 @@ func Open(d *design.Design, s *Session, path string, opt WalkOptions) (*Walk, er
 		sum := p.Steps[len(p.Steps)-1]
 		p.Steps = append(append(p.Steps[:len(p.Steps)-1], s.Added...), sum)
 	}
-	r := NewRunner(p, s, path, b)
+	r := NewRunner(p, s, path, partExpecter{b})
 	if opt.Now != nil {
 		r.Now = opt.Now
 	}
@@ -154,6 +154,23 @@ func Open(d *design.Design, s *Session, path string, opt WalkOptions) (*Walk, er
 		}
 	}
 	return w, r.SaveNow()
+}
+
+// partExpecter adds to the bench model the band of a part measured out of
+// circuit ("part:R7 ohms", the confirm step of fault-finding): its value
+// within its tolerance.
+type partExpecter struct{ b *BenchModel }
+
+func (x partExpecter) Expect(point string, variac float64, readings []Reading) (Band, bool) {
+	if strings.HasPrefix(point, "part:") {
+		p := x.b.D.ByRef[strings.TrimSuffix(strings.TrimPrefix(point, "part:"), " ohms")]
+		if p == nil || p.Kind != design.Resistor || p.Value <= 0 {
+			return Band{}, false
+		}
+		return Band{Nominal: p.Value, Low: p.Value * (1 - math.Abs(p.Tol.Lo)), High: p.Value * (1 + math.Abs(p.Tol.Hi)),
+			Note: "out of circuit (one end lifted): the part's own value within its tolerance"}, true
+	}
+	return x.b.Expect(point, variac, readings)
 }
 
 func now(opt WalkOptions) time.Time {
