@@ -269,4 +269,3 @@ func TestFaultFindGated(t *testing.T) {
 		}
 	}
 }
-
