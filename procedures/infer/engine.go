@@ -30,6 +30,7 @@ import (
 	"strings"
 	"sync"
 
+	"pinwalk/expect/ac"
 	"pinwalk/expect/amp"
 	"pinwalk/expect/bands"
 	"pinwalk/expect/cold"
@@ -55,6 +56,13 @@ type Options struct {
 	// Cond are the bench conditions of the live readings. A MainsVolts
 	// given here is taken as measured and not sampled.
 	Cond amp.Conditions
+	// Tone, when set, adds the test-tone level at every grid, plate and
+	// cathode and at the speaker terminals (keys "V2.5 tone_volts") to
+	// every hypothesis's cloud (see ac.go); nil means DC evidence only.
+	Tone *ac.Options
+	// ACMeter is the meter tone and ripple readings are taken with (zero:
+	// true rms, flat).
+	ACMeter ACMeter
 }
 
 // DefaultSamples is the tolerance cloud size per hypothesis.
@@ -139,6 +147,9 @@ type Engine struct {
 	byName            map[string]int
 	groupAll, groupDC []int // group leader per hypothesis
 
+	tone    *bands.Extra // tone points, nil without Options.Tone
+	toneUnc float64      // the AC meter's uncertainty at the tone (fraction)
+
 	mu    sync.Mutex
 	cache *llCache
 	pairs map[string]*hyp
@@ -169,6 +180,9 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 		return nil, err
 	}
 	e := &Engine{d: d, m: m, opt: opt, index: map[string]int{}, byName: map[string]int{}, pairs: map[string]*hyp{}}
+	if err := e.initTone(); err != nil {
+		return nil, err
+	}
 
 	healthy, err := bands.Run(d, e.bandsOptions(nil, opt.Samples, opt.Seed, opt.Workers))
 	if err != nil {
@@ -191,6 +205,7 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 		}
 		e.addPoint(p)
 	}
+	e.addACPoints()
 	e.nDC = len(e.points)
 	checks, err := cold.Checks(d)
 	if err != nil {
@@ -262,7 +277,7 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 
 // bandsOptions are the tolerance-sampling options for a set of faults.
 func (e *Engine) bandsOptions(fs []faults.Fault, samples int, seed uint64, workers int) bands.Options {
-	o := bands.Options{Samples: samples, Seed: seed, Workers: workers, Cond: e.opt.Cond, FixedMains: e.opt.Cond.MainsVolts > 0}
+	o := bands.Options{Samples: samples, Seed: seed, Workers: workers, Cond: e.opt.Cond, FixedMains: e.opt.Cond.MainsVolts > 0, Extra: e.tone}
 	if len(fs) > 0 {
 		o.Values = func(m *amp.Model, v *amp.Values) error {
 			for _, f := range fs {
@@ -443,7 +458,7 @@ func (e *Engine) widths() {
 			lo, hi = 0, 1
 		}
 		span := hi - lo
-		e.points[k].width = 1.5*span + 10*sigmaOf(e.points[k].quantity, max(math.Abs(lo), math.Abs(hi)), e.opt.Meter)
+		e.points[k].width = 1.5*span + 10*e.sigma(e.points[k].quantity, max(math.Abs(lo), math.Abs(hi)))
 	}
 }
 
@@ -584,11 +599,7 @@ func (e *Engine) Simulate(fault string, seed uint64) (map[string]float64, error)
 	}
 	r := rand.New(rand.NewPCG(seed, 0x9e3779b97f4a7c15))
 	noise := func(x float64, q string) float64 {
-		mt := e.opt.Meter
-		if q == amp.Ohms {
-			mt = bands.DigitalMeter
-		}
-		lim := mt.Accuracy(x)
+		lim := e.accuracy(q, x)
 		z := r.NormFloat64()
 		for math.Abs(z) > 2 {
 			z = r.NormFloat64()

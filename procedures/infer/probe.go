@@ -6,6 +6,7 @@ import (
 	"sort"
 	"strings"
 
+	"pinwalk/expect/ac"
 	"pinwalk/expect/amp"
 	"pinwalk/expect/bands"
 	"pinwalk/expect/faults"
@@ -123,7 +124,7 @@ func (e *Engine) nextProbe(c *llCache, post []float64, obs []Observation, allowe
 					continue
 				}
 				mu := (cp.lo + cp.hi) / 2
-				sg := sigmaOf(amp.Ohms, mu, e.opt.Meter)
+				sg := e.sigma(amp.Ohms, mu)
 				comps = append(comps, comp{w, mu, math.Sqrt((cp.hi-cp.lo)*(cp.hi-cp.lo)/12 + sg*sg)})
 				continue
 			}
@@ -143,7 +144,7 @@ func (e *Engine) nextProbe(c *llCache, post []float64, obs []Observation, allowe
 					v += ws[s] * (x - mu) * (x - mu)
 				}
 			}
-			sg := sigmaOf(p.quantity, mu, e.opt.Meter)
+			sg := e.sigma(p.quantity, mu)
 			comps = append(comps, comp{w, mu, math.Sqrt(v + sg*sg)})
 		}
 		gain := mutualInfo(comps) / math.Ln2
@@ -216,6 +217,8 @@ func (e *Engine) cost(p *point) float64 {
 		return CostPulled
 	case p.quantity == amp.DCAmps, p.quantity == amp.ACAmps:
 		return CostSeries
+	case p.quantity == ac.ToneVolts:
+		return CostTone
 	}
 	return CostVolts
 }
@@ -228,6 +231,9 @@ func (e *Engine) setup(p *point) string {
 			return fmt.Sprintf("amplifier off and unplugged; pull %s (let it cool) and read ohms across its heater pins %s", ref, heaterPins(e.d.ByRef[ref]))
 		}
 		return fmt.Sprintf("amplifier off, unplugged, filter capacitors discharged (check under 10 V); meter on ohms from %s to %s", p.ck.From, p.ck.To)
+	}
+	if p.quantity == ac.ToneVolts {
+		return e.toneSetup(p)
 	}
 	pd := p.pd
 	where := "net " + pd.Net

@@ -6,6 +6,7 @@ import (
 	"sort"
 	"strings"
 
+	"pinwalk/expect/ac"
 	"pinwalk/expect/amp"
 	"pinwalk/expect/faults"
 	"pinwalk/expect/units"
@@ -200,7 +201,7 @@ func (e *Engine) addReading(c *llCache, o Observation) {
 		}
 		return
 	}
-	sr := sigmaOf(p.quantity, o.Value, e.opt.Meter)
+	sr := e.sigma(p.quantity, o.Value)
 	for i, h := range e.hyps {
 		if h.err != nil {
 			continue
@@ -351,7 +352,7 @@ func (e *Engine) misfits(h *hyp, ll []float64, obs []Observation) []string {
 		var pred string
 		if p.cold {
 			c := h.cold[k-e.nDC]
-			sg := sigmaOf(amp.Ohms, o.Value, e.opt.Meter)
+			sg := e.sigma(amp.Ohms, o.Value)
 			switch {
 			case (o.Value >= OpenOhms) != c.open:
 				z = math.Inf(1)
@@ -373,7 +374,7 @@ func (e *Engine) misfits(h *hyp, ll []float64, obs []Observation) []string {
 			for s, x := range xs {
 				m2 += w[s] * (x - mu) * (x - mu)
 			}
-			sg := sigmaOf(p.quantity, o.Value, e.opt.Meter)
+			sg := e.sigma(p.quantity, o.Value)
 			bw := KernelBandwidth * h.sd[k]
 			z = math.Abs(o.Value-mu) / math.Sqrt(sg*sg+bw*bw+m2)
 			pred = fmtQ(mu, p.quantity)
@@ -399,7 +400,7 @@ func (e *Engine) why(h *hyp, obs []Observation) []string {
 	for _, o := range obs {
 		k := e.index[o.Key]
 		p := &e.points[k]
-		sg := sigmaOf(p.quantity, o.Value, e.opt.Meter)
+		sg := e.sigma(p.quantity, o.Value)
 		dh, bh, okh := e.distance(h, k, o.Value, sg)
 		d0, b0, ok0 := e.distance(healthy, k, o.Value, sg)
 		if !okh {
@@ -482,6 +483,8 @@ func shortLabel(p *point) string {
 		return p.pd.ID + " AC current"
 	case amp.RippleVolts:
 		return p.pd.ID + " ripple"
+	case ac.ToneVolts:
+		return p.pd.ID + " tone"
 	}
 	return p.pd.ID
 }
@@ -556,7 +559,7 @@ const SeparateDPrime = 2.0
 // coldOnly.
 func (e *Engine) separator(a, b *hyp, coldToo, coldOnly bool) int {
 	apart := func(q string, ma, va, mb, vb, loa, hia, lob, hib float64) bool {
-		sg := sigmaOf(q, max(math.Abs(ma), math.Abs(mb)), e.opt.Meter)
+		sg := e.sigma(q, max(math.Abs(ma), math.Abs(mb)))
 		if gap := max(lob-hia, loa-hib); gap > 3*sg {
 			return true
 		}
@@ -756,7 +759,7 @@ func (e *Engine) pair(a, b *hyp) *hyp {
 
 // logLikOf computes a hypothesis's log-likelihood from scratch.
 func (e *Engine) logLikOf(h *hyp, obs []Observation) float64 {
-	tmp := &Engine{d: e.d, m: e.m, opt: e.opt, points: e.points, nDC: e.nDC, index: e.index, hyps: []*hyp{h}}
+	tmp := &Engine{d: e.d, m: e.m, opt: e.opt, points: e.points, nDC: e.nDC, index: e.index, hyps: []*hyp{h}, toneUnc: e.toneUnc}
 	c := &llCache{ll: [][]float64{make([]float64, max(h.n, 1))}, coldLL: []float64{0}}
 	for _, o := range obs {
 		tmp.addReading(c, o)
