@@ -13,6 +13,7 @@ import (
 
 	"gopkg.in/yaml.v3"
 
+	"pinwalk/expect/ac"
 	"pinwalk/expect/amp"
 	"pinwalk/expect/bands"
 	"pinwalk/expect/design"
@@ -110,6 +111,18 @@ func suggestHint(w string, cands []string) string {
 // is a cold resistance ("open" or "OL" for an open reading).
 func resolveReading(e *infer.Engine, keys map[string]bool, ids []string, file string, r rawReading) (infer.Observation, error) {
 	id := strings.TrimSpace(r.id)
+	// "V2.5 tone" and "B1 ripple" are short for the AC quantities.
+	if base, q, ok := strings.Cut(id, " "); ok {
+		switch strings.TrimSpace(q) {
+		case "tone":
+			id = base + " " + ac.ToneVolts
+		case "ripple":
+			id = base + " " + amp.RippleVolts
+		}
+	}
+	if infer.IsTone(id) && !keys[id] && !hasTone(keys) {
+		return infer.Observation{}, fmt.Errorf("%s:%d: %s: a tone reading needs the tone set up: give --tone FREQ:LEVEL (like 1kHz:100mV), as injected at the input", file, r.line, id)
+	}
 	key := id
 	switch {
 	case strings.HasPrefix(id, "cold:") && !strings.HasSuffix(id, " "+amp.Ohms):
@@ -137,6 +150,37 @@ func resolveReading(e *infer.Engine, keys map[string]bool, ids []string, file st
 		return infer.Observation{}, fmt.Errorf("%s:%d: %s: %v", file, r.line, id, err)
 	}
 	return infer.Observation{Key: key, Value: x}, nil
+}
+
+// hasTone reports whether the engine predicts tone points.
+func hasTone(keys map[string]bool) bool {
+	for k := range keys {
+		if infer.IsTone(k) {
+			return true
+		}
+	}
+	return false
+}
+
+// acMeterNote describes how the AC meter's response and bandwidth were
+// allowed for.
+func acMeterNote(mt infer.ACMeter, tone *ac.Options) string {
+	var parts []string
+	switch mt.Response {
+	case infer.Average:
+		parts = append(parts, fmt.Sprintf("average-responding AC meter: reads a sine (the tone) correctly, reservoir ripple (a sawtooth) %.1f %% low (form factor; allowed for)", 100*(1-infer.SawtoothAverageRatio)))
+	case infer.TrueRMS:
+		parts = append(parts, "true-rms AC meter")
+	}
+	if mt.BandwidthHz > 0 {
+		s := fmt.Sprintf("AC bandwidth %s", units.Format(mt.BandwidthHz, units.Hertz))
+		if tone != nil && tone.Hz > mt.BandwidthHz {
+			s += fmt.Sprintf(": reads the %s tone about %.0f %% low (allowed for, with that much more uncertainty); a tone within the meter's range reads truer",
+				units.Format(tone.Hz, units.Hertz), 100*(1-mt.Gain(tone.Hz)))
+		}
+		parts = append(parts, s)
+	}
+	return strings.Join(parts, "; ")
 }
 
 type jsonSuspect struct {
@@ -169,6 +213,7 @@ type jsonDiagnosis struct {
 	Pairs      []jsonSuspect `json:"pairs,omitempty"`
 	Next       *jsonProbe    `json:"next"`
 	Unsolved   []string      `json:"unsolved,omitempty"`
+	ACMeter    string        `json:"ac_meter,omitempty"`
 }
 
 func toJSONSuspect(s infer.Suspect) jsonSuspect {
@@ -182,13 +227,16 @@ func toJSONSuspect(s infer.Suspect) jsonSuspect {
 func runDiagnose(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("diagnose", flag.ContinueOnError)
 	fs.SetOutput(stderr)
-	readings := fs.String("readings", "", "YAML file of readings: point id to value (V2.3: 245V, B1: 318, \"V2.3 dc_amps\": 45mA, cold:B1: 220k)")
+	readings := fs.String("readings", "", "YAML file of readings: point id to value (V2.3: 245V, B1: 318, \"V2.3 dc_amps\": 45mA, cold:B1: 220k, \"B1 ripple\": 2.1V, with --tone \"V2.5 tone\": 1.2V)")
 	var symptoms symptomFlags
 	fs.Var(&symptoms, "symptom", "a reported symptom, repeatable: "+strings.Join(infer.Symptoms, ", "))
 	asJSON := fs.Bool("json", false, "print JSON (suspects, next, fits, groups)")
 	meterSpec := fs.String("meter", "", "the voltmeter: 10M (digital) or 20k/V:500V (analogue); default the readings file's, else 10M")
 	samples := fs.Int("samples", infer.DefaultSamples, "tolerance samples per hypothesis")
 	seed := fs.Uint64("seed", 1, "random seed of the samples")
+	toneSpec := fs.String("tone", "", "a test tone is injected at the input, FREQ:LEVEL (e.g. 1kHz:100mV): tone readings (V2.5 tone: 1.2V) then count as evidence")
+	acMeterSpec := fs.String("ac-meter", "", "the AC meter for tone and ripple readings: true-rms or average (average-responding; reads a sine correctly, sawtooth ripple low); default true-rms")
+	acBandwidth := fs.String("ac-bandwidth", "", "the AC meter's specified frequency range's top, e.g. 400Hz for a cheap meter (above it the meter reads low); default flat")
 	fs.Usage = func() {
 		fmt.Fprintln(stderr, `Usage: pinwalk diagnose [options] DESIGN --readings FILE
 
@@ -258,7 +306,31 @@ that would narrow them down most for the effort.`)
 		fmt.Fprintf(stderr, "pinwalk: meter: %v\n", err)
 		return exitUsage
 	}
-	e, err := infer.New(d, infer.Options{Samples: *samples, Seed: *seed, Meter: meter, Symptoms: symptoms, Cond: rf.cond})
+	var acm infer.ACMeter
+	if *acMeterSpec != "" {
+		if acm.Response, err = infer.ParseResponse(*acMeterSpec); err != nil {
+			fmt.Fprintf(stderr, "pinwalk: --ac-meter: %v\n", err)
+			return exitUsage
+		}
+	}
+	if *acBandwidth != "" {
+		bw, err := units.Parse(*acBandwidth, units.Hertz)
+		if err != nil || bw < 10 || bw > 10e6 {
+			fmt.Fprintf(stderr, "pinwalk: --ac-bandwidth %q: expected a frequency like 400Hz or 20kHz\n", *acBandwidth)
+			return exitUsage
+		}
+		acm.BandwidthHz = bw
+	}
+	var tone *ac.Options
+	if *toneSpec != "" {
+		t, err := parseTone(*toneSpec)
+		if err != nil {
+			fmt.Fprintf(stderr, "pinwalk: --tone: %v\n", err)
+			return exitUsage
+		}
+		tone = &t
+	}
+	e, err := infer.New(d, infer.Options{Samples: *samples, Seed: *seed, Meter: meter, Symptoms: symptoms, Cond: rf.cond, Tone: tone, ACMeter: acm})
 	if err != nil {
 		fmt.Fprintf(stderr, "pinwalk: %v\n", err)
 		if strings.Contains(err.Error(), "symptom") {
@@ -292,7 +364,7 @@ that would narrow them down most for the effort.`)
 	rk := e.Rank(obs, nil)
 	if *asJSON {
 		out := jsonDiagnosis{Design: d.File, Readings: len(obs), Symptoms: append([]string{}, symptoms...), Groups: rk.Groups,
-			GroupNotes: append([]string{}, rk.GroupNotes...), Fits: rk.Fits, FitNote: rk.FitNote, Unsolved: rk.Unsolved}
+			GroupNotes: append([]string{}, rk.GroupNotes...), Fits: rk.Fits, FitNote: rk.FitNote, Unsolved: rk.Unsolved, ACMeter: acMeterNote(acm, tone)}
 		for _, s := range rk.Suspects {
 			out.Suspects = append(out.Suspects, toJSONSuspect(s))
 		}
@@ -310,6 +382,9 @@ that would narrow them down most for the effort.`)
 		return exitOK
 	}
 	printDiagnosis(stdout, d, e, rk, len(obs), symptoms)
+	if note := acMeterNote(acm, tone); note != "" {
+		fmt.Fprintf(stdout, "AC readings: %s.\n", note)
+	}
 	return exitOK
 }
 
