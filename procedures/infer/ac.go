@@ -269,6 +269,24 @@ func (e *Engine) initTone() error {
 	if err != nil {
 		return fmt.Errorf("infer: tone: %w", err)
 	}
+	// Levels below a microvolt are nothing a bench meter shows: zero them
+	// (no float noise such as 1e-25 V in the explanations).
+	inner := x.New
+	x.New = func(m *amp.Model) (func(op *amp.OP, v *amp.Values, dst []float64) error, error) {
+		ev, err := inner(m)
+		if err != nil {
+			return nil, err
+		}
+		return func(op *amp.OP, v *amp.Values, dst []float64) error {
+			err := ev(op, v, dst)
+			for i, y := range dst {
+				if math.Abs(y) < 1e-6 {
+					dst[i] = 0
+				}
+			}
+			return err
+		}, nil
+	}
 	e.tone = x
 	e.toneUnc = 1 - e.opt.ACMeter.Gain(t.Hz)
 	return nil
