@@ -45,7 +45,15 @@ type readingsFile struct {
 func parseReadingsFile(name string, data []byte) (*readingsFile, []string) {
 	var doc yaml.Node
 	if err := yaml.Unmarshal(data, &doc); err != nil {
-		return nil, []string{fmt.Sprintf("%s: %v", name, err)}
+		msg := strings.TrimPrefix(err.Error(), "yaml: ")
+		line := 1
+		if strings.HasPrefix(msg, "line ") {
+			fmt.Sscanf(msg, "line %d:", &line)
+			if i := strings.Index(msg, ": "); i > 0 {
+				msg = msg[i+2:]
+			}
+		}
+		return nil, []string{fmt.Sprintf("%s:%d: not valid YAML (%s): expected a mapping of point id to reading, like `V2.3: 245V`", name, line, msg)}
 	}
 	if len(doc.Content) == 0 {
 		return nil, []string{fmt.Sprintf("%s: empty: expected a mapping of point id to reading, like `V2.3: 245V`", name)}
