@@ -614,7 +614,7 @@ func (l *faultLoop) Hint() []string {
 	if st != nil && (strings.HasPrefix(st.ID, "probe-") || st.ID == StepPowerUp) && st.Why != "" {
 		out = append(out, st.Why)
 	}
-	if l.rank == nil || len(l.rank.Suspects) == 0 {
+	if l.rank == nil || len(l.rank.Suspects) == 0 || (r.Sess.Outcome != nil && (st == nil || st.ID != StepConfirm)) {
 		return out
 	}
 	for i, s := range l.rank.Suspects {

@@ -21,8 +21,11 @@ const PlainHelp = `Commands:
   goto STEP      go to another step (gates apply)
   list           list the steps and whether each is done
   symptoms LIST  (fault-finding) the symptoms, comma-separated
-  next           (practice) take the best next measurement
-  measure KEY    (practice) choose a measurement; m alone takes the reading
+                 after each reading the next best measurement follows by itself
+  measure KEY    (fault-finding) choose your own measurement instead ("V2.3 dc_volts", "cold:B1 ohms")
+  power          (fault-finding) power up on the variac now, then measure live
+  stop           (fault-finding) stop measuring and go on to confirm the leading suspect
+  m              (practice) take the (simulated) reading
   name REF:MODE  (practice) name the fault
   ?              this help
   q              quit (the session is already saved)`
@@ -77,7 +80,7 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 		}
 		m := r.NextMeasure()
 		if m != nil && r.Training && !guessed(r, m.Point) && !noGuess[m.Point] && len(r.Blockers(st)) == 0 {
-			p("Predict first: what do you expect %s to read?", m.Label)
+			p("Predict first: what do you expect %s to read? (Enter to pass)", m.Label)
 			line, ok := read("prediction> ")
 			if !ok {
 				return quit(p, r)
@@ -101,6 +104,9 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 				}
 			} else {
 				noGuess[m.Point] = true
+				if st.Why != "" && r.Sess.Mode == procedures.Practise {
+					p("Why: %s", st.Why)
+				}
 			}
 		}
 		if m != nil {
@@ -137,7 +143,11 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 			p("%s", PlainHelp)
 		case line == "" || line == "y" || line == "yes":
 			if m != nil {
-				p("This step needs a reading (%s), or s REASON to skip it.", m.Label)
+				if r.Sess.Mode == procedures.Practise {
+					p("This step needs a reading (%s): m to take the (simulated) reading, or s REASON to skip it.", m.Label)
+				} else {
+					p("This step needs a reading (%s): type the meter's value, or s REASON to skip it.", m.Label)
+				}
 				continue
 			}
 			if err := r.Confirm(); err != nil {
@@ -177,7 +187,7 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 			}
 		default:
 			if m == nil {
-				p("Unknown command %q: this step takes no reading (y to confirm, ? for help).", line)
+				p("%q: %s (? for help).", line, procedures.NoReading)
 				continue
 			}
 			vd, err := r.Enter("", line)
@@ -264,6 +274,9 @@ func printMeasure(p func(string, ...any), r *procedures.Runner, st *procedures.S
 		if b.Note != "" {
 			p("  note: %s", b.Note)
 		}
+	}
+	if r.Sess.Mode == procedures.Practise {
+		p("  m to take the (simulated) reading")
 	}
 }
 

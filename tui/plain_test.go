@@ -16,6 +16,7 @@ import (
 
 	"pinwalk/expect/design"
 	"pinwalk/procedures"
+	"pinwalk/procedures/infer"
 )
 
 const demoA = "../testdata/designs/se-6v6-stereo.yaml"
@@ -77,7 +78,7 @@ func script(t testing.TB) []string {
 			r.Next()
 		}
 	}
-	return lines
+	return append(lines, "y") // the summary
 }
 
 // TestPlainBringUp runs the whole bring-up of demo a in plain mode with
@@ -196,5 +197,136 @@ func TestKillResume(t *testing.T) {
 	w := open(t, path)
 	if n := len(w.R.Sess.Readings); n != 4 {
 		t.Errorf("resumed with %d readings, want 4", n)
+	}
+}
+
+// openMode opens a scratch or saved session of demo a in a mode.
+func openMode(t testing.TB, mode procedures.Mode, seed uint64, path string) *procedures.Walk {
+	d := loadA(t)
+	s := procedures.NewSession(d, mode, seed, time.Date(2025, 3, 1, 10, 0, 0, 0, time.UTC))
+	w, err := procedures.Open(d, s, path, procedures.WalkOptions{Samples: 100, Seed: seed})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return w
+}
+
+// faultScript generates what a technician would type in a fault-finding
+// session on demo a with a fault: the readings come from the inference's
+// simulated amplifier with that fault; steps without a reading are
+// confirmed. It drives a scratch session the way RunPlain does.
+func faultScript(t testing.TB, fault string, seed uint64) []string {
+	w := openMode(t, procedures.FaultFind, seed, "")
+	e, err := infer.New(w.B.D, infer.Options{Seed: seed})
+	if err != nil {
+		t.Fatal(err)
+	}
+	sim, err := e.Simulate(fault, seed)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := w.R
+	var lines []string
+	for i := 0; i < 300; i++ {
+		if err := w.Loop.Advance(); err != nil {
+			t.Fatal(err)
+		}
+		st := r.Current()
+		if st.ID == procedures.StepSummary || r.Finished() {
+			break
+		}
+		m := r.NextMeasure()
+		if m == nil {
+			lines = append(lines, "y")
+			if err := r.Confirm(); err != nil {
+				t.Fatalf("%s: %v", st.ID, err)
+			}
+		} else {
+			v, ok := sim[m.Point]
+			switch {
+			case ok:
+			case strings.HasPrefix(m.Point, "discharge:"):
+				v = 0.4
+			case m.Point == procedures.EarthKey:
+				v = 0.15
+			default:
+				b, _ := r.Expected(st, m)
+				v = b.Nominal
+			}
+			raw := num(v) + "!"
+			if math.IsInf(v, 1) {
+				raw = "OL"
+			}
+			lines = append(lines, raw)
+			vd, err := r.Enter("", raw)
+			if err != nil {
+				t.Fatalf("%s: %v", m.Point, err)
+			}
+			if vd.Reading.Status == procedures.Retry {
+				lines = append(lines, raw)
+				if _, err := r.Enter("", raw); err != nil {
+					t.Fatal(err)
+				}
+			}
+		}
+		if r.Done(st.ID) {
+			r.Next()
+		}
+	}
+	return append(lines, "y") // the summary
+}
+
+// TestPlainFaultFind runs a fault-finding session on demo a with a
+// shorted cathode bypass capacitor (C10) through stdin: after the
+// safety steps every measurement is suggested by the tool (with its
+// expected gain in bits) without typing next, and the walk ends at the
+// confirm step naming the fault, then the summary.
+func TestPlainFaultFind(t *testing.T) {
+	const fault = "C10:short"
+	lines := faultScript(t, fault, 2)
+	path := filepath.Join(t.TempDir(), "ff.yaml")
+	w := openMode(t, procedures.FaultFind, 2, path)
+	var out strings.Builder
+	if err := RunPlain(w, strings.NewReader(strings.Join(lines, "\n")+"\n"), &out); err != nil {
+		t.Fatal(err)
+	}
+	tr := out.String()
+	o := w.R.Sess.Outcome
+	if o == nil {
+		t.Fatalf("no outcome:\n%s", tr[max(0, len(tr)-3000):])
+	}
+	e, _ := infer.New(w.B.D, infer.Options{Seed: 2})
+	found := strings.Split(o.Found, " or ")[0]
+	if found != fault && !e.SameGroup(found, fault, true) {
+		t.Errorf("found %s, want %s (or one no reading tells from it)", o.Found, fault)
+	}
+	for _, want := range []string{"Confirm the fault:", "bits", "== Summary ==", "Found: "} {
+		if !strings.Contains(tr, want) {
+			t.Errorf("transcript lacks %q", want)
+		}
+	}
+	if strings.Contains(tr, "asked for the next measurement") {
+		t.Error("noise note in the transcript")
+	}
+	if !strings.Contains(tr, "Procedure finished") {
+		t.Errorf("did not finish:\n%s", tr[max(0, len(tr)-6000):])
+	}
+}
+
+// TestPlainMessages: on a step that takes no reading, a value or m says
+// what to do; practice prompts say m takes the simulated reading.
+func TestPlainMessages(t *testing.T) {
+	w := openMode(t, procedures.Practise, 3, "")
+	var out strings.Builder
+	// Symptoms (no reading): a value, then m; then confirm; the briefing.
+	if err := RunPlain(w, strings.NewReader("312\nm\ny\ny\ny\n\n"), &out); err != nil {
+		t.Fatal(err)
+	}
+	tr := out.String()
+	if n := strings.Count(tr, procedures.NoReading); n < 2 {
+		t.Errorf("the no-reading message shows %d times, want 2 (value and m):\n%s", n, tr)
+	}
+	if !strings.Contains(tr, "m to take the (simulated) reading") {
+		t.Errorf("practice prompt lacks the m hint:\n%s", tr)
 	}
 }
