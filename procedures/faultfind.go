@@ -53,7 +53,7 @@ func FaultFindProcedure(b *BenchModel, mode Mode) (*Procedure, error) {
 			"), then confirm; or confirm with none.",
 		Why: "Symptoms set the starting odds: a blown fuse points at shorts, hum at filter capacitors, one dead channel at that channel's parts."}
 	if mode == Practise {
-		sym.Instruction = "Practice: the tool has picked a fault and answers your measurements from a simulated amp. Confirm to start; type next for the best next measurement, measure KEY to choose your own, m to take the reading, name REF:MODE when you know."
+		sym.Instruction = "Practice: the tool has picked a fault and answers your measurements from a simulated amp. Confirm to start. After the safety steps each best next measurement follows by itself: m to take the (simulated) reading, measure KEY to choose your own, power to power up, name REF:MODE when you know."
 	}
 	p.Steps = append(p.Steps, sym)
 	safe, _ := safetySteps(b)
