@@ -118,11 +118,15 @@ func New(cfg Config) Model {
 		g = ASCIIGlyphs()
 		st.asciiBorders()
 	}
+	keys := DefaultKeyMap()
+	if cfg.ASCII {
+		keys.asciiHelp()
+	}
 	mdl := cfg.Model
 	if mdl == nil && cfg.Walk.B != nil {
 		mdl = cfg.Walk.B.M
 	}
-	e := &env{run: r, st: st, g: g, keys: DefaultKeyMap(), labels: map[string]string{}, bands: map[bandKey]bandEntry{}, cfg: &cfg}
+	e := &env{run: r, st: st, g: g, keys: keys, labels: map[string]string{}, bands: map[bandKey]bandEntry{}, cfg: &cfg}
 	e.relabel()
 	h := help.New()
 	h.Styles.ShortKey = st.Label
@@ -132,6 +136,8 @@ func New(cfg Config) Model {
 	h.Styles.ShortSeparator = st.Dim
 	h.Styles.FullSeparator = st.Dim
 	h.Styles.Ellipsis = st.Dim
+	h.ShortSeparator = g.Sep
+	h.Ellipsis = g.Ellipsis
 	m := Model{e: e, cfg: cfg, walk: cfg.Walk, path: path, help: h,
 		step: newStepView(e), sock: newSocketView(e, mdl), sus: newSuspectsView(e), ov: newOverviewView(e, mdl)}
 	m.rankFn = cfg.Rank
@@ -373,7 +379,7 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 			m.step.say("the measuring loop: "+msg.Err.Error(), true)
 		}
 		if len(msg.Out) > 0 {
-			m.step.say(strings.Join(msg.Out, " · "), false)
+			m.step.say(strings.Join(msg.Out, " "+m.e.g.Dot+" "), false)
 		}
 		if msg.Rank != nil {
 			m.sus, _ = m.sus.Update(rankMsg{Rank: msg.Rank})

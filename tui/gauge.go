@@ -31,9 +31,17 @@ func fmtValue(v float64, unit string) string {
 		return "OL (open)"
 	}
 	if math.IsNaN(v) {
-		return "—"
+		return "-"
 	}
 	return units.Format(v, quantityOf(unit))
+}
+
+// value is fmtValue spelled in ASCII when the glyphs are ASCII.
+func (g Glyphs) value(v float64, unit string) string {
+	if g.ASCII {
+		return asciiFold(fmtValue(v, unit))
+	}
+	return fmtValue(v, unit)
 }
 
 // gaugeMarks are the optional marks on a gauge.
@@ -54,8 +62,8 @@ type gaugeMarks struct {
 // the cross in it, the reading a mark underneath with its value and
 // verdict in words, so it reads without colour.
 func gauge(s *Styles, g Glyphs, width int, b procedures.Band, unit string, mk gaugeMarks) []string {
-	head := "expected " + fmtValue(b.Nominal, unit) + "   band " + fmtValue(b.Low, unit) + " " + g.Ellipsis + " " + fmtValue(b.High, unit)
-	lines := []string{truncate(head, width)}
+	head := "expected " + g.value(b.Nominal, unit) + "   band " + g.value(b.Low, unit) + " " + g.Ellipsis + " " + g.value(b.High, unit)
+	lines := []string{g.cut(head, width)}
 
 	pad := 0.6 * (b.High - b.Low)
 	if pad <= 0 {
@@ -81,7 +89,7 @@ func gauge(s *Styles, g Glyphs, width int, b procedures.Band, unit string, mk ga
 	if b.Low >= 0 && a < 0 {
 		a = 0
 	}
-	lo, hi := fmtValue(a, unit), fmtValue(z, unit)
+	lo, hi := g.value(a, unit), g.value(z, unit)
 	n := width - lipgloss.Width(lo) - lipgloss.Width(hi) - 4
 	if n < 10 {
 		// Too narrow for a scale: words only.
@@ -133,17 +141,17 @@ func markLine(s *Styles, g Glyphs, c, width int, unit string, mk gaugeMarks, whi
 	switch which {
 	case 2:
 		mark = g.Guess
-		text = "your guess " + fmtValue(*mk.Guess, unit) + " " + mk.GuessLabel
+		text = "your guess " + g.value(*mk.Guess, unit) + " " + mk.GuessLabel
 	default:
 		if mk.Reading == nil {
 			return ""
 		}
 		mark = g.Reading
 		glyph, word, st := statusMark(s, g, mk.Status)
-		text = "reading " + fmtValue(*mk.Reading, unit) + " " + st.Render(glyph+" "+word)
+		text = "reading " + g.value(*mk.Reading, unit) + " " + st.Render(glyph+" "+word)
 	}
 	if which == 0 {
-		return truncate(text, width)
+		return g.cut(text, width)
 	}
 	tw := lipgloss.Width(text)
 	if c+2+tw <= width {
@@ -153,7 +161,7 @@ func markLine(s *Styles, g Glyphs, c, width int, unit string, mk gaugeMarks, whi
 	if left >= 0 {
 		return strings.Repeat(" ", left) + text + " " + mark
 	}
-	return strings.Repeat(" ", c) + mark + "\n" + truncate(text, width)
+	return strings.Repeat(" ", c) + mark + "\n" + g.cut(text, width)
 }
 
 // statusMark gives a status's glyph, word and style.
@@ -173,16 +181,16 @@ func statusMark(s *Styles, g Glyphs, st procedures.Status) (string, string, lipg
 	return g.NotYet, "not yet", s.Dim
 }
 
-// truncate cuts s to width cells (escape sequences kept whole), marking
-// the cut with an ellipsis.
-func truncate(s string, width int) string {
+// cut cuts s to width cells (escape sequences kept whole), marking the
+// cut with the glyphs' ellipsis.
+func (g Glyphs) cut(s string, width int) string {
 	if width <= 0 {
 		return ""
 	}
 	if lipgloss.Width(s) <= width {
 		return s
 	}
-	return ansi.Truncate(s, width, "…")
+	return ansi.Truncate(s, width, g.Ellipsis)
 }
 
 // wrap breaks text into lines of at most width cells, at spaces.

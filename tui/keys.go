@@ -78,11 +78,16 @@ type keyGroup struct {
 // Groups is the full key list by purpose, for the help overlay.
 func (k KeyMap) Groups() []keyGroup {
 	return []keyGroup{
-		{"Readings and steps", []key.Binding{k.Enter, k.Skip, k.Note, k.Detail, k.NextStep, k.PrevStep, k.Steps}},
-		{"Views", []key.Binding{k.NextView, k.PrevView, k.Left, k.Right, k.Up, k.Down, k.GoSuggested}},
+		{"Readings and steps", []key.Binding{k.Enter, k.Skip, k.Note, k.Detail, k.NextStep, k.PrevStep}},
+		{"Views and lists", []key.Binding{k.NextView, k.PrevView, k.Steps, pair(k.Left, k.Right, "other valve"), pair(k.Up, k.Down, "scroll / choose"), k.GoSuggested}},
 		{"Editing the reading", []key.Binding{k.LineStart, k.LineEnd, k.Clear, k.DeleteWord, k.Paste}},
 		{"Session", []key.Binding{k.Help, k.Cancel, k.RetrySave, k.Quit}},
 	}
+}
+
+// pair is two keys as one line of help ("←/→ other valve").
+func pair(a, b key.Binding, desc string) key.Binding {
+	return key.NewBinding(key.WithKeys(append(a.Keys(), b.Keys()...)...), key.WithHelp(a.Help().Key+"/"+b.Help().Key, desc))
 }
 
 // ShortHelp is the one-line help at the foot of the screen (the step

@@ -73,13 +73,13 @@ func (v overviewView) View() string {
 	case v.m == nil:
 		return s.Dim.Render("No amplifier model for this session.")
 	case v.err != nil:
-		return s.Bad.Render(truncate("Cannot solve the operating point: "+v.err.Error(), w))
+		return s.Bad.Render(v.e.g.cut("Cannot solve the operating point: "+v.err.Error(), w))
 	case v.op == nil:
 		return s.Dim.Render("Solving the operating point " + g.Ellipsis)
 	}
 	m, op := v.m, v.op
 	var lines []string
-	lines = append(lines, s.Title.Render(truncate("Supply "+g.Dot+" "+m.D.Title, w)))
+	lines = append(lines, s.Title.Render(v.e.g.cut("Supply "+g.Dot+" "+m.D.Title, w)))
 	if m.HT != nil && op.Supply != nil {
 		chain := ""
 		if m.HT.Rectifier != nil {
@@ -97,7 +97,7 @@ func (v overviewView) View() string {
 			}
 			chain += n + " "
 		}
-		lines = append(lines, truncate(chain, w))
+		lines = append(lines, v.e.g.cut(chain, w))
 		lines = append(lines, s.Label.Render(fmt.Sprintf("  %-10s %-9s %-20s %-15s %s", "net", "caps", "expected (band)", "measured", "")))
 		for i, n := range m.HT.Nets {
 			var fo *amp.FilterNetOP
@@ -107,28 +107,28 @@ func (v overviewView) View() string {
 				}
 			}
 			key := n + " " + amp.DCVolts
-			exp := "—"
+			exp := g.Dash
 			if fo != nil {
-				exp = fmtValue(fo.Vdc, "V")
+				exp = v.e.g.value(fo.Vdc, "V")
 			}
 			if be := v.e.cachedBand(key, 1); be.Has {
-				exp = fmtValue(be.Band.Nominal, "V") + " (" + compact(be.Band.Low, "V") + "–" + compact(be.Band.High, "V") + ")"
+				exp = v.e.g.value(be.Band.Nominal, "V") + " (" + v.e.g.compact(be.Band.Low, "V") + g.To + v.e.g.compact(be.Band.High, "V") + ")"
 			}
 			caps := ""
 			if i < len(m.HT.CapRefs) {
 				caps = strings.Join(m.HT.CapRefs[i], ",")
 			}
-			meas, glyph, word, style := "—", g.NotYet, "not yet", s.Dim
+			meas, glyph, word, style := g.Dash, g.NotYet, "not yet", s.Dim
 			if rd := v.e.lastReading(key); rd != nil {
 				glyph, word, style = statusMark(s, g, rd.Status)
-				meas = fmtValue(rd.Value, "V")
+				meas = v.e.g.value(rd.Value, "V")
 				if rd.Variac > 0 && rd.Variac < 1 {
 					meas += fmt.Sprintf(" @%.0f%%", 100*rd.Variac)
 				}
 			}
-			lines = append(lines, style.Render(truncate(fmt.Sprintf("  %-10s %-9s %-20s %-15s %s %s", n, truncate(caps, 9), exp, meas, glyph, word), w)))
+			lines = append(lines, style.Render(v.e.g.cut(fmt.Sprintf("  %-10s %-9s %-20s %-15s %s %s", n, v.e.g.cut(caps, 9), exp, meas, glyph, word), w)))
 		}
-		lines = append(lines, s.Dim.Render(truncate(fmt.Sprintf("  rectifier: %s peak, %s rms; total load %s", fmtValue(op.Supply.PeakRectAmps, "A"), fmtValue(op.Supply.RmsAmps, "A"), fmtValue(op.Supply.TotalAmps, "A")), w)))
+		lines = append(lines, s.Dim.Render(v.e.g.cut(fmt.Sprintf("  rectifier: %s peak, %s rms; total load %s", v.e.g.value(op.Supply.PeakRectAmps, "A"), v.e.g.value(op.Supply.RmsAmps, "A"), v.e.g.value(op.Supply.TotalAmps, "A")), w)))
 	} else {
 		lines = append(lines, s.Dim.Render("  no HT rectifier in this design"))
 	}
@@ -161,12 +161,12 @@ func (v overviewView) View() string {
 		case pct > 0.9:
 			style, mark = s.Warn, g.Retry+" hot"
 		}
-		line := fmt.Sprintf("  %-8s %-7s %8s %9s %8s %8s  %s %3.0f%% %s", name, truncate(sec.Type.Name, 7), compact(so.Va, "V"), compact(so.Ia, "A"), compact(so.Vk, "V"),
-			compact(so.Pa, "W"), bar(g, pct, barW), 100*pct, mark)
+		line := fmt.Sprintf("  %-8s %-7s %8s %9s %8s %8s  %s %3.0f%% %s", name, v.e.g.cut(sec.Type.Name, 7), v.e.g.compact(so.Va, "V"), v.e.g.compact(so.Ia, "A"), v.e.g.compact(so.Vk, "V"),
+			v.e.g.compact(so.Pa, "W"), bar(g, pct, barW), 100*pct, mark)
 		if sec.Pentode && sec.Type.Limits.ScreenWatts > 0 {
-			line += fmt.Sprintf("  screen %s (%.0f%%)", compact(so.Pg2, "W"), 100*so.Pg2/sec.Type.Limits.ScreenWatts)
+			line += fmt.Sprintf("  screen %s (%.0f%%)", v.e.g.compact(so.Pg2, "W"), 100*so.Pg2/sec.Type.Limits.ScreenWatts)
 		}
-		lines = append(lines, style.Render(truncate(line, w)))
+		lines = append(lines, style.Render(v.e.g.cut(line, w)))
 	}
 
 	if len(op.Windings) > 0 {
@@ -180,9 +180,9 @@ func (v overviewView) View() string {
 			if pct > 1 {
 				style, mark = s.Bad, g.OutOfBand+" OVER"
 			}
-			line := fmt.Sprintf("  %-10s %s at %s of %s  %s %3.0f%% %s  (%s)", wd.Name, compact(wd.Amps, "A"), compact(wd.Volts, "V"), compact(wd.RatedAmps, "A"),
+			line := fmt.Sprintf("  %-10s %s at %s of %s  %s %3.0f%% %s  (%s)", wd.Name, v.e.g.compact(wd.Amps, "A"), v.e.g.compact(wd.Volts, "V"), v.e.g.compact(wd.RatedAmps, "A"),
 				bar(g, pct, barW), 100*pct, mark, strings.Join(wd.Refs, " "))
-			lines = append(lines, style.Render(truncate(line, w)))
+			lines = append(lines, style.Render(v.e.g.cut(line, w)))
 		}
 	}
 	if len(lines) > v.h && v.h > 0 {

@@ -147,7 +147,7 @@ type pinState struct {
 
 func (v socketView) state(p socketPin) pinState {
 	s, g := v.e.st, v.e.g
-	ps := pinState{glyph: g.NotYet, word: "not yet", style: s.Dim, short: "", expected: "—", measured: "—"}
+	ps := pinState{glyph: g.NotYet, word: "not yet", style: s.Dim, short: "", expected: g.Dash, measured: g.Dash}
 	if p.Point == "" {
 		ps.word = ""
 		return ps
@@ -155,15 +155,15 @@ func (v socketView) state(p socketPin) pinState {
 	be := v.e.cachedBand(p.Point, 1)
 	switch {
 	case be.Pending:
-		ps.expected = "…"
+		ps.expected = g.Ellipsis
 	case be.Has:
-		ps.expected = fmtValue(be.Band.Nominal, p.Unit) + " (" + compact(be.Band.Low, p.Unit) + "–" + compact(be.Band.High, p.Unit) + ")"
-		ps.short = "~" + compact(be.Band.Nominal, p.Unit)
+		ps.expected = v.e.g.value(be.Band.Nominal, p.Unit) + " (" + v.e.g.compact(be.Band.Low, p.Unit) + g.To + v.e.g.compact(be.Band.High, p.Unit) + ")"
+		ps.short = "~" + v.e.g.compact(be.Band.Nominal, p.Unit)
 	}
 	if rd := v.e.lastReading(p.Point); rd != nil {
 		ps.glyph, ps.word, ps.style = statusMark(s, g, rd.Status)
-		ps.short = compact(rd.Value, p.Unit)
-		ps.measured = fmtValue(rd.Value, p.Unit)
+		ps.short = v.e.g.compact(rd.Value, p.Unit)
+		ps.measured = v.e.g.value(rd.Value, p.Unit)
 		if rd.Variac > 0 && rd.Variac < 1 {
 			ps.measured += fmt.Sprintf(" @%.0f%%", 100*rd.Variac)
 			ps.short += "@"
@@ -173,11 +173,11 @@ func (v socketView) state(p socketPin) pinState {
 }
 
 // compact formats a value without the space before the unit.
-func compact(v float64, unit string) string {
+func (g Glyphs) compact(v float64, unit string) string {
 	if math.IsInf(v, 1) {
 		return "OL"
 	}
-	return strings.ReplaceAll(fmtValue(v, unit), " ", "")
+	return strings.ReplaceAll(g.value(v, unit), " ", "")
 }
 
 // pinAngle is a pin's angle in degrees clockwise from the top, seen from
@@ -198,9 +198,9 @@ func (v socketView) View() string {
 	}
 	sv := v.vs[v.sel]
 	w := max(20, v.w)
-	head := fmt.Sprintf("%s %s  %s %s (%s)  %d of %d  %s", "←", s.Title.Render(sv.Ref), g.Dot, sv.Type, sv.Base, v.sel+1, len(v.vs), "→")
+	head := fmt.Sprintf("%s %s  %s %s (%s)  %d of %d  %s", g.Left, s.Title.Render(sv.Ref), g.Dot, sv.Type, sv.Base, v.sel+1, len(v.vs), g.Right)
 	sub := "Seen from below (wiring side), pins clockwise from the " + map[bool]string{true: "key", false: "gap"}[sv.Base == valves.Octal] + ". ~ expected, plain = measured."
-	lines := []string{truncate(head, w), s.Dim.Render(truncate(sub, w))}
+	lines := []string{v.e.g.cut(head, w), s.Dim.Render(v.e.g.cut(sub, w))}
 
 	drawing := v.drawing(sv)
 	table := v.table(sv, w)
@@ -232,7 +232,7 @@ func (v socketView) View() string {
 		lines = append(lines, table...)
 	default:
 		lines = append(lines, drawing...)
-		lines = append(lines, s.Dim.Render(truncate(fmt.Sprintf("%s in band  %s out of band  %s re-measure  %s not yet %s a taller or wider screen shows the table", g.InBand, g.OutOfBand, g.Retry, g.NotYet, g.Dot), w)))
+		lines = append(lines, s.Dim.Render(v.e.g.cut(fmt.Sprintf("%s in band  %s out of band  %s re-measure  %s not yet %s a taller or wider screen shows the table", g.InBand, g.OutOfBand, g.Retry, g.NotYet, g.Dot), w)))
 	}
 	if len(lines) > v.h && v.h > 0 {
 		lines = lines[:v.h]
@@ -282,7 +282,7 @@ func (v socketView) drawing(sv socketValve) []string {
 		if p.Point == "" {
 			lab = abbrev(p)
 		}
-		lab = truncate(lab, labelW-1)
+		lab = v.e.g.cut(lab, labelW-1)
 		if x >= cx {
 			put(y, x, num)
 			put(y, x+len(num)+1, lab)
@@ -312,7 +312,7 @@ func (v socketView) table(sv socketValve, w int) []string {
 		if p.Section != "" {
 			el += " " + p.Section
 		}
-		line := fmt.Sprintf("%-3d %-9s %-22s %-12s %s %s", p.Number, truncate(el, 9), truncate(ps.expected, 22), truncate(ps.measured, 12), ps.glyph, ps.word)
+		line := fmt.Sprintf("%-3d %-9s %-22s %-12s %s %s", p.Number, v.e.g.cut(el, 9), v.e.g.cut(ps.expected, 22), v.e.g.cut(ps.measured, 12), ps.glyph, ps.word)
 		out = append(out, ps.style.Render(strings.TrimRight(line, " ")))
 	}
 	return out

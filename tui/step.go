@@ -179,7 +179,7 @@ func (v stepView) enter() (stepView, tea.Cmd) {
 	m := r.NextMeasure()
 	if text == "" {
 		if m != nil {
-			v.say("type the meter's reading first (or ctrl+k to skip the step with a reason)", true)
+			v.say("type the meter's reading first (or ^K to skip the step with a reason)", true)
 			return v, nil
 		}
 		if !r.Done(st.ID) {
@@ -212,7 +212,7 @@ func (v stepView) enter() (stepView, tea.Cmd) {
 		if g.Good {
 			word = "within the band"
 		}
-		v.say("your guess "+fmtValue(g.Value, m.Unit)+" is "+word+"; now measure and type the reading", !g.Good)
+		v.say("your guess "+v.e.g.value(g.Value, m.Unit)+" is "+word+"; now measure and type the reading", !g.Good)
 		return v, changed
 	}
 	vd, err := r.Enter(m.Point, text)
@@ -229,9 +229,9 @@ func (v stepView) enter() (stepView, tea.Cmd) {
 	}
 	v.in.Reset()
 	v.last = vd
-	msg := fmtValue(vd.Reading.Value, m.Unit) + ": " + vd.Message
+	msg := v.e.g.value(vd.Reading.Value, m.Unit) + ": " + vd.Message
 	if next := r.NextMeasure(); next == nil && vd.Reading.Status != procedures.Retry {
-		msg += " · step done: Enter for the next step"
+		msg += " " + v.e.g.Dot + " step done: Enter for the next step"
 	}
 	v.say(msg, vd.Reading.Status == procedures.OutOfBand || vd.Reading.Status == procedures.Retry)
 	return v, tea.Batch(changed, v.bandCmds())
@@ -272,7 +272,7 @@ func (v stepView) View() string {
 	if st.Live && st.Variac > 0 && st.Variac < 1 {
 		state += fmt.Sprintf(" %s variac %.0f %%", g.Dot, 100*st.Variac)
 	}
-	top := []string{joinEnds(s.Title.Render(truncate(title, w-lipgloss.Width(state)-2)), s.Warn.Render(state), w)}
+	top := []string{joinEnds(s.Title.Render(v.e.g.cut(title, w-lipgloss.Width(state)-2)), s.Warn.Render(state), w)}
 
 	var mid []string
 	if b := r.Blockers(st); len(b) > 0 && !r.Done(st.ID) {
@@ -294,7 +294,7 @@ func (v stepView) View() string {
 		if shown.Range != "" {
 			meter += ", " + shown.Range
 		}
-		mid = append(mid, truncate(s.Label.Render(fmt.Sprintf("Reading %d of %d: ", n, len(st.Measures)))+shown.Label+meter, w))
+		mid = append(mid, v.e.g.cut(s.Label.Render(fmt.Sprintf("Reading %d of %d: ", n, len(st.Measures)))+shown.Label+meter, w))
 		if shown.Probes != "" {
 			for _, l := range wrap("Probes: "+shown.Probes, w) {
 				mid = append(mid, l)
@@ -315,7 +315,7 @@ func (v stepView) View() string {
 		}
 	}
 	if st.Live && v.last != nil && v.last.Reading.Status == procedures.OutOfBand && len(st.StopIf) > 0 {
-		mid = append(mid, s.Bad.Render(truncate("SWITCH OFF if: "+strings.Join(st.StopIf, "; "), w)))
+		mid = append(mid, s.Bad.Render(v.e.g.cut("SWITCH OFF if: "+strings.Join(st.StopIf, "; "), w)))
 	}
 	if r.Finished() {
 		mid = append(mid, v.finishLines(w)...)
@@ -336,7 +336,7 @@ func (v stepView) View() string {
 	if left < len(instr) {
 		keep := max(1, left)
 		if keep < len(instr) {
-			instr = append(instr[:keep-1:keep-1], truncate(instr[keep-1], w-16)+" (ctrl+e: all)")
+			instr = append(instr[:keep-1:keep-1], v.e.g.cut(instr[keep-1], w-16)+" (^E: all)")
 		}
 	}
 	left -= len(instr)
@@ -380,7 +380,7 @@ func (v stepView) cautionBox(st *procedures.Step, w, height int) string {
 	// heading stays, the rest is one key away.
 	limit := height - 2
 	if len(lines) > limit {
-		lines = append(lines[:limit-1:limit-1], s.Bad.Render("more cautions: ctrl+e shows them all"))
+		lines = append(lines[:limit-1:limit-1], s.Bad.Render("more cautions below: Ctrl+E (^E) shows them all"))
 	}
 	return style.Width(w - 2).Render(strings.Join(lines, "\n"))
 }
@@ -422,7 +422,7 @@ func (v stepView) gaugeLines(st *procedures.Step, m *procedures.Measure, w int) 
 	}
 	lines := gauge(s, v.e.g, w, be.Band, m.Unit, mk)
 	if be.Band.Note != "" {
-		lines = append(lines, s.Dim.Render(truncate("note: "+be.Band.Note, w)))
+		lines = append(lines, s.Dim.Render(v.e.g.cut("note: "+be.Band.Note, w)))
 	}
 	return lines
 }
@@ -442,8 +442,8 @@ func (v stepView) history(w, n int) []string {
 		if rd.Variac > 0 && rd.Variac < 1 {
 			at = fmt.Sprintf(" @%.0f%%", 100*rd.Variac)
 		}
-		line := fmt.Sprintf(" %s %-28s %12s%s  %s", glyph, truncate(v.e.label(rd.Point), 28), fmtValue(rd.Value, rd.Unit), at, word)
-		out = append(out, style.Render(truncate(line, w)))
+		line := fmt.Sprintf(" %s %-28s %12s%s  %s", glyph, v.e.g.cut(v.e.label(rd.Point), 28), v.e.g.value(rd.Value, rd.Unit), at, word)
+		out = append(out, style.Render(v.e.g.cut(line, w)))
 	}
 	return out
 }
@@ -455,7 +455,7 @@ func (v stepView) finishLines(w int) []string {
 	r := v.e.run
 	out := []string{s.Good.Render(g.Done + " Every step is done. The session is saved; the job sheet comes from it.")}
 	for _, sk := range r.SkippedSafety() {
-		out = append(out, s.Bad.Render(truncate(g.OutOfBand+" safety step skipped: "+sk.Step+" ("+sk.Reason+")", w)))
+		out = append(out, s.Bad.Render(v.e.g.cut(g.OutOfBand+" safety step skipped: "+sk.Step+" ("+sk.Reason+")", w)))
 	}
 	if r.Training {
 		out = append(out, practiceScore(r.Sess, g)...)
@@ -482,7 +482,7 @@ func practiceScore(sess *procedures.Session, g Glyphs) []string {
 			if p.Named != "" && p.Named == p.Fault {
 				verdict = g.InBand + " found"
 			}
-			out = append(out, fmt.Sprintf("Practice fault: %s (you named %q) %s · score %d", p.Fault, p.Named, verdict, p.Score))
+			out = append(out, fmt.Sprintf("Practice fault: %s (you named %q) %s %s score %d", p.Fault, p.Named, verdict, g.Dot, p.Score))
 		} else {
 			out = append(out, fmt.Sprintf("Practice score so far: %d", p.Score))
 		}

@@ -1,6 +1,8 @@
 package tui
 
 import (
+	"strings"
+
 	"github.com/charmbracelet/lipgloss"
 )
 
@@ -20,6 +22,7 @@ type Glyphs struct {
 	Left, Right, UpDown                             string // arrow keys in headings and hints
 	Cursor                                          string // the input's cursor when colour is off
 	Sep                                             string // between hints in the help line
+	ASCII                                           bool   // values are spelled in ASCII (4.7 kohm, 2 uA)
 }
 
 // UnicodeGlyphs are the default marks.
@@ -42,7 +45,7 @@ func ASCIIGlyphs() Glyphs {
 		BarFull: "#", BarEmpty: ".",
 		Rule: "-", BandRule: "=", EndL: "|", EndR: "|", BandL: "[", BandR: "]",
 		Arrow: "->", Ellipsis: "...", Dot: ".", Key: "^",
-		Dash: "-", To: "..", Left: "<-", Right: "->", UpDown: "up/down", Cursor: "_", Sep: " | ",
+		Dash: "-", To: "..", Left: "<-", Right: "->", UpDown: "up/down", Cursor: "_", Sep: " | ", ASCII: true,
 	}
 }
 
@@ -103,4 +106,43 @@ func (s *Styles) asciiBorders() {
 	s.Danger = s.Danger.Border(b)
 	s.Caution = s.Caution.Border(n)
 	s.Overlay = s.Overlay.Border(n)
+}
+
+// asciiFolds spells the non-ASCII characters the screens can carry (from
+// units, design files and procedure text) in ASCII; ohms and micro as a
+// technician would type them (4k7ohm, 2uA).
+var asciiFolds = strings.NewReplacer(
+	"Ω", "ohm", "\u2126", "ohm", "µ", "u", "μ", "u",
+	"–", "-", "—", "-", "−", "-", "‐", "-", "…", "...",
+	"·", ".", "•", "*", "←", "<-", "→", "->", "↑", "^", "↓", "v",
+	"°", " deg", "±", "+/-", "×", "x", "≥", ">=", "≤", "<=", "≈", "~",
+	"²", "^2", "³", "^3", "½", "1/2", "√", "sqrt",
+	"‘", "'", "’", "'", "“", `"`, "”", `"`, "\u00a0", " ",
+	"✓", "+", "✗", "X", "▶", ">", "▲", "^", "◆", "o", "█", "#", "░", ".",
+)
+
+// asciiFold returns s with every character outside ASCII spelled in
+// ASCII, or as "?" when it has no spelling. Escape sequences are ASCII and
+// pass unchanged.
+func asciiFold(s string) string {
+	ascii := true
+	for i := 0; i < len(s); i++ {
+		if s[i] >= 0x80 {
+			ascii = false
+			break
+		}
+	}
+	if ascii {
+		return s
+	}
+	s = asciiFolds.Replace(s)
+	var b strings.Builder
+	for _, r := range s {
+		if r >= 0x80 {
+			b.WriteByte('?')
+			continue
+		}
+		b.WriteRune(r)
+	}
+	return b.String()
 }

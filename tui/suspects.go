@@ -66,7 +66,7 @@ func (v suspectsView) View() string {
 	var lines []string
 	switch {
 	case v.err != nil:
-		return s.Bad.Render(truncate("Cannot rank the suspects: "+v.err.Error(), w))
+		return s.Bad.Render(v.e.g.cut("Cannot rank the suspects: "+v.err.Error(), w))
 	case v.rank == nil && v.pending:
 		return s.Dim.Render("Ranking the suspects on the readings so far " + g.Ellipsis + " (this takes a few seconds the first time)")
 	case v.rank == nil:
@@ -81,7 +81,7 @@ func (v suspectsView) View() string {
 	if !rk.Fits && rk.FitNote != "" {
 		note := wrap(g.OutOfBand+" NO SINGLE FAULT FITS: "+rk.FitNote, w)
 		if len(note) > 3 {
-			note = append(note[:2:2], truncate(note[2], w-16)+" (ctrl+e: all)")
+			note = append(note[:2:2], v.e.g.cut(note[2], w-16)+" (^E: all)")
 		}
 		for _, l := range note {
 			lines = append(lines, s.Bad.Render(l))
@@ -92,9 +92,9 @@ func (v suspectsView) View() string {
 		if p.Live {
 			live = "LIVE"
 		}
-		lines = append(lines, s.Label.Render(truncate(fmt.Sprintf("Next: %s (%s) %s %.2f bits %s ctrl+g goes there", p.Label, live, g.Dot, p.GainBits, g.Dot), w)))
+		lines = append(lines, s.Label.Render(v.e.g.cut(fmt.Sprintf("Next: %s (%s) %s %.2f bits %s ^G goes there", p.Label, live, g.Dot, p.GainBits, g.Dot), w)))
 		if p.Setup != "" {
-			lines = append(lines, s.Dim.Render(truncate("  "+p.Setup, w)))
+			lines = append(lines, s.Dim.Render(v.e.g.cut("  "+p.Setup, w)))
 		}
 	} else {
 		lines = append(lines, s.Dim.Render("No measurement left that would tell the suspects apart."))
@@ -111,7 +111,7 @@ func (v suspectsView) View() string {
 		if su.Group >= 0 && su.Group < len(rk.Groups) && len(rk.Groups[su.Group]) > 1 {
 			grp = fmt.Sprintf(" [group %d]", su.Group+1)
 		}
-		line := fmt.Sprintf("%2d %s %5.1f%% %s%s", i+1, bar(g, su.Probability, barW), 100*su.Probability, truncate(su.Label, labelW), grp)
+		line := fmt.Sprintf("%2d %s %5.1f%% %s%s", i+1, bar(g, su.Probability, barW), 100*su.Probability, v.e.g.cut(su.Label, labelW), grp)
 		st := s.Dim
 		switch {
 		case i == 0:
@@ -119,7 +119,7 @@ func (v suspectsView) View() string {
 		case su.Probability >= 0.1:
 			st = s.Warn
 		}
-		body = append(body, st.Render(truncate(line, w)))
+		body = append(body, st.Render(v.e.g.cut(line, w)))
 		nwhy := 1
 		if w >= 110 {
 			nwhy = 2
@@ -128,7 +128,7 @@ func (v suspectsView) View() string {
 			if j == nwhy {
 				break
 			}
-			body = append(body, s.Dim.Render(truncate("      "+why, w)))
+			body = append(body, s.Dim.Render(v.e.g.cut("      "+why, w)))
 		}
 	}
 	var groups []string
@@ -137,9 +137,9 @@ func (v suspectsView) View() string {
 			continue
 		}
 		line := fmt.Sprintf("group %d, no reading tells these apart: %s", i+1, strings.Join(gr, " = "))
-		groups = append(groups, truncate(line, w))
+		groups = append(groups, v.e.g.cut(line, w))
 		if i < len(rk.GroupNotes) && rk.GroupNotes[i] != "" {
-			groups = append(groups, s.Dim.Render(truncate("  "+rk.GroupNotes[i], w)))
+			groups = append(groups, s.Dim.Render(v.e.g.cut("  "+rk.GroupNotes[i], w)))
 		}
 	}
 	if len(groups) > 0 {
@@ -153,7 +153,7 @@ func (v suspectsView) View() string {
 		if room > 0 {
 			end = min(len(body), top+room-1)
 			lines = append(lines, body[top:end]...)
-			lines = append(lines, s.Dim.Render(fmt.Sprintf("  lines %d–%d of %d: ↑/↓ scroll", top+1, end, len(body))))
+			lines = append(lines, s.Dim.Render(fmt.Sprintf("  lines %d%s%d of %d: %s scroll", top+1, v.e.g.To, end, len(body), v.e.g.UpDown)))
 			return strings.Join(lines, "\n")
 		}
 	}

@@ -207,6 +207,39 @@ func TestLiveStepDanger(t *testing.T) {
 	if strings.Contains(m.View(), "\x1b[") {
 		t.Error("escape sequences with the colour profile set to ASCII")
 	}
+	// The busiest live step at 80x24 (gauge, note, an out-of-band reading
+	// and its switch-off line): the box keeps its heading, the start of the
+	// lethal-voltage caution and the key to the rest, in both glyph sets.
+	for _, ascii := range []bool{false, true} {
+		walk, _ := openWalk(t, "se-6v6-stereo", procedures.BringUp)
+		m := New(Config{Walk: walk, Renderer: asciiRenderer(), ASCII: ascii})
+		m = drive(t, m, tea.WindowSizeMsg{Width: 80, Height: 24}, initMsg{})
+		m = walkTo(t, m, "valve-V2")
+		m = drive(t, m, typeText("250")...)
+		s := screen(m)
+		lines := strings.Split(s, "\n")
+		top, bottom := "╔", "╚"
+		if ascii {
+			top, bottom = "#=", "#="
+		}
+		first, last := -1, -1
+		for i, l := range lines {
+			if strings.HasPrefix(l, top) && first < 0 {
+				first = i
+			} else if strings.HasPrefix(l, bottom) && first >= 0 {
+				last = i
+			}
+		}
+		if first < 0 || last < first+3 {
+			t.Fatalf("ascii %v: no caution box:\n%s", ascii, s)
+		}
+		box := strings.Join(lines[first:last+1], "\n")
+		for _, want := range []string{"DANGER", "LIVE", "LETHAL VOLTAGES: B+ and mains are present", "Ctrl+E"} {
+			if !strings.Contains(box, want) {
+				t.Errorf("ascii %v: the DANGER box at 80x24 lacks %q:\n%s", ascii, want, box)
+			}
+		}
+	}
 }
 
 // TestTrainingPredictionFirst: in training the band is hidden until the
@@ -249,7 +282,7 @@ func TestSaveErrorVisible(t *testing.T) {
 	m := New(Config{Walk: walk, Renderer: asciiRenderer(), Path: filepath.Join(dir, "s.yaml")})
 	m = drive(t, m, tea.WindowSizeMsg{Width: 80, Height: 24}, initMsg{})
 	m = drive(t, m, keyMsg(tea.KeyEnter))
-	if m.saveErr == nil || !strings.Contains(screen(m), "NOT SAVED") || !strings.Contains(screen(m), "ctrl+r") {
+	if m.saveErr == nil || !strings.Contains(screen(m), "NOT SAVED") || !strings.Contains(screen(m), "^R") {
 		t.Fatalf("want NOT SAVED with the retry key in the status line:\n%s", screen(m))
 	}
 	if !walk.R.Done("briefing") {

@@ -42,8 +42,56 @@ func (m Model) View() string {
 		bl = append(bl, "")
 	}
 	lines = append(lines, bl...)
-	lines = append(lines, m.statusLine(), truncate(m.help.ShortHelpView(m.e.keys.ShortHelp()), m.w))
+	lines = append(lines, m.statusLine(), m.e.g.cut(m.help.ShortHelpView(m.shortHelp()), m.w))
+	// Last, what the engine and the design say (µF in a label, an en
+	// dash in a note) is spelled in ASCII too.
+	if m.cfg.ASCII {
+		for i, l := range lines {
+			lines[i] = m.e.g.cut(asciiFold(l), m.w)
+		}
+	}
 	return strings.Join(lines, "\n")
+}
+
+// hint is a binding with a shorter description for the help line.
+func hint(b key.Binding, desc string) key.Binding {
+	b.SetHelp(b.Help().Key, desc)
+	return b
+}
+
+// shortHelp is the help line for what is on screen: the keys that act
+// there, with short words. Letters are readings, so every command on the
+// step view is a Ctrl key (^K is Ctrl+K).
+func (m Model) shortHelp() []key.Binding {
+	k := m.e.keys
+	quit, help, next := hint(k.Quit, "quit"), hint(k.Help, "help"), hint(k.NextView, "next view")
+	switch m.over {
+	case overHelp:
+		return []key.Binding{hint(k.Cancel, "close"), quit}
+	case overQuit:
+		return []key.Binding{k.Yes, hint(k.No, "stay"), k.RetrySave}
+	case overSteps:
+		ud := key.NewBinding(key.WithKeys("up", "down"), key.WithHelp(m.e.g.UpDown, "choose"))
+		return []key.Binding{ud, hint(k.Enter, "go there"), hint(k.Cancel, "close"), quit}
+	case overDetail:
+		ud := key.NewBinding(key.WithKeys("up", "down"), key.WithHelp(m.e.g.UpDown, "scroll"))
+		return []key.Binding{ud, key.NewBinding(key.WithKeys("esc"), key.WithHelp("any other key", "close"))}
+	}
+	switch m.view {
+	case viewSockets:
+		lr := key.NewBinding(key.WithKeys("left", "right"), key.WithHelp(m.e.g.Left+"/"+m.e.g.Right, "other valve"))
+		return []key.Binding{lr, next, hint(k.Steps, "steps"), help, quit}
+	case viewSuspects:
+		ud := key.NewBinding(key.WithKeys("up", "down"), key.WithHelp(m.e.g.UpDown, "scroll"))
+		return []key.Binding{hint(k.GoSuggested, "go to suggested"), hint(k.Detail, "all reasons"), ud, next, help, quit}
+	case viewAmp:
+		return []key.Binding{next, hint(k.PrevView, "back"), hint(k.Steps, "steps"), help, quit}
+	}
+	if m.step.mode != modeReading {
+		return []key.Binding{hint(k.Enter, "save"), hint(k.Cancel, "cancel"), quit}
+	}
+	return []key.Binding{hint(k.Enter, "record"), hint(k.Skip, "skip"), hint(k.Detail, "full text"), hint(k.Steps, "steps"),
+		hint(k.NextView, "views"), help, quit}
 }
 
 // body is the current view, or the overlay over it.
@@ -87,7 +135,7 @@ func (m Model) header() string {
 		}
 	}
 	right := fmt.Sprintf("%d/%d steps done", done, len(r.Proc.Steps))
-	return joinEnds(truncate(left, m.w-lipgloss.Width(right)-2), right, m.w)
+	return joinEnds(m.e.g.cut(left, m.w-lipgloss.Width(right)-2), right, m.w)
 }
 
 func (m Model) tabs() string {
@@ -100,7 +148,7 @@ func (m Model) tabs() string {
 			parts = append(parts, s.Tab.Render(" "+n+" "))
 		}
 	}
-	return truncate(strings.Join(parts, " ")+s.Dim.Render("   tab: next view"), m.w)
+	return m.e.g.cut(strings.Join(parts, " ")+s.Dim.Render("   tab: next view"), m.w)
 }
 
 // statusLine: the save state always (an error in words, with the retry
@@ -112,7 +160,7 @@ func (m Model) statusLine() string {
 	case m.path == "":
 		save = s.Warn.Render("not saved to a file (no session path)")
 	case m.saveErr != nil:
-		save = s.StatusEr.Render(g.OutOfBand + " NOT SAVED (kept in memory; ctrl+r retries): " + m.saveErr.Error())
+		save = s.StatusEr.Render(g.OutOfBand + " NOT SAVED (kept in memory; ^R retries): " + m.saveErr.Error())
 	case m.saving || m.dirty:
 		save = s.Status.Render("saving " + g.Ellipsis)
 	default:
@@ -122,31 +170,53 @@ func (m Model) statusLine() string {
 	if m.info != "" {
 		line += s.Status.Render("  " + g.Dot + " " + m.info)
 	}
-	return truncate(line, m.w)
+	return m.e.g.cut(line, m.w)
 }
 
 func (m Model) helpBox() string {
+	s := m.e.st
 	h := m.help
 	h.Width = 0 // each column whole; the columns are laid out here
 	var cols []string
-	for _, g := range m.e.keys.FullHelp() {
-		cols = append(cols, h.FullHelpView([][]key.Binding{g}))
+	for _, g := range m.e.keys.Groups() {
+		cols = append(cols, s.Title.Render(g.Title)+"\n"+h.FullHelpView([][]key.Binding{g.Keys}))
 	}
-	// Side by side when they fit, else the first two side by side and the
-	// rest below, else one under another.
+	// Side by side when they fit, else two by two, else one under another.
+	gap := "   "
 	var keys string
-	switch all := lipgloss.JoinHorizontal(lipgloss.Top, interleave(cols, "   ")...); {
+	switch all := lipgloss.JoinHorizontal(lipgloss.Top, interleave(cols, gap)...); {
 	case lipgloss.Width(all) <= m.w-6:
 		keys = all
-	case len(cols) > 2 && lipgloss.Width(lipgloss.JoinHorizontal(lipgloss.Top, cols[0], "   ", cols[1])) <= m.w-6:
-		keys = lipgloss.JoinHorizontal(lipgloss.Top, cols[0], "   ", lipgloss.JoinVertical(lipgloss.Left, append([]string{cols[1], ""}, cols[2:]...)...))
+	case len(cols) == 4 && max(lipgloss.Width(lipgloss.JoinHorizontal(lipgloss.Top, cols[0], gap, cols[1])),
+		lipgloss.Width(lipgloss.JoinHorizontal(lipgloss.Top, cols[2], gap, cols[3]))) <= m.w-6:
+		w0 := max(lipgloss.Width(cols[0]), lipgloss.Width(cols[2]))
+		left := lipgloss.JoinVertical(lipgloss.Left, cols[0], "", cols[2])
+		right := lipgloss.JoinVertical(lipgloss.Left, cols[1], "", cols[3])
+		keys = lipgloss.JoinHorizontal(lipgloss.Top, lipgloss.NewStyle().Width(w0).Render(left), gap, right)
 	default:
 		keys = lipgloss.JoinVertical(lipgloss.Left, cols...)
 	}
-	body := m.e.st.Title.Render("Keys") + "\n\n" + keys + "\n\n" +
-		m.e.st.Dim.Render("Readings: 312, 312V, 4.7mA, 4m7A, 2k2, 4k7Ω, 1M, OL (open).\nEnd with ! to record a value the program questions.") + "\n" +
-		m.e.st.Dim.Render("Esc or F1 closes this.")
-	return m.e.st.Overlay.Render(body)
+	// The notes wrap to the keys' width; on a short screen the examples
+	// of readings go first.
+	tw := max(40, min(lipgloss.Width(keys), m.w-6))
+	lines := []string{s.Title.Render("Keys") + s.Dim.Render(m.e.g.cut("  ^K is Ctrl+K; letters and digits are readings", tw-4)), keys}
+	examples := wrap("Readings: 312, 4.7mA, 4m7A, 2k2, 4k7"+m.ohm()+", 1M, OL (open).\nEnd with ! to keep a value the program questions.", tw)
+	if used := len(lines) - 1 + lipgloss.Height(keys) + 2; used+1+len(examples) <= m.bodyHeight() {
+		lines = append(lines, "")
+		for _, l := range examples {
+			lines = append(lines, s.Dim.Render(l))
+		}
+	}
+	return s.Overlay.Render(strings.Join(lines, "\n"))
+}
+
+// ohm is the ohm sign, or "ohm" (which the field takes too) where only
+// ASCII is drawn.
+func (m Model) ohm() string {
+	if m.cfg.ASCII {
+		return "ohm"
+	}
+	return "Ω"
 }
 
 func (m Model) quitBox() string {
@@ -157,12 +227,12 @@ func (m Model) quitBox() string {
 	case m.path == "":
 		lines = append(lines, s.Warn.Render("This session has no file: its readings go when you quit."))
 	case m.saveErr != nil:
-		lines = append(lines, s.Bad.Render(m.e.g.OutOfBand+" The last save FAILED:"), s.Bad.Render(truncate(m.saveErr.Error(), m.w-8)),
-			"Your readings are still in memory. ctrl+r tries again;", "y tries once more and quits only if it works.")
+		lines = append(lines, s.Bad.Render(m.e.g.OutOfBand+" The last save FAILED:"), s.Bad.Render(m.e.g.cut(m.saveErr.Error(), m.w-8)),
+			"Your readings are still in memory. ^R tries again;", "y tries once more and quits only if it works.")
 	case m.saving || m.dirty:
 		lines = append(lines, "The last change is being saved; y quits as soon as it is on disk.")
 	default:
-		lines = append(lines, "Your session is already saved (every change is saved as you go):", truncate(m.path, m.w-8),
+		lines = append(lines, "Your session is already saved (every change is saved as you go):", m.e.g.cut(m.path, m.w-8),
 			"Start pinwalk walk with the same session file to carry on.")
 	}
 	lines = append(lines, "", s.Prompt.Render("y quit   n stay"))
@@ -174,7 +244,7 @@ func (m Model) quitBox() string {
 func (m Model) stepsList(h int) string {
 	s, g, r := m.e.st, m.e.g, m.e.run
 	var lines []string
-	lines = append(lines, s.Title.Render("Steps")+s.Dim.Render(fmt.Sprintf("  ↑/↓ choose, Enter go, Esc close  (%s done, %s skipped, %s open, - waits on earlier steps)", g.Done, g.Skipped, g.NotYet)))
+	lines = append(lines, s.Title.Render("Steps")+s.Dim.Render(fmt.Sprintf("  %s choose, Enter go, Esc close  (%s done, %s skipped, %s open, - waits on earlier steps)", g.UpDown, g.Done, g.Skipped, g.NotYet)))
 	room := max(1, h-1)
 	top := max(0, min(m.listCursor-room/2, len(r.Proc.Steps)-room))
 	for i := top; i < len(r.Proc.Steps) && i < top+room; i++ {
@@ -202,7 +272,7 @@ func (m Model) stepsList(h int) string {
 		if i == r.CurrentIndex() {
 			here = "  (you are here)"
 		}
-		lines = append(lines, style.Render(truncate(fmt.Sprintf("%s%s %2d %s%s%s", cur, mark, i+1, st.Title, live, here), m.w)))
+		lines = append(lines, style.Render(m.e.g.cut(fmt.Sprintf("%s%s %2d %s%s%s", cur, mark, i+1, st.Title, live, here), m.w)))
 	}
 	return strings.Join(lines, "\n")
 }
@@ -219,7 +289,7 @@ func (m Model) detail(h int) string {
 	if m.view == viewSuspects && m.sus.rank != nil && !m.practice() {
 		return m.scrolled(m.rankDetail(w), h)
 	}
-	lines = append(lines, s.Title.Render(st.Title)+s.Dim.Render("  (↑/↓ scroll, any other key closes)"))
+	lines = append(lines, s.Title.Render(st.Title)+s.Dim.Render("  ("+m.e.g.UpDown+" scroll, any other key closes)"))
 	for _, c := range st.Cautions {
 		head := "CAUTION: "
 		if st.Live {
@@ -239,7 +309,7 @@ func (m Model) detail(h int) string {
 		lines = append(lines, wrap("Needs first: "+strings.Join(b, ", "), w)...)
 	}
 	for _, ms := range st.Measures {
-		lines = append(lines, wrap(fmt.Sprintf("Reading: %s · %s %s · probes: %s", ms.Label, ms.Function, ms.Range, ms.Probes), w)...)
+		lines = append(lines, wrap(fmt.Sprintf("Reading: %s %s %s %s %s probes: %s", ms.Label, m.e.g.Dot, ms.Function, ms.Range, m.e.g.Dot, ms.Probes), w)...)
 	}
 	return m.scrolled(lines, h)
 }
@@ -258,7 +328,7 @@ func (m Model) scrolled(lines []string, h int) string {
 // with all its reasons, the groups and their notes.
 func (m Model) rankDetail(w int) []string {
 	s, rk := m.e.st, m.sus.rank
-	lines := []string{s.Title.Render("Suspects in full") + s.Dim.Render("  (↑/↓ scroll, any other key closes)")}
+	lines := []string{s.Title.Render("Suspects in full") + s.Dim.Render("  ("+m.e.g.UpDown+" scroll, any other key closes)")}
 	if !rk.Fits && rk.FitNote != "" {
 		lines = append(lines, wrap("No single fault fits: "+rk.FitNote, w)...)
 	}
