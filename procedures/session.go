@@ -157,10 +157,11 @@ const (
 	FaultFind Mode = "faultfind"
 	Training  Mode = "training"
 	Practise  Mode = "practice"
+	Signal    Mode = "signal" // signal tracing with a test tone
 )
 
 // Modes lists the modes.
-var Modes = []Mode{BringUp, FaultFind, Training, Practise}
+var Modes = []Mode{BringUp, FaultFind, Training, Practise, Signal}
 
 // ParseMode reads a mode name.
 func ParseMode(s string) (Mode, error) {
@@ -169,7 +170,7 @@ func ParseMode(s string) (Mode, error) {
 			return m, nil
 		}
 	}
-	return "", fmt.Errorf("unknown mode %q: expected one of bringup, faultfind, training, practice", s)
+	return "", fmt.Errorf("unknown mode %q: expected one of bringup, faultfind, training, practice, signal", s)
 }
 
 // SessionError is a problem in a session file, with its place.

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"path/filepath"
+	"pinwalk/expect/ac"
 	"regexp"
 	"strings"
 	"time"
@@ -46,6 +47,9 @@ type WalkOptions struct {
 	// it started.
 	AcceptChanged bool
 	Now           func() time.Time
+	// Tone is the test tone of a signal-tracing session (zero: 1 kHz,
+	// 100 mV at the first input grid).
+	Tone ac.Options
 }
 
 // DesignChangedError reports a session taken against another version of
@@ -123,6 +127,7 @@ func Open(d *design.Design, s *Session, path string, opt WalkOptions) (*Walk, er
 	}
 	w := &Walk{B: b}
 	var p *Procedure
+	var ex Expecter = partExpecter{b}
 	switch s.Mode {
 	case BringUp, Training:
 		p, err = BringUpProcedure(b)
@@ -131,6 +136,15 @@ func Open(d *design.Design, s *Session, path string, opt WalkOptions) (*Walk, er
 		}
 	case FaultFind, Practise:
 		p, err = FaultFindProcedure(b, s.Mode)
+	case Signal:
+		var tb *ToneBench
+		if tb, err = NewToneBench(b, opt.Tone); err == nil {
+			p, err = SignalProcedureWith(tb)
+			ex = tb
+		}
+		if p != nil {
+			p.Mode = Signal
+		}
 	default:
 		err = fmt.Errorf("unknown mode %q", s.Mode)
 	}
@@ -143,7 +157,7 @@ func Open(d *design.Design, s *Session, path string, opt WalkOptions) (*Walk, er
 		sum := p.Steps[len(p.Steps)-1]
 		p.Steps = append(append(p.Steps[:len(p.Steps)-1], s.Added...), sum)
 	}
-	r := NewRunner(p, s, path, partExpecter{b})
+	r := NewRunner(p, s, path, ex)
 	if opt.Now != nil {
 		r.Now = opt.Now
 	}

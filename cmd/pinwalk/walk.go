@@ -25,13 +25,14 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("walk", flag.ContinueOnError)
 	fs.SetOutput(stderr)
 	plain := fs.Bool("plain", false, "line-by-line prompts on stdin/stdout (no screen control, no colour): for scripts, logs and screen readers")
-	mode := fs.String("mode", "bringup", "procedure: bringup, faultfind, training or practice")
+	mode := fs.String("mode", "bringup", "procedure: bringup, faultfind, training, practice or signal (signal tracing with a test tone)")
+	tone := fs.String("tone", "", "signal mode: the test tone FREQ:LEVEL at the input grid (default 1kHz:100mV)")
 	sessPath := fs.String("session", "", "session file: resumed when it exists, created otherwise (default: DESIGN-MODE-DATE.pinwalk.yaml here)")
 	seed := fs.Uint64("seed", 1, "seed of the bands and of a practice session's hidden fault")
 	samples := fs.Int("samples", 0, "Monte Carlo samples per variac setting (default 300)")
 	accept := fs.Bool("accept-changed-design", false, "continue a session whose design file changed since it started")
 	fs.Usage = func() {
-		fmt.Fprintf(stderr, "Usage: pinwalk walk [DESIGN] --plain [--mode bringup|faultfind|training|practice] [--session FILE] [--seed N]\n\n")
+		fmt.Fprintf(stderr, "Usage: pinwalk walk [DESIGN] --plain [--mode bringup|faultfind|training|practice|signal] [--session FILE] [--seed N]\n\n")
 		fs.PrintDefaults()
 	}
 	var pos []string
@@ -84,7 +85,14 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 		sess = procedures.NewSession(d, m, *seed, now)
 		fmt.Fprintf(stdout, "New session: %s\n", path)
 	}
-	w, err := procedures.Open(d, sess, path, procedures.WalkOptions{Samples: *samples, Seed: *seed, AcceptChanged: *accept})
+	wo := procedures.WalkOptions{Samples: *samples, Seed: *seed, AcceptChanged: *accept}
+	if *tone != "" {
+		if wo.Tone, err = parseTone(*tone); err != nil {
+			fmt.Fprintf(stderr, "pinwalk walk: --tone: %v\n", err)
+			return exitUsage
+		}
+	}
+	w, err := procedures.Open(d, sess, path, wo)
 	if err != nil {
 		var dc *procedures.DesignChangedError
 		if errors.As(err, &dc) {
