@@ -21,7 +21,8 @@ const inputCharLimit = 120
 //
 // When the renderer draws no colour (NO_COLOR, not a terminal, the test
 // renderer) reverse video is dropped too, so the cursor is drawn as the
-// glyph g.Cursor in front of the character under it.
+// glyph g.Cursor in front of the character under it. Placeholders start
+// with a space, which the cursor covers.
 func newInput(st *Styles, g Glyphs, k KeyMap) textinput.Model {
 	in := textinput.New()
 	in.CharLimit = inputCharLimit
@@ -33,9 +34,6 @@ func newInput(st *Styles, g Glyphs, k KeyMap) textinput.Model {
 	if st.R.ColorProfile() == termenv.Ascii {
 		mark := g.Cursor
 		in.Cursor.Style = in.Cursor.Style.Transform(func(under string) string {
-			if under == " " {
-				return mark
-			}
 			return mark + under
 		})
 	}

@@ -59,10 +59,10 @@ func (v *stepView) setMode(m inputMode) {
 	switch m {
 	case modeSkip:
 		v.in.Prompt = "Why skip this step? > "
-		v.in.Placeholder = "(a few words; Enter records, Esc cancels)"
+		v.in.Placeholder = " (a few words; Enter records, Esc cancels)"
 	case modeNote:
 		v.in.Prompt = "Note > "
-		v.in.Placeholder = "(Enter saves, Esc cancels)"
+		v.in.Placeholder = " (Enter saves, Esc cancels)"
 	default:
 		v.in.Prompt = "> "
 		v.in.Placeholder = ""
@@ -304,6 +304,16 @@ func (v stepView) View() string {
 	} else {
 		mid = append(mid, s.Dim.Render("No reading: do what the step says, then press Enter to confirm it."))
 	}
+	if v.mode == modeReading && v.in.Value() == "" {
+		switch {
+		case m == nil:
+			v.in.Placeholder = " Enter confirms the step"
+		case v.predicting(m):
+			v.in.Placeholder = " your estimate, then Enter"
+		default:
+			v.in.Placeholder = " the meter's reading, then Enter"
+		}
+	}
 	mid = append(mid, v.in.View())
 	if v.msg != "" {
 		style := s.Good
@@ -434,6 +444,7 @@ func (v stepView) history(w, n int) []string {
 	}
 	s, g := v.e.st, v.e.g
 	rs := v.e.run.Sess.Readings
+	labelW := min(60, max(28, w-36)) // the rest: glyph, value, variac, verdict
 	var out []string
 	for i := len(rs) - 1; i >= 0 && len(out) < n; i-- {
 		rd := rs[i]
@@ -442,7 +453,7 @@ func (v stepView) history(w, n int) []string {
 		if rd.Variac > 0 && rd.Variac < 1 {
 			at = fmt.Sprintf(" @%.0f%%", 100*rd.Variac)
 		}
-		line := fmt.Sprintf(" %s %-28s %12s%s  %s", glyph, v.e.g.cut(v.e.label(rd.Point), 28), v.e.g.value(rd.Value, rd.Unit), at, word)
+		line := fmt.Sprintf(" %s %-*s %12s%s  %s", glyph, labelW, v.e.g.cut(v.e.label(rd.Point), labelW), v.e.g.value(rd.Value, rd.Unit), at, word)
 		out = append(out, style.Render(v.e.g.cut(line, w)))
 	}
 	return out

@@ -69,7 +69,10 @@ func (m Model) shortHelp() []key.Binding {
 	case overHelp:
 		return []key.Binding{hint(k.Cancel, "close"), quit}
 	case overQuit:
-		return []key.Binding{k.Yes, hint(k.No, "stay"), k.RetrySave}
+		if m.saveErr != nil {
+			return []key.Binding{hint(k.Yes, "save again, quit if it works"), hint(k.No, "stay"), k.RetrySave}
+		}
+		return []key.Binding{hint(k.Yes, "quit"), hint(k.No, "stay")}
 	case overSteps:
 		ud := key.NewBinding(key.WithKeys("up", "down"), key.WithHelp(m.e.g.UpDown, "choose"))
 		return []key.Binding{ud, hint(k.Enter, "go there"), hint(k.Cancel, "close"), quit}
