@@ -139,6 +139,9 @@ func TestMain(m *testing.M) {
 		RunPlain(w, os.Stdin, io.Discard)
 		os.Exit(0)
 	}
+	if p := os.Getenv("PINWALK_TUI_CHILD"); p != "" {
+		os.Exit(tuiChild(p))
+	}
 	os.Exit(m.Run())
 }
 
