@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
 	"sort"
 	"strings"
 	"unicode/utf8"
@@ -202,6 +203,52 @@ type loader struct {
 	// groundPos is where the ground net is named (the top-level mapping
 	// when the file leaves it to the default).
 	groundPos Pos
+	// sideValves are the user's valve types from the design's valve-files;
+	// they take precedence over the library.
+	sideValves []*valves.Type
+}
+
+// lookupValve finds a valve type in the design's side files, then in the
+// library.
+func (l *loader) lookupValve(name string) (*valves.Type, bool) {
+	key := strings.ToUpper(strings.TrimSpace(name))
+	for _, t := range l.sideValves {
+		if strings.ToUpper(t.Name) == key {
+			return t, true
+		}
+		for _, a := range t.Aliases {
+			if strings.ToUpper(a) == key {
+				return t, true
+			}
+		}
+	}
+	return valves.Lookup(name)
+}
+
+// valveFiles loads the user's valve side files (paths relative to the
+// design file), in the library's schema; types with datasheet rows and no
+// model are fitted on load.
+func (l *loader) valveFiles(d *Design, n *yaml.Node) {
+	list := []*yaml.Node{n}
+	if n.Kind == yaml.SequenceNode {
+		list = n.Content
+	}
+	for _, fn := range list {
+		name, ok := l.scalar(fn, "valve-files", "a valve side file's path, relative to this design file")
+		if !ok {
+			continue
+		}
+		path := name
+		if !filepath.IsAbs(path) {
+			path = filepath.Join(filepath.Dir(l.file), name)
+		}
+		types, err := valves.LoadSideFile(path)
+		if err != nil {
+			l.errf(fn, "valve-files", "%v", err)
+			continue
+		}
+		l.sideValves = append(l.sideValves, types...)
+	}
 }
 
 func posOf(n *yaml.Node) Pos { return Pos{n.Line, n.Column} }
@@ -522,7 +569,7 @@ func (l *loader) netName(n *yaml.Node, field string) (string, bool) {
 
 // design reads the top level.
 func (l *loader) design(d *Design, root *yaml.Node) {
-	top := []string{"pinwalk", "title", "mains", "tolerances", "ground", "parts", "notes"}
+	top := []string{"pinwalk", "title", "mains", "tolerances", "ground", "valve-files", "parts", "notes"}
 	if root.Kind != yaml.MappingNode {
 		l.errf(root, "file", "expected a design: a mapping of top-level fields (pinwalk: %d, title, mains, parts), found %s", SchemaVersion, describe(root))
 		return
@@ -544,6 +591,9 @@ func (l *loader) design(d *Design, root *yaml.Node) {
 	}
 	if v, ok := got["title"]; ok {
 		d.Title, _ = l.scalar(v, "title", "a title")
+	}
+	if v, ok := got["valve-files"]; ok {
+		l.valveFiles(d, v)
 	}
 	d.Mains = Mains{Volts: 230, Hz: 50, Tol: Tolerance{-0.06, 0.06}}
 	if v, ok := got["mains"]; ok {
@@ -1292,11 +1342,11 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 	if !ok {
 		return
 	}
-	vt, ok := valves.Lookup(name)
+	vt, ok := l.lookupValve(name)
 	if !ok {
 		msg := fmt.Sprintf("unknown valve type %q", name)
 		var all []string
-		for _, t := range valves.All() {
+		for _, t := range append(valves.All(), l.sideValves...) {
 			all = append(all, t.Name)
 			all = append(all, t.Aliases...)
 		}
