@@ -2,7 +2,6 @@ package main
 
 import (
 	"encoding/json"
-	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -255,19 +254,9 @@ suspects with why, suspects no reading can tell apart, and the reading
 that would narrow them down most for the effort.`)
 		fs.PrintDefaults()
 	}
-	var pos []string
-	for rest := args; ; {
-		if err := fs.Parse(rest); err != nil {
-			if errors.Is(err, flag.ErrHelp) {
-				return exitOK
-			}
-			return exitUsage
-		}
-		if fs.NArg() == 0 {
-			break
-		}
-		pos = append(pos, fs.Arg(0))
-		rest = fs.Args()[1:]
+	pos, code, done := parseInterspersed(fs, args)
+	if done {
+		return code
 	}
 	if len(pos) > 1 {
 		fmt.Fprintf(stderr, "pinwalk: diagnose takes one design, found %d: %s\n", len(pos), strings.Join(pos, " "))

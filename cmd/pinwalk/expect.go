@@ -2,7 +2,6 @@ package main
 
 import (
 	"encoding/json"
-	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -149,19 +148,9 @@ with what the meter will show.`)
 	}
 	// Flags may come before or after the design (Go's flag package stops
 	// at the first argument that is not a flag: parse the rest again).
-	var pos []string
-	for rest := args; ; {
-		if err := fs.Parse(rest); err != nil {
-			if errors.Is(err, flag.ErrHelp) {
-				return exitOK
-			}
-			return exitUsage
-		}
-		if fs.NArg() == 0 {
-			break
-		}
-		pos = append(pos, fs.Arg(0))
-		rest = fs.Args()[1:]
+	pos, code, done := parseInterspersed(fs, args)
+	if done {
+		return code
 	}
 	if len(pos) > 1 {
 		fmt.Fprintf(stderr, "pinwalk: expect takes one design, found %d: %s\n", len(pos), strings.Join(pos, " "))
@@ -385,16 +374,6 @@ func round(v float64) float64 {
 	return math.Round(v*f) / f
 }
 
-func fmtQ(v float64, q string) string {
-	switch q {
-	case amp.DCVolts, amp.ACVolts, amp.RippleVolts:
-		return units.Format(v, units.Volts)
-	case amp.DCAmps, amp.ACAmps:
-		return units.Format(v, units.Amps)
-	}
-	return fmt.Sprintf("%.4g", v)
-}
-
 func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *jsonReport) {
 	fmt.Fprintf(w, "%s\n%s\n", d.Title, strings.Repeat("=", len([]rune(d.Title))))
 	fmt.Fprintln(w, "DANGER: these voltages are lethal and filter capacitors hold them after power-off.")
@@ -432,14 +411,14 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 		if !ok || rep.Samples == 0 {
 			return ""
 		}
-		return fmtQ(p.Low, q) + " – " + fmtQ(p.High, q)
+		return amp.FormatValue(p.Low, q) + " – " + amp.FormatValue(p.High, q)
 	}
 	points := m.Points()
 	for _, vp := range d.Valves() {
 		fmt.Fprintf(w, "%s  %s (%s base, pins seen from below)\n", vp.Ref, vp.Valve.Type.Name, vp.Valve.Type.Base)
 		for _, pd := range amp.PinsOfValve(points, vp.Ref) {
 			v := m.Value(op, pd)
-			fmt.Fprintf(w, "  %-44s %-12s %12s   %s\n", pd.Label, qtyWord(pd.Quantity), fmtQ(v, pd.Quantity), bandOf(pd.ID, pd.Quantity))
+			fmt.Fprintf(w, "  %-44s %-12s %12s   %s\n", pd.Label, qtyWord(pd.Quantity), amp.FormatValue(v, pd.Quantity), bandOf(pd.ID, pd.Quantity))
 		}
 		fmt.Fprintln(w)
 	}
@@ -457,7 +436,7 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 		if pd.Valve != "" || pd.Quantity != amp.DCVolts || isSupplyNet(rep, pd.Net) || strings.HasPrefix(pd.Net, "~") {
 			continue
 		}
-		fmt.Fprintf(w, "  %-8s %10s   %s\n", pd.Net, fmtQ(m.Value(op, pd), pd.Quantity), bandOf(pd.ID, pd.Quantity))
+		fmt.Fprintf(w, "  %-8s %10s   %s\n", pd.Net, amp.FormatValue(m.Value(op, pd), pd.Quantity), bandOf(pd.ID, pd.Quantity))
 	}
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "Meter loading (%s, %s input)\n", rep.Meter, units.Format(rep.MeterOhms, units.Ohms))
@@ -467,7 +446,7 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 		fmt.Fprintln(w, "  these read differently through the meter (high-impedance nodes):")
 		for _, l := range rep.MeterLoading {
 			fmt.Fprintf(w, "  %-8s %-8s expected %10s, the meter shows %10s (%+.1f%%)\n", l.ID, l.Net,
-				fmtQ(l.Nominal, l.Quantity), fmtQ(l.Loaded, l.Quantity), l.ChangePct)
+				amp.FormatValue(l.Nominal, l.Quantity), amp.FormatValue(l.Loaded, l.Quantity), l.ChangePct)
 		}
 	}
 	fmt.Fprintln(w)
@@ -597,8 +576,8 @@ func runVariacSteps(d *design.Design, opt bands.Options, asJSON bool, stdout, st
 		}
 		fmt.Fprintln(stdout)
 		for _, p := range js.Points {
-			fmt.Fprintf(stdout, "  %-36s %12s   %s – %s\n", p.Label+" "+qtyWord(p.Quantity), fmtQ(p.Nominal, p.Quantity),
-				fmtQ(p.Low, p.Quantity), fmtQ(p.High, p.Quantity))
+			fmt.Fprintf(stdout, "  %-36s %12s   %s – %s\n", p.Label+" "+qtyWord(p.Quantity), amp.FormatValue(p.Nominal, p.Quantity),
+				amp.FormatValue(p.Low, p.Quantity), amp.FormatValue(p.High, p.Quantity))
 		}
 		for _, c := range js.Cold {
 			fmt.Fprintf(stdout, "  %-36s %12s   at high mains %s\n", "net "+c.Net+" switch-on peak", units.Format(c.Volts, units.Volts),

@@ -118,3 +118,20 @@ func demoSessionPath() string {
 	}
 	return filepath.Join(dir, "demo-bringup.pinwalk.yaml")
 }
+
+// parseInterspersed parses flags that may come before or after the
+// positional arguments (Go's flag package stops at the first argument
+// that is not a flag, so the rest is parsed again) and returns the
+// positional arguments. done and code are as for parseFlags.
+func parseInterspersed(fs *flag.FlagSet, args []string) (pos []string, code int, done bool) {
+	for rest := args; ; {
+		if code, done := parseFlags(fs, rest); done {
+			return nil, code, true
+		}
+		if fs.NArg() == 0 {
+			return pos, exitOK, false
+		}
+		pos = append(pos, fs.Arg(0))
+		rest = fs.Args()[1:]
+	}
+}

@@ -2,7 +2,6 @@ package main
 
 import (
 	"bytes"
-	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -37,19 +36,9 @@ characteristics and load lines, for printing or archiving. --compare sets
 two sessions side by side (before and after a repair).`)
 		fs.PrintDefaults()
 	}
-	var pos []string
-	for rest := args; ; {
-		if err := fs.Parse(rest); err != nil {
-			if errors.Is(err, flag.ErrHelp) {
-				return exitOK
-			}
-			return exitUsage
-		}
-		if fs.NArg() == 0 {
-			break
-		}
-		pos = append(pos, fs.Arg(0))
-		rest = fs.Args()[1:]
+	pos, code, done := parseInterspersed(fs, args)
+	if done {
+		return code
 	}
 	want := 1
 	if *compare {

@@ -35,17 +35,9 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "Usage: pinwalk walk [DESIGN] --plain [--mode bringup|faultfind|training|practice|signal] [--session FILE] [--seed N]\n\n")
 		fs.PrintDefaults()
 	}
-	var pos []string
-	rest := args
-	for {
-		if code, done := parseFlags(fs, rest); done {
-			return code
-		}
-		if fs.NArg() == 0 {
-			break
-		}
-		pos = append(pos, fs.Arg(0))
-		rest = fs.Args()[1:]
+	pos, code, done := parseInterspersed(fs, args)
+	if done {
+		return code
 	}
 	if len(pos) > 1 {
 		fmt.Fprintf(stderr, "pinwalk walk: one design expected, got %d\n", len(pos))

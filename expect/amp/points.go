@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"pinwalk/expect/design"
+	"pinwalk/expect/units"
 	"pinwalk/expect/valves"
 )
 
@@ -297,4 +298,18 @@ func ParseID(id string) (valve string, pin int, ok bool) {
 		return "", 0, false
 	}
 	return id[:i], n, true
+}
+
+// FormatValue prints a point's value in engineering notation with the unit
+// of its quantity ("312 V", "41.8 mA", "220 kΩ").
+func FormatValue(v float64, quantity string) string {
+	switch quantity {
+	case DCVolts, ACVolts, RippleVolts:
+		return units.Format(v, units.Volts)
+	case DCAmps, ACAmps:
+		return units.Format(v, units.Amps)
+	case Ohms:
+		return units.Format(v, units.Ohms)
+	}
+	return fmt.Sprintf("%.4g", v)
 }

@@ -6,7 +6,6 @@ import (
 	"strings"
 
 	"pinwalk/expect/amp"
-	"pinwalk/expect/units"
 )
 
 // Reading is one measurement: the point's key (PointDef.Key()), the value
@@ -179,21 +178,11 @@ func (s *Set) outsideReason(rs []readingFit) string {
 		if v < b.Low-3*sg || v > b.High+3*sg {
 			q := s.Points[i].Quantity
 			bad = append(bad, fmt.Sprintf("%s read %s against an expected %s – %s", s.Points[i].Key(),
-				fmtQ(v, q), fmtQ(b.Low, q), fmtQ(b.High, q)))
+				amp.FormatValue(v, q), amp.FormatValue(b.Low, q), amp.FormatValue(b.High, q)))
 		}
 	}
 	if len(bad) == 0 {
 		return "the readings together are unlikely for a healthy amplifier built to this design: a fault or a design mismatch"
 	}
 	return strings.Join(bad, "; ") + ": outside what the model predicts for a healthy amplifier built to this design (a fault or a design mismatch)"
-}
-
-func fmtQ(v float64, q string) string {
-	switch q {
-	case amp.DCVolts, amp.ACVolts, amp.RippleVolts:
-		return units.Format(v, units.Volts)
-	case amp.DCAmps, amp.ACAmps:
-		return units.Format(v, units.Amps)
-	}
-	return fmt.Sprintf("%.4g", v)
 }
