@@ -344,24 +344,11 @@ func dischargeNote(dr cold.Discharge) string {
 	}
 	s := fmt.Sprintf("%s (%s on %s) can hold %s; its bleed path (%s) takes it below %g V DC (hazardous-live level, IEC 60065) in %s and below %g V in %s",
 		dr.Ref, units.Format(dr.Farads, units.Farads), dr.Net, units.Format(math.Abs(dr.PeakVolts), units.Volts),
-		units.Format(dr.BleedOhms, units.Ohms), cold.HazardVolts, fmtDur(dr.To60), cold.TouchVolts, fmtDur(dr.To10))
+		units.Format(dr.BleedOhms, units.Ohms), cold.HazardVolts, cold.FormatDuration(dr.To60), cold.TouchVolts, cold.FormatDuration(dr.To10))
 	if dr.Warning != "" {
 		s += "; " + dr.Warning
 	}
 	return s
-}
-
-// fmtDur formats seconds: "12 s", "3.4 min", "1.2 h".
-func fmtDur(t float64) string {
-	switch {
-	case math.IsInf(t, 1):
-		return "forever"
-	case t < 60:
-		return fmt.Sprintf("%.2g s", t)
-	case t < 3600:
-		return fmt.Sprintf("%.2g min", t/60)
-	}
-	return fmt.Sprintf("%.2g h", t/3600)
 }
 
 func join(a, b string) string {

@@ -69,7 +69,7 @@ func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
 			Measures: []Measure{{Point: DischargeKey(dr.Ref), Label: dr.Ref + " volts after discharge", Function: FuncDCV,
 				Range: rangeFor(math.Abs(dr.PeakVolts), "V DC"), Probes: fmt.Sprintf("red on %s (%s), black on chassis", dr.Net, dr.Ref), Unit: "V"}},
 			Why: fmt.Sprintf("%s can hold %s after power-off; its bleed path takes %s to fall below %g V, and a bleeder can fail open: only a meter reading proves it is safe.",
-				dr.Ref, units.Format(math.Abs(dr.PeakVolts), units.Volts), fmtDur(dr.To10), cold.TouchVolts),
+				dr.Ref, units.Format(math.Abs(dr.PeakVolts), units.Volts), cold.FormatDuration(dr.To10), cold.TouchVolts),
 		}
 		if dr.NoPath || dr.Warning != "" {
 			st.Cautions = append([]string{strings.ToUpper(dr.Warning[:1]) + dr.Warning[1:]}, st.Cautions...)

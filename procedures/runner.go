@@ -274,12 +274,9 @@ func ParseReading(raw string, m *Measure, expect *Band) (float64, error) {
 	if s == "" {
 		return 0, errors.New("empty reading: type the meter's value, like 312 or 4.7mA")
 	}
-	q := units.Volts
-	switch m.Unit {
-	case "A":
-		q = units.Amps
-	case "Ω":
-		q = units.Ohms
+	q := units.BySymbol(m.Unit)
+	if q == units.None {
+		q = units.Volts
 	}
 	low := strings.ToLower(s)
 	if q == units.Ohms && (low == "ol" || low == "open" || low == "inf" || low == "o.l" || low == "o.l.") {

@@ -11,19 +11,6 @@ import (
 	"pinwalk/procedures"
 )
 
-// quantityOf maps a measure's unit symbol to a units.Quantity.
-func quantityOf(unit string) units.Quantity {
-	switch unit {
-	case "A":
-		return units.Amps
-	case "Ω":
-		return units.Ohms
-	case "W":
-		return units.Watts
-	}
-	return units.Volts
-}
-
 // fmtValue formats an SI value in a unit ("285 V", "4.7 kΩ", "OL" for an
 // open circuit).
 func fmtValue(v float64, unit string) string {
@@ -33,7 +20,7 @@ func fmtValue(v float64, unit string) string {
 	if math.IsNaN(v) {
 		return "-"
 	}
-	return units.Format(v, quantityOf(unit))
+	return units.Format(v, units.BySymbol(unit))
 }
 
 // value is fmtValue spelled in ASCII when the glyphs are ASCII.

@@ -340,7 +340,7 @@ func (n *network) climbNote(net string, ohms float64) string {
 	if t < climbSeconds {
 		return ""
 	}
-	return fmt.Sprintf("reading climbs for about %s as %s (%s) charge from the meter: wait for it to settle", fmtSeconds(t), strings.Join(refs, ", "), units.Format(total, units.Farads))
+	return fmt.Sprintf("reading climbs for about %s as %s (%s) charge from the meter: wait for it to settle", FormatDuration(t), strings.Join(refs, ", "), units.Format(total, units.Farads))
 }
 
 // matrices builds the nodal conductance matrix over nets (chassis the
@@ -417,8 +417,9 @@ func (n *network) diodeNote(from, to string) string {
 	return strings.Join(uniq, "; ")
 }
 
-// fmtSeconds formats a time for a note: "12 s", "3.4 min", "1.2 h".
-func fmtSeconds(t float64) string {
+// FormatDuration formats a time in seconds for a note: "12 s", "3.4 min",
+// "1.2 h", "forever" for +Inf.
+func FormatDuration(t float64) string {
 	switch {
 	case math.IsInf(t, 1):
 		return "forever"

@@ -155,7 +155,7 @@ func DischargeTimes(d *design.Design, m *amp.Model, mains float64) ([]Discharge,
 		r.To10 = lastAbove(a, rc.lambda, TouchVolts)
 		if r.To10 > 300 {
 			r.Warning = fmt.Sprintf("%s takes %s to fall below %g V: discharge it with a resistor tool rather than wait, and verify with the meter",
-				r.Ref, fmtSeconds(r.To10), TouchVolts)
+				r.Ref, FormatDuration(r.To10), TouchVolts)
 		}
 	}
 	return rows, nil

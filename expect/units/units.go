@@ -82,6 +82,17 @@ func (q Quantity) Symbol() string {
 	return quantitySymbols[q]
 }
 
+// BySymbol returns the quantity whose unit symbol is sym ("V", "A", "Ω",
+// "F", "H", "W", "Hz", "%", "s"), or None.
+func BySymbol(sym string) Quantity {
+	for q, s := range quantitySymbols {
+		if s == sym && s != "" {
+			return Quantity(q)
+		}
+	}
+	return None
+}
+
 // withArticle returns "a resistance", "an inductance", ...
 func (q Quantity) withArticle() string {
 	name := q.String()

@@ -16,27 +16,13 @@ func short(h string) string {
 	return h
 }
 
-func quantity(unit string) units.Quantity {
-	switch unit {
-	case "V":
-		return units.Volts
-	case "A":
-		return units.Amps
-	case "Ω":
-		return units.Ohms
-	case "W":
-		return units.Watts
-	}
-	return units.None
-}
-
 // fmtVal prints a value with its unit, 3 significant figures with an SI
 // prefix; an infinite resistance prints as "open (OL)".
 func fmtVal(v float64, unit string) string {
 	if math.IsInf(v, 1) && unit == "Ω" {
 		return "open (OL)"
 	}
-	q := quantity(unit)
+	q := units.BySymbol(unit)
 	if q == units.None {
 		return strconv.FormatFloat(v, 'g', 3, 64) + unit
 	}
