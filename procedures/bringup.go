@@ -356,6 +356,17 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 				st.Measures = append(st.Measures, pointMeasure(heaters[0], hi))
 			}
 		}
+		// Fixed bias: the negative bias must be there before the output
+		// valves draw current, at every step of the ramp (common practice).
+		for _, p := range b.D.PartsOfKind(design.BiasSupply) {
+			key := p.Terminals[0].Net + " " + amp.DCVolts
+			if pd, ok := byKey[key]; ok {
+				if hi, ok := has(key); ok {
+					st.Measures = append(st.Measures, pointMeasure(pd, hi))
+					st.StopIf = append(st.StopIf, "the bias supply "+p.Terminals[0].Net+" reads near 0 V or positive: the output valves have no bias and will run away")
+				}
+			}
+		}
 		if len(st.Measures) == 0 {
 			continue
 		}
@@ -508,8 +519,10 @@ func valveOrder(b *BenchModel) []*design.Part {
 			continue
 		}
 		best := 1 << 20
-		for _, e := range p.Valve.Sections {
-			if n := e[valves.Plate]; n != "" {
+		for sec, e := range p.Valve.Sections {
+			// An unused section's plate is tied to chassis: it says
+			// nothing about where the valve sits in the supply.
+			if n := e[valves.Plate]; n != "" && n != d.Ground && !p.Valve.Unused[sec] {
 				best = min(best, nearest(n))
 			}
 		}

@@ -344,7 +344,7 @@ func BenchmarkSupplySteadyStateDemoA(b *testing.B) {
 	if err := s.Solve(Conditions{}, v, false, &op); err != nil {
 		b.Fatal(err)
 	}
-	p := s.supplyParams(Conditions{}, v)
+	p := s.supplyParams(Conditions{}, v, nil)
 	s.stageLoads(&p, nil)
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
@@ -368,5 +368,29 @@ func BenchmarkFullSolveDemoA(b *testing.B) {
 		if err := s.Solve(Conditions{}, v, false, &op); err != nil {
 			b.Fatal(err)
 		}
+	}
+}
+
+// TestValveRectifierCoolFilament: on a low variac setting a valve
+// rectifier's filament runs cool and its emission caps the current
+// (Richardson–Dushman, as for every cathode), so a valve-rectified B+ stays
+// low where a silicon-rectified one rises to its peak; at full mains the
+// cap is far above the load and changes nothing.
+func TestValveRectifierCoolFilament(t *testing.T) {
+	d := loadDemo(t, "pp-el34-fixed")
+	m, full := solve(t, d, Conditions{})
+	s := NewSolver(m)
+	var low OP
+	if err := s.Solve(Conditions{Variac: 0.25}, m.NominalValues(), false, &low); err != nil {
+		t.Fatal(err)
+	}
+	b1Low, b1Full := low.Supply.Nets[0].Vdc, full.Supply.Nets[0].Vdc
+	peak25 := 0.25 * math.Sqrt2 * m.HT.VrmsOC * d.Mains.Volts / m.HT.Transformer.PT.PrimaryVolts
+	t.Logf("B1: %.2f V at 25 %% variac (silicon would give about %.0f V), %.1f V at full mains", b1Low, peak25, b1Full)
+	if b1Low > 0.1*peak25 {
+		t.Errorf("B1 at 25%% variac with a 5U4GB: %.1f V, want far below the %.0f V a warm rectifier would give", b1Low, peak25)
+	}
+	if b1Full < 300 {
+		t.Errorf("B1 at full mains %.1f V: the emission cap should not bite when the filament is at its rated volts", b1Full)
 	}
 }

@@ -369,12 +369,22 @@ func (m *Model) heaterRated(ref string) float64 {
 }
 
 // supplyParams builds the supply simulation's parameters.
-func (s *Solver) supplyParams(c Conditions, v *Values) supply.Params {
+func (s *Solver) supplyParams(c Conditions, v *Values, hv map[string]float64) supply.Params {
 	ht := s.m.HT
 	f := s.mainsFactor(c)
 	p := supply.Params{Topology: ht.Topology, Vrms: ht.VrmsOC * f * v.HTVolts, Rs: ht.Rs * v.HTOhms,
 		Hz: s.m.D.Mains.Hz, Rect: ht.Rect}
 	p.Rect.Perveance *= v.RectScale
+	if ht.Rect.Kind == supply.Valve {
+		// A valve rectifier's filament runs cool on a low variac setting:
+		// its emission caps the current like any cathode's.
+		rp := ht.Rectifier
+		if volts, ok := hv[rp.Ref]; ok {
+			if ef := emissionFraction(volts / s.m.heaterRated(rp.Ref)); ef < 0.999 {
+				p.Rect.MaxAmps = max(saturationAmps(rp.Valve.Type)*ef, 1e-9)
+			}
+		}
+	}
 	if v.HalfOpen && p.Topology == supply.CentreTap {
 		// One half of a full-wave rectifier open: the other half works on
 		// alone as a half-wave rectifier on its half-winding.
@@ -459,7 +469,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		s.extract(op, hv, frac)
 		return nil
 	}
-	p := s.supplyParams(c, v)
+	p := s.supplyParams(c, v, hv)
 	sp := &SupplyOP{Nets: make([]FilterNetOP, len(m.HT.Nets))}
 	op.Supply = sp
 	f := s.mainsFactor(c) * v.HTVolts

@@ -167,7 +167,13 @@ func (e *engine) branchCurrent(drive float64) float64 {
 		}
 	}
 	e.wPrev = w
-	return g * w * math.Sqrt(w)
+	i := g * w * math.Sqrt(w)
+	if m := e.p.Rect.MaxAmps; m > 0 && i > m {
+		// Emission-limited (a cool cathode): the current cannot exceed
+		// the cathode's saturation emission, whatever the voltage.
+		i = m
+	}
+	return i
 }
 
 // step advances the working state by one step ending at sample s and

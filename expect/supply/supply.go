@@ -59,6 +59,10 @@ type Rectifier struct {
 	// Silicon: forward drop Vf + Rd·I (volts, ohms); Vf ≈ 0.7 V, Rd small.
 	// Valve: Child–Langmuir law per anode, I = Perveance·V^1.5 (A/V^1.5).
 	Vf, Rd, Perveance float64
+	// MaxAmps is a valve rectifier's saturation (emission-limited)
+	// current per anode, amps; 0 means none. It matters only when the
+	// filament runs cool, as on a variac at a low setting.
+	MaxAmps float64
 }
 
 // Stage is one node of the filter tree and the series element feeding it.
