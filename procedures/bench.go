@@ -323,7 +323,11 @@ func (b *BenchModel) Expect(point string, variac float64, readings []Reading) (B
 		out.Note = "earlier readings do not fit a healthy amp: " + s.Reason
 	}
 	if v := variac; v > 0 && v < 0.9 && b.M.HT != nil {
-		out.Note = join(out.Note, fmt.Sprintf("at %.0f %% mains the heaters run cool and the valves barely conduct (emission-limited): B+ sits near the no-load peak", 100*v))
+		if b.valveRectifier() != nil {
+			out.Note = join(out.Note, fmt.Sprintf("at %.0f %% mains every heater runs cool, the rectifier's too: its emission limits B+, which stays low until the filament warms (emission-limited estimate)", 100*v))
+		} else {
+			out.Note = join(out.Note, fmt.Sprintf("at %.0f %% mains the heaters run cool and the valves barely conduct (emission-limited): B+ sits near the no-load peak", 100*v))
+		}
 	}
 	return out, true
 }
