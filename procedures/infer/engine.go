@@ -25,6 +25,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"reflect"
 	"runtime"
 	"sort"
 	"strings"
@@ -262,6 +263,13 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 		}()
 	}
 	for _, h := range e.hyps[1:] {
+		if e.tone == nil && dcNeutral(m, *h.fault) {
+			// The fault changes no DC value (an open coupling or bypass
+			// capacitor): its DC cloud is the healthy one, sample for
+			// sample (same seeds), so it is not solved again.
+			e.fill(h, healthy)
+			continue
+		}
 		jobs <- h
 	}
 	close(jobs)
@@ -649,4 +657,20 @@ func heaterPins(v *design.Part) string {
 		s[i] = fmt.Sprint(p)
 	}
 	return strings.Join(s, " and ")
+}
+
+// dcNeutral reports whether a fault leaves every value the DC solve uses
+// unchanged (it only marks capacitors open, which matters to AC analysis
+// alone).
+func dcNeutral(m *amp.Model, f faults.Fault) bool {
+	v := m.NominalValues()
+	w := v.Clone()
+	if err := faults.Apply(m, w, f); err != nil {
+		return false
+	}
+	if len(w.CapOpen) == 0 {
+		return false // a fault that changes nothing at all would be odd: solve it
+	}
+	w.CapOpen = nil
+	return reflect.DeepEqual(v, w)
 }
