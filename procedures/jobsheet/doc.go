@@ -147,8 +147,12 @@ func (sh *Sheet) document() *document {
 	} else {
 		t := &table{Head: []string{"Time", "Safety check", "Result"}}
 		for _, c := range sh.Safety {
-			t.Rows = append(t.Rows, []string{c.At.Format(TimeLayout), c.Title, "✓ done"})
-			t.Strong = append(t.Strong, false)
+			res := c.Result
+			if res == "" {
+				res = "✓ done"
+			}
+			t.Rows = append(t.Rows, []string{c.At.Format(TimeLayout), c.Title, res})
+			t.Strong = append(t.Strong, c.Bad)
 		}
 		saf.table(t)
 	}

@@ -74,10 +74,15 @@ type Sheet struct {
 	StepTitle map[string]string
 }
 
-// SafetyCheck is a safety step confirmed done.
+// SafetyCheck is a safety step done: confirmed, or measured (discharge
+// verified, earth continuity read).
 type SafetyCheck struct {
 	Step, Title string
 	At          time.Time
+	// Result is "" for a confirmed step, else the reading and its status.
+	Result string
+	// Bad: the reading was out of its band.
+	Bad bool
 }
 
 // SkipRow is a skipped step with its reason.
@@ -201,6 +206,30 @@ func Build(s *procedures.Session, opt Options) (*Sheet, error) {
 			sh.Safety = append(sh.Safety, SafetyCheck{Step: p.Step, Title: stepTitle(p.Step), At: p.At})
 		}
 	}
+	// Safety steps done by a reading (a discharge verified, the earth
+	// continuity measured) are safety checks too.
+	listed := map[string]bool{}
+	for _, c := range sh.Safety {
+		listed[c.Step] = true
+	}
+	for _, r := range s.Readings {
+		if !isSafety(r.Step) || r.Status == procedures.Retry {
+			continue
+		}
+		res := fmt.Sprintf("%s (read %s)", StatusText(r.Status), r.Raw)
+		c := SafetyCheck{Step: r.Step, Title: stepTitle(r.Step), At: r.At, Result: res, Bad: r.Status == procedures.OutOfBand}
+		if listed[r.Step] {
+			for i := range sh.Safety {
+				if sh.Safety[i].Step == r.Step {
+					sh.Safety[i].Result, sh.Safety[i].Bad = c.Result, c.Bad
+				}
+			}
+			continue
+		}
+		listed[r.Step] = true
+		sh.Safety = append(sh.Safety, c)
+	}
+	sort.SliceStable(sh.Safety, func(i, j int) bool { return sh.Safety[i].At.Before(sh.Safety[j].At) })
 	for _, k := range s.Skips {
 		sh.StepTitle[k.Step] = stepTitle(k.Step)
 		sh.Skips = append(sh.Skips, SkipRow{Skip: k, Title: stepTitle(k.Step)})
