@@ -394,3 +394,35 @@ func TestValveRectifierCoolFilament(t *testing.T) {
 		t.Errorf("B1 at full mains %.1f V: the emission cap should not bite when the filament is at its rated volts", b1Full)
 	}
 }
+
+// TestSolvesAtEveryVariacSetting: every demo design and every template
+// solves from 10 % to 110 % of the mains, with valves warm and cold (the
+// conditions a bring-up walks through).
+func TestSolvesAtEveryVariacSetting(t *testing.T) {
+	var ds []*design.Design
+	for _, n := range []string{"se-6v6-stereo", "pp-el34-fixed", "bench-12ax7"} {
+		ds = append(ds, loadDemo(t, n))
+	}
+	for _, tp := range design.Templates() {
+		d, probs := design.Parse(tp.Name, tp.Text)
+		if len(probs.Errors()) > 0 {
+			t.Fatalf("template %s: %v", tp.Name, probs.Errors())
+		}
+		ds = append(ds, d)
+	}
+	for _, d := range ds {
+		m, err := Build(d)
+		if err != nil {
+			t.Fatal(err)
+		}
+		s := NewSolver(m)
+		for _, va := range []float64{0.1, 0.25, 0.5, 0.75, 1, 1.1} {
+			for _, cold := range []bool{false, true} {
+				var op OP
+				if err := s.Solve(Conditions{Variac: va, ColdValves: cold}, m.NominalValues(), false, &op); err != nil {
+					t.Errorf("%s at %.0f %% mains (valves cold: %v): %v", d.File, 100*va, cold, err)
+				}
+			}
+		}
+	}
+}
