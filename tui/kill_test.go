@@ -53,6 +53,51 @@ func tuiChild(path string) int {
 func TestKillResumeTUI(t *testing.T) {
 	lines := script(t)
 	path := filepath.Join(t.TempDir(), "kill-tui.yaml")
+	const kills = 4
+	next := killAndResume(t, "PINWALK_TUI_CHILD", path, lines, kills, func(w io.Writer, line string) error {
+		// Enter confirms a step without a reading; a reading is its digits
+		// and Enter. Keys go one at a time with a pause, as a person types.
+		keys := "\r"
+		if line != "y" {
+			keys = line + "\r"
+		}
+		for _, b := range []byte(keys) {
+			if _, err := w.Write([]byte{b}); err != nil {
+				return err
+			}
+			time.Sleep(5 * time.Millisecond)
+		}
+		time.Sleep(100 * time.Millisecond) // let a confirmed step settle before the next key
+		return nil
+	})
+	s, err := procedures.LoadSession(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(s.Readings) != kills {
+		t.Errorf("after %d kills the session holds %d readings, want %d", kills, len(s.Readings), kills)
+	}
+	// The readings are the ones typed, in order.
+	k := 0
+	for _, l := range lines[:next] {
+		if l == "y" {
+			continue
+		}
+		if k < len(s.Readings) && s.Readings[k].Raw != l {
+			t.Errorf("reading %d: session has %q, typed %q", k, s.Readings[k].Raw, l)
+		}
+		k++
+	}
+}
+
+// killAndResume runs the walk as a child process (the test binary with env
+// set to the session path), sends the script's lines with send up to and
+// including the next reading, waits until the session file holds that
+// reading, kills the child with SIGKILL and starts the next one on the
+// same file, kills times. It fails if a reading is missing or lost, and
+// returns how many script lines were sent.
+func killAndResume(t *testing.T, env, path string, lines []string, kills int, send func(io.Writer, string) error) int {
+	t.Helper()
 	readings := func() int {
 		s, err := procedures.LoadSession(path)
 		if err != nil {
@@ -61,10 +106,9 @@ func TestKillResumeTUI(t *testing.T) {
 		return len(s.Readings)
 	}
 	next := 0
-	const kills = 4
 	for kill := 0; kill < kills; kill++ {
 		cmd := exec.Command(os.Args[0], "-test.run=^$")
-		cmd.Env = append(os.Environ(), "PINWALK_TUI_CHILD="+path)
+		cmd.Env = append(os.Environ(), env+"="+path)
 		stdin, err := cmd.StdinPipe()
 		if err != nil {
 			t.Fatal(err)
@@ -73,23 +117,12 @@ func TestKillResumeTUI(t *testing.T) {
 			t.Fatal(err)
 		}
 		want := max(readings(), 0)
-		// Type up to and including the next reading: Enter confirms a step
-		// without a reading; a reading is its digits and Enter. Keys go one
-		// at a time with a pause, as a person types.
 		for next < len(lines) {
 			l := lines[next]
 			next++
-			keys := "\r"
-			if l != "y" {
-				keys = l + "\r"
+			if err := send(stdin, l); err != nil {
+				t.Fatalf("kill %d: sending %q: %v", kill, l, err)
 			}
-			for _, k := range []byte(keys) {
-				if _, err := stdin.Write([]byte{k}); err != nil {
-					t.Fatalf("kill %d: writing keys: %v", kill, err)
-				}
-				time.Sleep(5 * time.Millisecond)
-			}
-			time.Sleep(100 * time.Millisecond) // let a confirmed step settle before the next key
 			if l != "y" {
 				want++
 				break
@@ -109,22 +142,5 @@ func TestKillResumeTUI(t *testing.T) {
 			t.Fatalf("kill %d: %d readings after SIGKILL, %d before", kill, after, got)
 		}
 	}
-	s, err := procedures.LoadSession(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if len(s.Readings) != kills {
-		t.Errorf("after %d kills the session holds %d readings, want %d", kills, len(s.Readings), kills)
-	}
-	// The readings are the ones typed, in order.
-	k := 0
-	for _, l := range lines[:next] {
-		if l == "y" {
-			continue
-		}
-		if k < len(s.Readings) && s.Readings[k].Raw != l {
-			t.Errorf("reading %d: session has %q, typed %q", k, s.Readings[k].Raw, l)
-		}
-		k++
-	}
+	return next
 }

@@ -1,16 +1,13 @@
 package tui
 
 import (
-	"bufio"
 	"fmt"
 	"io"
 	"math"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"strconv"
 	"strings"
-	"syscall"
 	"testing"
 	"time"
 
@@ -151,51 +148,10 @@ func TestMain(m *testing.M) {
 func TestKillResume(t *testing.T) {
 	lines := script(t)
 	path := filepath.Join(t.TempDir(), "kill.yaml")
-	readings := func() int {
-		s, err := procedures.LoadSession(path)
-		if err != nil {
-			return -1
-		}
-		return len(s.Readings)
-	}
-	next := 0
-	for kill := 0; kill < 4; kill++ {
-		cmd := exec.Command(os.Args[0], "-test.run=^$")
-		cmd.Env = append(os.Environ(), "PINWALK_PLAIN_CHILD="+path)
-		stdin, err := cmd.StdinPipe()
-		if err != nil {
-			t.Fatal(err)
-		}
-		if err := cmd.Start(); err != nil {
-			t.Fatal(err)
-		}
-		bw := bufio.NewWriter(stdin)
-		// Feed up to and including the next numeric reading.
-		want := max(readings(), 0)
-		for next < len(lines) {
-			l := lines[next]
-			next++
-			fmt.Fprintln(bw, l)
-			if l != "y" {
-				want++
-				break
-			}
-		}
-		bw.Flush()
-		deadline := time.Now().Add(60 * time.Second)
-		for readings() < want && time.Now().Before(deadline) {
-			time.Sleep(20 * time.Millisecond)
-		}
-		got := readings()
-		cmd.Process.Signal(syscall.SIGKILL)
-		cmd.Wait()
-		if got < want {
-			t.Fatalf("kill %d: session holds %d readings, want %d", kill, got, want)
-		}
-		if after := readings(); after != got {
-			t.Fatalf("kill %d: %d readings after SIGKILL, %d before", kill, after, got)
-		}
-	}
+	killAndResume(t, "PINWALK_PLAIN_CHILD", path, lines, 4, func(w io.Writer, line string) error {
+		_, err := fmt.Fprintln(w, line)
+		return err
+	})
 	// Resume in process and check nothing was lost and the cursor moved on.
 	w := open(t, path)
 	if n := len(w.R.Sess.Readings); n != 4 {
