@@ -951,20 +951,30 @@ func (l *loader) resistor(d *Design, p *Part, kv *yaml.Node, fields map[string]*
 	l.optValue(fields, "watts", units.Watts, p, &p.Watts, 0, 1000)
 	l.optTol(fields, p)
 	if bn, ok := fields["build"]; ok {
-		if s, ok := l.scalar(bn, p.Ref+".build", "a resistor build"); ok {
-			if !contains(ResistorBuilds, s) {
-				msg := fmt.Sprintf("unknown build %q", s)
-				if dym := didYouMean(s, ResistorBuilds); dym != "" {
-					msg += ": " + dym
-				} else {
-					msg += ": expected one of " + strings.Join(ResistorBuilds, ", ")
-				}
-				l.errf(bn, p.Ref+".build", "%s", msg)
-			}
-			p.Material = s
-		}
+		p.Material, _ = l.oneOf(bn, p.Ref+".build", "build", ResistorBuilds)
 	}
 	l.twoNets(p, fields, "between", [2]string{"a", "b"})
+}
+
+// oneOf reads a word that must be one of choices; an unknown word is an
+// error with the nearest choice suggested (or all of them listed). The
+// word is returned either way, with ok false when it was not a single
+// value.
+func (l *loader) oneOf(n *yaml.Node, field, what string, choices []string) (string, bool) {
+	s, ok := l.scalar(n, field, "a "+what+" ("+strings.Join(choices, ", ")+")")
+	if !ok {
+		return "", false
+	}
+	if !contains(choices, s) {
+		msg := fmt.Sprintf("unknown %s %q", what, s)
+		if dym := didYouMean(s, choices); dym != "" {
+			msg += ": " + dym
+		} else {
+			msg += ": expected one of " + strings.Join(choices, ", ")
+		}
+		l.errf(n, field, "%s", msg)
+	}
+	return s, true
 }
 
 func (l *loader) capacitor(d *Design, p *Part, kv *yaml.Node, fields map[string]*yaml.Node) {
@@ -977,16 +987,7 @@ func (l *loader) capacitor(d *Design, p *Part, kv *yaml.Node, fields map[string]
 	}
 	p.Material = "film"
 	if kn, ok := fields["kind"]; ok {
-		if s, ok := l.scalar(kn, p.Ref+".kind", "a capacitor kind"); ok {
-			if !contains(CapacitorKinds, s) {
-				msg := fmt.Sprintf("unknown kind %q", s)
-				if dym := didYouMean(s, CapacitorKinds); dym != "" {
-					msg += ": " + dym
-				} else {
-					msg += ": expected one of " + strings.Join(CapacitorKinds, ", ")
-				}
-				l.errf(kn, p.Ref+".kind", "%s", msg)
-			}
+		if s, ok := l.oneOf(kn, p.Ref+".kind", "kind", CapacitorKinds); ok {
 			p.Material = s
 		}
 	} else if p.Value >= 1e-6 {
