@@ -444,9 +444,31 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 		fmt.Fprintln(w, "  no reading moves by more than 1 % under the meter")
 	} else {
 		fmt.Fprintln(w, "  these read differently through the meter (high-impedance nodes):")
+		// One line per net, naming the socket pins on it.
+		pins := map[string][]string{}
+		var order []string
 		for _, l := range rep.MeterLoading {
-			fmt.Fprintf(w, "  %-8s %-8s expected %10s, the meter shows %10s (%+.1f%%)\n", l.ID, l.Net,
-				amp.FormatValue(l.Nominal, l.Quantity), amp.FormatValue(l.Loaded, l.Quantity), l.ChangePct)
+			if _, ok := pins[l.Net]; !ok {
+				order = append(order, l.Net)
+				pins[l.Net] = nil
+			}
+			if l.ID != l.Net {
+				pins[l.Net] = append(pins[l.Net], l.ID)
+			}
+		}
+		for _, net := range order {
+			for _, l := range rep.MeterLoading {
+				if l.Net != net {
+					continue
+				}
+				where := "net " + net
+				if len(pins[net]) > 0 {
+					where += " (" + strings.Join(pins[net], ", ") + ")"
+				}
+				fmt.Fprintf(w, "  %-24s expected %10s, the meter shows %10s (%+.1f%%)\n", where,
+					amp.FormatValue(l.Nominal, l.Quantity), amp.FormatValue(l.Loaded, l.Quantity), l.ChangePct)
+				break
+			}
 		}
 	}
 	fmt.Fprintln(w)
