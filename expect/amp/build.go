@@ -72,16 +72,14 @@ type Model struct {
 	Heaters  []Heater
 
 	// The HT supply, when the design has a rectifier.
-	HT          *HTSupply
-	srcHandle   int // Thevenin voltage source driving the first filter net
-	srcRHandle  int // its series resistance
-	slotByRef   map[string][]int
-	nodeOf      map[string]int
-	capSlots    map[string]int // capacitor ref → leakage slot
-	windingSlot map[string]int
-	slotNets    [][2]string
-	acOnly      map[string]bool // nets that carry only heater AC
-	meterSlot   map[string]int
+	HT         *HTSupply
+	srcHandle  int // Thevenin voltage source driving the first filter net
+	srcRHandle int // its series resistance
+	slotByRef  map[string][]int
+	nodeOf     map[string]int
+	slotNets   [][2]string
+	acOnly     map[string]bool // nets that carry only heater AC
+	meterSlot  map[string]int
 }
 
 // MeterSlot returns the value slot of the meter position on a net: an
@@ -164,7 +162,7 @@ func (m *Model) addR(ref, role, a, b string, ohms float64) int {
 // Build compiles a design that loaded without errors.
 func Build(d *design.Design) (*Model, error) {
 	m := &Model{D: d, ckt: mna.New(), slotByRef: map[string][]int{}, nodeOf: map[string]int{},
-		capSlots: map[string]int{}, windingSlot: map[string]int{}, srcHandle: -1, srcRHandle: -1}
+		srcHandle: -1, srcRHandle: -1}
 	m.ckt.SetGround(d.Ground)
 	m.nodeOf[d.Ground] = 0
 	ht, err := findHT(d)
@@ -195,7 +193,7 @@ func Build(d *design.Design) (*Model, error) {
 			if p.Leakage > 0 {
 				leak = p.Leakage
 			}
-			m.capSlots[p.Ref] = m.addR(p.Ref, "leak", p.Terminals[0].Net, p.Terminals[1].Net, leak)
+			m.addR(p.Ref, "leak", p.Terminals[0].Net, p.Terminals[1].Net, leak)
 		case design.BiasSupply, design.DCSupply:
 			out, ref := p.Terminals[0].Net, p.Terminals[1].Net
 			inner := "~" + p.Ref
@@ -223,10 +221,10 @@ func Build(d *design.Design) (*Model, error) {
 					r = 0.05
 				}
 				if w.Centre != "" {
-					m.windingSlot[w.Name] = m.addR(p.Ref, w.Name+".half-a", w.Centre, w.Ends[0], r/2)
+					m.addR(p.Ref, w.Name+".half-a", w.Centre, w.Ends[0], r/2)
 					m.addR(p.Ref, w.Name+".half-b", w.Centre, w.Ends[1], r/2)
 				} else {
-					m.windingSlot[w.Name] = m.addR(p.Ref, w.Name, w.Ends[0], w.Ends[1], r)
+					m.addR(p.Ref, w.Name, w.Ends[0], w.Ends[1], r)
 				}
 			}
 		case design.Valve:

@@ -570,17 +570,6 @@ func (sp *SupplyOP) ColdPeakAll(v float64) {
 	}
 }
 
-// CacheSupply sets the Thevenin line used by fast solves directly.
-func (s *Solver) CacheSupply(vth, rth, factor float64) {
-	s.lastVth, s.lastRth, s.nomF, s.haveTh = vth, rth, factor, true
-}
-
-// SupplyLine returns the cached Thevenin line and the supply factor it
-// was taken at.
-func (s *Solver) SupplyLine() (vth, rth, factor float64, ok bool) {
-	return s.lastVth, s.lastRth, s.nomF, s.haveTh
-}
-
 func (s *Solver) setSource(vth, rth float64) error {
 	if math.IsNaN(vth) || math.IsNaN(rth) {
 		return errors.New("HT supply: no finite operating point")
