@@ -14,7 +14,8 @@ import (
 // parseTone reads FREQ:LEVEL ("1kHz:100mV", "400:0.5V"); either part may
 // be left out ("1kHz", ":50mV").
 func parseTone(s string) (ac.Options, error) {
-	opt := ac.Options{Hz: ac.DefaultHz, Volts: ac.DefaultVolts}
+	// One generator on every input (both channels of a stereo amp).
+	opt := ac.Options{Hz: ac.DefaultHz, Volts: ac.DefaultVolts, AllInputs: true}
 	f, l, _ := strings.Cut(s, ":")
 	if f = strings.TrimSpace(f); f != "" {
 		hz, err := units.Parse(f, units.Hertz)

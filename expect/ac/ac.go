@@ -42,6 +42,7 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+	"slices"
 	"strings"
 
 	"pinwalk/expect/amp"
@@ -92,6 +93,10 @@ type Options struct {
 	// InputNet is where the tone is injected: a net name or a pin id
 	// ("V1.7"). "" means the first stage's input grid (see InputNet).
 	InputNet string
+	// AllInputs injects the same tone at every input grid found (both
+	// channels of a stereo amp, as from one generator on a Y lead) when
+	// InputNet is "".
+	AllInputs bool
 	// Open lists part references treated as open circuit: a capacitor,
 	// resistor, pot, choke or output transformer carries no current at
 	// all; a valve contributes no gain.
@@ -198,7 +203,8 @@ type Analyzer struct {
 	filter    []int
 	filterLab []string
 	pins      []pinPoint
-	input     string // default input net, "" when none qualifies
+	input     string   // default input net, "" when none qualifies
+	inputs    []string // every input grid net, in design order
 
 	a, b []complex128
 	jac  [16]float64
@@ -357,6 +363,7 @@ func New(m *amp.Model) (*Analyzer, error) {
 		}
 	}
 	an.input = findInput(m)
+	an.inputs = findInputs(m)
 	an.n = an.nNodes + len(an.pps)
 	for i := range an.pps {
 		an.pps[i].j += an.nNodes
@@ -373,7 +380,16 @@ func New(m *amp.Model) (*Analyzer, error) {
 func (an *Analyzer) InputNet() string { return an.input }
 
 func findInput(m *amp.Model) string {
+	if in := findInputs(m); len(in) > 0 {
+		return in[0]
+	}
+	return ""
+}
+
+// findInputs returns every input grid net, in design order.
+func findInputs(m *amp.Model) []string {
 	d := m.D
+	var out []string
 	for _, sec := range m.Sections {
 		g := d.ByRef[sec.Ref].Valve.Sections[sec.Section][valves.Grid]
 		if g == "" || g == d.Ground {
@@ -392,11 +408,11 @@ func findInput(m *amp.Model) string {
 				ok = false
 			}
 		}
-		if ok && leaks > 0 {
-			return g
+		if ok && leaks > 0 && !slices.Contains(out, g) {
+			out = append(out, g)
 		}
 	}
-	return ""
+	return out
 }
 
 func otherNet(p *design.Part, net string) string {
@@ -669,6 +685,13 @@ func (an *Analyzer) Tone(op *amp.OP, v *amp.Values, opt Options, dst []Point) ([
 		an.fix(an.reservoir, 0)
 	}
 	an.fix(src.node, complex(volts, 0))
+	if opt.AllInputs && opt.InputNet == "" {
+		for _, other := range an.inputs[1:] {
+			if pr, err := an.resolve(other); err == nil && pr.node >= 0 {
+				an.fix(pr.node, complex(volts, 0))
+			}
+		}
+	}
 	if err := an.solve(); err != nil {
 		return nil, err
 	}
