@@ -116,7 +116,7 @@ func toneDemo(t testing.TB, name string) *Engine {
 	if d == nil || len(probs.Errors()) > 0 {
 		t.Fatalf("load %s: %v", name, probs)
 	}
-	e, err := New(d, Options{Samples: 200, Seed: 1, Tone: &ac.Options{Hz: 1000, Volts: 0.1}, ACMeter: ACMeter{Response: Average}})
+	e, err := New(d, Options{Samples: 200, Seed: 1, Tone: &ac.Options{Hz: 1000, Volts: 0.1, AllInputs: true}, ACMeter: ACMeter{Response: Average}})
 	if err != nil {
 		t.Fatal(err)
 	}
