@@ -353,9 +353,42 @@ func (e *Engine) fill(h *hyp, set *bands.Set) {
 		}
 		mu := sx / float64(n)
 		h.mean[k], h.sd[k] = mu, math.Sqrt(max(sxx/float64(n)-mu*mu, 0))
-		sort.Float64s(col)
-		h.bandLo[k], h.bandHi[k] = quantile(col, 0.025), quantile(col, 0.975)
+		h.bandLo[k], h.bandHi[k] = tailQuantiles(col, 0.025, 0.975)
 	}
+}
+
+// tailQuantiles returns the lo and hi quantiles (lo < 0.5 < hi) of xs by
+// Hazen's plotting position, as quantile does on the sorted values, but
+// sorting only the few values in each tail: one pass keeps the m smallest
+// and m largest (m = what the positions need), which is all the 2.5 and
+// 97.5 % points use. xs is reordered.
+func tailQuantiles(xs []float64, lo, hi float64) (float64, float64) {
+	n := len(xs)
+	m := min(n, int(math.Max(lo, 1-hi)*float64(n))+2)
+	if 2*m >= n {
+		sort.Float64s(xs)
+		return quantile(xs, lo), quantile(xs, hi)
+	}
+	// Partial selection sort of both tails: m passes each, O(n·m).
+	for i := 0; i < m; i++ {
+		j := i
+		for k := i + 1; k < n; k++ {
+			if xs[k] < xs[j] {
+				j = k
+			}
+		}
+		xs[i], xs[j] = xs[j], xs[i]
+	}
+	for i := n - 1; i >= n-m; i-- {
+		j := i
+		for k := m; k < i; k++ {
+			if xs[k] > xs[j] {
+				j = k
+			}
+		}
+		xs[i], xs[j] = xs[j], xs[i]
+	}
+	return quantile(xs, lo), quantile(xs, hi)
 }
 
 // quantile of sorted xs by Hazen's plotting position.
