@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"pinwalk/expect/design"
+	"pinwalk/expect/supply"
 	"pinwalk/expect/valves"
 )
 
@@ -307,14 +308,18 @@ func TestPointsCover(t *testing.T) {
 	}
 }
 
-func BenchmarkDCSolveDemoA(b *testing.B) {
-	d := loadDemo(b, "se-6v6-stereo")
-	m, err := Build(d)
+// benchDemoA builds demo (a) with a solver and its nominal values.
+func benchDemoA(b *testing.B) (*Model, *Solver, *Values) {
+	b.Helper()
+	m, err := Build(loadDemo(b, "se-6v6-stereo"))
 	if err != nil {
 		b.Fatal(err)
 	}
-	s := NewSolver(m)
-	v := m.NominalValues()
+	return m, NewSolver(m), m.NominalValues()
+}
+
+func BenchmarkDCSolveDemoA(b *testing.B) {
+	m, s, v := benchDemoA(b)
 	var op OP
 	if err := s.Solve(Conditions{}, v, false, &op); err != nil {
 		b.Fatal(err)
@@ -333,13 +338,7 @@ func BenchmarkDCSolveDemoA(b *testing.B) {
 }
 
 func BenchmarkSupplySteadyStateDemoA(b *testing.B) {
-	d := loadDemo(b, "se-6v6-stereo")
-	m, err := Build(d)
-	if err != nil {
-		b.Fatal(err)
-	}
-	s := NewSolver(m)
-	v := m.NominalValues()
+	_, s, v := benchDemoA(b)
 	var op OP
 	if err := s.Solve(Conditions{}, v, false, &op); err != nil {
 		b.Fatal(err)
@@ -348,20 +347,14 @@ func BenchmarkSupplySteadyStateDemoA(b *testing.B) {
 	s.stageLoads(&p, nil)
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		if _, err := simulate(p, s.sopt); err != nil {
+		if _, err := supply.Simulate(p, s.sopt); err != nil {
 			b.Fatal(err)
 		}
 	}
 }
 
 func BenchmarkFullSolveDemoA(b *testing.B) {
-	d := loadDemo(b, "se-6v6-stereo")
-	m, err := Build(d)
-	if err != nil {
-		b.Fatal(err)
-	}
-	s := NewSolver(m)
-	v := m.NominalValues()
+	_, s, v := benchDemoA(b)
 	var op OP
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {

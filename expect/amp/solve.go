@@ -631,6 +631,3 @@ func (s *Solver) extract(op *OP, hv map[string]float64, frac []float64) {
 		}
 	}
 }
-
-// simulate runs the supply simulation (a seam for benchmarks).
-func simulate(p supply.Params, o supply.Options) (supply.Result, error) { return supply.Simulate(p, o) }
