@@ -10,21 +10,15 @@ import (
 	"pinwalk/expect/bands"
 	"pinwalk/expect/cold"
 	"pinwalk/expect/design"
+	"pinwalk/expect/point"
 	"pinwalk/expect/units"
 )
 
-// Point keys outside the amplifier model's own points.
-const (
-	// EarthKey: mains earth pin to chassis, ohms.
-	EarthKey = "earth ohms"
-	// MainsKey: the mains (or variac output at 100 %) as measured, AC volts.
-	MainsKey = "mains ac_volts"
-	// coldPrefix, dischargePrefix and biasPrefix start the keys of cold
-	// resistance ("cold:B1 ohms"), discharge ("discharge:C1 dc_volts") and
-	// bias-setting ("bias:V3 dc_volts") points.
-	coldPrefix      = "cold:"
-	dischargePrefix = "discharge:"
-	biasPrefix      = "bias:"
+// EarthKey and MainsKey are the two fixed points outside the amplifier
+// model: mains earth pin to chassis (ohms) and the mains as measured.
+var (
+	EarthKey = point.EarthKey
+	MainsKey = point.MainsKey
 )
 
 // Earth continuity band, ohms: a multimeter reading well under 1 Ω after
@@ -100,19 +94,16 @@ func NewBenchModel(d *design.Design, opt BenchOptions) (*BenchModel, error) {
 		sets: map[setKey]*bands.Set{}, cond: map[string]*bands.Set{}}, nil
 }
 
-// ColdKey returns the point key of a cold check: "cold:B1 ohms".
-func ColdKey(c cold.Check) string { return coldPrefix + c.ID + " ohms" }
-
-// DischargeKey returns the point key of a capacitor's discharge check.
-func DischargeKey(ref string) string { return dischargePrefix + ref + " dc_volts" }
+// ColdKey returns the point key of a cold check.
+func ColdKey(c cold.Check) point.Key { return point.ColdKey(c.ID) }
 
 // BiasKey returns the point key of an output valve's bias setting: volts
 // across its cathode sense resistor, or amps when it has none.
-func BiasKey(ref string, sense bool) string {
+func BiasKey(ref string, sense bool) point.Key {
 	if sense {
-		return biasPrefix + ref + " dc_volts"
+		return point.BiasKey(ref, point.DCVolts)
 	}
-	return biasPrefix + ref + " dc_amps"
+	return point.BiasKey(ref, point.DCAmps)
 }
 
 // HighestVolts is the highest voltage present in the amplifier: the
@@ -189,20 +180,20 @@ func (b *BenchModel) Set(variac float64, readings []Reading) (*bands.Set, error)
 	by := map[float64][]bands.Reading{}
 	var sig strings.Builder
 	for _, r := range readings {
-		if r.Status == Retry || strings.Contains(r.Point, ":") || r.Point == MainsKey || r.Point == EarthKey {
+		if r.Status == Retry || r.Point.Domain != point.Live {
 			continue
 		}
 		if math.IsNaN(r.Value) || math.IsInf(r.Value, 0) {
 			continue
 		}
-		if _, ok := base.Index(r.Point); !ok {
+		if _, ok := base.Index(r.Point.String()); !ok {
 			continue
 		}
 		v := r.Variac
 		if v <= 0 {
 			v = 1
 		}
-		by[v] = append(by[v], bands.Reading{Key: r.Point, Value: r.Value, Meter: b.opt.Meter})
+		by[v] = append(by[v], bands.Reading{Key: r.Point.String(), Value: r.Value, Meter: b.opt.Meter})
 		fmt.Fprintf(&sig, "%s=%g@%g;", r.Point, r.Value, v)
 	}
 	if len(by) == 0 {
@@ -263,20 +254,20 @@ func (b *BenchModel) Set(variac float64, readings []Reading) (*bands.Set, error)
 }
 
 // Expect implements Expecter.
-func (b *BenchModel) Expect(point string, variac float64, readings []Reading) (Band, bool) {
-	switch {
-	case point == EarthKey:
+func (b *BenchModel) Expect(k point.Key, variac float64, readings []Reading) (Band, bool) {
+	switch k.Domain {
+	case point.Earth:
 		return Band{Nominal: 0.1, Low: 0, High: EarthMaxOhms,
 			Note: "after nulling the meter leads; a multimeter reading is no substitute for an earth-bond test (IEC 60335-1 / UL 60065: ≤ 0.1 Ω at 25 A)"}, true
-	case point == MainsKey:
+	case point.Mains:
 		v := b.D.Mains.Volts
 		if variac > 0 && variac != 1 {
 			v *= variac
 		}
 		return Band{Nominal: v, Low: v * (1 + b.D.Mains.Tol.Lo), High: v * (1 + b.D.Mains.Tol.Hi),
 			Note: "the design's mains and its tolerance"}, true
-	case strings.HasPrefix(point, dischargePrefix):
-		ref := strings.TrimSuffix(strings.TrimPrefix(point, dischargePrefix), " dc_volts")
+	case point.Discharge:
+		ref := k.ID
 		for _, dr := range b.Drain {
 			if dr.Ref == ref {
 				return Band{Nominal: 0, Low: -cold.TouchVolts, High: cold.TouchVolts, Note: dischargeNote(dr)}, true
@@ -284,22 +275,23 @@ func (b *BenchModel) Expect(point string, variac float64, readings []Reading) (B
 		}
 		return Band{Nominal: 0, Low: -cold.TouchVolts, High: cold.TouchVolts,
 			Note: fmt.Sprintf("below %g V before touching (common practice); %g V DC is the hazardous-live level (IEC 60065)", cold.TouchVolts, cold.HazardVolts)}, true
-	case strings.HasPrefix(point, coldPrefix):
-		id := strings.TrimSuffix(strings.TrimPrefix(point, coldPrefix), " ohms")
+	case point.Cold:
 		for _, c := range b.Cold {
-			if c.ID == id {
+			if c.ID == k.ID {
 				return coldBand(c), true
 			}
 		}
 		return Band{}, false
-	case strings.HasPrefix(point, biasPrefix):
-		return b.biasBand(point, readings)
+	case point.Bias:
+		return b.biasBand(k, readings)
+	case point.Part:
+		return b.partBand(k)
 	}
 	s, err := b.Set(variac, readings)
 	if err != nil {
 		return Band{}, false
 	}
-	i, ok := s.Index(point)
+	i, ok := s.Index(k.String())
 	if !ok {
 		return Band{}, false
 	}
@@ -462,9 +454,8 @@ func resistiveReach(d *design.Design, from string) (map[string]bool, string) {
 // its plate-to-cathode volts (measured when the plate has been read,
 // else the model's), the screen current added in the model's ratio
 // Ig2/Ia, times the sense resistance for a volts reading.
-func (b *BenchModel) biasBand(point string, readings []Reading) (Band, bool) {
-	rest := strings.TrimPrefix(point, biasPrefix)
-	ref, q, _ := strings.Cut(rest, " ")
+func (b *BenchModel) biasBand(k point.Key, readings []Reading) (Band, bool) {
+	ref, q := k.ID, k.Quantity
 	var bs *BiasStage
 	for _, s := range b.BiasStages() {
 		if s.Ref == ref {
@@ -482,7 +473,7 @@ func (b *BenchModel) biasBand(point string, readings []Reading) (Band, bool) {
 	op := s.NominalOP.Sections[bs.Section]
 	va := op.Va - op.Vk
 	src := "the model's plate volts"
-	plateKey := fmt.Sprintf("%s.%d dc_volts", ref, bs.PlatePin)
+	plateKey := point.LiveKey(fmt.Sprintf("%s.%d", ref, bs.PlatePin), point.DCVolts)
 	for _, r := range readings {
 		if r.Point == plateKey && r.Status != Retry && r.Value > 50 {
 			va = r.Value - op.Vk
@@ -497,7 +488,7 @@ func (b *BenchModel) biasBand(point string, readings []Reading) (Band, bool) {
 		ratio += op.Ig2 / op.Ia
 	}
 	scale := ratio
-	if q == "dc_volts" {
+	if q == point.DCVolts {
 		if bs.SenseOhms <= 0 {
 			return Band{}, false
 		}
@@ -507,4 +498,16 @@ func (b *BenchModel) biasBand(point string, readings []Reading) (Band, bool) {
 	note := fmt.Sprintf("idle plate current for %.0f %% of the %s plate rating (%.0f W) at %s (%s), screen current added (common practice: %.0f–%.0f %% for class AB push-pull)",
 		100*BiasTarget, b.M.Sections[bs.Section].Type.Name, bs.MaxWatts, units.Format(va, units.Volts), src, 100*BiasLow, 100*BiasHigh)
 	return Band{Nominal: at(BiasTarget), Low: at(BiasLow), High: at(BiasHigh), Note: note}, true
+}
+
+// partBand is the band of a part measured out of circuit (one end
+// lifted, the confirm step of fault-finding): its value within its
+// tolerance.
+func (b *BenchModel) partBand(k point.Key) (Band, bool) {
+	p := b.D.ByRef[k.ID]
+	if p == nil || p.Kind != design.Resistor || p.Value <= 0 {
+		return Band{}, false
+	}
+	return Band{Nominal: p.Value, Low: p.Value * (1 - math.Abs(p.Tol.Lo)), High: p.Value * (1 + math.Abs(p.Tol.Hi)),
+		Note: "out of circuit (one end lifted): the part's own value within its tolerance"}, true
 }

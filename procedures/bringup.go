@@ -10,6 +10,7 @@ import (
 	"pinwalk/expect/bands"
 	"pinwalk/expect/cold"
 	"pinwalk/expect/design"
+	"pinwalk/expect/point"
 	"pinwalk/expect/units"
 	"pinwalk/expect/valves"
 )
@@ -66,7 +67,7 @@ func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
 			Instruction: fmt.Sprintf("Unplugged: discharge %s through a resistor tool, then measure DC volts across it (%s to chassis). It must read below %g V before you touch anything; %g V DC is the hazardous-live level (IEC 60065). %s",
 				dr.Ref, dr.Net, cold.TouchVolts, cold.HazardVolts, dischargeNote(dr)),
 			Cautions: []string{UnpluggedCaution, DischargeCaution},
-			Measures: []Measure{{Point: DischargeKey(dr.Ref), Label: dr.Ref + " volts after discharge", Function: FuncDCV,
+			Measures: []Measure{{Point: point.DischargeKey(dr.Ref), Label: dr.Ref + " volts after discharge", Function: FuncDCV,
 				Range: rangeFor(math.Abs(dr.PeakVolts), "V DC"), Probes: fmt.Sprintf("red on %s (%s), black on chassis", dr.Net, dr.Ref), Unit: "V"}},
 			Why: fmt.Sprintf("%s can hold %s after power-off; its bleed path takes %s to fall below %g V, and a bleeder can fail open: only a meter reading proves it is safe.",
 				dr.Ref, units.Format(math.Abs(dr.PeakVolts), units.Volts), cold.FormatDuration(dr.To10), cold.TouchVolts),
@@ -97,7 +98,7 @@ func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
 			Instruction: fmt.Sprintf("Unplugged: discharge %s through a resistor tool, then measure DC volts across it (%s to chassis). It must read below %g V before you touch anything; %g V DC is the hazardous-live level (IEC 60065).",
 				c.Ref, net, cold.TouchVolts, cold.HazardVolts),
 			Cautions: []string{UnpluggedCaution, DischargeCaution},
-			Measures: []Measure{{Point: DischargeKey(c.Ref), Label: c.Ref + " volts after discharge", Function: FuncDCV,
+			Measures: []Measure{{Point: point.DischargeKey(c.Ref), Label: c.Ref + " volts after discharge", Function: FuncDCV,
 				Range: rangeFor(c.Volts, "V DC"), Probes: fmt.Sprintf("red on %s (%s), black on chassis", net, c.Ref), Unit: "V"}},
 			Why: fmt.Sprintf("%s is rated %s and can hold a charge after power-off; only a meter reading proves it is safe.", c.Ref, units.Format(c.Volts, units.Volts)),
 		}
@@ -110,7 +111,7 @@ func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
 			Title:       "Verify the amp is dead",
 			Instruction: fmt.Sprintf("Unplugged: measure DC volts from each supply net to chassis; every one must read below %g V before you touch anything. Enter the highest reading.", cold.TouchVolts),
 			Cautions:    []string{UnpluggedCaution, DischargeCaution},
-			Measures:    []Measure{{Point: DischargeKey("supply"), Label: "highest supply net volts", Function: FuncDCV, Range: "1000 V DC", Probes: "red on each supply net in turn, black on chassis", Unit: "V"}},
+			Measures:    []Measure{{Point: point.DischargeKey("supply"), Label: "highest supply net volts", Function: FuncDCV, Range: "1000 V DC", Probes: "red on each supply net in turn, black on chassis", Unit: "V"}},
 			Why:         "Any stored charge or a supply left connected shows here; prove it dead before touching.",
 		}
 		steps = append(steps, st)
@@ -193,7 +194,7 @@ func pointMeasure(pd amp.PointDef, bandHigh float64) Measure {
 		label += " (from below)"
 		probe = fmt.Sprintf("red on %s pin %d (socket viewed from below)", pd.Valve, pd.Pin)
 	}
-	m := Measure{Point: pd.Key(), Label: label, Probes: probe + ", black on chassis"}
+	m := Measure{Point: pd.PointKey(), Label: label, Probes: probe + ", black on chassis"}
 	switch pd.Quantity {
 	case amp.DCVolts:
 		m.Function, m.Unit, m.Range = FuncDCV, "V", rangeFor(math.Abs(bandHigh), "V DC")
@@ -456,6 +457,9 @@ func potName(pot string) string {
 }
 
 func fmtBand(v float64, unit string) string {
+	if math.Abs(v) < 1e-9 {
+		v = 0 // numerical dust: no meter shows it
+	}
 	switch unit {
 	case "A":
 		return units.Format(v, units.Amps)

@@ -5,6 +5,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"pinwalk/expect/point"
 	"strconv"
 	"strings"
 	"testing"
@@ -168,7 +169,7 @@ func TestGates(t *testing.T) {
 	}
 	// A reading cannot be entered on a live step either.
 	r.cur = r.Proc.Index(live[0].ID)
-	if _, err := r.Enter("", "300"); !errors.Is(err, ErrGated) {
+	if _, err := r.Enter(point.Key{}, "300"); !errors.Is(err, ErrGated) {
 		t.Fatalf("Enter on a gated live step: %v, want a gate error", err)
 	}
 	r.cur = 0
@@ -192,7 +193,7 @@ func TestGates(t *testing.T) {
 			for r.NextMeasure() != nil {
 				m := r.NextMeasure()
 				b, _ := r.Expected(st, m)
-				if _, err := r.Enter("", fmtNum(b.Nominal)); err != nil {
+				if _, err := r.Enter(point.Key{}, fmtNum(b.Nominal)); err != nil {
 					t.Fatalf("%s: %v", m.Point, err)
 				}
 			}

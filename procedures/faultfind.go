@@ -11,6 +11,7 @@ import (
 	"pinwalk/expect/bands"
 	"pinwalk/expect/design"
 	"pinwalk/expect/faults"
+	"pinwalk/expect/point"
 	"pinwalk/expect/units"
 	"pinwalk/procedures/infer"
 )
@@ -75,6 +76,10 @@ type faultLoop struct {
 	safety   []string
 	sim      map[string]float64 // practice: what the simulated amp reads
 	rank     *infer.Ranking
+	// rankFor is the evidence the ranking was computed on; rankCalls
+	// counts the rankings computed (once per new piece of evidence).
+	rankFor   string
+	rankCalls int
 }
 
 func newFaultLoop(w *Walk) (*faultLoop, error) {
@@ -142,35 +147,44 @@ func (l *faultLoop) baseDone() bool {
 
 func (l *faultLoop) powered() bool { return l.w.R.Done(StepPowerUp) }
 
-// observations: accepted readings of cold points and of live points at
-// full mains.
-func (l *faultLoop) observations() []infer.Observation {
-	var out []infer.Observation
-	for _, r := range l.w.R.Sess.Readings {
-		if r.Status == Retry || math.IsNaN(r.Value) {
-			continue
-		}
-		if strings.HasPrefix(r.Point, coldPrefix) || (!strings.Contains(r.Point, ":") && r.Point != EarthKey && r.Point != MainsKey && (r.Variac == 0 || r.Variac == 1)) {
-			out = append(out, infer.Observation{Key: r.Point, Value: r.Value})
-		}
-	}
-	return out
+// observations: the session's evidence (Observations).
+func (l *faultLoop) observations() []infer.Observation { return Observations(l.w.R.Sess.Readings) }
+
+// isCold reports whether an inference key names a cold point.
+func isCold(k string) bool {
+	pk, err := point.Parse(k)
+	return err == nil && pk.Domain == point.Cold
 }
+
+func isLive(k string) bool { return !isCold(k) }
 
 func (l *faultLoop) allowed() func(string) bool {
 	if l.powered() {
-		return func(k string) bool { return !strings.HasPrefix(k, coldPrefix) }
+		return isLive
 	}
-	return func(k string) bool { return strings.HasPrefix(k, coldPrefix) }
+	return isCold
 }
 
-// Rank ranks the suspects on the readings so far.
+// Rank ranks the suspects on the readings so far. The ranking is
+// computed once per new piece of evidence (a reading accepted, the amp
+// powered, the symptoms changed) and reused until then.
 func (l *faultLoop) Rank() (*infer.Ranking, error) {
 	e, err := l.engine()
 	if err != nil {
 		return nil, err
 	}
-	l.rank = e.Rank(l.observations(), l.allowed())
+	obs := l.observations()
+	var sig strings.Builder
+	fmt.Fprintf(&sig, "%v|%s|", l.powered(), l.symptoms)
+	for _, o := range obs {
+		fmt.Fprintf(&sig, "%s=%g;", o.Key, o.Value)
+	}
+	if l.rank != nil && sig.String() == l.rankFor {
+		return l.rank, nil
+	}
+	l.rank = e.Rank(obs, l.allowed())
+	l.rankFor = sig.String()
+	l.rankCalls++
 	return l.rank, nil
 }
 
@@ -248,9 +262,18 @@ func (l *faultLoop) Advance() error {
 }
 
 // addNext adds the best next measurement, or the power-up step when no
-// cold measurement is worth taking.
+// cold measurement is worth taking. While a stop is in force (a cold
+// near-short) the amp is not powered: the measuring ends with the
+// leading suspect.
 func (l *faultLoop) addNext(rk *infer.Ranking) error {
 	if !l.powered() && powerNow(rk.Next, l.liveNext) {
+		// Not again into a reading that said stop or switch off: the
+		// measuring ends with the leading suspect (power stays the
+		// technician's own command).
+		if len(l.w.R.Stops()) > 0 || len(l.w.R.Sess.Halts) > 0 {
+			l.conclude(rk.Suspects[0].Fault, false)
+			return nil
+		}
 		return l.addPowerUp()
 	}
 	if rk.Next == nil {
@@ -272,13 +295,14 @@ func powerNow(cold *infer.Probe, live func() *infer.Probe) bool {
 	return lp != nil && cold.GainBits < LiveGainShare*lp.GainBits
 }
 
-// liveNext is the best live measurement on the readings so far.
+// liveNext is the best live measurement on the readings so far (the next
+// measurement only: the ranking itself is not computed again).
 func (l *faultLoop) liveNext() *infer.Probe {
 	e, err := l.engine()
 	if err != nil {
 		return nil
 	}
-	return e.Rank(l.observations(), func(k string) bool { return !strings.HasPrefix(k, coldPrefix) }).Next
+	return e.NextAmong(l.observations(), isLive)
 }
 
 // addPowerUp adds the power-up step (once) and moves to it; an open
@@ -297,6 +321,10 @@ func (l *faultLoop) addPowerUp() error {
 		return nil
 	}
 	if err := w.R.Goto(StepPowerUp); err != nil {
+		var ge *GateError
+		if errors.As(err, &ge) {
+			return nil // the state shows what blocks it
+		}
 		return err
 	}
 	return nil
@@ -321,6 +349,28 @@ func (l *faultLoop) withdraw() {
 		}
 	}
 	r.Sess.Added = keepA
+}
+
+// unpowered takes the power-up step and the live measurements not yet
+// taken out of the procedure after a switch-off: the amp is off, and it
+// is powered again only when the loop (or the technician) says so.
+func (l *faultLoop) unpowered() {
+	r := l.w.R
+	var keep []*Step
+	for _, st := range r.Proc.Steps {
+		if st.ID == StepPowerUp || (strings.HasPrefix(st.ID, "probe-") && st.Live && !r.Done(st.ID)) {
+			continue
+		}
+		keep = append(keep, st)
+	}
+	r.Proc.Steps = keep
+	var added []*Step
+	for _, st := range r.Sess.Added {
+		if r.Proc.Step(st.ID) != nil {
+			added = append(added, st)
+		}
+	}
+	r.Sess.Added = added
 }
 
 func (l *faultLoop) hasReading(step string) bool {
@@ -377,14 +427,14 @@ func (l *faultLoop) powerUpStep() (*Step, error) {
 	return st, nil
 }
 
-func measureFor(key, label, setup string) Measure {
+func measureFor(key point.Key, label, setup string) Measure {
 	m := Measure{Point: key, Label: label, Probes: setup}
-	switch {
-	case strings.HasSuffix(key, " ohms"):
+	switch key.Quantity {
+	case point.Ohms:
 		m.Function, m.Unit, m.Range = FuncOhms, "Ω", "autorange"
-	case strings.HasSuffix(key, " ac_volts"):
+	case point.ACVolts, point.RippleVolts, point.ToneVolts:
 		m.Function, m.Unit, m.Range = FuncACV, "V", "autorange (AC)"
-	case strings.HasSuffix(key, " dc_amps"):
+	case point.DCAmps:
 		m.Function, m.Unit, m.Range = FuncDCA, "A", "200 mA DC"
 	default:
 		m.Function, m.Unit, m.Range = FuncDCV, "V", "autorange (DC)"
@@ -396,9 +446,13 @@ func measureFor(key, label, setup string) Measure {
 func (l *faultLoop) addProbe(p infer.Probe, rk *infer.Ranking) *Step {
 	l.withdraw()
 	n := l.countProbes() + 1
-	st := &Step{ID: fmt.Sprintf("probe-%d", n), Title: "Measure " + p.Label, Measures: []Measure{measureFor(p.Key, p.Label, p.Setup)}}
+	key, err := point.Parse(p.Key)
+	if err != nil {
+		return nil
+	}
+	st := &Step{ID: fmt.Sprintf("probe-%d", n), Title: "Measure " + p.Label, Measures: []Measure{measureFor(key, p.Label, p.Setup)}}
 	g := append([]string(nil), l.safety...)
-	live := p.Live || !strings.HasPrefix(p.Key, coldPrefix)
+	live := p.Live || key.Domain != point.Cold
 	if live {
 		st.Kind, st.Live, st.Variac = KindLive, true, 1
 		st.Cautions = []string{LiveCaution, VariacCaution}
@@ -444,7 +498,7 @@ func (l *faultLoop) conclude(fault string, clear bool) {
 	conf.Instruction = confirmText(l.w.B, first)
 	if f, err := faults.Parse(first); err == nil {
 		if p := l.w.B.D.ByRef[f.Ref]; p != nil && p.Kind == design.Resistor {
-			conf.Measures = []Measure{{Point: partKey(p.Ref), Label: p.Ref + " out of circuit", Function: FuncOhms, Unit: "Ω", Range: "autorange",
+			conf.Measures = []Measure{{Point: point.PartKey(p.Ref), Label: p.Ref + " out of circuit", Function: FuncOhms, Unit: "Ω", Range: "autorange",
 				Probes: "across " + p.Ref + " with one end lifted"}}
 		}
 	}
@@ -744,9 +798,9 @@ func (l *faultLoop) choose(key string) error {
 	}
 	label := e.Label(key)
 	if label == "" {
-		return fmt.Errorf("no point %q: expected a key like \"V2.3 dc_volts\" or \"cold:B1 ohms\"", key)
+		return fmt.Errorf("no point %q: expected a point like \"V2 pin 3\", a net like \"B1\", or \"cold B1\" for a cold resistance", key)
 	}
-	live := !strings.HasPrefix(key, coldPrefix)
+	live := !isCold(key)
 	if !live && l.powered() {
 		return fmt.Errorf("the amp is powered: cold readings need it unplugged and discharged again")
 	}
@@ -776,14 +830,11 @@ func (l *faultLoop) choose(key string) error {
 	return nil
 }
 
-// partKey is the point key of a part measured out of circuit.
-func partKey(ref string) string { return "part:" + ref + " ohms" }
-
 // partOhms is what the simulated amp's part reads out of circuit: open,
 // shorted or drifted high when it is the hidden fault, its nominal value
 // otherwise.
-func (l *faultLoop) partOhms(point string) (float64, bool) {
-	ref := strings.TrimSuffix(strings.TrimPrefix(point, "part:"), " ohms")
+func (l *faultLoop) partOhms(k point.Key) (float64, bool) {
+	ref := k.ID
 	p := l.w.B.D.ByRef[ref]
 	if p == nil {
 		return 0, false
@@ -813,14 +864,14 @@ func (l *faultLoop) answer() error {
 	if err := l.practice(); err != nil {
 		return err
 	}
-	v, ok := l.sim[m.Point]
+	v, ok := l.sim[m.Point.String()]
 	switch {
 	case ok:
-	case strings.HasPrefix(m.Point, dischargePrefix):
+	case m.Point.Domain == point.Discharge:
 		v, ok = 0.4, true // discharged through the resistor tool
-	case m.Point == EarthKey:
+	case m.Point.Domain == point.Earth:
 		v, ok = 0.15, true
-	case strings.HasPrefix(m.Point, "part:"):
+	case m.Point.Domain == point.Part:
 		v, ok = l.partOhms(m.Point)
 	}
 	if !ok {
@@ -870,7 +921,7 @@ func (l *faultLoop) name(fault string) ([]string, error) {
 	for _, st := range r.Proc.Steps {
 		if strings.HasPrefix(st.ID, "probe-") && r.Done(st.ID) && len(st.Measures) > 0 {
 			probes++
-			path = append(path, st.Measures[0].Point)
+			path = append(path, st.Measures[0].Label)
 		}
 	}
 	safe := max(0, 30-10*len(s.Attempts))
@@ -923,13 +974,13 @@ func (l *faultLoop) BestPath() ([]string, error) {
 	powered := false
 	seen := map[string]bool{}
 	for range MaxProbes {
-		allowed := func(k string) bool { return strings.HasPrefix(k, coldPrefix) != powered && !seen[k] }
+		allowed := func(k string) bool { return isCold(k) != powered && !seen[k] }
 		rk := e.Rank(obs, allowed)
 		if _, ok := clearSuspect(rk); ok {
 			break
 		}
 		if rk.Next == nil || (!powered && powerNow(rk.Next, func() *infer.Probe {
-			return e.Rank(obs, func(k string) bool { return !strings.HasPrefix(k, coldPrefix) && !seen[k] }).Next
+			return e.Rank(obs, func(k string) bool { return isLive(k) && !seen[k] }).Next
 		})) {
 			if powered {
 				break

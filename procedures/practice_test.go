@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"pinwalk/expect/point"
 	"strconv"
 	"strings"
 	"testing"
@@ -16,23 +17,25 @@ import (
 // false when the session is over (summary reached).
 func trainee(t *testing.T, w *Walk) bool {
 	t.Helper()
-	r := w.R
-	if err := w.Loop.Advance(); err != nil {
+	c := NewController(w)
+	state, err := c.Do(Action{Kind: ActRefresh})
+	if err != nil {
 		t.Fatal(err)
 	}
-	st := r.Current()
+	r := w.R
+	st := state.Step
 	if st == nil || st.ID == StepSummary {
 		return false
 	}
-	switch m := r.NextMeasure(); {
+	switch m := state.Measure; {
 	case st.ID == StepName:
 		found := strings.Split(r.Sess.Outcome.Found, " or ")[0]
-		if _, _, err := w.Loop.Command("name " + found); err != nil {
+		if _, err := c.Do(Action{Kind: ActName, Text: found}); err != nil {
 			t.Fatalf("name %s: %v", found, err)
 		}
 		return true
 	case m == nil:
-		if err := r.Confirm(); err != nil {
+		if _, err := c.Do(Action{Kind: ActConfirm}); err != nil {
 			t.Fatalf("confirm %s: %v", st.ID, err)
 		}
 	default:
@@ -41,12 +44,9 @@ func trainee(t *testing.T, w *Walk) bool {
 				t.Fatalf("predict %s: %v", m.Point, err)
 			}
 		}
-		if _, _, err := w.Loop.Command("m"); err != nil {
+		if _, err := c.Do(Action{Kind: ActSimulate}); err != nil {
 			t.Fatalf("measure on %s: %v", st.ID, err)
 		}
-	}
-	if r.Done(st.ID) {
-		r.Next()
 	}
 	return true
 }
@@ -127,7 +127,7 @@ func TestPracticeFollowingSuggestions(t *testing.T) {
 func readingsOf(r *Runner) string {
 	var out []string
 	for _, rd := range r.Sess.Readings {
-		if strings.HasPrefix(rd.Point, "discharge:") || rd.Point == EarthKey {
+		if rd.Point.Domain == point.Discharge || rd.Point == EarthKey {
 			continue
 		}
 		out = append(out, fmt.Sprintf("%s=%s[%s]", rd.Point, FormatValue(rd.Value, rd.Unit), rd.Status))
@@ -181,7 +181,7 @@ func TestPowerCommand(t *testing.T) {
 			r.Confirm()
 		} else {
 			b, _ := r.Expected(st, m)
-			if _, err := r.Enter("", strconv.FormatFloat(b.Nominal, 'g', 6, 64)); err != nil {
+			if _, err := r.Enter(point.Key{}, strconv.FormatFloat(b.Nominal, 'g', 6, 64)); err != nil {
 				t.Fatal(err)
 			}
 		}

@@ -7,15 +7,21 @@ import (
 	"strings"
 	"time"
 
+	"pinwalk/expect/point"
 	"pinwalk/expect/units"
 )
 
 // Expecter gives the expected band of a point under the session's
 // conditions and readings so far.
 type Expecter interface {
-	// Expect returns the band of a point key at a variac fraction (0 or 1
+	// Expect returns the band of a point at a variac fraction (0 or 1
 	// for full mains), given the readings already taken.
-	Expect(point string, variac float64, readings []Reading) (Band, bool)
+	Expect(k point.Key, variac float64, readings []Reading) (Band, bool)
+}
+
+// judge is the optional part of an Expecter that applies the stop rules.
+type judger interface {
+	judge(st *Step, m *Measure, v float64, band Band, has bool, readings []Reading) judgement
 }
 
 // Runner drives a procedure: it enforces gates, records readings, skips
@@ -88,6 +94,17 @@ func (r *Runner) firstOpen(from int) int {
 	return len(r.Proc.Steps) - 1
 }
 
+// First moves to the earliest step not done (after a switch-off, the
+// discharge checks again).
+func (r *Runner) First() *Step {
+	r.cur = r.firstOpen(0)
+	if st := r.Current(); st != nil {
+		r.Sess.Cursor = st.ID
+	}
+	r.save()
+	return r.Current()
+}
+
 // Current returns the step the runner is on.
 func (r *Runner) Current() *Step {
 	if r.cur < 0 || r.cur >= len(r.Proc.Steps) {
@@ -125,17 +142,38 @@ func (r *Runner) Done(id string) bool {
 	if _, ok := r.Skipped(id); ok {
 		return true
 	}
+	st := r.Proc.Step(id)
 	for _, p := range r.Sess.Passes {
-		if p.Step == id {
+		if p.Step == id && (st == nil || !perCycle(st) || p.Cycle == r.Sess.Cycle) {
 			return true
 		}
 	}
-	st := r.Proc.Step(id)
 	if st == nil || len(st.Measures) == 0 {
 		return false
 	}
-	for _, m := range st.Measures {
-		if r.Last(id, m.Point) == nil {
+	for i := range st.Measures {
+		if r.openMeasure(st, &st.Measures[i]) {
+			return false
+		}
+	}
+	return true
+}
+
+// openMeasure: a measure still wants a reading: none yet, or its latest
+// reading holds a stop (or a switch-off) that no override let through.
+func (r *Runner) openMeasure(st *Step, m *Measure) bool {
+	rd := r.Last(st.ID, m.Point)
+	return rd == nil || r.blocking(rd)
+}
+
+// blocking reports whether a reading's stop is in force: its consequence
+// is Stop or SwitchOff and no later override names its step and point.
+func (r *Runner) blocking(rd *Reading) bool {
+	if rd.Consequence == GoOn {
+		return false
+	}
+	for _, o := range r.Sess.Overrides {
+		if o.Point == rd.Point && !o.At.Before(rd.At) {
 			return false
 		}
 	}
@@ -143,17 +181,61 @@ func (r *Runner) Done(id string) bool {
 }
 
 // Last returns the latest accepted reading of a point in a step, or nil.
-func (r *Runner) Last(step, point string) *Reading {
+// A discharge reading counts only in the power cycle it was taken in.
+func (r *Runner) Last(step string, k point.Key) *Reading {
 	for i := len(r.Sess.Readings) - 1; i >= 0; i-- {
 		rd := &r.Sess.Readings[i]
-		if rd.Step == step && rd.Point == point && rd.Status != Retry {
+		if rd.Step == step && rd.Point == k && rd.Status != Retry && rd.Status != Corrected {
+			if rd.Cycle != r.Sess.Cycle && (k.Domain == point.Discharge || perCycle(r.Proc.Step(step))) {
+				return nil
+			}
 			return rd
 		}
 	}
 	return nil
 }
 
-// Blockers lists the gate steps of a step that are not done.
+// perCycle: a step whose work must be done again in every power cycle
+// (discharge after each switch-off, the power-up after one).
+func perCycle(st *Step) bool {
+	return st != nil && (st.Kind == KindDischarge || st.Kind == KindPowerUp)
+}
+
+// Stops lists the readings whose stop is in force now (the latest of
+// each point), oldest first.
+func (r *Runner) Stops() []Reading {
+	seen := map[string]bool{}
+	var out []Reading
+	for i := len(r.Sess.Readings) - 1; i >= 0; i-- {
+		rd := &r.Sess.Readings[i]
+		id := rd.Point.String()
+		if seen[id] || rd.Status == Retry || rd.Status == Corrected {
+			continue
+		}
+		seen[id] = true
+		if rd.Point.Domain == point.Discharge && rd.Cycle != r.Sess.Cycle {
+			continue
+		}
+		if r.blocking(rd) && rd.Consequence == Stop {
+			out = append([]Reading{*rd}, out...)
+		}
+	}
+	return out
+}
+
+// PendingHalt returns the switch-off not yet confirmed, or nil.
+func (r *Runner) PendingHalt() *Halt {
+	for i := range r.Sess.Halts {
+		if !r.Sess.Halts[i].Done {
+			return &r.Sess.Halts[i]
+		}
+	}
+	return nil
+}
+
+// Blockers lists what keeps a step from starting: gate steps not done,
+// and for a live step every stop in force anywhere in the session and a
+// switch-off not yet confirmed.
 func (r *Runner) Blockers(st *Step) []string {
 	var out []string
 	for _, g := range st.Gate {
@@ -165,7 +247,34 @@ func (r *Runner) Blockers(st *Step) []string {
 			}
 		}
 	}
+	if st.Live && st.Kind != KindPowerDown {
+		for _, rd := range r.Stops() {
+			out = append(out, "the stop on "+r.labelOf(rd.Step, rd.Point)+" ("+FormatValue(rd.Value, rd.Unit)+")")
+		}
+		if h := r.PendingHalt(); h != nil && st.Kind != KindPowerDown {
+			out = append(out, "switching off ("+r.labelOf(h.Step, h.Point)+")")
+		}
+	}
 	return out
+}
+
+// labelOf is the label of a point as its step's measure names it.
+func (r *Runner) labelOf(step string, k point.Key) string {
+	if st := r.Proc.Step(step); st != nil {
+		for _, m := range st.Measures {
+			if m.Point == k {
+				return m.Label
+			}
+		}
+	}
+	for _, st := range r.Proc.Steps {
+		for _, m := range st.Measures {
+			if m.Point == k {
+				return m.Label
+			}
+		}
+	}
+	return k.ID
 }
 
 // Goto moves to a step if its gate allows; in training mode a blocked
@@ -212,7 +321,7 @@ func (r *Runner) Confirm() error {
 	if len(st.Measures) > 0 && !r.Done(st.ID) {
 		return fmt.Errorf("%s needs its reading(s) first, or skip it with a reason", st.Title)
 	}
-	r.Sess.Passes = append(r.Sess.Passes, Pass{Step: st.ID, At: r.Now()})
+	r.Sess.Passes = append(r.Sess.Passes, Pass{Step: st.ID, At: r.Now(), Cycle: r.Sess.Cycle})
 	r.touch()
 	return r.save()
 }
@@ -223,6 +332,17 @@ func (r *Runner) Skip(reason string) error {
 	if st == nil {
 		return errors.New("no step")
 	}
+	if st.Kind == KindDischarge {
+		return errors.New("a discharge check cannot be skipped: discharge the capacitor and measure it (a reading under 10 V passes)")
+	}
+	for i := range st.Measures {
+		if rd := r.Last(st.ID, st.Measures[i].Point); rd != nil && r.blocking(rd) {
+			if overridable(rd.Point) {
+				return errors.New("this step has a stop in force: measure again, or let it through with override REASON")
+			}
+			return errors.New("this step has a stop in force: it cannot be skipped; measure again")
+		}
+	}
 	reason = strings.TrimSpace(reason)
 	if len(reason) < 3 {
 		return errors.New("a skipped step needs a reason (a few words)")
@@ -232,19 +352,57 @@ func (r *Runner) Skip(reason string) error {
 	return r.save()
 }
 
-// NextMeasure returns the first measure of the current step without an
-// accepted reading, or nil.
+// NextMeasure returns the first measure of the current step that still
+// wants a reading (none yet, or a stop in force), or nil.
 func (r *Runner) NextMeasure() *Measure {
 	st := r.Current()
 	if st == nil {
 		return nil
 	}
 	for i := range st.Measures {
-		if r.Last(st.ID, st.Measures[i].Point) == nil {
+		if r.openMeasure(st, &st.Measures[i]) {
 			return &st.Measures[i]
 		}
 	}
 	return nil
+}
+
+// overridable: the stops an override with a reason may let through
+// (earth continuity on a set with no mains earth by design, a cold
+// near-short the technician has explained); never a discharge check.
+func overridable(k point.Key) bool { return k.Domain == point.Earth || k.Domain == point.Cold }
+
+// Override lets the stop in force on the current step through, with a
+// stated reason; it is recorded and boxed in every summary and job sheet.
+func (r *Runner) Override(reason string) error {
+	st := r.Current()
+	if st == nil {
+		return errors.New("no step")
+	}
+	reason = strings.TrimSpace(reason)
+	if len(reason) < 8 {
+		return errors.New("an override needs a reason in words (for example: double insulated, no mains earth by design)")
+	}
+	for i := range st.Measures {
+		rd := r.Last(st.ID, st.Measures[i].Point)
+		if rd == nil || !r.blocking(rd) {
+			continue
+		}
+		if !overridable(rd.Point) {
+			return errors.New("this stop cannot be overridden: " + firstSentence(rd.Said))
+		}
+		r.Sess.Overrides = append(r.Sess.Overrides, Override{Step: st.ID, Point: rd.Point, Reason: reason, At: r.Now()})
+		r.touch()
+		return r.save()
+	}
+	return errors.New("no stop is in force on this step: there is nothing to override")
+}
+
+func firstSentence(s string) string {
+	if i := strings.Index(s, ". "); i > 0 {
+		return s[:i+1]
+	}
+	return s
 }
 
 // Expected returns a measure's band under the current step's conditions.
@@ -261,6 +419,9 @@ type Verdict struct {
 	Band    Band
 	HasBand bool
 	Message string
+	// HandOff: the reading is a stop that sends a bring-up to
+	// fault-finding from it.
+	HandOff bool
 }
 
 // ParseReading reads what the user typed for a measure: a number (the
@@ -278,8 +439,7 @@ func ParseReading(raw string, m *Measure, expect *Band) (float64, error) {
 	if q == units.None {
 		q = units.Volts
 	}
-	low := strings.ToLower(s)
-	if q == units.Ohms && (low == "ol" || low == "open" || low == "inf" || low == "o.l" || low == "o.l.") {
+	if q == units.Ohms && point.IsOpenWord(s) {
 		return math.Inf(1), nil
 	}
 	if _, q2, err := units.ParseAny(s); err == nil && q2 != units.None && q2 != q {
@@ -311,13 +471,90 @@ func ParseReading(raw string, m *Measure, expect *Band) (float64, error) {
 			return v, fmt.Errorf("%w: %s is far beyond anything this amp can read here; check the meter's range and the decimal point, "+
 				"and type it again followed by ! if it really reads that", ErrQuestioned, units.Format(v, q))
 		}
+		if expect != nil {
+			if f, ok := unitSlip(v, *expect); ok {
+				return v, fmt.Errorf("%w: %s is about %s from the band (%s): did you mean %s? Type it with its prefix, or %s! to keep %s",
+					ErrQuestioned, units.Format(v, q), slipWord(f), FormatBand(*expect, m.Unit), units.Format(v*f, q), s, units.Format(v, q))
+			}
+		}
 	}
 	return v, nil
 }
 
+// unitSlip reports a reading that lies outside its band but inside it
+// once multiplied by a factor of 1000 or a million (either way): a
+// dropped or wrong prefix (220 typed for 220 kΩ).
+func unitSlip(v float64, b Band) (float64, bool) {
+	if b.Contains(v) || v == 0 || math.IsInf(v, 0) || math.IsInf(b.High, 0) {
+		return 0, false
+	}
+	lo, hi := b.Low, b.High
+	if lo > hi {
+		lo, hi = hi, lo
+	}
+	for _, f := range []float64{1e3, 1e-3, 1e6, 1e-6} {
+		w := v * f
+		if w >= lo-0.5*math.Abs(hi-lo) && w <= hi+0.5*math.Abs(hi-lo) {
+			return f, true
+		}
+	}
+	return 0, false
+}
+
+func slipWord(f float64) string {
+	switch f {
+	case 1e3, 1e-3:
+		return "a factor of 1000"
+	}
+	return "a factor of a million"
+}
+
 // Enter records a reading for the current step's next measure (or the
-// measure with the given point key when point is not empty).
-func (r *Runner) Enter(point, raw string) (*Verdict, error) {
+// measure with the given point key when point is not zero), judges it
+// against its band and the step's stop rules, and saves.
+func (r *Runner) Enter(k point.Key, raw string) (*Verdict, error) {
+	return r.enter(k, raw, "")
+}
+
+// Correct replaces the latest reading of a point on the current step
+// with a corrected one: the old reading stays in the history marked
+// corrected, the new one carries the reason.
+func (r *Runner) Correct(k point.Key, raw, reason string) (*Verdict, error) {
+	reason = strings.TrimSpace(reason)
+	if len(reason) < 3 {
+		return nil, errors.New("a correction needs a reason (a few words: misread the range, wrong pin)")
+	}
+	st := r.Current()
+	if st == nil {
+		return nil, errors.New("no step")
+	}
+	if k.IsZero() {
+		for i := len(r.Sess.Readings) - 1; i >= 0; i-- {
+			if r.Sess.Readings[i].Step == st.ID {
+				k = r.Sess.Readings[i].Point
+				break
+			}
+		}
+	}
+	old := r.Last(st.ID, k)
+	if old == nil {
+		return nil, errors.New("there is no reading on this step to correct: type the reading")
+	}
+	idx := -1
+	for i := range r.Sess.Readings {
+		if &r.Sess.Readings[i] == old {
+			idx = i
+		}
+	}
+	vd, err := r.enter(k, raw, reason)
+	if err != nil {
+		return nil, err
+	}
+	r.Sess.Readings[idx].Status = Corrected
+	return vd, r.save()
+}
+
+func (r *Runner) enter(k point.Key, raw, reason string) (*Verdict, error) {
 	st := r.Current()
 	if st == nil {
 		return nil, errors.New("no step")
@@ -330,14 +567,14 @@ func (r *Runner) Enter(point, raw string) (*Verdict, error) {
 		return nil, &GateError{Step: st.Title, Blockers: b}
 	}
 	var m *Measure
-	if point == "" {
+	if k.IsZero() {
 		m = r.NextMeasure()
 		if m == nil && len(st.Measures) > 0 {
 			m = &st.Measures[len(st.Measures)-1]
 		}
 	} else {
 		for i := range st.Measures {
-			if st.Measures[i].Point == point {
+			if st.Measures[i].Point == k {
 				m = &st.Measures[i]
 			}
 		}
@@ -354,7 +591,8 @@ func (r *Runner) Enter(point, raw string) (*Verdict, error) {
 	if err != nil {
 		return nil, err
 	}
-	rd := Reading{Step: st.ID, Point: m.Point, Raw: raw, Value: v, Unit: m.Unit, At: r.Now(), Variac: st.Variac, Mains: r.Sess.Bench.Mains}
+	rd := Reading{Step: st.ID, Point: m.Point, Raw: raw, Value: v, Unit: m.Unit, At: r.Now(), Variac: st.Variac, Mains: r.Sess.Bench.Mains,
+		Reason: reason, Pulled: append([]string(nil), st.Pulled...), Cycle: r.Sess.Cycle}
 	vd := &Verdict{Band: band, HasBand: has}
 	if has {
 		rd.Low, rd.High, rd.Nominal = band.Low, band.High, band.Nominal
@@ -378,16 +616,27 @@ func (r *Runner) Enter(point, raw string) (*Verdict, error) {
 		rd.Status = OutOfBand
 		vd.Message = "out of band (confirmed by a second reading)"
 	}
+	if j, ok := r.Expect.(judger); ok {
+		jd := j.judge(st, m, v, band, has, r.Sess.Readings)
+		rd.Consequence, rd.Said = jd.Consequence, jd.Said
+		if rd.Consequence != GoOn && rd.Status == Retry {
+			rd.Status = OutOfBand // a stop rule fired: no borderline retry
+		}
+		vd.HandOff = jd.HandOff && rd.Consequence == Stop
+	}
 	r.Sess.Readings = append(r.Sess.Readings, rd)
+	if rd.Consequence == SwitchOff {
+		r.Sess.Halts = append(r.Sess.Halts, Halt{Step: st.ID, Point: rd.Point, Value: v, Why: rd.Said, At: rd.At})
+	}
 	vd.Reading = rd
 	r.touch()
 	return vd, r.save()
 }
 
-func (r *Runner) lastRetry(step, point string) bool {
+func (r *Runner) lastRetry(step string, k point.Key) bool {
 	for i := len(r.Sess.Readings) - 1; i >= 0; i-- {
 		rd := r.Sess.Readings[i]
-		if rd.Step == step && rd.Point == point {
+		if rd.Step == step && rd.Point == k {
 			return rd.Status == Retry
 		}
 	}

@@ -11,6 +11,8 @@ import (
 	"time"
 
 	"gopkg.in/yaml.v3"
+
+	"pinwalk/expect/point"
 )
 
 // SessionVersion is the session-file version this build writes and reads.
@@ -46,6 +48,14 @@ type Session struct {
 	Added []*Step `yaml:"added-steps,omitempty"`
 	// Seed of the bands (and of a practice session's simulated amp).
 	Seed uint64 `yaml:"seed,omitempty"`
+	// Overrides are stops let through with a reason; Halts the switch-offs.
+	Overrides []Override `yaml:"overrides,omitempty"`
+	Halts     []Halt     `yaml:"switch-offs,omitempty"`
+	// Cycle is the current power cycle (see Reading.Cycle).
+	Cycle int `yaml:"power-cycle,omitempty"`
+	// Pulled lists the valves the walk has asked to be out of their
+	// sockets now.
+	Pulled []string `yaml:"valves-out,omitempty"`
 }
 
 // DesignRef names the design a session was taken against.
@@ -66,7 +76,7 @@ type Bench struct {
 // Reading is one meter reading.
 type Reading struct {
 	Step    string    `yaml:"step"`
-	Point   string    `yaml:"point"` // point key: "V2.3 dc_volts", "B1 dc_volts", "cold:B1 ohms"
+	Point   point.Key `yaml:"point"`
 	Raw     string    `yaml:"typed"` // exactly what the user typed
 	Value   float64   `yaml:"value"` // SI units
 	Unit    string    `yaml:"unit"`
@@ -77,6 +87,53 @@ type Reading struct {
 	Low     float64   `yaml:"expected-low"`
 	High    float64   `yaml:"expected-high"`
 	Nominal float64   `yaml:"expected"`
+	// Consequence of the reading for the walk: "" (go on), Stop or
+	// SwitchOff; Said is what the screen told the technician.
+	Consequence Consequence `yaml:"consequence,omitempty"`
+	Said        string      `yaml:"said,omitempty"`
+	// Reason is why a reading was corrected (on the correcting reading)
+	// or kept against a question.
+	Reason string `yaml:"reason,omitempty"`
+	// Pulled lists the valves out of their sockets when it was taken.
+	Pulled []string `yaml:"valves-out,omitempty"`
+	// Cycle is the power cycle the reading belongs to: it goes up each
+	// time the amp is switched off after being powered (a discharge is
+	// proved again in every cycle).
+	Cycle int `yaml:"power-cycle,omitempty"`
+}
+
+// Consequence is what a reading means for the walk beyond its band.
+type Consequence string
+
+// Consequences.
+const (
+	GoOn Consequence = ""
+	// Stop: the walk does not advance past this step until a retake
+	// clears it (or, where the rule allows, an override with a reason).
+	Stop Consequence = "stop"
+	// SwitchOff: harm is in progress on a live step; the walk says switch
+	// off now and goes to unpowered fault-finding with the evidence.
+	SwitchOff Consequence = "switch-off"
+)
+
+// Override records a stop let through with a stated reason (allowed only
+// where the rule says so: never for a discharge check).
+type Override struct {
+	Step   string    `yaml:"step"`
+	Point  point.Key `yaml:"point"`
+	Reason string    `yaml:"reason"`
+	At     time.Time `yaml:"at"`
+}
+
+// Halt records a switch-off: which reading fired it and why.
+type Halt struct {
+	Step  string    `yaml:"step"`
+	Point point.Key `yaml:"point"`
+	Value float64   `yaml:"value"`
+	Why   string    `yaml:"why"`
+	At    time.Time `yaml:"at"`
+	// Done is set when the technician confirmed the amp is off.
+	Done bool `yaml:"switched-off,omitempty"`
 }
 
 // Status is the verdict on a reading or step.
@@ -89,6 +146,7 @@ const (
 	Retry     Status = "retry" // questionable: re-measure
 	Done      Status = "done"  // a step without a reading, confirmed done
 	Skipped   Status = "skipped"
+	Corrected Status = "corrected" // replaced by a correction; kept in the history
 )
 
 // Skip records a skipped step and why.
@@ -102,8 +160,9 @@ type Skip struct {
 // Pass records a step confirmed done without a numeric reading
 // (briefing read, probes checked).
 type Pass struct {
-	Step string    `yaml:"step"`
-	At   time.Time `yaml:"at"`
+	Step  string    `yaml:"step"`
+	At    time.Time `yaml:"at"`
+	Cycle int       `yaml:"power-cycle,omitempty"`
 }
 
 // Note is a free-text note.
@@ -122,7 +181,7 @@ type Attempt struct {
 
 // Guess is a trainee's prediction before the band is shown.
 type Guess struct {
-	Point string    `yaml:"point"`
+	Point point.Key `yaml:"point"`
 	Raw   string    `yaml:"typed"`
 	Value float64   `yaml:"value"`
 	Low   float64   `yaml:"expected-low"`
@@ -245,7 +304,7 @@ func ParseSession(name string, data []byte) (*Session, error) {
 		return nil, &SessionError{File: name, Line: fieldLine(dec, "design"), Col: 1, Field: "design.sha256", Msg: "missing: expected the design file's hash"}
 	}
 	for i, r := range s.Readings {
-		if r.Point == "" || r.Step == "" {
+		if r.Point.IsZero() || r.Step == "" {
 			return nil, &SessionError{File: name, Line: fieldLine(dec, "readings"), Col: 1, Field: fmt.Sprintf("readings[%d]", i), Msg: "expected step and point"}
 		}
 	}

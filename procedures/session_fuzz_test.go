@@ -3,6 +3,7 @@ package procedures
 import (
 	"os"
 	"path/filepath"
+	"pinwalk/expect/point"
 	"testing"
 	"time"
 )
@@ -19,7 +20,7 @@ func FuzzParseSession(f *testing.F) {
 	}
 	s := &Session{Pinwalk: SessionVersion, Design: DesignRef{File: "demo", Hash: "ab12"}, Mode: BringUp,
 		Started:  time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC),
-		Readings: []Reading{{Step: "live.B1", Point: "B1 dc_volts", Raw: "312", Value: 312, Unit: "V", Status: InBand}}}
+		Readings: []Reading{{Step: "live.B1", Point: point.MustParse("B1 dc_volts"), Raw: "312", Value: 312, Unit: "V", Status: InBand}}}
 	dir := f.TempDir()
 	if err := s.Save(filepath.Join(dir, "s.yaml")); err == nil {
 		data, _ := os.ReadFile(filepath.Join(dir, "s.yaml"))

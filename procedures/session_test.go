@@ -5,6 +5,7 @@ import (
 	"errors"
 	"os"
 	"path/filepath"
+	"pinwalk/expect/point"
 	"strings"
 	"testing"
 	"time"
@@ -60,12 +61,12 @@ func TestSaveFailureKeepsReading(t *testing.T) {
 	}
 	path := filepath.Join(blocker, "session.yaml") // its parent is a file: every save fails
 	p := &Procedure{Mode: BringUp, Steps: []*Step{
-		{ID: "a", Title: "Measure B1", Kind: KindLive, Measures: []Measure{{Point: "B1 dc_volts", Unit: "V", Function: FuncDCV}}},
+		{ID: "a", Title: "Measure B1", Kind: KindLive, Measures: []Measure{{Point: point.MustParse("B1 dc_volts"), Unit: "V", Function: FuncDCV}}},
 	}}
 	s := &Session{Design: DesignRef{File: "x", Hash: "h"}, Mode: BringUp}
 	r := NewRunner(p, s, path, nil)
 	r.Now = func() time.Time { return time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC) }
-	if _, err := r.Enter("", "312"); err == nil {
+	if _, err := r.Enter(point.Key{}, "312"); err == nil {
 		t.Fatal("saving into an unwritable place reported no error")
 	}
 	if r.SaveErr == nil {
@@ -92,7 +93,7 @@ func TestSaveFailureKeepsReading(t *testing.T) {
 // TestReadingQuestioned: a reading with the wrong unit is refused, an
 // absurd magnitude is questioned until confirmed with "!".
 func TestReadingQuestioned(t *testing.T) {
-	m := &Measure{Point: "B1 dc_volts", Unit: "V", Function: FuncDCV}
+	m := &Measure{Point: point.MustParse("B1 dc_volts"), Unit: "V", Function: FuncDCV}
 	band := &Band{Nominal: 300, Low: 290, High: 310}
 	if _, err := ParseReading("4K7", m, band); err == nil || !strings.Contains(err.Error(), "resistance") {
 		t.Errorf("4K7 for a voltage: got %v, want a unit error", err)

@@ -11,6 +11,7 @@ import (
 	"pinwalk/expect/amp"
 	"pinwalk/expect/bands"
 	"pinwalk/expect/design"
+	"pinwalk/expect/point"
 	"pinwalk/expect/units"
 	"pinwalk/expect/valves"
 )
@@ -99,11 +100,11 @@ func NewToneBench(b *BenchModel, tone ac.Options) (*ToneBench, error) {
 // Expect implements Expecter: tone points from the tone set, widened by
 // the AC meter's accuracy and the model's error; the rest from the
 // BenchModel.
-func (t *ToneBench) Expect(point string, variac float64, readings []Reading) (Band, bool) {
-	if !strings.HasSuffix(point, " "+ac.ToneVolts) {
-		return t.BenchModel.Expect(point, variac, readings)
+func (t *ToneBench) Expect(k point.Key, variac float64, readings []Reading) (Band, bool) {
+	if k.Quantity != point.ToneVolts {
+		return t.BenchModel.Expect(k, variac, readings)
 	}
-	i, ok := t.set.Index(point)
+	i, ok := t.set.Index(k.String())
 	if !ok {
 		return Band{}, false
 	}
@@ -299,7 +300,7 @@ func (t *ToneBench) clipLevel(ch []stage) (float64, string) {
 
 // toneMeasure builds the measure of a tone point.
 func (t *ToneBench) toneMeasure(id, label, probes string) (Measure, bool) {
-	key := id + " " + ac.ToneVolts
+	key := point.LiveKey(id, point.ToneVolts)
 	bd, ok := t.Expect(key, 1, nil)
 	if !ok {
 		return Measure{}, false

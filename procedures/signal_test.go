@@ -2,6 +2,7 @@ package procedures
 
 import (
 	"math"
+	"pinwalk/expect/point"
 	"strings"
 	"testing"
 
@@ -44,7 +45,7 @@ func TestSignalProcedureDemoA(t *testing.T) {
 			t.Errorf("step %s: gate %v: want the safety steps", st.ID, st.Gate)
 		}
 		for _, m := range st.Measures {
-			keys = append(keys, m.Point)
+			keys = append(keys, m.Point.String())
 			if m.Function != FuncACV || m.Range == "" || m.Unit != "V" {
 				t.Errorf("%s: function %q range %q unit %q: want AC volts with a range", m.Point, m.Function, m.Range, m.Unit)
 			}
@@ -86,7 +87,7 @@ func TestSignalProcedureDemoA(t *testing.T) {
 	}
 	// The input grid reads the generator's level exactly (an ideal
 	// source; band within the meter and model widening).
-	in, _ := tb.Expect("V1.7 "+ac.ToneVolts, 1, nil)
+	in, _ := tb.Expect(point.LiveKey("V1.7", point.ToneVolts), 1, nil)
 	if math.Abs(in.Nominal-0.1) > 1e-9 {
 		t.Errorf("input grid nominal %g V, want 0.1 V (the generator)", in.Nominal)
 	}
@@ -95,7 +96,7 @@ func TestSignalProcedureDemoA(t *testing.T) {
 	// 1/gm ≈ 450 Ω (12AU7, gm ≈ 2.2 mA/V, RCA data sheet, from memory) in
 	// parallel with 1.2 kΩ: the cathode carries under 1 % of the grid's
 	// tone (Ohm's law, the divider).
-	k, _ := tb.Expect("V1.8 "+ac.ToneVolts, 1, nil)
+	k, _ := tb.Expect(point.LiveKey("V1.8", point.ToneVolts), 1, nil)
 	if k.Nominal > 0.01*in.Nominal || !strings.Contains(k.Note, "bypass") {
 		t.Errorf("V1A cathode: %+v: want near zero with the bypass note", k)
 	}
@@ -104,7 +105,7 @@ func TestSignalProcedureDemoA(t *testing.T) {
 	// (the plate load and the next grid leak through C11), mu 17 and ra
 	// 7.7 kΩ at 250 V (RCA 12AU7-A data sheet, from memory; the operating
 	// point here is lower, so allow 35 %): about 13.
-	pl, _ := tb.Expect("V1.6 "+ac.ToneVolts, 1, nil)
+	pl, _ := tb.Expect(point.LiveKey("V1.6", point.ToneVolts), 1, nil)
 	rl := 1 / (1/33e3 + 1/470e3)
 	want := 17 * rl / (rl + 7.7e3)
 	if g := pl.Nominal / in.Nominal; math.Abs(g-want)/want > 0.35 {
@@ -121,7 +122,7 @@ func TestSignalProcedureDemoA(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	sp, _ := tb.Expect("OT1.speaker "+ac.ToneVolts, 1, nil)
+	sp, _ := tb.Expect(point.LiveKey("OT1.speaker", point.ToneVolts), 1, nil)
 	if x := 0.1 * cabs(g); math.Abs(x-sp.Nominal)/x > 0.02 {
 		t.Errorf("speaker nominal %.4g V, ac.Gain gives %.4g V", sp.Nominal, x)
 	}

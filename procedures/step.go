@@ -7,6 +7,8 @@ package procedures
 import (
 	"fmt"
 	"strings"
+
+	"pinwalk/expect/point"
 )
 
 // Kind classifies a step.
@@ -45,12 +47,12 @@ const (
 
 // Measure is one reading a step asks for.
 type Measure struct {
-	Point    string   // point key: "V2.3 dc_volts", "cold:B1 ohms", "discharge:C1 dc_volts"
-	Label    string   // what it is: "V2 pin 3 plate"
-	Function Function // meter function
-	Range    string   // suggested meter range ("1000 V DC", "200 Ω")
-	Probes   string   // where the probes go
-	Unit     string   // "V", "A", "Ω"
+	Point    point.Key // which point
+	Label    string    // what it is: "V2 pin 3 plate"
+	Function Function  // meter function
+	Range    string    // suggested meter range ("1000 V DC", "200 Ω")
+	Probes   string    // where the probes go
+	Unit     string    // "V", "A", "Ω"
 }
 
 // Band is an expected value with its tolerance band (SI units).
@@ -88,6 +90,9 @@ type Step struct {
 	Why string
 	// StopIf lists the conditions that mean: switch off now.
 	StopIf []string
+	// Pulled lists the valves that must be out of their sockets during
+	// the step (readings taken then are not evidence of the whole amp).
+	Pulled []string `yaml:"valves-out,omitempty"`
 }
 
 // Procedure is an ordered list of steps.

@@ -22,6 +22,7 @@ type Walk struct {
 	B *BenchModel
 	// Loop is nil for bring-up and training.
 	Loop Loop
+	opt  WalkOptions
 }
 
 // Loop is the dynamic part of a procedure: it adds steps as the
@@ -125,9 +126,16 @@ func Open(d *design.Design, s *Session, path string, opt WalkOptions) (*Walk, er
 	if err != nil {
 		return nil, err
 	}
-	w := &Walk{B: b}
+	return openWith(b, s, path, opt)
+}
+
+// openWith builds the procedure of the session's mode over a bench model
+// already made (a walk that changes mode keeps its bands).
+func openWith(b *BenchModel, s *Session, path string, opt WalkOptions) (*Walk, error) {
+	var err error
+	w := &Walk{B: b, opt: opt}
 	var p *Procedure
-	var ex Expecter = partExpecter{b}
+	var ex Expecter = b
 	switch s.Mode {
 	case BringUp, Training:
 		p, err = BringUpProcedure(b)
@@ -168,23 +176,6 @@ func Open(d *design.Design, s *Session, path string, opt WalkOptions) (*Walk, er
 		}
 	}
 	return w, r.SaveNow()
-}
-
-// partExpecter adds to the bench model the band of a part measured out of
-// circuit ("part:R7 ohms", the confirm step of fault-finding): its value
-// within its tolerance.
-type partExpecter struct{ b *BenchModel }
-
-func (x partExpecter) Expect(point string, variac float64, readings []Reading) (Band, bool) {
-	if strings.HasPrefix(point, "part:") {
-		p := x.b.D.ByRef[strings.TrimSuffix(strings.TrimPrefix(point, "part:"), " ohms")]
-		if p == nil || p.Kind != design.Resistor || p.Value <= 0 {
-			return Band{}, false
-		}
-		return Band{Nominal: p.Value, Low: p.Value * (1 - math.Abs(p.Tol.Lo)), High: p.Value * (1 + math.Abs(p.Tol.Hi)),
-			Note: "out of circuit (one end lifted): the part's own value within its tolerance"}, true
-	}
-	return x.b.Expect(point, variac, readings)
 }
 
 func now(opt WalkOptions) time.Time {

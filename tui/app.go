@@ -1,9 +1,7 @@
 package tui
 
 import (
-	"fmt"
 	"slices"
-	"strings"
 	"sync"
 
 	"github.com/charmbracelet/bubbles/help"
@@ -12,6 +10,7 @@ import (
 	"github.com/charmbracelet/lipgloss"
 
 	"pinwalk/expect/amp"
+	"pinwalk/expect/point"
 	"pinwalk/procedures"
 	"pinwalk/procedures/infer"
 )
@@ -67,6 +66,9 @@ type Model struct {
 	e    *env
 	cfg  Config
 	walk *procedures.Walk
+	// ctl is the session controller: every change to the session goes
+	// through it, in a command.
+	ctl  *procedures.Controller
 	view int
 	w, h int
 
@@ -126,7 +128,7 @@ func New(cfg Config) Model {
 	if mdl == nil && cfg.Walk.B != nil {
 		mdl = cfg.Walk.B.M
 	}
-	e := &env{run: r, st: st, g: g, keys: keys, labels: map[string]string{}, bands: map[bandKey]bandEntry{}, cfg: &cfg}
+	e := &env{run: r, st: st, g: g, keys: keys, labels: map[point.Key]string{}, bands: map[bandKey]bandEntry{}, cfg: &cfg}
 	e.relabel()
 	h := help.New()
 	h.Styles.ShortKey = st.Label
@@ -138,7 +140,7 @@ func New(cfg Config) Model {
 	h.Styles.Ellipsis = st.Dim
 	h.ShortSeparator = g.Sep
 	h.Ellipsis = g.Ellipsis
-	m := Model{e: e, cfg: cfg, walk: cfg.Walk, path: path, help: h,
+	m := Model{e: e, cfg: cfg, walk: cfg.Walk, ctl: procedures.NewController(cfg.Walk), path: path, help: h,
 		step: newStepView(e), sock: newSocketView(e, mdl), sus: newSuspectsView(e), ov: newOverviewView(e, mdl)}
 	m.rankFn = cfg.Rank
 	if m.rankFn == nil && cfg.Walk.B != nil {
@@ -178,26 +180,8 @@ func engineRanker(w *procedures.Walk) func([]procedures.Reading) (*infer.Ranking
 			}
 			eng = e
 		}
-		return eng.Rank(observations(rs), nil), nil
+		return eng.Rank(procedures.Observations(rs), nil), nil
 	}
-}
-
-// observations turns readings into inference observations: cold
-// resistances, and live points read at full mains (readings at a lower
-// variac setting are not what the model ranks on).
-func observations(rs []procedures.Reading) []infer.Observation {
-	var out []infer.Observation
-	for _, r := range rs {
-		if r.Status == procedures.Retry {
-			continue
-		}
-		cold := strings.HasPrefix(r.Point, "cold:")
-		live := !strings.Contains(r.Point, ":") && r.Point != procedures.EarthKey && r.Point != procedures.MainsKey && (r.Variac == 0 || r.Variac == 1)
-		if cold || live {
-			out = append(out, infer.Observation{Key: r.Point, Value: r.Value})
-		}
-	}
-	return out
 }
 
 // Init starts the work the first screen needs: the nominal operating
@@ -213,18 +197,38 @@ func (m Model) Init() tea.Cmd {
 	return tea.Batch(cmds...)
 }
 
-// savedMsg reports a save finished.
-type savedMsg struct{ Err error }
-
-// advancedMsg reports the measuring loop finished its work.
-type advancedMsg struct {
-	Rank *infer.Ranking
-	Out  []string
-	Err  error
+// actedMsg reports an action the controller carried out.
+type actedMsg struct {
+	A     procedures.Action
+	State procedures.State
+	Err   error
+	Rank  *infer.Ranking
 }
 
-// loopCmdMsg asks the root to pass a command line to the measuring loop.
-type loopCmdMsg struct{ Line string }
+// act runs an action on the controller in a command; until it reports,
+// keys queue and the screen stays as it was.
+func (m *Model) act(a procedures.Action) tea.Cmd {
+	ctl := m.ctl
+	want := m.wantRank && !m.practice()
+	what := "working " + m.e.g.Ellipsis
+	if a.Kind == procedures.ActRefresh {
+		what = "working out the next measurement " + m.e.g.Ellipsis
+	}
+	m.frozen = m.body()
+	m.busy = true
+	m.info = what
+	return func() tea.Msg {
+		st, err := ctl.Do(a)
+		out := actedMsg{A: a, State: st, Err: err}
+		if want {
+			out.Rank = st.Rank
+		}
+		return out
+	}
+}
+
+// savedMsg reports a save finished.
+type savedMsg struct{ Err error }
 
 // snapshot copies the session for saving in a command while Update goes on
 // changing the original.
@@ -284,34 +288,6 @@ func (m *Model) rank() tea.Cmd {
 
 func (m *Model) practice() bool { return m.e.run.Sess.Mode == procedures.Practise }
 
-// startBusy runs f (which may change the procedure) in a command; until
-// it reports, keys queue and the screen stays as it was.
-func (m *Model) startBusy(what string, f func() advancedMsg) tea.Cmd {
-	m.frozen = m.body()
-	m.busy = true
-	m.info = what
-	return func() tea.Msg { return f() }
-}
-
-// advance lets the measuring loop add its next steps (and rank, when the
-// suspects are wanted).
-func (m *Model) advance() tea.Cmd {
-	loop := m.walk.Loop
-	want := m.wantRank && !m.practice()
-	return m.startBusy("working out the next measurement "+m.e.g.Ellipsis, func() advancedMsg {
-		if err := loop.Advance(); err != nil {
-			return advancedMsg{Err: err}
-		}
-		var out advancedMsg
-		if rk, ok := loop.(interface {
-			Rank() (*infer.Ranking, error)
-		}); ok && want {
-			out.Rank, out.Err = rk.Rank()
-		}
-		return out
-	})
-}
-
 // setSize lays the views out for a terminal of w×h cells.
 func (m *Model) setSize(w, h int) {
 	m.w, m.h = max(20, w), max(8, h)
@@ -365,27 +341,49 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 		m.e.relabel()
 		cmds := []tea.Cmd{m.save(), m.step.bandCmds()}
 		if m.walk.Loop != nil && !m.busy {
-			cmds = append(cmds, m.advance())
+			cmds = append(cmds, m.act(procedures.Action{Kind: procedures.ActRefresh}))
 		} else if m.wantRank {
 			m.sus.stale = true
 			cmds = append(cmds, m.rank())
 		}
 		return m, tea.Batch(cmds...)
-	case advancedMsg:
-		m.busy, m.frozen, m.info = false, "", ""
-		m.e.relabel()
-		m.step.moved()
-		if msg.Err != nil {
-			m.step.say("the measuring loop: "+msg.Err.Error(), true)
+	case actionMsg:
+		if m.busy {
+			return m, func() tea.Msg { return msg }
 		}
-		if len(msg.Out) > 0 {
-			m.step.say(strings.Join(msg.Out, " "+m.e.g.Dot+" "), false)
+		return m, m.act(msg.A)
+	case overlayMsg:
+		m.over = msg.o
+		if msg.o == overSteps {
+			m.listCursor = max(0, m.e.run.CurrentIndex())
+		}
+		return m, nil
+	case actedMsg:
+		m.busy, m.frozen, m.info = false, "", ""
+		prev := ""
+		if st := m.e.run.Current(); st != nil {
+			prev = st.ID
+		}
+		m.walk = m.ctl.Walk()
+		m.e.run = m.ctl.Runner()
+		m.e.run.Path = ""
+		m.e.relabel()
+		if msg.State.Step == nil || msg.State.Step.ID != prev {
+			m.step.moved()
+			m.view = viewStep
+		}
+		if msg.A.Kind != procedures.ActRefresh || msg.Err != nil || len(msg.State.Said) > 0 {
+			m.step.acted(msg.A, msg.State, msg.Err)
 		}
 		if msg.Rank != nil {
 			m.sus, _ = m.sus.Update(rankMsg{Rank: msg.Rank})
+		} else if m.wantRank && m.walk.Loop == nil {
+			m.sus.stale = true
 		}
 		cmds := []tea.Cmd{m.save(), m.step.bandCmds()}
-		// Keys typed while the loop worked go through now, in order.
+		if m.wantRank && m.walk.Loop == nil {
+			cmds = append(cmds, m.rank())
+		}
 		q := m.queue
 		m.queue = nil
 		var mod tea.Model = m
@@ -395,19 +393,6 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 			cmds = append(cmds, c)
 		}
 		return mod, tea.Batch(cmds...)
-	case loopCmdMsg:
-		loop := m.walk.Loop
-		line := msg.Line
-		return m, m.startBusy("working "+m.e.g.Ellipsis, func() advancedMsg {
-			handled, out, err := loop.Command(line)
-			if !handled && err == nil {
-				err = fmt.Errorf("%q is not a command here", line)
-			}
-			if err == nil {
-				err = loop.Advance()
-			}
-			return advancedMsg{Out: out, Err: err}
-		})
 	case gotoPointMsg:
 		return m.gotoPoint(msg)
 	case tea.KeyMsg:
@@ -427,18 +412,12 @@ func (m Model) gotoPoint(msg gotoPointMsg) (tea.Model, tea.Cmd) {
 			if ms.Point != msg.Key || r.Done(st.ID) {
 				continue
 			}
-			if err := r.Goto(st.ID); err != nil {
-				m.step.say(err.Error(), true)
-			} else {
-				m.step.moved()
-				m.step.say("", false)
-			}
 			m.view = viewStep
-			return m, tea.Batch(m.step.bandCmds(), changed)
+			return m, m.act(procedures.Action{Kind: procedures.ActGoto, Step: st.ID})
 		}
 	}
-	if m.walk.Loop != nil && m.practice() {
-		return m.Update(loopCmdMsg{Line: "measure " + msg.Key})
+	if m.walk.Loop != nil {
+		return m, m.act(procedures.Action{Kind: procedures.ActChoose, Text: msg.Key.String()})
 	}
 	m.info = "no open step measures " + msg.Label
 	return m, nil
@@ -505,14 +484,8 @@ func (m Model) key(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 			m.listCursor = max(0, m.listCursor-1)
 		case key.Matches(k, keys.Enter):
 			m.over = overNone
-			if err := r.Goto(r.Proc.Steps[m.listCursor].ID); err != nil {
-				m.step.say(err.Error(), true)
-				return m, changed
-			}
-			m.step.moved()
-			m.step.say("", false)
 			m.view = viewStep
-			return m, tea.Batch(changed, m.step.bandCmds())
+			return m, m.act(procedures.Action{Kind: procedures.ActGoto, Step: r.Proc.Steps[m.listCursor].ID})
 		case key.Matches(k, keys.Quit):
 			m.over = overQuit
 		case key.Matches(k, keys.Cancel), key.Matches(k, keys.Steps):
@@ -551,7 +524,8 @@ func (m Model) key(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 	case key.Matches(k, keys.GoSuggested):
 		if m.sus.rank != nil && m.sus.rank.Next != nil {
 			p := m.sus.rank.Next
-			return m.gotoPoint(gotoPointMsg{Key: p.Key, Label: p.Label})
+			k, _ := point.Parse(p.Key)
+			return m.gotoPoint(gotoPointMsg{Key: k, Label: p.Label})
 		}
 		m.info = "no suggested measurement yet: open the Suspects view (tab) to rank"
 		return m, nil
@@ -559,12 +533,6 @@ func (m Model) key(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 	var cmd tea.Cmd
 	switch m.view {
 	case viewStep:
-		if key.Matches(k, keys.Enter) && m.step.mode == modeReading && m.walk.Loop != nil {
-			if line := strings.TrimSpace(m.step.in.Value()); isLoopCommand(line) {
-				m.step.in.Reset()
-				return m.Update(loopCmdMsg{Line: line})
-			}
-		}
 		m.step, cmd = m.step.Update(k)
 	case viewSockets:
 		m.sock, cmd = m.sock.Update(k)
@@ -574,17 +542,6 @@ func (m Model) key(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 		m.ov, cmd = m.ov.Update(k)
 	}
 	return m, cmd
-}
-
-// isLoopCommand: the first word of a line is one of the measuring loop's
-// commands (no reading starts with these words).
-func isLoopCommand(line string) bool {
-	w, _, _ := strings.Cut(strings.ToLower(line), " ")
-	switch w {
-	case "symptoms", "symptom", "next", "measure", "m", "name":
-		return true
-	}
-	return false
 }
 
 // opened starts what a newly opened view needs.
@@ -603,7 +560,7 @@ func (m *Model) opened() tea.Cmd {
 		if !m.wantRank || m.sus.stale || m.sus.rank == nil {
 			m.wantRank = true
 			if m.walk.Loop != nil {
-				return m.advance()
+				return m.act(procedures.Action{Kind: procedures.ActRefresh})
 			}
 			return m.rank()
 		}

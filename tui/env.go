@@ -5,6 +5,7 @@ import (
 
 	tea "github.com/charmbracelet/bubbletea"
 
+	"pinwalk/expect/point"
 	"pinwalk/procedures"
 )
 
@@ -17,7 +18,7 @@ type env struct {
 	st     *Styles
 	g      Glyphs
 	keys   KeyMap
-	labels map[string]string // point key → label, from the procedure's measures
+	labels map[point.Key]string // point → label, from the procedure's measures
 	bands  map[bandKey]bandEntry
 	cfg    *Config
 }
@@ -25,7 +26,7 @@ type env struct {
 // bandKey names a band: a point at a variac setting, conditioned on the
 // first n readings of the session.
 type bandKey struct {
-	Point  string
+	Point  point.Key
 	Variac float64
 	N      int
 }
@@ -46,8 +47,8 @@ type bandMsg struct {
 
 // band returns the cached band of a point, and a command that computes it
 // when it is not cached yet (nil otherwise).
-func (e *env) band(point string, variac float64) (bandEntry, tea.Cmd) {
-	k := bandKey{point, variac, len(e.run.Sess.Readings)}
+func (e *env) band(pk point.Key, variac float64) (bandEntry, tea.Cmd) {
+	k := bandKey{pk, variac, len(e.run.Sess.Readings)}
 	if b, ok := e.bands[k]; ok {
 		return b, nil
 	}
@@ -59,29 +60,29 @@ func (e *env) band(point string, variac float64) (bandEntry, tea.Cmd) {
 	ex := e.run.Expect
 	readings := slices.Clone(e.run.Sess.Readings)
 	return bandEntry{Pending: true}, func() tea.Msg {
-		b, ok := ex.Expect(point, variac, readings)
+		b, ok := ex.Expect(pk, variac, readings)
 		return bandMsg{Key: k, Band: b, Has: ok}
 	}
 }
 
 // cachedBand returns a band only if it is already known (no command).
-func (e *env) cachedBand(point string, variac float64) bandEntry {
-	return e.bands[bandKey{point, variac, len(e.run.Sess.Readings)}]
+func (e *env) cachedBand(pk point.Key, variac float64) bandEntry {
+	return e.bands[bandKey{pk, variac, len(e.run.Sess.Readings)}]
 }
 
 // label returns a point's label, or the key itself.
-func (e *env) label(point string) string {
-	if l, ok := e.labels[point]; ok && l != "" {
+func (e *env) label(pk point.Key) string {
+	if l, ok := e.labels[pk]; ok && l != "" {
 		return l
 	}
-	return point
+	return pk.String()
 }
 
 // lastReading returns the latest accepted reading of a point in any step.
-func (e *env) lastReading(point string) *procedures.Reading {
+func (e *env) lastReading(pk point.Key) *procedures.Reading {
 	rs := e.run.Sess.Readings
 	for i := len(rs) - 1; i >= 0; i-- {
-		if rs[i].Point == point && rs[i].Status != procedures.Retry {
+		if rs[i].Point == pk && rs[i].Status != procedures.Retry {
 			return &rs[i]
 		}
 	}
@@ -93,18 +94,18 @@ func (e *env) lastReading(point string) *procedures.Reading {
 // made after the point's previous reading and before this step's reading
 // of it (or, when the step has no reading yet, after the point's latest
 // reading anywhere).
-func (e *env) guessFor(step, point string) *procedures.Guess {
+func (e *env) guessFor(step string, pk point.Key) *procedures.Guess {
 	rs := e.run.Sess.Readings
 	var until, after *procedures.Reading
 	for i := len(rs) - 1; i >= 0; i-- {
-		if rd := &rs[i]; rd.Point == point && rd.Step == step && rd.Status != procedures.Retry {
+		if rd := &rs[i]; rd.Point == pk && rd.Step == step && rd.Status != procedures.Retry {
 			until = rd
 			break
 		}
 	}
 	for i := len(rs) - 1; i >= 0; i-- {
 		rd := &rs[i]
-		if rd.Point == point && rd.Step != step && (until == nil || rd.At.Before(until.At)) {
+		if rd.Point == pk && rd.Step != step && (until == nil || rd.At.Before(until.At)) {
 			after = rd
 			break
 		}
@@ -112,7 +113,7 @@ func (e *env) guessFor(step, point string) *procedures.Guess {
 	gs := e.run.Sess.Guesses
 	for i := len(gs) - 1; i >= 0; i-- {
 		g := &gs[i]
-		if g.Point != point {
+		if g.Point != pk {
 			continue
 		}
 		if until != nil && g.At.After(until.At) {

@@ -7,6 +7,7 @@ import (
 	tea "github.com/charmbracelet/bubbletea"
 
 	"pinwalk/expect/amp"
+	"pinwalk/expect/point"
 )
 
 // opMsg carries the nominal operating point, solved in a command.
@@ -52,7 +53,7 @@ func (v *overviewView) bandCmds() tea.Cmd {
 	}
 	var cmds []tea.Cmd
 	for _, n := range v.m.HT.Nets {
-		if _, c := v.e.band(n+" "+amp.DCVolts, 1); c != nil {
+		if _, c := v.e.band(point.LiveKey(n, point.DCVolts), 1); c != nil {
 			cmds = append(cmds, c)
 		}
 	}
@@ -106,7 +107,7 @@ func (v overviewView) View() string {
 					fo = &op.Supply.Nets[j]
 				}
 			}
-			key := n + " " + amp.DCVolts
+			key := point.LiveKey(n, point.DCVolts)
 			exp := g.Dash
 			if fo != nil {
 				exp = v.e.g.value(fo.Vdc, "V")

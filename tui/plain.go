@@ -12,31 +12,19 @@ import (
 	"pinwalk/procedures"
 )
 
-// PlainHelp lists the plain-mode commands.
-const PlainHelp = `Commands:
-  VALUE          record a reading (312, 4.7mA, 2k2, OL); end with ! to keep a reading the tool questions
-  y or Enter     confirm a step that takes no reading
-  s REASON       skip the step, with a reason (safety skips are listed in every summary)
-  n TEXT         add a note
-  goto STEP      go to another step (gates apply)
-  list           list the steps and whether each is done
-  symptoms LIST  (fault-finding) the symptoms, comma-separated
-                 after each reading the next best measurement follows by itself
-  measure KEY    (fault-finding) choose your own measurement instead ("V2.3 dc_volts", "cold:B1 ohms")
-  power          (fault-finding) power up on the variac now, then measure live
-  stop           (fault-finding) stop measuring and go on to confirm the leading suspect
-  m              (practice) take the (simulated) reading
-  name REF:MODE  (practice) name the fault
-  ?              this help
-  q              quit (the session is already saved)`
+// PlainHelp is the plain-mode help: the one list of typed commands.
+func PlainHelp(mode procedures.Mode) string {
+	return "Commands:\n  " + strings.Join(procedures.CommandHelp(mode), "\n  ")
+}
 
-// RunPlain runs a procedure as line-by-line prompts: for each step the
-// title, instruction, cautions (a block starting DANGER on live steps),
-// where to probe and the expected band (in training, after the trainee's
-// prediction), then a prompt. It returns nil on quit, end of input or a
-// finished procedure; the session is saved after every change.
+// RunPlain runs a procedure as line-by-line prompts through the session
+// controller: for each step the title, instruction, cautions (a block
+// starting DANGER on live steps), where to probe and the expected band
+// (in training, after the trainee's prediction), then a prompt; every
+// line typed goes to the controller as one action. It returns nil on
+// quit, end of input or a finished procedure; the session is saved after
+// every change.
 func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
-	r := w.R
 	sc := bufio.NewScanner(in)
 	sc.Buffer(make([]byte, 64<<10), 1<<20)
 	p := func(format string, a ...any) { fmt.Fprintf(out, format+"\n", a...) }
@@ -48,69 +36,50 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 		}
 		return strings.TrimSpace(sc.Text()), true
 	}
+	c := procedures.NewController(w)
+	state, err := c.Do(procedures.Action{Kind: procedures.ActRefresh})
+	if err != nil {
+		p("error: %v", err)
+	}
+	r := c.Runner()
 	p("pinwalk: %s", r.Proc.Title)
 	if r.Path != "" {
 		p("Session file: %s (saved after every entry)", r.Path)
 	}
 	shown := ""
-	noGuess := map[string]bool{} // predictions the trainee passed on
 	for {
-		if w.Loop != nil {
-			if err := w.Loop.Advance(); err != nil {
-				p("error: %v", err)
-			}
-		}
-		st := r.Current()
+		r = c.Runner()
+		st := state.Step
 		if st == nil {
 			return nil
 		}
-		if r.Finished() {
+		if state.Finished {
 			printSummary(p, r)
 			p("Procedure finished. Session saved to %s.", r.Path)
 			return nil
 		}
 		if st.ID != shown {
 			shown = st.ID
-			printStep(p, r, st)
-			if w.Loop != nil {
-				for _, h := range w.Loop.Hint() {
-					p("  %s", h)
-				}
+			printStep(p, r, st, state)
+			for _, h := range state.Hints {
+				p("  %s", h)
 			}
 		}
-		m := r.NextMeasure()
-		if m != nil && r.Training && !guessed(r, m.Point) && !noGuess[m.Point] && len(r.Blockers(st)) == 0 {
-			p("Predict first: what do you expect %s to read? (Enter to pass)", m.Label)
+		if state.WantPrediction {
+			p("Predict first: what do you expect %s to read? (Enter to pass)", state.Measure.Label)
 			line, ok := read("prediction> ")
-			if !ok {
+			if !ok || line == "q" {
 				return quit(p, r)
 			}
-			if line == "q" {
-				return quit(p, r)
+			if line == "s" {
+				line = ""
 			}
-			if line != "" && line != "s" {
-				g, err := r.Predict(st, m, line)
-				if err != nil {
-					p("error: %v", err)
-					continue
-				}
-				verdict := "outside"
-				if g.Good {
-					verdict = "within"
-				}
-				p("Your prediction %s is %s the expected band.", line, verdict)
-				if st.Why != "" {
-					p("Why: %s", st.Why)
-				}
-			} else {
-				noGuess[m.Point] = true
-				if st.Why != "" && r.Sess.Mode == procedures.Practise {
-					p("Why: %s", st.Why)
-				}
-			}
+			state, err = c.Do(procedures.Action{Kind: procedures.ActPredict, Text: line})
+			say(p, state, err)
+			continue
 		}
-		if m != nil {
-			printMeasure(p, r, st, m)
+		if state.Measure != nil {
+			printMeasure(p, r, st, state)
 		}
 		if st.Kind == procedures.KindSummary {
 			printSummary(p, r)
@@ -119,62 +88,14 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 		if !ok {
 			return quit(p, r)
 		}
-		word, rest, _ := strings.Cut(line, " ")
-		rest = strings.TrimSpace(rest)
-		if w.Loop != nil {
-			handled, lines, err := w.Loop.Command(line)
-			for _, l := range lines {
-				p("%s", l)
-			}
-			if err != nil {
-				p("error: %v", err)
-			}
-			if handled {
-				if r.Done(st.ID) {
-					r.Next()
-				}
-				continue
-			}
-		}
-		switch {
-		case line == "q" || line == "quit":
+		a := procedures.ParseCommand(line)
+		switch a.Kind {
+		case procedures.ActQuit:
 			return quit(p, r)
-		case line == "?" || line == "help":
-			p("%s", PlainHelp)
-		case line == "" || line == "y" || line == "yes":
-			if m != nil {
-				if r.Sess.Mode == procedures.Practise {
-					p("This step needs a reading (%s): m to take the (simulated) reading, or s REASON to skip it.", m.Label)
-				} else {
-					p("This step needs a reading (%s): type the meter's value, or s REASON to skip it.", m.Label)
-				}
-				continue
-			}
-			if err := r.Confirm(); err != nil {
-				p("error: %v", err)
-				continue
-			}
-			r.Next()
-		case word == "s" || word == "skip":
-			if err := r.Skip(rest); err != nil {
-				p("error: %v", err)
-				continue
-			}
-			if st.Safety {
-				p("SKIPPED SAFETY STEP %q: recorded with your reason and shown in every summary.", st.Title)
-			}
-			r.Next()
-		case word == "n" || word == "note":
-			if err := r.Note(rest); err != nil {
-				p("error: %v", err)
-			} else {
-				p("noted.")
-			}
-		case word == "goto":
-			if err := r.Goto(rest); err != nil {
-				p("error: %v", err)
-			}
-		case line == "list":
+		case procedures.ActHelp:
+			p("%s", PlainHelp(r.Sess.Mode))
+			continue
+		case procedures.ActList:
 			for i, s := range r.Proc.Steps {
 				mark := " "
 				if r.Done(s.ID) {
@@ -185,40 +106,42 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 				}
 				p("  [%s] %-16s %s", mark, s.ID, s)
 			}
-		default:
-			if m == nil {
+			continue
+		case procedures.ActRead:
+			if state.Measure == nil {
 				p("%q: %s (? for help).", line, procedures.NoReading)
 				continue
 			}
-			vd, err := r.Enter("", line)
-			if err != nil {
-				p("error: %v", err)
-				continue
-			}
-			p("Recorded %s: %s", formatVal(vd.Reading.Value, m.Unit), vd.Message)
-			if vd.HasBand && vd.Reading.Status == procedures.OutOfBand {
-				p("  expected %s", procedures.FormatBand(vd.Band, m.Unit))
-				for _, c := range st.StopIf {
-					p("  STOP IF: %s", c)
-				}
-			}
-			if r.Done(st.ID) {
-				r.Next()
+		}
+		prev := st.ID
+		state, err = c.Do(a)
+		if vd := state.Last; vd != nil {
+			p("Recorded %s: %s", formatVal(vd.Reading.Value, vd.Reading.Unit), vd.Message)
+			if vd.HasBand && vd.Reading.Status == procedures.OutOfBand && vd.Reading.Consequence == procedures.GoOn {
+				p("  expected %s", procedures.FormatBand(vd.Band, vd.Reading.Unit))
 			}
 		}
+		say(p, state, err)
+		if state.Step != nil && state.Step.ID == prev && a.Kind != procedures.ActRead && a.Kind != procedures.ActRetake {
+			// Same step: show it again only when asked (list, goto).
+			if a.Kind == procedures.ActGoto {
+				shown = ""
+			}
+		}
+	}
+}
+
+// say prints what an action produced, and its error.
+func say(p func(string, ...any), s procedures.State, err error) {
+	for _, l := range s.Said {
+		p("%s", l)
+	}
+	if err != nil {
+		p("error: %v", err)
 	}
 }
 
 func formatVal(v float64, unit string) string { return procedures.FormatValue(v, unit) }
-
-func guessed(r *procedures.Runner, point string) bool {
-	for _, g := range r.Sess.Guesses {
-		if g.Point == point {
-			return true
-		}
-	}
-	return false
-}
 
 func quit(p func(string, ...any), r *procedures.Runner) error {
 	if err := r.SaveNow(); err != nil {
@@ -226,16 +149,17 @@ func quit(p func(string, ...any), r *procedures.Runner) error {
 		return err
 	}
 	if r.Path != "" {
-		p("Saved. Resume with --session %s", r.Path)
+		p("Saved. Resume with: pinwalk walk %s --session %s --plain", designArg(r), r.Path)
+		p("Job sheet: pinwalk report %s", r.Path)
 	}
 	return nil
 }
 
-func printStep(p func(string, ...any), r *procedures.Runner, st *procedures.Step) {
+func printStep(p func(string, ...any), r *procedures.Runner, st *procedures.Step, s procedures.State) {
 	p("")
-	p("== Step %d of %d: %s ==", r.CurrentIndex()+1, len(r.Proc.Steps), st.Title)
-	if b := r.Blockers(st); len(b) > 0 {
-		p("(gated: first %s)", strings.Join(b, ", "))
+	p("== Step %d of %d: %s ==", s.Index+1, s.Total, st.Title)
+	if len(s.Blockers) > 0 {
+		p("(gated: first %s)", strings.Join(s.Blockers, ", "))
 	}
 	if st.Live {
 		p("DANGER: LIVE STEP")
@@ -253,15 +177,22 @@ func printStep(p func(string, ...any), r *procedures.Runner, st *procedures.Step
 	if st.Variac > 0 {
 		p("Variac: %.0f %% of mains.", 100*st.Variac)
 	}
-	for _, s := range st.StopIf {
-		p("Stop if: %s", s)
+	for _, v := range st.Pulled {
+		p("Out of its socket: %s", v)
+	}
+	for _, c := range st.StopIf {
+		p("Switch off if: %s", c)
+	}
+	for _, rd := range s.Stops {
+		p("STOP IN FORCE: %s", rd.Said)
 	}
 	if r.Training && st.Why != "" && len(st.Measures) == 0 {
 		p("Why: %s", st.Why)
 	}
 }
 
-func printMeasure(p func(string, ...any), r *procedures.Runner, st *procedures.Step, m *procedures.Measure) {
+func printMeasure(p func(string, ...any), r *procedures.Runner, st *procedures.Step, s procedures.State) {
+	m := s.Measure
 	p("Measure: %s", m.Label)
 	if m.Probes != "" {
 		p("  probes: %s", m.Probes)
@@ -269,10 +200,10 @@ func printMeasure(p func(string, ...any), r *procedures.Runner, st *procedures.S
 	if m.Function != "" {
 		p("  meter: %s, range %s", m.Function, m.Range)
 	}
-	if b, ok := r.Expected(st, m); ok {
-		p("  expected: %s", procedures.FormatBand(b, m.Unit))
-		if b.Note != "" {
-			p("  note: %s", b.Note)
+	if s.HasBand {
+		p("  expected: %s", procedures.FormatBand(s.Band, m.Unit))
+		if s.Band.Note != "" {
+			p("  note: %s", s.Band.Note)
 		}
 	}
 	if r.Sess.Mode == procedures.Practise {
@@ -285,4 +216,12 @@ func printSummary(p func(string, ...any), r *procedures.Runner) {
 	for _, l := range procedures.Summary(r) {
 		p("%s", l)
 	}
+}
+
+// designArg is how the design is named on the command line.
+func designArg(r *procedures.Runner) string {
+	if f := r.Sess.Design.File; f != "" {
+		return f
+	}
+	return "DESIGN"
 }

@@ -6,6 +6,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"pinwalk/expect/point"
 	"strconv"
 	"strings"
 	"testing"
@@ -67,7 +68,7 @@ func script(t testing.TB) []string {
 		} else {
 			b, _ := r.Expected(st, m)
 			lines = append(lines, num(b.Nominal))
-			if _, err := r.Enter("", num(b.Nominal)); err != nil {
+			if _, err := r.Enter(point.Key{}, num(b.Nominal)); err != nil {
 				t.Fatalf("%s: %v", m.Point, err)
 			}
 		}
@@ -201,10 +202,10 @@ func faultScript(t testing.TB, fault string, seed uint64) []string {
 				t.Fatalf("%s: %v", st.ID, err)
 			}
 		} else {
-			v, ok := sim[m.Point]
+			v, ok := sim[m.Point.String()]
 			switch {
 			case ok:
-			case strings.HasPrefix(m.Point, "discharge:"):
+			case m.Point.Domain == point.Discharge:
 				v = 0.4
 			case m.Point == procedures.EarthKey:
 				v = 0.15
@@ -217,13 +218,13 @@ func faultScript(t testing.TB, fault string, seed uint64) []string {
 				raw = "OL"
 			}
 			lines = append(lines, raw)
-			vd, err := r.Enter("", raw)
+			vd, err := r.Enter(point.Key{}, raw)
 			if err != nil {
 				t.Fatalf("%s: %v", m.Point, err)
 			}
 			if vd.Reading.Status == procedures.Retry {
 				lines = append(lines, raw)
-				if _, err := r.Enter("", raw); err != nil {
+				if _, err := r.Enter(point.Key{}, raw); err != nil {
 					t.Fatal(err)
 				}
 			}

@@ -11,6 +11,7 @@ import (
 	"github.com/charmbracelet/lipgloss"
 
 	"pinwalk/expect/amp"
+	"pinwalk/expect/point"
 	"pinwalk/expect/valves"
 )
 
@@ -19,7 +20,7 @@ type socketPin struct {
 	Number    int
 	Electrode string
 	Section   string
-	Point     string // point key, "" for a pin with no point (unused)
+	Point     point.Key // zero for a pin with no point (unused)
 	Unit      string
 }
 
@@ -60,11 +61,11 @@ func socketsOf(m *amp.Model) []socketValve {
 		for _, pin := range pins {
 			sp := socketPin{Number: pin.Number, Electrode: pin.Electrode, Section: pin.Section}
 			if p, ok := byPin[fmt.Sprintf("%s.%d", part.Ref, pin.Number)]; ok {
-				sp.Point, sp.Unit = p.Key(), amp.UnitOf(p.Quantity)
+				sp.Point, sp.Unit = p.PointKey(), amp.UnitOf(p.Quantity)
 			}
 			if (pin.Electrode == valves.Heater || pin.Electrode == valves.HeaterCT) && heater[part.Ref].ID != "" {
 				if pin.Electrode == valves.Heater {
-					sp.Point, sp.Unit = heater[part.Ref].Key(), "V"
+					sp.Point, sp.Unit = heater[part.Ref].PointKey(), "V"
 				}
 			}
 			sv.Pins = append(sv.Pins, sp)
@@ -110,7 +111,7 @@ func (v *socketView) bandCmds() tea.Cmd {
 	}
 	var cmds []tea.Cmd
 	for _, p := range v.vs[v.sel].Pins {
-		if p.Point == "" {
+		if p.Point.IsZero() {
 			continue
 		}
 		if _, c := v.e.band(p.Point, 1); c != nil {
@@ -148,7 +149,7 @@ type pinState struct {
 func (v socketView) state(p socketPin) pinState {
 	s, g := v.e.st, v.e.g
 	ps := pinState{glyph: g.NotYet, word: "not yet", style: s.Dim, short: "", expected: g.Dash, measured: g.Dash}
-	if p.Point == "" {
+	if p.Point.IsZero() {
 		ps.word = ""
 		return ps
 	}
@@ -279,7 +280,7 @@ func (v socketView) drawing(sv socketValve) []string {
 		ps := v.state(p)
 		num := fmt.Sprintf("%d", p.Number)
 		lab := abbrev(p) + " " + ps.short + ps.glyph
-		if p.Point == "" {
+		if p.Point.IsZero() {
 			lab = abbrev(p)
 		}
 		lab = v.e.g.cut(lab, labelW-1)

@@ -116,23 +116,15 @@ func (v stepView) Update(msg tea.Msg) (stepView, tea.Cmd) {
 		v.setMode(modeNote)
 		return v, nil
 	case key.Matches(k, keys.NextStep):
-		r.Next()
-		v.moved()
-		v.say("", false)
-		return v, tea.Batch(changed, v.bandCmds())
+		return v, func() tea.Msg { return actionMsg{procedures.Action{Kind: procedures.ActNext}} }
 	case key.Matches(k, keys.PrevStep):
 		i := r.CurrentIndex() - 1
 		if i < 0 {
 			v.say("this is the first step", true)
 			return v, nil
 		}
-		if err := r.Goto(r.Proc.Steps[i].ID); err != nil {
-			v.say(err.Error(), true)
-			return v, changed
-		}
-		v.moved()
-		v.say("", false)
-		return v, tea.Batch(changed, v.bandCmds())
+		id := r.Proc.Steps[i].ID
+		return v, func() tea.Msg { return actionMsg{procedures.Action{Kind: procedures.ActGoto, Step: id}} }
 	case key.Matches(k, keys.Enter):
 		return v.enter()
 	}
@@ -143,98 +135,81 @@ func (v stepView) Update(msg tea.Msg) (stepView, tea.Cmd) {
 
 func (v *stepView) say(s string, bad bool) { v.msg, v.msgBad = s, bad }
 
-// enter acts on the input line.
+// actionMsg asks the root to send an action to the session controller.
+type actionMsg struct{ A procedures.Action }
+
+// enter turns the input line into an action for the controller (the
+// root runs it in a command); the view changes nothing itself.
 func (v stepView) enter() (stepView, tea.Cmd) {
 	r := v.e.run
 	text := strings.TrimSpace(v.in.Value())
+	var a procedures.Action
 	switch v.mode {
 	case modeSkip:
-		if err := r.Skip(text); err != nil {
-			v.say(err.Error(), true)
-			return v, nil
-		}
-		title := r.Current().Title
-		r.Next()
-		v.moved()
-		v.say("skipped "+title+" ("+text+")", false)
-		return v, tea.Batch(changed, v.bandCmds())
+		a = procedures.Action{Kind: procedures.ActSkip, Reason: text}
 	case modeNote:
 		if text == "" {
 			v.setMode(modeReading)
 			return v, nil
 		}
-		err := r.Note(text)
+		a = procedures.Action{Kind: procedures.ActNote, Text: text}
+	default:
+		st := r.Current()
+		if st == nil {
+			return v, nil
+		}
+		m := r.NextMeasure()
+		a = procedures.ParseCommand(text)
+		if a.Kind == procedures.ActRead && m == nil {
+			v.say("this step takes no reading: Enter with an empty line confirms it", true)
+			return v, nil
+		}
+		if a.Kind == procedures.ActRead && v.predicting(m) {
+			a.Kind = procedures.ActPredict
+		}
+		switch a.Kind {
+		case procedures.ActHelp:
+			v.in.Reset()
+			return v, func() tea.Msg { return overlayMsg{overHelp} }
+		case procedures.ActList:
+			v.in.Reset()
+			return v, func() tea.Msg { return overlayMsg{overSteps} }
+		case procedures.ActQuit:
+			v.in.Reset()
+			return v, func() tea.Msg { return overlayMsg{overQuit} }
+		}
+	}
+	if v.mode != modeReading {
 		v.setMode(modeReading)
-		if err != nil {
-			v.say(err.Error(), true)
-		} else {
-			v.say("note added", false)
-		}
-		return v, changed
 	}
-	st := r.Current()
-	if st == nil {
-		return v, nil
-	}
-	m := r.NextMeasure()
-	if text == "" {
-		if m != nil {
-			v.say("type the meter's reading first (or ^K to skip the step with a reason)", true)
-			return v, nil
-		}
-		if !r.Done(st.ID) {
-			if err := r.Confirm(); err != nil {
-				v.say(err.Error(), true)
-				return v, nil
-			}
-		}
-		if r.Finished() {
-			v.say("every step is done", false)
-			return v, changed
-		}
-		r.Next()
-		v.moved()
-		v.say("", false)
-		return v, tea.Batch(changed, v.bandCmds())
-	}
-	if m == nil {
-		v.say("this step takes no reading: Enter with an empty line confirms it", true)
-		return v, nil
-	}
-	if v.predicting(m) {
-		g, err := r.Predict(st, m, text)
-		if err != nil {
-			v.say(readingError(text, err), true)
-			return v, nil
-		}
+	return v, func() tea.Msg { return actionMsg{a} }
+}
+
+// overlayMsg asks the root to open an overlay (help, steps, quit).
+type overlayMsg struct{ o overlay }
+
+// acted shows the outcome of an action on the step view. A refused
+// reading stays in the field for editing; anything else clears it.
+func (v *stepView) acted(a procedures.Action, s procedures.State, err error) {
+	typed := a.Kind == procedures.ActRead || a.Kind == procedures.ActPredict || a.Kind == procedures.ActRetake || a.Kind == procedures.ActCorrect
+	if err == nil || !typed {
 		v.in.Reset()
-		word := "outside the band"
-		if g.Good {
-			word = "within the band"
-		}
-		v.say("your guess "+v.e.g.value(g.Value, m.Unit)+" is "+word+"; now measure and type the reading", !g.Good)
-		return v, changed
+	} else if a.Kind == procedures.ActRead || a.Kind == procedures.ActPredict {
+		err = errors.New(readingError(a.Text, err))
 	}
-	vd, err := r.Enter(m.Point, text)
-	if vd == nil {
-		var ge *procedures.GateError
-		switch {
-		case errors.As(err, &ge):
-			v.say(err.Error(), true)
-			return v, changed
-		default:
-			v.say(readingError(text, err), true)
-			return v, nil
-		}
+	var parts []string
+	bad := err != nil
+	if vd := s.Last; vd != nil {
+		unit := vd.Reading.Unit
+		parts = append(parts, v.e.g.value(vd.Reading.Value, unit)+": "+vd.Message)
+		bad = bad || vd.Reading.Status == procedures.OutOfBand || vd.Reading.Status == procedures.Retry || vd.Reading.Consequence != procedures.GoOn
+		v.last = vd
 	}
-	v.in.Reset()
-	v.last = vd
-	msg := v.e.g.value(vd.Reading.Value, m.Unit) + ": " + vd.Message
-	if next := r.NextMeasure(); next == nil && vd.Reading.Status != procedures.Retry {
-		msg += " " + v.e.g.Dot + " step done: Enter for the next step"
+	parts = append(parts, s.Said...)
+	if err != nil {
+		parts = append(parts, err.Error())
 	}
-	v.say(msg, vd.Reading.Status == procedures.OutOfBand || vd.Reading.Status == procedures.Retry)
-	return v, tea.Batch(changed, v.bandCmds())
+	v.say(strings.Join(parts, " "+v.e.g.Dot+" "), bad)
 }
 
 // readingError words a rejected reading.

@@ -7,6 +7,7 @@ import (
 	"github.com/charmbracelet/bubbles/key"
 	tea "github.com/charmbracelet/bubbletea"
 
+	"pinwalk/expect/point"
 	"pinwalk/procedures/infer"
 )
 
@@ -18,7 +19,10 @@ type rankMsg struct {
 }
 
 // gotoPointMsg asks the root to move to the step that measures a point.
-type gotoPointMsg struct{ Key, Label string }
+type gotoPointMsg struct {
+	Key   point.Key
+	Label string
+}
 
 // suspectsView lists the ranked faults with probability bars and their
 // reasons, the groups no reading can split, and the suggested next
@@ -53,7 +57,10 @@ func (v suspectsView) Update(msg tea.Msg) (suspectsView, tea.Cmd) {
 		case key.Matches(msg, v.e.keys.GoSuggested), key.Matches(msg, v.e.keys.Enter):
 			if v.rank != nil && v.rank.Next != nil {
 				p := v.rank.Next
-				return v, func() tea.Msg { return gotoPointMsg{Key: p.Key, Label: p.Label} }
+				return v, func() tea.Msg {
+					k, _ := point.Parse(p.Key)
+					return gotoPointMsg{Key: k, Label: p.Label}
+				}
 			}
 		}
 	}

@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"pinwalk/expect/design"
+	"pinwalk/expect/point"
 	"pinwalk/expect/units"
 	"pinwalk/expect/valves"
 )
@@ -313,3 +314,6 @@ func FormatValue(v float64, quantity string) string {
 	}
 	return fmt.Sprintf("%.4g", v)
 }
+
+// PointKey is the point's typed key (domain live).
+func (p PointDef) PointKey() point.Key { return point.LiveKey(p.ID, p.Quantity) }

@@ -41,7 +41,7 @@ func Compare(old, new *Sheet) *Comparison {
 			key := fmt.Sprintf("%s@%g", r.Point, r.Variac)
 			j, ok := index[key]
 			if !ok {
-				c.Rows = append(c.Rows, CompareRow{Point: r.Point, Label: r.Label, Unit: r.Unit, Variac: r.Variac})
+				c.Rows = append(c.Rows, CompareRow{Point: r.Point.String(), Label: r.Label, Unit: r.Unit, Variac: r.Variac})
 				j = len(c.Rows) - 1
 				index[key] = j
 			}

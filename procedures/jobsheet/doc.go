@@ -188,7 +188,7 @@ func (sh *Sheet) document() *document {
 			if r.Variac > 0 {
 				v = pct(r.Variac, 1)
 			}
-			t.Rows = append(t.Rows, []string{r.At.Format("15:04"), sh.title(r.Step), r.Point, r.Label, v, band,
+			t.Rows = append(t.Rows, []string{r.At.Format("15:04"), sh.title(r.Step), r.Point.String(), r.Label, v, band,
 				r.Raw, fmtVal(r.Value, r.Unit), StatusText(r.Status)})
 			t.Strong = append(t.Strong, r.Status == procedures.OutOfBand)
 		}
@@ -302,13 +302,13 @@ func (sh *Sheet) document() *document {
 			good := 0
 			t := &table{Head: []string{"Time", "Point", "Predicted", "Band", "Result"}}
 			for _, g := range sh.Guesses {
-				unit := unitOfKey(g.Point)
+				unit := g.Point.Unit()
 				res := "✗ outside the band"
 				if g.Good {
 					res = "✓ within the band"
 					good++
 				}
-				t.Rows = append(t.Rows, []string{g.At.Format("15:04"), g.Point, g.Raw + " (" + fmtVal(g.Value, unit) + ")", fmtBand(g.Low, g.High, unit), res})
+				t.Rows = append(t.Rows, []string{g.At.Format("15:04"), pointLabel(g.Point), g.Raw + " (" + fmtVal(g.Value, unit) + ")", fmtBand(g.Low, g.High, unit), res})
 				t.Strong = append(t.Strong, false)
 			}
 			tr.para("%d of %d predictions within the band.", good, len(sh.Guesses))

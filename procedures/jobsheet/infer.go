@@ -34,18 +34,7 @@ func InferSuspects(samples int, seed uint64) func(*procedures.Session, *design.D
 		if err != nil {
 			return nil, err
 		}
-		var obs []infer.Observation
-		seen := map[string]bool{}
-		for i := len(s.Readings) - 1; i >= 0; i-- {
-			r := s.Readings[i]
-			cold := strings.HasPrefix(r.Point, "cold:")
-			if seen[r.Point] || r.Status == procedures.Retry || (!cold && r.Variac != 0 && r.Variac < 0.99) {
-				continue
-			}
-			seen[r.Point] = true
-			obs = append(obs, infer.Observation{Key: r.Point, Value: r.Value})
-		}
-		rk := e.Rank(obs, nil)
+		rk := e.Rank(procedures.Observations(s.Readings), nil)
 		var out []Suspect
 		for _, x := range rk.Suspects {
 			why := x.Label

@@ -6,6 +6,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"pinwalk/expect/point"
 	"regexp"
 	"strconv"
 	"strings"
@@ -329,8 +330,8 @@ func TestHashMismatchAndTraining(t *testing.T) {
 	s := &procedures.Session{Pinwalk: 1, Mode: procedures.Practise, Started: at, Updated: at,
 		Design: procedures.DesignRef{File: "demo:se-6v6-stereo", Hash: "0000"},
 		Guesses: []procedures.Guess{
-			{Point: "B2 dc_volts", Raw: "290", Value: 290, Low: 282.4, High: 301.3, Good: true, At: at},
-			{Point: "V2.8 dc_volts", Raw: "30", Value: 30, Low: 13.66, High: 16.44, Good: false, At: at},
+			{Point: point.MustParse("B2 dc_volts"), Raw: "290", Value: 290, Low: 282.4, High: 301.3, Good: true, At: at},
+			{Point: point.MustParse("V2.8 dc_volts"), Raw: "30", Value: 30, Low: 13.66, High: 16.44, Good: false, At: at},
 		},
 		Attempts: []procedures.Attempt{{Step: "supply", Blocked: "Prove the meter", At: at}},
 		Practice: &procedures.Practice{Seed: 7, Fault: "R15:open", Named: "R25:open", Score: 40},
@@ -364,14 +365,14 @@ func TestHashMismatchAndTraining(t *testing.T) {
 // not), ranked by distance outside the band in band widths.
 func TestOutOfBandRanking(t *testing.T) {
 	rs := []procedures.Reading{
-		{Point: "A dc_volts", Value: 12, Low: 8, High: 10, Status: procedures.OutOfBand, Unit: "V"}, // 1 band width high
-		{Point: "B dc_volts", Value: 2, Low: 8, High: 10, Status: procedures.OutOfBand, Unit: "V"},  // 3 band widths low
-		{Point: "C dc_volts", Value: 20, Low: 8, High: 10, Status: procedures.OutOfBand, Unit: "V"},
-		{Point: "C dc_volts", Value: 9, Low: 8, High: 10, Status: procedures.InBand, Unit: "V"}, // re-measured in band
-		{Point: "D dc_volts", Value: 10.1, Low: 8, High: 10, Status: procedures.Retry, Unit: "V"},
+		{Point: point.MustParse("A dc_volts"), Value: 12, Low: 8, High: 10, Status: procedures.OutOfBand, Unit: "V"}, // 1 band width high
+		{Point: point.MustParse("B dc_volts"), Value: 2, Low: 8, High: 10, Status: procedures.OutOfBand, Unit: "V"},  // 3 band widths low
+		{Point: point.MustParse("C dc_volts"), Value: 20, Low: 8, High: 10, Status: procedures.OutOfBand, Unit: "V"},
+		{Point: point.MustParse("C dc_volts"), Value: 9, Low: 8, High: 10, Status: procedures.InBand, Unit: "V"}, // re-measured in band
+		{Point: point.MustParse("D dc_volts"), Value: 10.1, Low: 8, High: 10, Status: procedures.Retry, Unit: "V"},
 	}
 	got := OutOfBand(rs, nil)
-	if len(got) != 2 || got[0].Name != "B dc_volts" || got[1].Name != "A dc_volts" {
+	if len(got) != 2 || got[0].Name != "B" || got[1].Name != "A" {
 		t.Fatalf("ranking %+v, want B then A", got)
 	}
 	if got[0].Score != 3 || got[1].Score != 1 {

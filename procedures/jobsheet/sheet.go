@@ -12,6 +12,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"pinwalk/expect/point"
 	"sort"
 	"strings"
 	"time"
@@ -260,7 +261,7 @@ func Build(s *procedures.Session, opt Options) (*Sheet, error) {
 	}
 	for _, r := range s.Readings {
 		sh.StepTitle[r.Step] = stepTitle(r.Step)
-		row := ReadingRow{Reading: r, Label: labels[r.Point], HasBand: r.Low != 0 || r.High != 0 || r.Nominal != 0}
+		row := ReadingRow{Reading: r, Label: labels[r.Point.String()], HasBand: r.Low != 0 || r.High != 0 || r.Nominal != 0}
 		if row.Label == "" {
 			row.Label = pointLabel(r.Point)
 		}
@@ -300,19 +301,22 @@ const TimeLayout = "2006-01-02 15:04"
 
 // pointLabel describes a point key that is not a socket pin or net of the
 // design: "cold:B1 ohms" → "B1 to chassis, cold (ohms)".
-func pointLabel(key string) string {
-	id, q, _ := strings.Cut(key, " ")
-	kind, what, ok := strings.Cut(id, ":")
-	if !ok {
-		return id
+func pointLabel(k point.Key) string {
+	switch k.Domain {
+	case point.Cold:
+		return k.ID + " to chassis, unpowered"
+	case point.Discharge:
+		return k.ID + " after discharge"
+	case point.Part:
+		return k.ID + " out of circuit"
+	case point.Bias:
+		return k.ID + " idle current setting"
+	case point.Earth:
+		return "mains earth pin to chassis"
+	case point.Mains:
+		return "mains volts"
 	}
-	switch kind {
-	case "cold":
-		return what + " to chassis, unpowered"
-	case "discharge":
-		return what + " after discharge"
-	}
-	return what + " (" + kind + ", " + q + ")"
+	return k.ID
 }
 
 // lastAccepted returns the latest reading of a point that is not a
@@ -320,7 +324,7 @@ func pointLabel(key string) string {
 func lastAccepted(rs []procedures.Reading, key string) *procedures.Reading {
 	for i := len(rs) - 1; i >= 0; i-- {
 		r := &rs[i]
-		if r.Point == key && r.Status != procedures.Retry && r.Status != procedures.Skipped && (r.Variac == 0 || r.Variac >= 0.99) {
+		if r.Point.String() == key && r.Status != procedures.Retry && r.Status != procedures.Skipped && (r.Variac == 0 || r.Variac >= 0.99) {
 			return r
 		}
 	}
@@ -336,7 +340,7 @@ func OutOfBand(rs []procedures.Reading, labels map[string]string) []Suspect {
 	seen := map[string]bool{}
 	for i := len(rs) - 1; i >= 0; i-- {
 		r := rs[i]
-		key := r.Point + fmt.Sprint(r.Variac)
+		key := r.Point.String() + fmt.Sprint(r.Variac)
 		if seen[key] || r.Status == procedures.Retry {
 			continue
 		}
@@ -352,13 +356,13 @@ func OutOfBand(rs []procedures.Reading, labels map[string]string) []Suspect {
 		if r.Value < r.Low {
 			dir, dist = "below", (r.Low-r.Value)/width
 		}
-		label := labels[r.Point]
+		label := labels[r.Point.String()]
 		if label == "" {
 			label = pointLabel(r.Point)
 		}
 		why := fmt.Sprintf("%s reads %s, %s its band (%s) by %.2g band widths",
 			label, fmtVal(r.Value, r.Unit), dir, fmtBand(r.Low, r.High, r.Unit), dist)
-		out = append(out, Suspect{Name: r.Point, Why: why, Score: dist})
+		out = append(out, Suspect{Name: label, Why: why, Score: dist})
 	}
 	sort.SliceStable(out, func(i, j int) bool { return out[i].Score > out[j].Score })
 	return out

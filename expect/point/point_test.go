@@ -1,0 +1,85 @@
+package point
+
+import (
+	"errors"
+	"testing"
+
+	"gopkg.in/yaml.v3"
+)
+
+func TestRoundTrip(t *testing.T) {
+	for _, tc := range []struct {
+		text string
+		want Key
+	}{
+		{"V2.3 dc_volts", Key{Live, "V2.3", DCVolts}},
+		{"B1 dc_volts", Key{Live, "B1", DCVolts}},
+		{"B1 ripple_volts", Key{Live, "B1", RippleVolts}},
+		{"cold:B1 ohms", Key{Cold, "B1", Ohms}},
+		{"cold:OT1 primary ohms", Key{Cold, "OT1 primary", Ohms}},
+		{"part:R7 ohms", Key{Part, "R7", Ohms}},
+		{"bias:V3 dc_volts", Key{Bias, "V3", DCVolts}},
+		{"bias:V3 dc_amps", Key{Bias, "V3", DCAmps}},
+		{"discharge:C1 dc_volts", Key{Discharge, "C1", DCVolts}},
+		{"earth ohms", EarthKey},
+		{"mains ac_volts", MainsKey},
+		{"V2.5 tone_volts", Key{Live, "V2.5", ToneVolts}},
+	} {
+		got, err := Parse(tc.text)
+		if err != nil || got != tc.want {
+			t.Errorf("Parse(%q) = %+v, %v; want %+v", tc.text, got, err, tc.want)
+		}
+		if s := got.String(); s != tc.text {
+			t.Errorf("String() of %q = %q", tc.text, s)
+		}
+	}
+}
+
+func TestParseErrors(t *testing.T) {
+	for _, s := range []string{"", "V2.3", "V2.3 volts", "cold: ohms", "foo:B1 ohms"} {
+		if _, err := Parse(s); !errors.Is(err, ErrSyntax) {
+			t.Errorf("Parse(%q) err = %v, want ErrSyntax", s, err)
+		}
+	}
+}
+
+func TestValve(t *testing.T) {
+	ref, pin, ok := MustParse("V12.8 dc_volts").Valve()
+	if !ok || ref != "V12" || pin != 8 {
+		t.Errorf("Valve() = %q %d %v", ref, pin, ok)
+	}
+	if _, _, ok := MustParse("B1 dc_volts").Valve(); ok {
+		t.Errorf("a net is not a socket pin")
+	}
+	if _, _, ok := MustParse("cold:V1.2 ohms").Valve(); ok {
+		t.Errorf("a cold key is not a live socket pin")
+	}
+}
+
+func TestYAML(t *testing.T) {
+	type rec struct {
+		Point Key `yaml:"point"`
+	}
+	out, err := yaml.Marshal(rec{ColdKey("B1")})
+	if err != nil || string(out) != "point: cold:B1 ohms\n" {
+		t.Fatalf("marshal: %q %v", out, err)
+	}
+	var r rec
+	if err := yaml.Unmarshal(out, &r); err != nil || r.Point != ColdKey("B1") {
+		t.Fatalf("unmarshal: %+v %v", r, err)
+	}
+	if err := yaml.Unmarshal([]byte("point: nonsense\n"), &r); err == nil {
+		t.Fatalf("a bad key must not load")
+	}
+}
+
+func TestOpenWords(t *testing.T) {
+	for _, s := range []string{"OL", "ol", "O.L.", "open", " Inf "} {
+		if !IsOpenWord(s) {
+			t.Errorf("%q should read as open", s)
+		}
+	}
+	if IsOpenWord("0L") {
+		t.Errorf("0L is not an open word")
+	}
+}
