@@ -67,9 +67,9 @@ type Key struct {
 
 // Constructors for the domains.
 func LiveKey(id, quantity string) Key { return Key{Live, id, quantity} }
-func ColdKey(id string) Key          { return Key{Cold, id, Ohms} }
-func PartKey(ref string) Key         { return Key{Part, ref, Ohms} }
-func DischargeKey(ref string) Key    { return Key{Discharge, ref, DCVolts} }
+func ColdKey(id string) Key           { return Key{Cold, id, Ohms} }
+func PartKey(ref string) Key          { return Key{Part, ref, Ohms} }
+func DischargeKey(ref string) Key     { return Key{Discharge, ref, DCVolts} }
 func BiasKey(ref, quantity string) Key {
 	return Key{Bias, ref, quantity}
 }
