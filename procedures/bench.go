@@ -21,10 +21,10 @@ var (
 	MainsKey = point.MainsKey
 )
 
-// Earth continuity band, ohms: a multimeter reading well under 1 Ω after
-// nulling the leads (common practice; see EarthCaution for the proper
-// earth-bond test, IEC 60335-1 / UL 60065).
-const EarthMaxOhms = 1.0
+// Earth continuity band, ohms: a multimeter reading well under 0.5 Ω
+// after nulling the leads (common practice; EarthStopOhms stops the walk;
+// see EarthCaution for the proper earth-bond test).
+const EarthMaxOhms = EarthStopOhms
 
 // Bias targets as fractions of the output valve's rated plate dissipation
 // at idle (common practice for class AB push-pull: 60–70 %, aiming at 65 %).
@@ -258,7 +258,7 @@ func (b *BenchModel) Expect(k point.Key, variac float64, readings []Reading) (Ba
 	switch k.Domain {
 	case point.Earth:
 		return Band{Nominal: 0.1, Low: 0, High: EarthMaxOhms,
-			Note: "after nulling the meter leads; a multimeter reading is no substitute for an earth-bond test (IEC 60335-1 / UL 60065: ≤ 0.1 Ω at 25 A)"}, true
+			Note: "after nulling the meter leads; a multimeter reading is only an indication, no substitute for an earth-bond tester (IEC 61557-4): in-service limit 0.1 Ω plus the cord (IET Code of Practice)"}, true
 	case point.Mains:
 		v := b.D.Mains.Volts
 		if variac > 0 && variac != 1 {
@@ -274,7 +274,7 @@ func (b *BenchModel) Expect(k point.Key, variac float64, readings []Reading) (Ba
 			}
 		}
 		return Band{Nominal: 0, Low: -cold.TouchVolts, High: cold.TouchVolts,
-			Note: fmt.Sprintf("below %g V before touching (common practice); %g V DC is the hazardous-live level (IEC 60065)", cold.TouchVolts, cold.HazardVolts)}, true
+			Note: fmt.Sprintf("below %g V before touching (common practice); %g V DC is the hazardous-live level (IEC 62368-1; IEC 60065 for older sets)", cold.TouchVolts, cold.HazardVolts)}, true
 	case point.Cold:
 		for _, c := range b.Cold {
 			if c.ID == k.ID {
@@ -338,7 +338,7 @@ func dischargeNote(dr cold.Discharge) string {
 	if dr.NoPath {
 		return dr.Warning
 	}
-	s := fmt.Sprintf("%s (%s on %s) can hold %s; its bleed path (%s) takes it below %g V DC (hazardous-live level, IEC 60065) in %s and below %g V in %s",
+	s := fmt.Sprintf("%s (%s on %s) can hold %s; its bleed path (%s) takes it below %g V DC (hazardous-live level, IEC 62368-1) in %s and below %g V in %s",
 		dr.Ref, units.Format(dr.Farads, units.Farads), dr.Net, units.Format(math.Abs(dr.PeakVolts), units.Volts),
 		units.Format(dr.BleedOhms, units.Ohms), cold.HazardVolts, cold.FormatDuration(dr.To60), cold.TouchVolts, cold.FormatDuration(dr.To10))
 	if dr.Warning != "" {

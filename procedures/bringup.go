@@ -64,7 +64,7 @@ func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
 	for _, dr := range b.Drain {
 		st := &Step{ID: "discharge-" + dr.Ref, Kind: KindDischarge, Safety: true, Gate: []string{StepMeter},
 			Title: fmt.Sprintf("Discharge and verify %s (%s on %s)", dr.Ref, units.Format(dr.Farads, units.Farads), dr.Net),
-			Instruction: fmt.Sprintf("Unplugged: discharge %s through a resistor tool, then measure DC volts across it (%s to chassis). It must read below %g V before you touch anything; %g V DC is the hazardous-live level (IEC 60065). %s",
+			Instruction: fmt.Sprintf("Unplugged: discharge %s through a resistor tool, then measure DC volts across it (%s to chassis). It must read below %g V before you touch anything; %g V DC is the hazardous-live level (IEC 62368-1; IEC 60065 for older sets). %s",
 				dr.Ref, dr.Net, cold.TouchVolts, cold.HazardVolts, dischargeNote(dr)),
 			Cautions: []string{UnpluggedCaution, DischargeCaution},
 			Measures: []Measure{{Point: point.DischargeKey(dr.Ref), Label: dr.Ref + " volts after discharge", Function: FuncDCV,
@@ -95,7 +95,7 @@ func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
 		}
 		st := &Step{ID: "discharge-" + c.Ref, Kind: KindDischarge, Safety: true, Gate: []string{StepMeter},
 			Title: fmt.Sprintf("Discharge and verify %s (%s on %s)", c.Ref, units.Format(c.Value, units.Farads), net),
-			Instruction: fmt.Sprintf("Unplugged: discharge %s through a resistor tool, then measure DC volts across it (%s to chassis). It must read below %g V before you touch anything; %g V DC is the hazardous-live level (IEC 60065).",
+			Instruction: fmt.Sprintf("Unplugged: discharge %s through a resistor tool, then measure DC volts across it (%s to chassis). It must read below %g V before you touch anything; %g V DC is the hazardous-live level (IEC 62368-1; IEC 60065 for older sets).",
 				c.Ref, net, cold.TouchVolts, cold.HazardVolts),
 			Cautions: []string{UnpluggedCaution, DischargeCaution},
 			Measures: []Measure{{Point: point.DischargeKey(c.Ref), Label: c.Ref + " volts after discharge", Function: FuncDCV,
@@ -117,10 +117,12 @@ func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
 		steps = append(steps, st)
 		gate = append(gate, st.ID)
 	}
-	earth := &Step{ID: StepEarth, Kind: KindEarth, Safety: true, Gate: []string{StepMeter},
+	// The earth check puts hands on the chassis: it waits for every
+	// discharge check.
+	earth := &Step{ID: StepEarth, Kind: KindEarth, Safety: true, Gate: append([]string(nil), gate...),
 		Title: "Mains earth to chassis continuity",
-		Instruction: fmt.Sprintf("Unplugged, power switch on: null the meter leads, then measure from the mains plug's earth pin to bare chassis metal (and to any exposed metal part). Expect well under %g Ω. "+
-			"If the amp has no mains earth (a bench-supplied stage), measure the bench supply's earth to the chassis, or skip with that reason.", EarthMaxOhms),
+		Instruction: fmt.Sprintf("Unplugged, power switch on: null the meter leads, then measure from the mains plug's earth pin to bare chassis metal (and to any exposed metal part), flexing the mains cord along its length and at the inlet, and pressing on the earth lug, while you watch the meter. Expect well under %g Ω; over %g Ω stops the walk. "+
+			"If the amp has no mains earth (a bench-supplied stage), measure the bench supply's earth to the chassis, or skip with that reason.", EarthMaxOhms, EarthStopOhms),
 		Cautions: []string{UnpluggedCaution, EarthCaution},
 		Measures: []Measure{{Point: EarthKey, Label: "earth pin to chassis", Function: FuncOhms, Range: "200 Ω", Probes: "one lead on the plug's earth pin, the other on bare chassis metal", Unit: "Ω"}},
 		Why:      "The earth bond is what blows the fuse instead of electrifying the chassis when a live wire touches it. A poor bond (paint under the lug, a loose nut) reads ohms, not milliohms.",
@@ -299,40 +301,95 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 		firstNet = nets[0] + " " + amp.DCVolts
 	}
 	prev := ""
+	after := func(st *Step) {
+		if prev != "" {
+			st.Gate = append(st.Gate, prev)
+		}
+		out = append(out, st)
+		prev = st.ID
+	}
+	biasStages := b.BiasStages()
+	var outputs []string
+	for _, bs := range biasStages {
+		outputs = append(outputs, bs.Ref)
+	}
+	lamp := lampWatts(b)
 	if ramp && len(heaters) > 0 {
-		st := &Step{ID: StepHeaters, Kind: KindHeaters, Live: true, Variac: 1, Gate: gate, Cautions: liveC,
-			Title:  "Heaters first",
-			Why:    "Heaters are checked before B+ so that a wiring error on the heater winding shows before any HT flows; a cathode heated before B+ is applied also avoids stripping it (common practice).",
-			StopIf: []string{"the series lamp stays bright", "a heater reads far outside its band", "smoke, a smell of hot varnish, or the fuse blows"}}
+		// Heaters with no HT: at a low setting first, then at full mains.
+		var how, back string
 		if r := b.valveRectifier(); r != nil {
-			st.Instruction = fmt.Sprintf("Pull the rectifier valve %s (%s) so no HT can come up. Fit every other valve. Plug in through the variac and series lamp, bring the variac up to 100 %% and measure each heater's AC volts at the socket.", r.Ref, r.Valve.Type.Name)
+			how = fmt.Sprintf("Pull the rectifier valve %s (%s) so that no HT can come up; fit every other valve.", r.Ref, r.Valve.Type.Name)
+			back = fmt.Sprintf("refit the rectifier valve %s", r.Ref)
 		} else if b.M.HT != nil {
-			st.Instruction = "This amp has a silicon rectifier: if you can, keep HT off for this step by lifting the HT winding's centre-tap lead or the rectifier's output (unplugged and discharged first). If you cannot, go on: B+ will come up with the heaters, so treat the whole amp as fully live. Fit every valve, bring the variac up to 100 % and measure each heater's AC volts at the socket."
+			how = "Unplugged and discharged: lift the HT winding's centre-tap lead (or the rectifier's output lead) and insulate its end, so that no HT can come up; fit every valve. If you cannot lift it, skip this step with that reason: the heaters are then read at every variac step instead."
+			back = "reconnect the lifted centre-tap (or rectifier output) lead"
 		} else {
-			st.Instruction = "Leave the bench HT supply off. Bring the variac up to 100 % and measure each heater's AC volts at the socket."
+			how = "Leave the bench HT supply off."
 		}
-		for _, pd := range heaters {
-			hi, ok := has(pd.Key())
-			if ok {
-				st.Measures = append(st.Measures, pointMeasure(pd, hi))
+		for _, f := range []float64{0.5, 1} {
+			st := &Step{ID: StepHeaters, Kind: KindHeaters, Live: true, Variac: f, Gate: append([]string(nil), gate...), Cautions: liveC,
+				Title:  "Heaters first, no HT: variac to 100 %",
+				Why:    "Heaters are checked before B+ so that a wiring error on the heater winding shows before any HT flows; a cathode heated before B+ is applied also avoids stripping it (common practice).",
+				StopIf: []string{"the series lamp stays bright", "a heater reads far outside its band", "smoke, a smell of hot varnish, or the fuse blows"}}
+			if f < 1 {
+				st.ID, st.Title = StepHeaters+"-low", "Heaters first, no HT: variac to 50 %"
+				st.Instruction = how + fmt.Sprintf(" Plug in through the variac and a series lamp limiter (about %.0f W for this amp, common practice), bring the variac up to 50 %% and measure each heater's AC volts at the socket: about half their rating.", lamp)
+			} else {
+				st.Instruction = "Still with no HT: bring the variac up to 100 % and measure each heater's AC volts at the socket. Heater volts within ±10 % of rated are normal (common practice); with no HT load they read a little high."
 			}
+			for _, pd := range heaters {
+				if bd, ok := b.Expect(pd.PointKey(), f, nil); ok {
+					st.Measures = append(st.Measures, pointMeasure(pd, bd.High))
+				}
+			}
+			if len(st.Measures) == 0 {
+				continue
+			}
+			after(st)
 		}
-		st.Instruction += " Heater volts within ±10 % of rated are normal (common practice); with the rectifier out they read a little high."
-		if len(st.Measures) > 0 {
-			out = append(out, st)
-			prev = st.ID
+		if back != "" && prev != "" {
+			after(b.handsIn("ht-back", "Unplug and restore the HT", "Variac to zero, switch off and unplug. Measure B+ to chassis: it must read below 10 V before you touch anything (discharge it if not). Then "+back+".",
+				"The HT was kept off to check the heaters alone; the ramp that follows brings it up slowly.", gate))
 		}
 	}
 	settings := bands.VariacSettings
 	if !ramp {
 		settings = []float64{1}
 	}
-	for _, f := range settings {
-		g := append([]string(nil), gate...)
-		if prev != "" {
-			g = append(g, prev)
+	// Fixed bias: a first ramp with the output valves out of their
+	// sockets proves the bias reaches every output grid before any
+	// output valve can draw current (common practice).
+	if ramp && len(biasStages) > 0 {
+		for _, f := range settings {
+			st := &Step{ID: fmt.Sprintf("bias-ramp-%.0f", 100*f), Kind: KindVariac, Live: true, Variac: f, Gate: append([]string(nil), gate...), Cautions: liveC,
+				Pulled: outputs,
+				Title:  fmt.Sprintf("Bias supply, output valves out: variac to %.0f %%", 100*f),
+				Instruction: fmt.Sprintf("With %s out of their sockets and the bias controls at their most negative end (least current), set the variac to %.0f %% and measure the bias at each output socket's grid pin. It must be clearly negative at every step; near 0 V means the output valves would have no bias.",
+					strings.Join(outputs, ", "), 100*f),
+				StopIf: []string{"a grid reads near 0 V or positive (no bias)", "smoke, arcing, a smell of hot varnish, or the fuse blows"},
+				Why:    "A fixed-bias output valve with no bias conducts without limit and can be destroyed in seconds; the bias supply is proved first, with the valves out."}
+			if f == settings[0] {
+				st.Instruction = fmt.Sprintf("Plug in through the variac and a series lamp limiter (about %.0f W, common practice), with a dummy load on the output. ", lamp) + st.Instruction
+			}
+			for _, bs := range biasStages {
+				if pd, ok := b.gridPoint(bs); ok {
+					if bd, ok := b.Expect(pd.PointKey(), f, nil); ok {
+						m := pointMeasure(pd, bd.Low)
+						m.Label = fmt.Sprintf("%s grid (pin %d, valve out)", bs.Ref, pd.Pin)
+						st.Measures = append(st.Measures, m)
+					}
+				}
+			}
+			if len(st.Measures) > 0 {
+				after(st)
+			}
 		}
-		st := &Step{ID: fmt.Sprintf("variac-%.0f", 100*f), Kind: KindVariac, Live: true, Variac: f, Gate: g, Cautions: liveC,
+		after(b.handsIn("fit-outputs", "Fit the output valves",
+			fmt.Sprintf("Variac to zero, switch off and unplug. Measure B+ to chassis: it must read below 10 V before you touch anything (discharge it if not). Then fit %s and leave the bias controls at their most negative end (least current).", strings.Join(outputs, ", ")),
+			"With the bias proved, the output valves go in at the least current; the next ramp watches their cathode current at every step.", gate))
+	}
+	for _, f := range settings {
+		st := &Step{ID: fmt.Sprintf("variac-%.0f", 100*f), Kind: KindVariac, Live: true, Variac: f, Gate: append([]string(nil), gate...), Cautions: liveC,
 			Title: fmt.Sprintf("Variac to %.0f %%", 100*f),
 			StopIf: []string{"B+ above its band (the valves are not conducting, or the bleeder is open)", "B+ far below its band, or the series lamp glows bright and stays bright (a short or a heavy load)",
 				"a plate glows red", "smoke, arcing, a smell of hot varnish, or the fuse blows"},
@@ -340,8 +397,8 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 		if f == 1 && !ramp {
 			st.ID, st.Kind, st.Title = "power-up", KindPowerUp, "Power up on the variac"
 		}
-		if r := b.valveRectifier(); r != nil && ramp && f == settings[0] {
-			st.Instruction = fmt.Sprintf("Switch off and refit the rectifier %s. ", r.Ref)
+		if ramp && f == settings[0] && len(biasStages) == 0 {
+			st.Instruction = fmt.Sprintf("Plug in through the variac and a series lamp limiter (about %.0f W for this amp, common practice), with a dummy load (or speaker) on the output. ", lamp)
 		}
 		st.Instruction += fmt.Sprintf("Set the variac to %.0f %% of the mains, wait a minute for the heaters, watch the series lamp, and measure:", 100*f)
 		if !ramp {
@@ -368,11 +425,38 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 				}
 			}
 		}
+		// ...and each output valve's cathode current is watched as it
+		// comes up (the switch-off rule reads its dissipation).
+		if ramp {
+			for _, bs := range biasStages {
+				if pd, ok := b.cathodePoint(bs); ok {
+					if bd, ok := b.Expect(pd.PointKey(), f, nil); ok {
+						m := pointMeasure(pd, bd.High)
+						m.Label += " (cathode current)"
+						st.Measures = append(st.Measures, m)
+					}
+				}
+			}
+		}
 		if len(st.Measures) == 0 {
 			continue
 		}
-		out = append(out, st)
-		prev = st.ID
+		after(st)
+	}
+	if !ramp {
+		return out, nil
+	}
+	// The lamp limiter drops the mains under load: out before the final
+	// readings and the bias (common practice).
+	after(&Step{ID: "lamp-out", Kind: KindConfirm, Live: true, Variac: 1, Gate: append([]string(nil), gate...), Cautions: liveC,
+		Title:       "Take out the series lamp limiter",
+		Instruction: "Variac to zero and switch off. Take the series lamp limiter out of the mains feed (the amp plugs into the variac directly), then bring the variac back up to 100 % in steps, watching B+. Confirm at 100 %.",
+		Why:         "A lamp limiter protects the first power-up but drops the mains as the amp draws current: the final readings and the bias must be taken at the real mains."})
+	// Fixed bias is set first at full mains, before any other reading.
+	for _, bs := range biasStages {
+		if st := b.biasStep(bs, "bias-"+bs.Ref, "Set the bias of "+bs.Ref, gate, liveC); st != nil {
+			after(st)
+		}
 	}
 	if !ramp {
 		return out, nil
@@ -419,34 +503,97 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 			stepOf[v.Ref] = st.ID
 		}
 	}
-	for _, bs := range b.BiasStages() {
-		sense := bs.SenseRef != ""
-		key := BiasKey(bs.Ref, sense)
-		bd, ok := b.Expect(key, 1, nil)
-		if !ok {
-			continue
-		}
+	// The bias drifts as the valves and the bias supply warm: check it
+	// again at the end (common practice).
+	for _, bs := range biasStages {
 		g := append([]string(nil), valveGate...)
 		if id := stepOf[bs.Ref]; id != "" {
 			g = append(g, id)
 		}
-		m := Measure{Point: key, Label: bs.Ref + " idle current", Function: FuncDCA, Unit: "A", Range: "200 mA DC",
-			Probes: fmt.Sprintf("meter in series with %s's plate feed (or the transformer-shunt method)", bs.Ref)}
-		instr := fmt.Sprintf("Set %s's idle current with its bias control%s", bs.Ref, potName(bs.Pot))
-		if sense {
-			m = Measure{Point: key, Label: fmt.Sprintf("volts across %s (%s cathode sense)", bs.SenseRef, units.Format(bs.SenseOhms, units.Ohms)),
-				Function: FuncDCV, Unit: "V", Range: "2 V DC",
-				Probes: fmt.Sprintf("red on %s pin %d cathode (from below), black on chassis: across %s", bs.Ref, bs.CathodePin, bs.SenseRef)}
-			instr += fmt.Sprintf(": the cathode sense resistor %s (%s) turns the cathode current into volts, %g mV per mA", bs.SenseRef, units.Format(bs.SenseOhms, units.Ohms), bs.SenseOhms)
+		if st := b.biasStep(bs, "bias-check-"+bs.Ref, "Bias of "+bs.Ref+" again, warm", g, liveC); st != nil {
+			st.Instruction = "After at least 15 minutes at full mains: measure the idle reading again and trim the bias control if it has drifted. " + st.Instruction
+			out = append(out, st)
 		}
-		instr += fmt.Sprintf(". Target %s (%.0f %% of the plate rating), within %s – %s. Start from the most negative grid bias (least current), adjust slowly, let it settle for a few minutes, then enter the final reading.",
-			fmtBand(bd.Nominal, m.Unit), 100*BiasTarget, fmtBand(bd.Low, m.Unit), fmtBand(bd.High, m.Unit))
-		out = append(out, &Step{ID: "bias-" + bs.Ref, Kind: KindBias, Live: true, Variac: 1, Gate: g, Cautions: liveC,
-			Title: fmt.Sprintf("Set the bias of %s", bs.Ref), Instruction: instr, Measures: []Measure{m},
-			StopIf: []string{"the current keeps climbing (thermal runaway)", "a plate glows red", "the bias control has no effect (an open bias path)"},
-			Why:    "A fixed-bias output valve's idle current is set, not self-regulated: too little gives crossover distortion, too much overheats the plate. 60–70 % of the rated plate dissipation at idle is the usual class AB setting (common practice)."})
 	}
 	return out, nil
+}
+
+// biasStep is the step that sets (or re-checks) a fixed-bias output
+// valve's idle current.
+func (b *BenchModel) biasStep(bs BiasStage, id, title string, gate []string, cautions []string) *Step {
+	sense := bs.SenseRef != ""
+	key := BiasKey(bs.Ref, sense)
+	bd, ok := b.Expect(key, 1, nil)
+	if !ok {
+		return nil
+	}
+	m := Measure{Point: key, Label: bs.Ref + " idle current", Function: FuncDCA, Unit: "A", Range: "200 mA DC",
+		Probes: fmt.Sprintf("meter in series with %s's plate feed (or the transformer-shunt method)", bs.Ref)}
+	instr := fmt.Sprintf("Set %s's idle current with its bias control%s", bs.Ref, potName(bs.Pot))
+	if sense {
+		m = Measure{Point: key, Label: fmt.Sprintf("volts across %s (%s cathode sense)", bs.SenseRef, units.Format(bs.SenseOhms, units.Ohms)),
+			Function: FuncDCV, Unit: "V", Range: "2 V DC",
+			Probes: fmt.Sprintf("red on %s pin %d cathode (from below), black on chassis: across %s", bs.Ref, bs.CathodePin, bs.SenseRef)}
+		instr += fmt.Sprintf(": the cathode sense resistor %s (%s) turns the cathode current into volts, %g mV per mA", bs.SenseRef, units.Format(bs.SenseOhms, units.Ohms), bs.SenseOhms)
+	}
+	instr += fmt.Sprintf(". Target %s (%.0f %% of the plate rating), within %s – %s. Start from the most negative grid bias (least current), adjust slowly, let it settle for a few minutes, then enter the final reading.",
+		fmtBand(bd.Nominal, m.Unit), 100*BiasTarget, fmtBand(bd.Low, m.Unit), fmtBand(bd.High, m.Unit))
+	return &Step{ID: id, Kind: KindBias, Live: true, Variac: 1, Gate: append([]string(nil), gate...), Cautions: cautions,
+		Title: title, Instruction: instr, Measures: []Measure{m},
+		StopIf: []string{"the current keeps climbing (thermal runaway)", "a plate glows red", "the bias control has no effect (an open bias path)"},
+		Why:    "A fixed-bias output valve's idle current is set, not self-regulated: too little gives crossover distortion, too much overheats the plate. 60–70 % of the rated plate dissipation at idle is the usual class AB setting (common practice)."}
+}
+
+// handsIn is an unplugged step between two power-ups: B+ is measured
+// first, under the discharge rule (a reading of 10 V or more stops it;
+// it cannot be skipped).
+func (b *BenchModel) handsIn(id, title, instruction, why string, gate []string) *Step {
+	st := &Step{ID: id, Kind: KindDischarge, Safety: true, Gate: append([]string(nil), gate...),
+		Cautions: []string{UnpluggedCaution, DischargeCaution}, Title: title, Instruction: instruction, Why: why}
+	ref, net, peak := "", "", 0.0
+	if len(b.Drain) > 0 {
+		ref, net, peak = b.Drain[0].Ref, b.Drain[0].Net, math.Abs(b.Drain[0].PeakVolts)
+	}
+	if ref != "" {
+		st.Measures = []Measure{{Point: point.DischargeKey(ref), Label: ref + " volts before hands-in", Function: FuncDCV,
+			Range: rangeFor(peak, "V DC"), Probes: fmt.Sprintf("red on %s (%s), black on chassis", net, ref), Unit: "V"}}
+	}
+	return st
+}
+
+// gridPoint and cathodePoint are a bias stage's grid-1 and cathode pins
+// (DC volts).
+func (b *BenchModel) gridPoint(bs BiasStage) (amp.PointDef, bool) {
+	return b.electrodePoint(bs, valves.Grid)
+}
+
+func (b *BenchModel) cathodePoint(bs BiasStage) (amp.PointDef, bool) {
+	return b.electrodePoint(bs, valves.Cathode)
+}
+
+func (b *BenchModel) electrodePoint(bs BiasStage, electrode string) (amp.PointDef, bool) {
+	for _, pd := range b.M.Points() {
+		if pd.Section == bs.Section && pd.Electrode == electrode && pd.Quantity == amp.DCVolts {
+			return pd, true
+		}
+	}
+	return amp.PointDef{}, false
+}
+
+// lampWatts suggests a series lamp limiter for the amp: about 60 W for a
+// small amp, 100 W for one of 30–50 W output (common practice), judged
+// by the rated plate dissipation of its output valves.
+func lampWatts(b *BenchModel) float64 {
+	plate := 0.0
+	for _, s := range b.M.Sections {
+		if s.Pentode {
+			plate += s.Type.Limits.PlateWatts
+		}
+	}
+	if plate > 40 {
+		return 100
+	}
+	return 60
 }
 
 func potName(pot string) string {

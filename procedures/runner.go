@@ -471,7 +471,7 @@ func ParseReading(raw string, m *Measure, expect *Band) (float64, error) {
 			return v, fmt.Errorf("%w: %s is far beyond anything this amp can read here; check the meter's range and the decimal point, "+
 				"and type it again followed by ! if it really reads that", ErrQuestioned, units.Format(v, q))
 		}
-		if expect != nil {
+		if expect != nil && m.Point.Domain != point.Discharge && m.Point.Domain != point.Earth {
 			if f, ok := unitSlip(v, *expect); ok {
 				return v, fmt.Errorf("%w: %s is about %s from the band (%s): did you mean %s? Type it with its prefix, or %s! to keep %s",
 					ErrQuestioned, units.Format(v, q), slipWord(f), FormatBand(*expect, m.Unit), units.Format(v*f, q), s, units.Format(v, q))
@@ -481,9 +481,11 @@ func ParseReading(raw string, m *Measure, expect *Band) (float64, error) {
 	return v, nil
 }
 
-// unitSlip reports a reading that lies outside its band but inside it
-// once multiplied by a factor of 1000 or a million (either way): a
-// dropped or wrong prefix (220 typed for 220 kΩ).
+// unitSlip reports a reading that lies below its band but inside it
+// once multiplied by a factor of 1000 or a million: a dropped prefix (220
+// typed for 220 kΩ). A reading too high is never questioned down: on a
+// safety reading that would hide a danger; the magnitude limit above
+// questions the absurd ones.
 func unitSlip(v float64, b Band) (float64, bool) {
 	if b.Contains(v) || v == 0 || math.IsInf(v, 0) || math.IsInf(b.High, 0) {
 		return 0, false
@@ -492,7 +494,7 @@ func unitSlip(v float64, b Band) (float64, bool) {
 	if lo > hi {
 		lo, hi = hi, lo
 	}
-	for _, f := range []float64{1e3, 1e-3, 1e6, 1e-6} {
+	for _, f := range []float64{1e3, 1e6} {
 		w := v * f
 		if w >= lo-0.5*math.Abs(hi-lo) && w <= hi+0.5*math.Abs(hi-lo) {
 			return f, true
@@ -502,8 +504,7 @@ func unitSlip(v float64, b Band) (float64, bool) {
 }
 
 func slipWord(f float64) string {
-	switch f {
-	case 1e3, 1e-3:
+	if f == 1e3 {
 		return "a factor of 1000"
 	}
 	return "a factor of a million"

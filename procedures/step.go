@@ -130,11 +130,11 @@ const (
 	UnpluggedCaution = "Unplug the amp from the mains (plug out, not just switched off) before touching anything inside. " +
 		"Filter capacitors may still be charged: treat every node as live until you have measured it."
 	DischargeCaution = "Discharge through a resistor (a few kΩ, 5 W or more, on insulated leads), never with a screwdriver; " +
-		"then verify with the meter. Below 60 V DC is no longer hazardous-live (IEC 60065); go on to under 10 V before touching (common practice)."
+		"then verify with the meter. Below 60 V DC is no longer hazardous-live (IEC 62368-1 ES1; IEC 60065 for older sets); go on to under 10 V before touching (common practice). A discharge check cannot be skipped."
 	VariacCaution = "Bring the amp up on a variac, ideally through a series lamp limiter, with a dummy load (or speaker) on the output. " +
 		"Watch the lamp and the meter; switch off at once on smoke, a red-glowing plate, arcing or a reading far outside its band."
-	EarthCaution = "A multimeter continuity reading is not a substitute for a proper high-current earth-bond test " +
-		"(IEC 60335-1 / UL 60065: ≤ 0.1 Ω at 25 A). Local codes and licensed practice rule."
+	EarthCaution = "A multimeter continuity reading is only an indication, not a substitute for an earth-bond tester (IEC 61557-4) " +
+		"and an insulation test at 500 V DC (IEC 61557-2); in-service limits: 0.1 Ω plus the cord, at least 1 MΩ (IET Code of Practice, 5th ed.). Local codes and licensed practice rule."
 )
 
 // Summary line for a step, used in lists.

@@ -282,6 +282,15 @@ func senseName(bs BiasStage) string {
 func (b *BenchModel) judgeLive(st *Step, k point.Key, v float64, band Band, has bool, readings []Reading) judgement {
 	if ref, pin, ok := k.Valve(); ok {
 		sec, electrode := b.sectionOfPin(ref, pin)
+		if contains(st.Pulled, ref) {
+			// The valve is out: its grid pin shows the bias supply alone.
+			if electrode == valves.Grid && k.Quantity == point.DCVolts && has && band.Nominal < -1 && v > -1 {
+				return judgement{Consequence: Stop, Said: fmt.Sprintf(
+					"STOP: %s's grid reads %s where about %s is expected: no bias reaches it. Do not fit the output valves: check the bias supply, its rectifier and filter, the bias control and the grid resistors (unplugged and discharged).",
+					ref, FormatValue(v, "V"), FormatValue(band.Nominal, "V"))}
+			}
+			return judgement{}
+		}
 		switch {
 		case electrode == valves.Heater && k.Quantity == point.ACVolts:
 			return b.judgeHeater(st, ref, v, band, has)

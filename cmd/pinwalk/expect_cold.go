@@ -17,7 +17,7 @@ import (
 var coldCautions = []string{
 	"Unplug the amplifier from the mains before any cold check; a switch is not isolation.",
 	"Lethal voltages persist in the filter capacitors after power-off.",
-	fmt.Sprintf("Discharge them and verify with the meter: below %g V DC (hazardous-live limit, IEC 60065), then below %g V (common practice) before touching.", cold.HazardVolts, cold.TouchVolts),
+	fmt.Sprintf("Discharge them and verify with the meter: below %g V DC (hazardous-live limit, IEC 62368-1; IEC 60065 for older sets), then below %g V (common practice) before touching.", cold.HazardVolts, cold.TouchVolts),
 	"Keep one hand away from the chassis; use insulated probes with finger guards, rated for the circuit.",
 	"These expectations do not replace training; local codes and licensed practice rule.",
 }
