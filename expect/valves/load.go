@@ -376,6 +376,15 @@ func checkKoren(kind Kind, k Koren) error {
 	if k.GridOhms < 0 {
 		return errors.New("grid_ohms must not be negative")
 	}
+	if k.AlphaS < 0 || k.BetaS < 0 || (k.AlphaS > 0 && !(k.BetaS > 0)) {
+		return errors.New("alpha_s and beta_s must not be negative, and alpha_s needs a positive beta_s")
+	}
+	if kind == Triode && (k.AlphaS != 0 || k.KG2 != 0) {
+		return errors.New("kg2, alpha_s and beta_s are for pentodes only")
+	}
+	if !(math.Abs(k.VCT) <= 2) {
+		return fmt.Errorf("vct %g V outside -2..2 V", k.VCT)
+	}
 	return nil
 }
 

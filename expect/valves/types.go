@@ -66,8 +66,11 @@ type Limits struct {
 }
 
 // Koren holds the parameters of Koren's triode or pentode model
-// (N. Koren, Glass Audio 8(5), 1996). KG2 is zero for triodes.
-// GridOhms is the series resistance of the grid-current diode.
+// (N. Koren, Glass Audio 8(5), 1996) with two additions: the screen-current
+// division factor of pentodes (KG2, AlphaS, BetaS; see Pentode) and a
+// contact-potential offset VCT added to the control-grid voltage (see
+// TriodePlate). KG2, AlphaS and BetaS are zero for triodes; VCT defaults to
+// 0. GridOhms is the series resistance of the grid-current diode.
 type Koren struct {
 	Mu       float64 `yaml:"mu"`
 	Ex       float64 `yaml:"ex"`
@@ -75,6 +78,9 @@ type Koren struct {
 	KG2      float64 `yaml:"kg2,omitempty"`
 	KP       float64 `yaml:"kp"`
 	KVB      float64 `yaml:"kvb"`
+	AlphaS   float64 `yaml:"alpha_s,omitempty"` // screen share rise as Va falls (dimensionless)
+	BetaS    float64 `yaml:"beta_s,omitempty"`  // per unit of Va/Vg2 (dimensionless)
+	VCT      float64 `yaml:"vct,omitempty"`     // contact-potential offset added to Vg1k, volts
 	GridOhms float64 `yaml:"grid_ohms,omitempty"`
 }
 
