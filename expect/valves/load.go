@@ -248,17 +248,12 @@ func (d decoder) buildType(v *valveDoc, vn *yaml.Node, p string, fit bool) (*Typ
 	default:
 		return nil, at("kind", fmt.Errorf("%q is not triode, pentode or rectifier", v.Kind))
 	}
-	switch t.Base {
-	case Noval, Octal:
-	default:
-		return nil, at("base", fmt.Errorf("%q is not noval or octal", v.Base))
+	maxPin := t.Base.PinCount()
+	if maxPin == 0 {
+		return nil, at("base", fmt.Errorf("%q is not noval, octal, loctal, b7g, ux4 or ux5", v.Base))
 	}
 	if len(t.Sections) == 0 {
 		t.Sections = []string{""}
-	}
-	maxPin := 9
-	if t.Base == Octal {
-		maxPin = 8
 	}
 	pinsNode := keyNode(vn, "pins")
 	for i, pin := range t.Pins {
