@@ -243,3 +243,18 @@ func keys(m map[string]json.RawMessage) []string {
 	}
 	return out
 }
+
+// valves --design lists the design's side-file types beside the library's.
+func TestValvesListsSideFileTypes(t *testing.T) {
+	var out, errb strings.Builder
+	if code := runValves([]string{"--design", "../../testdata/sidefile/bench-qt35.yaml"}, &out, &errb); code != exitOK {
+		t.Fatalf("exit %d: %s", code, errb.String())
+	}
+	lines := strings.Split(strings.TrimSpace(out.String()), "\n")
+	if !strings.HasPrefix(lines[0], "QT-35") || !strings.Contains(lines[0], "side file") {
+		t.Errorf("first line %q, want the side-file type QT-35", lines[0])
+	}
+	if len(lines) < 31 {
+		t.Errorf("%d lines, want the side file's types and the library's 30", len(lines))
+	}
+}

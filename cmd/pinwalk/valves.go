@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"sort"
+	"strings"
 
 	"pinwalk/expect/units"
 	"pinwalk/expect/valves"
@@ -14,23 +15,45 @@ func runValves(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("valves", flag.ContinueOnError)
 	fs.SetOutput(stderr)
 	fs.Usage = func() {
-		fmt.Fprintln(stderr, `Usage: pinwalk valves [TYPE]
+		fmt.Fprintln(stderr, `Usage: pinwalk valves [--design FILE] [TYPE]
 
 Lists the valve library; with a type, shows its base and pins (numbered
 from below), heater, limits, model parameters and the datasheet rows the
-model was fitted to, with the model's figures beside each row.`)
+model was fitted to, with the model's figures beside each row. With
+--design, the types of the design's valve-files are listed too (marked
+"side file") and take precedence over the library.`)
 	}
+	designFile := fs.String("design", "", "also list the valve types of this design's valve-files")
 	if code, done := parseFlags(fs, args); done {
 		return code
 	}
+	var side []*valves.Type
+	if *designFile != "" {
+		d, probs, err := loadDesign(*designFile, stderr)
+		if err != nil {
+			fmt.Fprintln(stderr, "pinwalk:", err)
+			return exitProblems
+		}
+		if errs := probs.Errors(); len(errs) > 0 {
+			for _, e := range errs {
+				fmt.Fprintln(stderr, e)
+			}
+			return exitProblems
+		}
+		side = d.SideValves
+	}
 	if fs.NArg() == 0 {
+		for _, t := range side {
+			fmt.Fprintf(stdout, "%-8s %-9s %-6s heater %s %s  (side file)\n", t.Name, t.Kind, t.Base,
+				units.Format(t.Heater.Volts, units.Volts), units.Format(t.Heater.Amps, units.Amps))
+		}
 		for _, t := range valves.All() {
 			fmt.Fprintf(stdout, "%-8s %-9s %-6s heater %s %s\n", t.Name, t.Kind, t.Base,
 				units.Format(t.Heater.Volts, units.Volts), units.Format(t.Heater.Amps, units.Amps))
 		}
 		return exitOK
 	}
-	t, ok := valves.Lookup(fs.Arg(0))
+	t, ok := lookupWith(side, fs.Arg(0))
 	if !ok {
 		fmt.Fprintf(stderr, "pinwalk: unknown valve type %q\n", fs.Arg(0))
 		return exitProblems
@@ -55,15 +78,42 @@ model was fitted to, with the model's figures beside each row.`)
 	if l.ScreenWatts > 0 {
 		fmt.Fprintf(stdout, ", screen %s", units.Format(l.ScreenWatts, units.Watts))
 	}
+	if l.ScreenVolts > 0 {
+		fmt.Fprintf(stdout, ", screen %s", units.Format(l.ScreenVolts, units.Volts))
+	}
 	fmt.Fprintln(stdout)
 	if t.Kind == valves.Rectifier {
 		fmt.Fprintf(stdout, "perveance %.3g A/V^1.5 per anode\n", t.Perveance)
 		return exitOK
 	}
 	k := t.Model
-	fmt.Fprintf(stdout, "Koren model: mu %.4g ex %.4g kg1 %.4g kg2 %.4g kp %.4g kvb %.4g\n", k.Mu, k.Ex, k.KG1, k.KG2, k.KP, k.KVB)
+	fmt.Fprintf(stdout, "Koren model: mu %.4g ex %.4g kg1 %.4g kg2 %.4g kp %.4g kvb %.4g", k.Mu, k.Ex, k.KG1, k.KG2, k.KP, k.KVB)
+	if t.Kind == valves.Pentode {
+		fmt.Fprintf(stdout, " alpha_s %.4g beta_s %.4g", k.AlphaS, k.BetaS)
+	}
+	if k.VCT != 0 {
+		fmt.Fprintf(stdout, " vct %.3g V", k.VCT)
+	}
+	fmt.Fprintln(stdout)
 	for _, r := range t.Rows {
 		fmt.Fprintf(stdout, "  row Va %s Vg1 %s: Ia %s  (%s)\n", units.Format(r.Va, units.Volts), units.Format(r.Vg1, units.Volts), units.Format(r.Ia, units.Amps), r.Source)
 	}
 	return exitOK
+}
+
+// lookupWith finds a type by name or alias among side (first) and then the
+// library, ignoring case.
+func lookupWith(side []*valves.Type, name string) (*valves.Type, bool) {
+	key := strings.TrimSpace(name)
+	for _, t := range side {
+		if strings.EqualFold(t.Name, key) {
+			return t, true
+		}
+		for _, a := range t.Aliases {
+			if strings.EqualFold(a, key) {
+				return t, true
+			}
+		}
+	}
+	return valves.Lookup(key)
 }

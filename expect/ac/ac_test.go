@@ -201,7 +201,13 @@ func TestHumDemos(t *testing.T) {
 		}
 		for _, fn := range s.op.Supply.Nets {
 			got := find(t, pts, fn.Net).Volts
-			if fn.RippleFund > 1e-5 && math.Abs(got-fn.RippleFund) > 0.02*fn.RippleFund {
+			// 3 %: the small-signal analysis sees the valves' incremental
+			// loads (a screen's current now falls as its plate voltage
+			// rises, so plate ripple on B2 moves the screen current drawn
+			// from B3), which the supply simulation's constant-current
+			// loads do not; with the screen-division model this is 2.3 %
+			// at B3 of the SE-6V6 demo.
+			if fn.RippleFund > 1e-5 && math.Abs(got-fn.RippleFund) > 0.03*fn.RippleFund {
 				t.Errorf("%s: %s ripple %.4g V, simulation %.4g V", name, fn.Net, got, fn.RippleFund)
 			}
 		}

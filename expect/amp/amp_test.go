@@ -57,6 +57,9 @@ func netV(t testing.TB, m *Model, op *OP, net string) float64 {
 // conditions of a datasheet's typical-operation row.
 func rowDesign(valve string, pentode bool, va, vg2, vg float64) string {
 	heater := "6.3"
+	if vt, ok := valves.Lookup(valve); ok && vt.Heater.AltVolts != 6.3 && vt.Heater.Volts != 6.3 {
+		heater = fmt.Sprint(vt.Heater.Volts) // series-string types (50C5): a winding at their rating
+	}
 	elec := fmt.Sprintf("    A: {plate: P, grid: G, cathode: 0V}\n    B: unused\n")
 	extra := ""
 	if pentode {

@@ -214,6 +214,9 @@ type Design struct {
 	ByRef    map[string]*Part
 	// Nets maps each net name to its connections, in file order.
 	Nets map[string][]NetUse
+	// SideValves are the valve types loaded from the design's valve-files,
+	// in file order (they take precedence over the library).
+	SideValves []*valves.Type
 }
 
 // NetNames returns the net names sorted, ground first.

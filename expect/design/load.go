@@ -248,6 +248,7 @@ func (l *loader) valveFiles(d *Design, n *yaml.Node) {
 			continue
 		}
 		l.sideValves = append(l.sideValves, types...)
+		d.SideValves = append(d.SideValves, types...)
 	}
 }
 

@@ -47,6 +47,7 @@ type RowFit struct {
 
 // FitReport describes a fit.
 type FitReport struct {
+	Name        string  // the type fitted (Refit fills it in)
 	Cost        float64 // final objective: squared relative residuals plus penalty
 	Residual    float64 // squared relative residuals alone
 	Evaluations int
@@ -86,29 +87,79 @@ type fitWeights struct {
 	// at Vg1 = −2·Va/mu (well beyond cutoff) exceeds CutoffFrac of the
 	// row's Ia; keeps the curve physical away from the rows.
 	Cutoff, CutoffFrac float64
+	// PullScreen: per (ln p − ln p0)² for alpha_s and beta_s, which one or
+	// two rows cannot fix alone.
+	PullScreen float64
+	// Conserve: per (ln(Ig2(Va=0)/Ik(row)))² for pentodes, Ik(row) being the
+	// model's Ia + Ig2 at the row. In a pentode the cathode current is set
+	// by Vg1 and Vg2 and barely by Va, so at Va → 0 the screen collects
+	// about what the plate and screen together did at the row (the
+	// current-division picture of K. R. Spangenberg, "Vacuum Tubes",
+	// McGraw-Hill 1948, from memory). It ties alpha_s to the rows.
+	Conserve float64
+	// VCTLow, VCTHigh, VCTBand: a penalty per volt² keeping a fitted
+	// contact-potential offset within the usual 0–1 V (Spangenberg, from memory).
+	VCTLow, VCTHigh, VCTBand float64
 }
 
-// defaultWeights: Ia and gm count fully; mu and ra are redundant with gm
-// (mu = gm·ra) so they count a quarter each; Koren's screen formula is
-// crude, so Ig2 counts half.
+// defaultWeights: Ia, gm and Ig2 count fully; mu and ra are redundant with
+// gm (mu = gm·ra) so they count a quarter each.
 var defaultWeights = fitWeights{
-	Ia: 1, Gm: 1, Mu: 0.25, Ra: 0.25, Ig2: 0.5,
+	Ia: 1, Gm: 1, Mu: 0.25, Ra: 0.25, Ig2: 1,
 	PullLog: 2e-3, PullKVB: 2e-3, PullEx: 2e-3,
 	ExBand: 10, ExLow: 1.3, ExHigh: 1.5,
 	Cutoff: 1, CutoffFrac: 0.005,
+	PullScreen: 2e-2, Conserve: 0.05,
+	VCTLow: 0, VCTHigh: 1, VCTBand: 10,
+}
+
+// Starting screen-division parameters when a start set has none: with
+// beta_s·Va/Vg2 ≫ 1 the screen share falls about as Vg2/Va, as the rows of
+// beam valves at two plate voltages show (6L6GC, 6V6GT: Ia/Ig2 rises by
+// about 1.5 from Va = Vg2 to Va = 1.4·Vg2, RCA data, from memory), and
+// 1 + alpha_s ≈ 10·(1 + alpha_s/(1 + beta_s)) puts the screen current at
+// Va = 0 near the whole cathode current.
+const (
+	startAlphaS = 100
+	startBetaS  = 10
+)
+
+// withScreenStart fills in alpha_s, beta_s and kg2 of a pentode start set
+// that has no screen-division parameters (a published Koren set, whose kg2
+// belongs to Koren's own screen formula): kg2 is scaled so the first row
+// that gives Ig2 comes out right.
+func withScreenStart(k Koren, rows []Row) Koren {
+	if k.AlphaS > 0 && k.BetaS > 0 {
+		return k
+	}
+	k.AlphaS, k.BetaS = startAlphaS, startBetaS
+	if k.KG2 <= 0 {
+		k.KG2 = 4500
+	}
+	for _, r := range rows {
+		if r.Ig2 > 0 {
+			if ig2 := Predict(Pentode, k, r).Ig2; ig2 > 0 {
+				k.KG2 *= ig2 / r.Ig2
+			}
+			break
+		}
+	}
+	return k
 }
 
 // DeriveStart makes a starting parameter set from rows when no published set
 // is known: mu from the first row (given, or gm·ra; for pentodes
 // Vg2/(2|Vg1|)), ex 1.35, kp = 5·mu (the ratio in published sets, which run
-// 4–6), kvb 300 for triodes or from ra for pentodes, and kg1, kg2 scaled so
-// the first row's Ia and Ig2 come out right.
+// 4–6), kvb 300 for triodes or from ra for pentodes, the screen-division
+// start (withScreenStart) for pentodes, and kg1, kg2 scaled so the first
+// row's Ia and Ig2 come out right. vct is 0.
 func DeriveStart(kind Kind, rows []Row) Koren {
 	k := Koren{Mu: 20, Ex: 1.35, KG1: 1, KVB: 300}
 	if len(rows) == 0 {
 		k.KP, k.KG1 = 100, 1000
 		if kind == Pentode {
 			k.KG2, k.KVB = 4500, 24
+			k.AlphaS, k.BetaS = startAlphaS, startBetaS
 		}
 		return k
 	}
@@ -128,12 +179,8 @@ func DeriveStart(kind Kind, rows []Row) Koren {
 			// dIa/dVa ≈ Ia·kvb/Va² when Va ≫ kvb, and atan ≈ π/2.
 			k.KVB = math.Max(5, r.Va*r.Va/(r.Ra*r.Ia)*(math.Pi/2)*0.5)
 		}
-		k.KG2 = 1
-		if ig2 := Predict(kind, k, r).Ig2; ig2 > 0 && r.Ig2 > 0 {
-			k.KG2 = ig2 / r.Ig2
-		} else {
-			k.KG2 = 4500
-		}
+		k.KG2 = 0
+		k = withScreenStart(k, rows)
 	}
 	if ia := Predict(kind, k, r).Ia; ia > 0 {
 		k.KG1 = ia / r.Ia
@@ -143,20 +190,35 @@ func DeriveStart(kind Kind, rows []Row) Koren {
 	return k
 }
 
+// Positions in the optimiser's vector.
+const (
+	xMu, xEx, xKG1, xKP, xKVB = 0, 1, 2, 3, 4
+	xKG2, xAlphaS, xBetaS     = 5, 6, 7 // pentodes
+)
+
 // fitVector maps parameters to the optimiser's space: logs of the positive
-// parameters, ex as it is.
-func fitVector(kind Kind, k Koren) []float64 {
+// parameters, ex as it is; for pentodes ln kg2, ln alpha_s, ln beta_s; last,
+// vct as it is when the start set has one (fitVCT).
+func fitVector(kind Kind, k Koren, fitVCT bool) []float64 {
 	x := []float64{math.Log(k.Mu), k.Ex, math.Log(k.KG1), math.Log(k.KP), math.Log(k.KVB)}
 	if kind == Pentode {
-		x = append(x, math.Log(k.KG2))
+		x = append(x, math.Log(k.KG2), math.Log(k.AlphaS), math.Log(k.BetaS))
+	}
+	if fitVCT {
+		x = append(x, k.VCT)
 	}
 	return x
 }
 
-func fromVector(kind Kind, x []float64, grid float64) Koren {
-	k := Koren{Mu: math.Exp(x[0]), Ex: x[1], KG1: math.Exp(x[2]), KP: math.Exp(x[3]), KVB: math.Exp(x[4]), GridOhms: grid}
+// fromVector is the inverse of fitVector; grid is carried over, and vct
+// when it is not fitted.
+func fromVector(kind Kind, x []float64, grid, vct float64, fitVCT bool) Koren {
+	k := Koren{Mu: math.Exp(x[xMu]), Ex: x[xEx], KG1: math.Exp(x[xKG1]), KP: math.Exp(x[xKP]), KVB: math.Exp(x[xKVB]), GridOhms: grid, VCT: vct}
 	if kind == Pentode {
-		k.KG2 = math.Exp(x[5])
+		k.KG2, k.AlphaS, k.BetaS = math.Exp(x[xKG2]), math.Exp(x[xAlphaS]), math.Exp(x[xBetaS])
+	}
+	if fitVCT {
+		k.VCT = x[len(x)-1]
 	}
 	return k
 }
@@ -182,6 +244,13 @@ func residual(kind Kind, k Koren, rows []Row, w fitWeights) float64 {
 		add(w.Ra, p.Ra, r.Ra)
 		if kind == Pentode {
 			add(w.Ig2, p.Ig2, r.Ig2)
+			if w.Conserve > 0 && k.AlphaS > 0 {
+				i0 := Predict(kind, k, Row{Va: 0, Vg2: r.Vg2, Vg1: r.Vg1}).Ig2
+				if ik := p.Ia + p.Ig2; i0 > 0 && ik > 0 {
+					l := math.Log(i0 / ik)
+					s += w.Conserve * l * l
+				}
+			}
 		}
 		if kind == Triode && w.Cutoff > 0 {
 			mu := r.Mu
@@ -200,9 +269,12 @@ func residual(kind Kind, k Koren, rows []Row, w fitWeights) float64 {
 
 // Fit fits Koren's triode or pentode model to datasheet rows by minimising
 // the squared relative residuals of Ia, gm (dIa/dVg1), mu (gm·ra), ra
-// (1/(dIa/dVa)) and, for pentodes, Ig2 (Koren's screen formula, through kg2
-// and the shared mu and ex), plus a penalty pulling the parameters towards
-// start (in log space for mu, kg1, kg2, kp, kvb) and ex into 1.3–1.5, and
+// (1/(dIa/dVa)) and, for pentodes, Ig2 (the screen-division equation of
+// Pentode, through kg2, alpha_s and beta_s and the shared E1) with the
+// cathode-current term of fitWeights.Conserve, plus a penalty pulling the
+// parameters towards start (in log space for mu, kg1, kg2, kp, kvb,
+// alpha_s, beta_s; vct, fitted only when start has one, kept in 0–1 V)
+// and ex into 1.3–1.5, and
 // for triodes a penalty when the plate current at Vg1 = −2·Va/mu (mu from
 // the row, else the model) exceeds 0.5 % of the row's Ia. The
 // minimiser is Nelder–Mead (see nelderMead), restarted from its own result
@@ -224,9 +296,13 @@ func fitWith(kind Kind, rows []Row, start Koren, w fitWeights) (Koren, FitReport
 	if err := checkKoren(kind, start); err != nil {
 		return Koren{}, rep, fmt.Errorf("valves: Fit: start: %w", err)
 	}
-	x0 := fitVector(kind, start)
+	if kind == Pentode {
+		start = withScreenStart(start, rows)
+	}
+	fitVCT := start.VCT > 0
+	x0 := fitVector(kind, start, fitVCT)
 	cost := func(x []float64) float64 {
-		ex := x[1]
+		ex := x[xEx]
 		if !(ex > 0.8 && ex < 2.5) {
 			return 1e6 * (1 + math.Abs(ex))
 		}
@@ -235,15 +311,19 @@ func fitWith(kind Kind, rows []Row, start Koren, w fitWeights) (Koren, FitReport
 				return 1e6
 			}
 		}
-		k := fromVector(kind, x, start.GridOhms)
+		k := fromVector(kind, x, start.GridOhms, start.VCT, fitVCT)
 		c := residual(kind, k, rows, w)
 		for i, xi := range x {
 			d := xi - x0[i]
-			switch i {
-			case 1:
+			switch {
+			case i == xEx:
 				c += w.PullEx * d * d
-			case 4:
+			case i == xKVB:
 				c += w.PullKVB * d * d
+			case fitVCT && i == len(x)-1:
+				c += w.PullEx * d * d
+			case kind == Pentode && (i == xAlphaS || i == xBetaS):
+				c += w.PullScreen * d * d
 			default:
 				c += w.PullLog * d * d
 			}
@@ -252,6 +332,13 @@ func fitWith(kind Kind, rows []Row, start Koren, w fitWeights) (Koren, FitReport
 			c += w.ExBand * (w.ExLow - ex) * (w.ExLow - ex)
 		} else if ex > w.ExHigh {
 			c += w.ExBand * (ex - w.ExHigh) * (ex - w.ExHigh)
+		}
+		if fitVCT {
+			if v := k.VCT; v < w.VCTLow {
+				c += w.VCTBand * (w.VCTLow - v) * (w.VCTLow - v)
+			} else if v > w.VCTHigh {
+				c += w.VCTBand * (v - w.VCTHigh) * (v - w.VCTHigh)
+			}
 		}
 		return c
 	}
@@ -277,7 +364,7 @@ func fitWith(kind Kind, rows []Row, start Koren, w fitWeights) (Koren, FitReport
 			break
 		}
 	}
-	k := fromVector(kind, x, start.GridOhms)
+	k := fromVector(kind, x, start.GridOhms, start.VCT, fitVCT)
 	rep.Cost = best
 	rep.Residual = residual(kind, k, rows, w)
 	rep.Rows = Compare(kind, k, rows)
@@ -321,7 +408,14 @@ func FormatModel(kind Kind, k Koren) string {
 	if kind == Pentode {
 		fmt.Fprintf(&b, ", kg2: %s", fmtNum(k.KG2))
 	}
-	fmt.Fprintf(&b, ", kp: %s, kvb: %s, grid_ohms: %s}", fmtNum(k.KP), fmtNum(k.KVB), fmtNum(k.GridOhms))
+	fmt.Fprintf(&b, ", kp: %s, kvb: %s", fmtNum(k.KP), fmtNum(k.KVB))
+	if kind == Pentode {
+		fmt.Fprintf(&b, ", alpha_s: %s, beta_s: %s", fmtNum(k.AlphaS), fmtNum(k.BetaS))
+	}
+	if k.VCT != 0 {
+		fmt.Fprintf(&b, ", vct: %s", fmtNum(k.VCT))
+	}
+	fmt.Fprintf(&b, ", grid_ohms: %s}", fmtNum(k.GridOhms))
 	return b.String()
 }
 
@@ -363,6 +457,7 @@ func Refit(file string, src []byte) ([]byte, []FitReport, error) {
 				return nil, nil, fmt.Errorf("%s:%d: %s: %w", file, i+1, cur.Name, err)
 			}
 			lines[i] = m[1] + "model: " + FormatModel(cur.Kind, k) + m[2]
+			rep.Name = cur.Name
 			reps = append(reps, rep)
 			done[cur.Name] = true
 		} else if m := rePervLine.FindStringSubmatch(ln); m != nil && cur.Kind == Rectifier {

@@ -156,3 +156,41 @@ func TestEmissionCap(t *testing.T) {
 		t.Errorf("no cap should give r=1, got %g %g", r, dr)
 	}
 }
+
+// TestScreenDivision: the screen current is a share of the same E1 as the
+// plate current, so at fixed Va and Vg2 the ratio Ig2/Ia does not depend on
+// the grid bias (a 6L6GC idling at 400/400 V, −45 V keeps about the share of
+// its 250/250 V row, 5/72 mA, RCA 6L6GC data sheet, from memory, where
+// Koren's formula (Vg2/mu + Vg1)^ex/kg2 gives 0); and the share rises as Va
+// falls below Vg2.
+func TestScreenDivision(t *testing.T) {
+	ty, _ := Lookup("6L6GC")
+	k := ty.Model
+	ip, ig2, _, _ := k.Pentode(-45, 400, 400)
+	if !(ip > 0.005) || !(ig2 > 0) {
+		t.Fatalf("6L6GC at 400/400/−45 V: Ia %g, Ig2 %g", ip, ig2)
+	}
+	if r := ig2 / ip; math.Abs(r/(5.0/72)-1) > 0.15 {
+		t.Errorf("6L6GC idle ratio Ig2/Ia = %.3f, want within 15 %% of the row's %.3f", r, 5.0/72)
+	}
+	ipA, ig2A, _, _ := k.Pentode(-14, 250, 250)
+	ipB, ig2B, _, _ := k.Pentode(-25, 250, 250)
+	if !near(ig2A/ipA, ig2B/ipB, 1e-9, 0) {
+		t.Errorf("ratio depends on grid bias: %g vs %g", ig2A/ipA, ig2B/ipB)
+	}
+	prev := 0.0
+	for _, va := range []float64{400, 300, 250, 150, 80, 40, 20, 10} {
+		ip, ig2, _, _ := k.Pentode(-14, 250, va)
+		if r := ig2 / ip; !(r > prev) {
+			t.Errorf("Ig2/Ia = %g at Va %g V does not rise as Va falls (previous %g)", r, va, prev)
+		} else {
+			prev = r
+		}
+	}
+	// At Va = 0 the screen collects about the whole cathode current of the
+	// row (within a factor of 2; the fit's conservation term).
+	_, ig20, _, _ := k.Pentode(-14, 250, 0)
+	if ik := ipA + ig2A; ig20 < 0.5*ik || ig20 > 2*ik {
+		t.Errorf("Ig2 at Va = 0: %g A, cathode current at 250 V: %g A", ig20, ik)
+	}
+}

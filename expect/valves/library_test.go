@@ -11,7 +11,8 @@ import (
 )
 
 func TestNamesAndLookup(t *testing.T) {
-	want := []string{"12AT7", "12AU7", "12AX7", "5AR4", "5U4GB", "5Y3GT", "6L6GC", "6SN7GTB", "6V6GT", "EL34", "EL84", "EZ81"}
+	want := []string{"12AT7", "12AU7", "12AX7", "12AY7", "35W4", "50C5", "5751", "5AR4", "5R4GY", "5U4GB", "5V4G", "5Y3GT",
+		"6550", "6AQ5", "6AU6", "6BA6", "6CG7", "6DJ8", "6L6GC", "6SL7GT", "6SN7GTB", "6V6GT", "6X4", "EF86", "EL34", "EL84", "EZ81", "GZ37", "KT66", "KT88"}
 	if got := Names(); !reflect.DeepEqual(got, want) {
 		t.Errorf("Names() = %v, want %v", got, want)
 	}
@@ -21,6 +22,7 @@ func TestNamesAndLookup(t *testing.T) {
 	for alias, canon := range map[string]string{
 		"ecc83": "12AX7", "ECC82": "12AU7", "Ecc81": "12AT7", "6sn7": "6SN7GTB", "6BQ5": "EL84",
 		"6V6": "6V6GT", "6l6": "6L6GC", "6CA7": "EL34", "gz34": "5AR4", "6CA4": "EZ81", " 12ax7 ": "12AX7",
+		"ECC88": "6DJ8", "6922": "6DJ8", "EF94": "6AU6", "EZ90": "6X4", "6SL7": "6SL7GT", "EL90": "6AQ5", "6267": "EF86",
 	} {
 		ty, ok := Lookup(alias)
 		if !ok || ty.Name != canon {
@@ -202,5 +204,37 @@ func TestSideFileErrors(t *testing.T) {
 	}
 	if _, err := LoadSideFile(filepath.Join(dir, "absent.yaml")); !errors.Is(err, os.ErrNotExist) {
 		t.Errorf("missing file: %v", err)
+	}
+}
+
+// Every pentode and beam valve carries its maximum screen volts; every pin
+// number fits its base; series-string heaters as in the makers' data (RCA
+// 50C5 50 V 0.15 A, 35W4 35 V 0.15 A, from memory).
+func TestScreenVoltsBasesAndSeriesHeaters(t *testing.T) {
+	for _, ty := range All() {
+		if ty.Kind == Pentode && !(ty.Limits.ScreenVolts > 0) {
+			t.Errorf("%s: no screen_v limit", ty.Name)
+		}
+		n := ty.Base.PinCount()
+		if n == 0 {
+			t.Errorf("%s: unknown base %q", ty.Name, ty.Base)
+		}
+		for _, p := range ty.Pins {
+			if p.Number < 1 || p.Number > n {
+				t.Errorf("%s: pin %d outside its %s base", ty.Name, p.Number, ty.Base)
+			}
+		}
+	}
+	for name, h := range map[string][2]float64{"50C5": {50, 0.15}, "35W4": {35, 0.15}, "6X4": {6.3, 0.6}, "6AU6": {6.3, 0.3}} {
+		ty, _ := Lookup(name)
+		if got := [2]float64{ty.Heater.Volts, ty.Heater.Amps}; got != h {
+			t.Errorf("%s heater %v, want %v", name, got, h)
+		}
+		if ty.Base != B7G {
+			t.Errorf("%s base %s, want b7g", name, ty.Base)
+		}
+	}
+	if ty, _ := Lookup("6AU6"); !reflect.DeepEqual(ty.PinsOf("", Screen), []int{6}) || !reflect.DeepEqual(ty.PinsOf("", Plate), []int{5}) {
+		t.Errorf("6AU6 pins %v", ty.Pins)
 	}
 }

@@ -248,17 +248,12 @@ func (d decoder) buildType(v *valveDoc, vn *yaml.Node, p string, fit bool) (*Typ
 	default:
 		return nil, at("kind", fmt.Errorf("%q is not triode, pentode or rectifier", v.Kind))
 	}
-	switch t.Base {
-	case Noval, Octal:
-	default:
-		return nil, at("base", fmt.Errorf("%q is not noval or octal", v.Base))
+	maxPin := t.Base.PinCount()
+	if maxPin == 0 {
+		return nil, at("base", fmt.Errorf("%q is not noval, octal, loctal, b7g, ux4 or ux5", v.Base))
 	}
 	if len(t.Sections) == 0 {
 		t.Sections = []string{""}
-	}
-	maxPin := 9
-	if t.Base == Octal {
-		maxPin = 8
 	}
 	pinsNode := keyNode(vn, "pins")
 	for i, pin := range t.Pins {
@@ -375,6 +370,15 @@ func checkKoren(kind Kind, k Koren) error {
 	}
 	if k.GridOhms < 0 {
 		return errors.New("grid_ohms must not be negative")
+	}
+	if k.AlphaS < 0 || k.BetaS < 0 || (k.AlphaS > 0 && !(k.BetaS > 0)) {
+		return errors.New("alpha_s and beta_s must not be negative, and alpha_s needs a positive beta_s")
+	}
+	if kind == Triode && (k.AlphaS != 0 || k.KG2 != 0) {
+		return errors.New("kg2, alpha_s and beta_s are for pentodes only")
+	}
+	if !(math.Abs(k.VCT) <= 2) {
+		return fmt.Errorf("vct %g V outside -2..2 V", k.VCT)
 	}
 	return nil
 }

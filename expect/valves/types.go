@@ -16,9 +16,30 @@ const (
 type Base string
 
 const (
-	Noval Base = "noval" // B9A, 9 pins
-	Octal Base = "octal" // 8 pins
+	Noval  Base = "noval"  // B9A, 9 pins
+	Octal  Base = "octal"  // 8 pins
+	B7G    Base = "b7g"    // 7-pin miniature
+	UX4    Base = "ux4"    // 4-pin UX (directly heated triodes, old rectifiers)
+	UX5    Base = "ux5"    // 5-pin UX
+	Loctal Base = "loctal" // B8G, 8 pins
 )
+
+// PinCount returns the number of pins of a base (0 for an unknown base).
+func (b Base) PinCount() int {
+	switch b {
+	case Noval:
+		return 9
+	case Octal, Loctal:
+		return 8
+	case B7G:
+		return 7
+	case UX4:
+		return 4
+	case UX5:
+		return 5
+	}
+	return 0
+}
 
 // Electrode names used in pin maps and design files.
 const (
@@ -56,6 +77,7 @@ type HeaterRating struct {
 type Limits struct {
 	PlateWatts         float64 `yaml:"plate_w"`
 	ScreenWatts        float64 `yaml:"screen_w,omitempty"`
+	ScreenVolts        float64 `yaml:"screen_v,omitempty"` // pentodes and beam valves: maximum screen volts
 	PlateVolts         float64 `yaml:"plate_v"`
 	CathodeAmps        float64 `yaml:"cathode_a,omitempty"`
 	GridOhmsCathode    float64 `yaml:"grid_ohms_cathode_bias,omitempty"` // max grid-1 resistance, cathode bias
@@ -66,8 +88,11 @@ type Limits struct {
 }
 
 // Koren holds the parameters of Koren's triode or pentode model
-// (N. Koren, Glass Audio 8(5), 1996). KG2 is zero for triodes.
-// GridOhms is the series resistance of the grid-current diode.
+// (N. Koren, Glass Audio 8(5), 1996) with two additions: the screen-current
+// division factor of pentodes (KG2, AlphaS, BetaS; see Pentode) and a
+// contact-potential offset VCT added to the control-grid voltage (see
+// TriodePlate). KG2, AlphaS and BetaS are zero for triodes; VCT defaults to
+// 0. GridOhms is the series resistance of the grid-current diode.
 type Koren struct {
 	Mu       float64 `yaml:"mu"`
 	Ex       float64 `yaml:"ex"`
@@ -75,6 +100,9 @@ type Koren struct {
 	KG2      float64 `yaml:"kg2,omitempty"`
 	KP       float64 `yaml:"kp"`
 	KVB      float64 `yaml:"kvb"`
+	AlphaS   float64 `yaml:"alpha_s,omitempty"` // screen share rise as Va falls (dimensionless)
+	BetaS    float64 `yaml:"beta_s,omitempty"`  // per unit of Va/Vg2 (dimensionless)
+	VCT      float64 `yaml:"vct,omitempty"`     // contact-potential offset added to Vg1k, volts
 	GridOhms float64 `yaml:"grid_ohms,omitempty"`
 }
 

@@ -31,7 +31,11 @@ func main() {
 	}
 	for _, r := range reps {
 		for _, rf := range r.Rows {
-			fmt.Printf("Va %5.0f Vg1 %6.2f  Ia %+6.2f %%  gm %+6.2f %%\n", rf.Row.Va, rf.Row.Vg1, 100*rf.ErrIa, 100*rf.ErrGm)
+			fmt.Printf("%-8s Va %5.0f Vg2 %4.0f Vg1 %6.2f  Ia %+6.2f %%  gm %+6.2f %%", r.Name, rf.Row.Va, rf.Row.Vg2, rf.Row.Vg1, 100*rf.ErrIa, 100*rf.ErrGm)
+			if rf.Row.Ig2 > 0 {
+				fmt.Printf("  Ig2 %+6.2f %%", 100*rf.ErrIg2)
+			}
+			fmt.Println()
 		}
 	}
 	if err := os.WriteFile(path, out, 0o644); err != nil {
