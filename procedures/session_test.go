@@ -4,7 +4,9 @@ import (
 	"bufio"
 	"errors"
 	"os"
+	"os/exec"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -113,5 +115,81 @@ func TestReadingQuestioned(t *testing.T) {
 		if _, err := ParseReading(bad, m, band); err == nil {
 			t.Errorf("%q accepted as a reading", bad)
 		}
+	}
+}
+
+// TestCleanStaleTemps: only this session's temporary files, and only
+// stale ones (writer gone, or older than StaleTempAge), are removed.
+func TestCleanStaleTemps(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "amp.pinwalk.yaml")
+	now := time.Now()
+	// A process id that is not running: a child that has exited.
+	cmd := exec.Command(os.Args[0], "-test.run=^$")
+	if err := cmd.Run(); err != nil {
+		t.Fatal(err)
+	}
+	dead := strconv.Itoa(cmd.Process.Pid)
+	live := strconv.Itoa(os.Getppid())
+	files := map[string]bool{ // name: removed
+		".amp.pinwalk.yaml.tmp-" + dead + "-123":     true,  // writer gone
+		".amp.pinwalk.yaml.bak.tmp-" + dead + "-456": true,  // the .bak's, writer gone
+		".amp.pinwalk.yaml.tmp-" + live + "-789":     false, // a running process: save in progress
+		".amp.pinwalk.yaml.tmp-98765":                false, // older build's name, young
+		".other.pinwalk.yaml.tmp-" + dead + "-1":     false, // another session's
+		".amp.pinwalk.yaml.tmp-notes":                false, // not our pattern
+		"amp.pinwalk.yaml":                           false,
+	}
+	for name := range files {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte("x"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	oldName := ".amp.pinwalk.yaml.tmp-55555"
+	os.WriteFile(filepath.Join(dir, oldName), []byte("x"), 0o644)
+	old := now.Add(-2 * StaleTempAge)
+	os.Chtimes(filepath.Join(dir, oldName), old, old)
+	files[oldName] = true // older build's name, old
+	os.Mkdir(filepath.Join(dir, ".amp.pinwalk.yaml.tmp-"+dead+"-9"), 0o755)
+	files[".amp.pinwalk.yaml.tmp-"+dead+"-9"] = false // a directory: never ours
+
+	CleanStaleTemps(path, now)
+	for name, removed := range files {
+		_, err := os.Stat(filepath.Join(dir, name))
+		if gone := errors.Is(err, os.ErrNotExist); gone != removed {
+			t.Errorf("%s: removed %v, want %v", name, gone, removed)
+		}
+	}
+}
+
+// TestDamagedSessionNamesBackup: the message for a damaged session says
+// what the .bak really holds: absent, loading (with its readings), or
+// damaged too.
+func TestDamagedSessionNamesBackup(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "s.yaml")
+	s := &Session{Design: DesignRef{File: "demo", Hash: "ab12"}, Mode: BringUp}
+	at := time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC)
+	for i := 0; i < 3; i++ {
+		s.Readings = append(s.Readings, Reading{Step: "live.B1", Point: "B1 dc_volts", Raw: "312", Value: 312, Unit: "V", At: at, Status: InBand})
+		if err := s.Save(path); err != nil {
+			t.Fatal(err)
+		}
+	}
+	damage := func() { os.WriteFile(path, []byte("pinwalk-session: 1\nreadings:\n  - step: [\n"), 0o644) }
+	damage()
+	_, err := LoadSession(path)
+	if err == nil || !strings.Contains(err.Error(), "s.yaml.bak) loads cleanly and holds 2 readings") {
+		t.Errorf("damaged, good .bak: %v", err)
+	}
+	os.WriteFile(path+".bak", nil, 0o644)
+	_, err = LoadSession(path)
+	if err == nil || !strings.Contains(err.Error(), "s.yaml.bak) cannot be used either") {
+		t.Errorf("damaged, empty .bak: %v", err)
+	}
+	os.Remove(path + ".bak")
+	_, err = LoadSession(path)
+	if err == nil || !strings.Contains(err.Error(), "no previous save (s.yaml.bak)") {
+		t.Errorf("damaged, no .bak: %v", err)
 	}
 }
