@@ -32,6 +32,7 @@ type Session struct {
 	Started  time.Time `yaml:"started"`
 	Updated  time.Time `yaml:"updated"`
 	Bench    Bench     `yaml:"bench"`
+	Job      Job       `yaml:"job,omitempty"` // intake and close-out of a repair
 	Symptoms []string  `yaml:"symptoms,omitempty"`
 	Readings []Reading `yaml:"readings"`
 	Skips    []Skip    `yaml:"skipped,omitempty"`
@@ -59,12 +60,87 @@ type DesignRef struct {
 	Hash  string `yaml:"sha256"`
 }
 
-// Bench holds the bench conditions the user stated.
+// Bench holds the bench conditions the user stated: the amp on the
+// bench, who works on it, with what meter, on what mains.
 type Bench struct {
-	Mains float64 `yaml:"mains-volts,omitempty"`
-	Meter string  `yaml:"meter,omitempty"`
-	Who   string  `yaml:"technician,omitempty"`
-	AmpID string  `yaml:"amp,omitempty"`
+	Mains  float64 `yaml:"mains-volts,omitempty"` // bench mains as measured, volts rms
+	Meter  string  `yaml:"meter,omitempty"`       // make, model and accuracy, as typed
+	Who    string  `yaml:"technician,omitempty"`
+	AmpID  string  `yaml:"amp,omitempty"` // make and model, as typed
+	Serial string  `yaml:"serial,omitempty"`
+}
+
+// Job is the paperwork of a repair: the intake (customer, complaint,
+// what a visual inspection found) and the close-out (parts replaced,
+// the checks after the repair, the sign-off). Every field is optional;
+// sessions from before these fields load with them empty.
+type Job struct {
+	Customer  string       `yaml:"customer,omitempty"`
+	Complaint string       `yaml:"complaint,omitempty"` // in the customer's words
+	Visual    []string     `yaml:"visual-inspection,omitempty"`
+	Parts     []PartChange `yaml:"parts-replaced,omitempty"`
+	After     AfterRepair  `yaml:"after-repair,omitempty"`
+	SignOff   *SignOff     `yaml:"sign-off,omitempty"`
+}
+
+// PartChange is one part replaced: its schematic reference, the new
+// part's value and rating as written on it, and why it was replaced.
+type PartChange struct {
+	Ref    string    `yaml:"ref"`
+	Value  string    `yaml:"value,omitempty"`  // "47µF", "220k"
+	Rating string    `yaml:"rating,omitempty"` // "450 V", "2 W metal film"
+	Reason string    `yaml:"reason,omitempty"`
+	At     time.Time `yaml:"at,omitempty"`
+}
+
+// AfterRepair holds the checks made after a repair.
+type AfterRepair struct {
+	EarthBond  *SafetyTest `yaml:"earth-bond,omitempty"` // mains earth pin to chassis, ohms
+	Insulation *SafetyTest `yaml:"insulation,omitempty"` // mains conductors to earth at 500 V DC, ohms
+	PowerOut   []PowerOut  `yaml:"power-out,omitempty"`
+	Soak       *Soak       `yaml:"soak,omitempty"`
+}
+
+// Instrument kinds of a safety test.
+const (
+	EarthBondTester  = "earth-bond-tester" // IEC 61557-4
+	InsulationTester = "insulation-tester" // IEC 61557-2
+	Multimeter       = "multimeter"        // an indication only
+)
+
+// SafetyTest is one electrical-safety test: the reading in ohms, what
+// was typed, the instrument kind (EarthBondTester, InsulationTester or
+// Multimeter), its test voltage or current where it has one, and when.
+type SafetyTest struct {
+	Ohms       float64   `yaml:"ohms"`
+	Raw        string    `yaml:"typed,omitempty"`
+	Instrument string    `yaml:"instrument"`
+	TestVolts  float64   `yaml:"test-volts,omitempty"` // insulation: 500 V DC
+	TestAmps   float64   `yaml:"test-amps,omitempty"`  // earth bond
+	At         time.Time `yaml:"at,omitempty"`
+}
+
+// PowerOut is the output power of one channel into a dummy load.
+type PowerOut struct {
+	Channel  string    `yaml:"channel"`
+	Watts    float64   `yaml:"watts"`
+	LoadOhms float64   `yaml:"load-ohms"`
+	Hz       float64   `yaml:"hz,omitempty"`
+	Note     string    `yaml:"note,omitempty"` // "at onset of clipping"
+	At       time.Time `yaml:"at,omitempty"`
+}
+
+// Soak is the soak test: how long the amp ran, and how it ended.
+type Soak struct {
+	Duration time.Duration `yaml:"duration"`
+	Note     string        `yaml:"note,omitempty"`
+	At       time.Time     `yaml:"at,omitempty"` // when it ended
+}
+
+// SignOff is the technician's sign-off of the job.
+type SignOff struct {
+	Name string    `yaml:"name"`
+	At   time.Time `yaml:"at"`
 }
 
 // Reading is one meter reading.
@@ -280,6 +356,15 @@ func ParseSession(name string, data []byte) (*Session, error) {
 	}
 	if s.Design.Hash == "" {
 		return nil, &SessionError{File: name, Line: fieldLine(dec, "design"), Col: 1, Field: "design.sha256", Msg: "missing: expected the design file's hash"}
+	}
+	for _, t := range []struct {
+		field string
+		test  *SafetyTest
+	}{{"job.after-repair.earth-bond", s.Job.After.EarthBond}, {"job.after-repair.insulation", s.Job.After.Insulation}} {
+		if t.test != nil && t.test.Instrument != EarthBondTester && t.test.Instrument != InsulationTester && t.test.Instrument != Multimeter {
+			return nil, &SessionError{File: name, Line: fieldLine(dec, "job"), Col: 1, Field: t.field + ".instrument",
+				Msg: fmt.Sprintf("%q: expected %s, %s or %s", t.test.Instrument, EarthBondTester, InsulationTester, Multimeter)}
+		}
 	}
 	for i, r := range s.Readings {
 		if r.Point == "" || r.Step == "" {

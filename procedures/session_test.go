@@ -6,6 +6,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"reflect"
 	"strconv"
 	"strings"
 	"testing"
@@ -191,5 +192,57 @@ func TestDamagedSessionNamesBackup(t *testing.T) {
 	_, err = LoadSession(path)
 	if err == nil || !strings.Contains(err.Error(), "no previous save (s.yaml.bak)") {
 		t.Errorf("damaged, no .bak: %v", err)
+	}
+}
+
+// TestJobRoundTrip: the intake and close-out fields save and load back
+// unchanged, and a session file from before them loads with them empty.
+func TestJobRoundTrip(t *testing.T) {
+	at := time.Date(2026, 1, 2, 15, 4, 5, 0, time.UTC)
+	s := &Session{Pinwalk: SessionVersion, Design: DesignRef{File: "demo", Title: "t", Hash: "ab12"}, Mode: FaultFind,
+		Started: at, Updated: at,
+		Bench: Bench{Mains: 231, Meter: "bench DMM, ±(0.5 % + 2), CAT III 1000 V", Who: "Tech B", AmpID: "Demo Amps SE-20", Serial: "0042"},
+		Job: Job{Customer: "A. Customer (invented)", Complaint: "hums loudly, then goes quiet after ten minutes",
+			Visual: []string{"C2 top bulging", "scorch mark beside R20"},
+			Parts:  []PartChange{{Ref: "C2", Value: "100µF", Rating: "450 V 105 °C", Reason: "bulging, leaky", At: at}},
+			After: AfterRepair{
+				EarthBond:  &SafetyTest{Ohms: 0.08, Raw: "0.08", Instrument: EarthBondTester, TestAmps: 10, At: at},
+				Insulation: &SafetyTest{Ohms: 200e6, Raw: ">200M", Instrument: InsulationTester, TestVolts: 500, At: at},
+				PowerOut:   []PowerOut{{Channel: "left", Watts: 4.6, LoadOhms: 8, Hz: 1000, Note: "onset of clipping", At: at}},
+				Soak:       &Soak{Duration: 90 * time.Minute, Note: "no change", At: at},
+			},
+			SignOff: &SignOff{Name: "Tech B", At: at}},
+		Readings: []Reading{{Step: "live.B1", Point: "B1 dc_volts", Raw: "312", Value: 312, Unit: "V", At: at, Status: InBand}}}
+	path := filepath.Join(t.TempDir(), "job.yaml")
+	if err := s.Save(path); err != nil {
+		t.Fatal(err)
+	}
+	back, err := LoadSession(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	back.cleaned = s.cleaned
+	if !reflect.DeepEqual(back, s) {
+		t.Errorf("round trip changed the session:\n got %+v\nwant %+v", back.Job, s.Job)
+	}
+	data, _ := os.ReadFile(path)
+	for _, want := range []string{"customer:", "complaint:", "parts-replaced:", "earth-bond:", "instrument: insulation-tester", "duration: 1h30m0s", "sign-off:", "serial:"} {
+		if !strings.Contains(string(data), want) {
+			t.Errorf("saved file lacks %q", want)
+		}
+	}
+	old, err := LoadSession("../testdata/sessions/se-6v6-bringup.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(old.Job, Job{}) {
+		t.Errorf("a session from before the job fields: %+v", old.Job)
+	}
+	// A wrong instrument kind names the field and what was expected.
+	bad := strings.Replace(string(data), "instrument: insulation-tester", "instrument: clamp meter", 1)
+	_, err = ParseSession("bad.yaml", []byte(bad))
+	var se *SessionError
+	if !errors.As(err, &se) || se.Field != "job.after-repair.insulation.instrument" || !strings.Contains(se.Msg, "expected earth-bond-tester") {
+		t.Errorf("bad instrument: %v", err)
 	}
 }

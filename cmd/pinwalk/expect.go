@@ -85,19 +85,19 @@ type jsonReport struct {
 	} `json:"conditions"`
 	// Monte Carlo: samples asked, failed (did not converge), the seed, and
 	// up to a few distinct failure messages.
-	Samples      int             `json:"samples"`
-	Failed       int             `json:"failed"`
-	FailErrors   []string        `json:"fail_errors,omitempty"`
-	Seed         uint64          `json:"seed"`
-	Meter        string          `json:"meter"`
-	MeterOhms    float64         `json:"meter_ohms"`
-	MeterLoading []jsonLoading   `json:"meter_loading"`
-	Points       []jsonPoint     `json:"points"`
-	Sections     []jsonSection   `json:"sections"`
-	Resistors    []jsonResistor  `json:"resistors"`
-	Supply       []jsonNet       `json:"supply,omitempty"`
-	Windings     []jsonWinding   `json:"heater_windings"`
-	Findings     []string        `json:"findings"`
+	Samples      int            `json:"samples"`
+	Failed       int            `json:"failed"`
+	FailErrors   []string       `json:"fail_errors,omitempty"`
+	Seed         uint64         `json:"seed"`
+	Meter        string         `json:"meter"`
+	MeterOhms    float64        `json:"meter_ohms"`
+	MeterLoading []jsonLoading  `json:"meter_loading"`
+	Points       []jsonPoint    `json:"points"`
+	Sections     []jsonSection  `json:"sections"`
+	Resistors    []jsonResistor `json:"resistors"`
+	Supply       []jsonNet      `json:"supply,omitempty"`
+	Windings     []jsonWinding  `json:"heater_windings"`
+	Findings     []string       `json:"findings"`
 }
 
 // faultFlags collects repeated --fault REF:MODE options.
