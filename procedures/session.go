@@ -151,7 +151,7 @@ type Reading struct {
 	Value   float64   `yaml:"value"` // SI units
 	Unit    string    `yaml:"unit"`
 	At      time.Time `yaml:"at"`
-	Variac  float64   `yaml:"variac,omitempty"` // fraction of mains applied, 0 = not on a variac
+	Variac  float64   `yaml:"variac,omitempty"` // fraction of mains applied: 0 unpowered (cold checks), 1 full mains
 	Mains   float64   `yaml:"mains-volts,omitempty"`
 	Status  Status    `yaml:"status"`
 	Low     float64   `yaml:"expected-low"`

@@ -47,6 +47,7 @@ type docSection struct {
 type document struct {
 	Title    string
 	Sections []docSection
+	CSS      string // the HTML style ("": the bench sheet's)
 }
 
 func (s *docSection) para(format string, args ...any) {

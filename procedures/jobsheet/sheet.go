@@ -72,7 +72,12 @@ type Sheet struct {
 	Attempts  []AttemptRow
 	Practice  *procedures.Practice
 	StepTitle map[string]string
+
+	labeller *Labeller
 }
+
+// Label describes a point key in words (see Labeller.Label).
+func (sh *Sheet) Label(key string) string { return sh.labeller.Label(key) }
 
 // SafetyCheck is a safety step done: confirmed, or measured (discharge
 // verified, earth continuity read).
@@ -258,12 +263,11 @@ func Build(s *procedures.Session, opt Options) (*Sheet, error) {
 			}
 		}
 	}
+	sh.labeller = NewLabeller(d)
 	for _, r := range s.Readings {
 		sh.StepTitle[r.Step] = stepTitle(r.Step)
+		labels[r.Point] = sh.labeller.Label(r.Point)
 		row := ReadingRow{Reading: r, Label: labels[r.Point], HasBand: r.Low != 0 || r.High != 0 || r.Nominal != 0}
-		if row.Label == "" {
-			row.Label = pointLabel(r.Point)
-		}
 		sh.Readings = append(sh.Readings, row)
 	}
 
@@ -297,23 +301,6 @@ func Build(s *procedures.Session, opt Options) (*Sheet, error) {
 
 // TimeLayout is how the sheet prints times: in the session's own zone.
 const TimeLayout = "2006-01-02 15:04"
-
-// pointLabel describes a point key that is not a socket pin or net of the
-// design: "cold:B1 ohms" → "B1 to chassis, cold (ohms)".
-func pointLabel(key string) string {
-	id, q, _ := strings.Cut(key, " ")
-	kind, what, ok := strings.Cut(id, ":")
-	if !ok {
-		return id
-	}
-	switch kind {
-	case "cold":
-		return what + " to chassis, unpowered"
-	case "discharge":
-		return what + " after discharge"
-	}
-	return what + " (" + kind + ", " + q + ")"
-}
 
 // lastAccepted returns the latest reading of a point that is not a
 // retry, at full mains (no variac or variac ≥ 0.99), or nil.
@@ -354,7 +341,7 @@ func OutOfBand(rs []procedures.Reading, labels map[string]string) []Suspect {
 		}
 		label := labels[r.Point]
 		if label == "" {
-			label = pointLabel(r.Point)
+			label = (*Labeller)(nil).Label(r.Point)
 		}
 		why := fmt.Sprintf("%s reads %s, %s its band (%s) by %.2g band widths",
 			label, fmtVal(r.Value, r.Unit), dir, fmtBand(r.Low, r.High, r.Unit), dist)
