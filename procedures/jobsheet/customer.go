@@ -237,7 +237,11 @@ func (sh *Sheet) customerDocument() *document {
 	s := sh.Session
 	j := s.Job
 	amp := orDash(s.Bench.AmpID)
-	doc := &document{Title: "Repair report: " + amp, CSS: customerCSS}
+	title := s.Bench.AmpID
+	if strings.TrimSpace(title) == "" {
+		title = orDash(sh.Title)
+	}
+	doc := &document{Title: "Repair report: " + title, CSS: customerCSS}
 
 	// The job.
 	job := docSection{ID: "job", Title: "The job"}
@@ -331,6 +335,10 @@ func (sh *Sheet) customerDocument() *document {
 	if len(ba) > 0 {
 		bs := docSection{ID: "before-after", Title: "Before and after the repair"}
 		t := &table{Head: []string{"Measurement", "Should read", "Before", "After", "Now"}, Numeric: []bool{false, false, true, true, false}}
+		if len(j.Parts) == 0 && len(sh.Replaced) == 0 {
+			bs.Title = "Readings that were out of range"
+			t.Head = []string{"Measurement", "Should read", "First reading", "Last reading", "Now"}
+		}
 		for _, x := range ba {
 			after, now := "not measured again", "–"
 			if x.Remeasured {
@@ -347,12 +355,17 @@ func (sh *Sheet) customerDocument() *document {
 
 	// Safety tests.
 	st := docSection{ID: "safety", Title: "Electrical-safety tests"}
-	st.para("After the repair, with the amplifier unplugged from the mains: the earth bond from the mains plug's earth pin to the chassis (%s or less) and the insulation between the mains conductors and earth at %s DC (%s or more). Limits for an earthed (Class I) amplifier; local codes rule.",
+	st.para("Before the amplifier goes back, with it unplugged from the mains: the earth bond from the mains plug's earth pin to the chassis (%s or less) and the insulation between the mains conductors and earth at %s DC (%s or more). Limits for an earthed (Class I) amplifier; local codes rule.",
 		cVal(EarthBondMaxOhms, "Ω"), cVal(InsulationTestVolts, "V"), cVal(InsulationMinOhms, "Ω"))
 	st.table(&table{Head: []string{"Test", "Result", "Verdict"}, Rows: [][]string{
 		{"Earth bond", eb.Result, eb.Verdict},
 		{"Insulation resistance", ins.Result, ins.Verdict},
 	}, Strong: []bool{!eb.Passed, !ins.Passed}})
+	for _, k := range sh.Skips {
+		if k.Safety {
+			st.warn(fmt.Sprintf("A safety step was skipped during the work: %s (reason given: %s).", stepWords(k.Title, k.Step), k.Reason))
+		}
+	}
 	if e := lastAccepted(s.Readings, procedures.EarthKey); e != nil && j.After.EarthBond == nil {
 		st.para("Earth continuity was checked with a multimeter before the amplifier was first powered: %s (%s).",
 			cVal(e.Value, "Ω"), EarthBondMultimeterNote)
