@@ -20,7 +20,14 @@ func FuzzParseSession(f *testing.F) {
 	}
 	s := &Session{Pinwalk: SessionVersion, Design: DesignRef{File: "demo", Hash: "ab12"}, Mode: BringUp,
 		Started:  time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC),
-		Readings: []Reading{{Step: "live.B1", Point: point.MustParse("B1 dc_volts"), Raw: "312", Value: 312, Unit: "V", Status: InBand}}}
+		Readings: []Reading{{Step: "live.B1", Point: point.MustParse("B1 dc_volts"), Raw: "312", Value: 312, Unit: "V", Status: InBand}},
+		// Intake and close-out fields, so the fuzzer starts from them too.
+		Job: Job{Customer: "c", Complaint: "hum", Visual: []string{"C2 bulging"},
+			Parts: []PartChange{{Ref: "C2", Value: "100µF", Rating: "450 V", Reason: "bulging"}},
+			After: AfterRepair{EarthBond: &SafetyTest{Ohms: 0.05, Instrument: Multimeter},
+				Insulation: &SafetyTest{Ohms: 5e8, Instrument: InsulationTester, TestVolts: 500},
+				PowerOut:   []PowerOut{{Channel: "left", Watts: 5, LoadOhms: 8}}, Soak: &Soak{Duration: time.Hour}},
+			SignOff: &SignOff{Name: "t"}}}
 	dir := f.TempDir()
 	if err := s.Save(filepath.Join(dir, "s.yaml")); err == nil {
 		data, _ := os.ReadFile(filepath.Join(dir, "s.yaml"))

@@ -4,8 +4,11 @@ import (
 	"bufio"
 	"errors"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"pinwalk/expect/point"
+	"reflect"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -114,5 +117,133 @@ func TestReadingQuestioned(t *testing.T) {
 		if _, err := ParseReading(bad, m, band); err == nil {
 			t.Errorf("%q accepted as a reading", bad)
 		}
+	}
+}
+
+// TestCleanStaleTemps: only this session's temporary files, and only
+// stale ones (writer gone, or older than StaleTempAge), are removed.
+func TestCleanStaleTemps(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "amp.pinwalk.yaml")
+	now := time.Now()
+	// A process id that is not running: a child that has exited.
+	cmd := exec.Command(os.Args[0], "-test.run=^$")
+	if err := cmd.Run(); err != nil {
+		t.Fatal(err)
+	}
+	dead := strconv.Itoa(cmd.Process.Pid)
+	live := strconv.Itoa(os.Getppid())
+	files := map[string]bool{ // name: removed
+		".amp.pinwalk.yaml.tmp-" + dead + "-123":     true,  // writer gone
+		".amp.pinwalk.yaml.bak.tmp-" + dead + "-456": true,  // the .bak's, writer gone
+		".amp.pinwalk.yaml.tmp-" + live + "-789":     false, // a running process: save in progress
+		".amp.pinwalk.yaml.tmp-98765":                false, // older build's name, young
+		".other.pinwalk.yaml.tmp-" + dead + "-1":     false, // another session's
+		".amp.pinwalk.yaml.tmp-notes":                false, // not our pattern
+		"amp.pinwalk.yaml":                           false,
+	}
+	for name := range files {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte("x"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	oldName := ".amp.pinwalk.yaml.tmp-55555"
+	os.WriteFile(filepath.Join(dir, oldName), []byte("x"), 0o644)
+	old := now.Add(-2 * StaleTempAge)
+	os.Chtimes(filepath.Join(dir, oldName), old, old)
+	files[oldName] = true // older build's name, old
+	os.Mkdir(filepath.Join(dir, ".amp.pinwalk.yaml.tmp-"+dead+"-9"), 0o755)
+	files[".amp.pinwalk.yaml.tmp-"+dead+"-9"] = false // a directory: never ours
+
+	CleanStaleTemps(path, now)
+	for name, removed := range files {
+		_, err := os.Stat(filepath.Join(dir, name))
+		if gone := errors.Is(err, os.ErrNotExist); gone != removed {
+			t.Errorf("%s: removed %v, want %v", name, gone, removed)
+		}
+	}
+}
+
+// TestDamagedSessionNamesBackup: the message for a damaged session says
+// what the .bak really holds: absent, loading (with its readings), or
+// damaged too.
+func TestDamagedSessionNamesBackup(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "s.yaml")
+	s := &Session{Design: DesignRef{File: "demo", Hash: "ab12"}, Mode: BringUp}
+	at := time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC)
+	for i := 0; i < 3; i++ {
+		s.Readings = append(s.Readings, Reading{Step: "live.B1", Point: point.MustParse("B1 dc_volts"), Raw: "312", Value: 312, Unit: "V", At: at, Status: InBand})
+		if err := s.Save(path); err != nil {
+			t.Fatal(err)
+		}
+	}
+	damage := func() { os.WriteFile(path, []byte("pinwalk-session: 1\nreadings:\n  - step: [\n"), 0o644) }
+	damage()
+	_, err := LoadSession(path)
+	if err == nil || !strings.Contains(err.Error(), "s.yaml.bak) loads cleanly and holds 2 readings") {
+		t.Errorf("damaged, good .bak: %v", err)
+	}
+	os.WriteFile(path+".bak", nil, 0o644)
+	_, err = LoadSession(path)
+	if err == nil || !strings.Contains(err.Error(), "s.yaml.bak) cannot be used either") {
+		t.Errorf("damaged, empty .bak: %v", err)
+	}
+	os.Remove(path + ".bak")
+	_, err = LoadSession(path)
+	if err == nil || !strings.Contains(err.Error(), "no previous save (s.yaml.bak)") {
+		t.Errorf("damaged, no .bak: %v", err)
+	}
+}
+
+// TestJobRoundTrip: the intake and close-out fields save and load back
+// unchanged, and a session file from before them loads with them empty.
+func TestJobRoundTrip(t *testing.T) {
+	at := time.Date(2026, 1, 2, 15, 4, 5, 0, time.UTC)
+	s := &Session{Pinwalk: SessionVersion, Design: DesignRef{File: "demo", Title: "t", Hash: "ab12"}, Mode: FaultFind,
+		Started: at, Updated: at,
+		Bench: Bench{Mains: 231, Meter: "bench DMM, ±(0.5 % + 2), CAT III 1000 V", Who: "Tech B", AmpID: "Demo Amps SE-20", Serial: "0042"},
+		Job: Job{Customer: "A. Customer (invented)", Complaint: "hums loudly, then goes quiet after ten minutes",
+			Visual: []string{"C2 top bulging", "scorch mark beside R20"},
+			Parts:  []PartChange{{Ref: "C2", Value: "100µF", Rating: "450 V 105 °C", Reason: "bulging, leaky", At: at}},
+			After: AfterRepair{
+				EarthBond:  &SafetyTest{Ohms: 0.08, Raw: "0.08", Instrument: EarthBondTester, TestAmps: 10, At: at},
+				Insulation: &SafetyTest{Ohms: 200e6, Raw: ">200M", Instrument: InsulationTester, TestVolts: 500, At: at},
+				PowerOut:   []PowerOut{{Channel: "left", Watts: 4.6, LoadOhms: 8, Hz: 1000, Note: "onset of clipping", At: at}},
+				Soak:       &Soak{Duration: 90 * time.Minute, Note: "no change", At: at},
+			},
+			SignOff: &SignOff{Name: "Tech B", At: at}},
+		Readings: []Reading{{Step: "live.B1", Point: point.MustParse("B1 dc_volts"), Raw: "312", Value: 312, Unit: "V", At: at, Status: InBand}}}
+	path := filepath.Join(t.TempDir(), "job.yaml")
+	if err := s.Save(path); err != nil {
+		t.Fatal(err)
+	}
+	back, err := LoadSession(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	back.cleaned = s.cleaned
+	if !reflect.DeepEqual(back, s) {
+		t.Errorf("round trip changed the session:\n got %+v\nwant %+v", back.Job, s.Job)
+	}
+	data, _ := os.ReadFile(path)
+	for _, want := range []string{"customer:", "complaint:", "parts-replaced:", "earth-bond:", "instrument: insulation-tester", "duration: 1h30m0s", "sign-off:", "serial:"} {
+		if !strings.Contains(string(data), want) {
+			t.Errorf("saved file lacks %q", want)
+		}
+	}
+	old, err := LoadSession("../testdata/sessions/se-6v6-bringup.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(old.Job, Job{}) {
+		t.Errorf("a session from before the job fields: %+v", old.Job)
+	}
+	// A wrong instrument kind names the field and what was expected.
+	bad := strings.Replace(string(data), "instrument: insulation-tester", "instrument: clamp meter", 1)
+	_, err = ParseSession("bad.yaml", []byte(bad))
+	var se *SessionError
+	if !errors.As(err, &se) || se.Field != "job.after-repair.insulation.instrument" || !strings.Contains(se.Msg, "expected earth-bond-tester") {
+		t.Errorf("bad instrument: %v", err)
 	}
 }

@@ -85,19 +85,19 @@ type jsonReport struct {
 	} `json:"conditions"`
 	// Monte Carlo: samples asked, failed (did not converge), the seed, and
 	// up to a few distinct failure messages.
-	Samples      int             `json:"samples"`
-	Failed       int             `json:"failed"`
-	FailErrors   []string        `json:"fail_errors,omitempty"`
-	Seed         uint64          `json:"seed"`
-	Meter        string          `json:"meter"`
-	MeterOhms    float64         `json:"meter_ohms"`
-	MeterLoading []jsonLoading   `json:"meter_loading"`
-	Points       []jsonPoint     `json:"points"`
-	Sections     []jsonSection   `json:"sections"`
-	Resistors    []jsonResistor  `json:"resistors"`
-	Supply       []jsonNet       `json:"supply,omitempty"`
-	Windings     []amp.WindingOP `json:"heater_windings"`
-	Findings     []string        `json:"findings"`
+	Samples      int            `json:"samples"`
+	Failed       int            `json:"failed"`
+	FailErrors   []string       `json:"fail_errors,omitempty"`
+	Seed         uint64         `json:"seed"`
+	Meter        string         `json:"meter"`
+	MeterOhms    float64        `json:"meter_ohms"`
+	MeterLoading []jsonLoading  `json:"meter_loading"`
+	Points       []jsonPoint    `json:"points"`
+	Sections     []jsonSection  `json:"sections"`
+	Resistors    []jsonResistor `json:"resistors"`
+	Supply       []jsonNet      `json:"supply,omitempty"`
+	Windings     []jsonWinding  `json:"heater_windings"`
+	Findings     []string       `json:"findings"`
 }
 
 // faultFlags collects repeated --fault REF:MODE options.
@@ -353,7 +353,14 @@ func buildReport(d *design.Design, m *amp.Model, op, cold *amp.OP, cond amp.Cond
 			rep.Supply = append(rep.Supply, jn)
 		}
 	}
-	rep.Windings = op.Windings
+	for _, hw := range op.Windings {
+		refs := hw.Refs
+		if refs == nil {
+			refs = []string{}
+		}
+		rep.Windings = append(rep.Windings, jsonWinding{Name: hw.Name, Volts: round(hw.Volts), Amps: round(hw.Amps),
+			RatedAmps: hw.RatedAmps, Refs: refs})
+	}
 	for _, f := range m.RatingChecks(op, cold) {
 		rep.Findings = append(rep.Findings, fmt.Sprintf("%s: %s", f.Severity, f.Msg))
 	}
@@ -418,15 +425,20 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 		fmt.Fprintf(w, "%s  %s (%s base, pins seen from below)\n", vp.Ref, vp.Valve.Type.Name, vp.Valve.Type.Base)
 		for _, pd := range amp.PinsOfValve(points, vp.Ref) {
 			v := m.Value(op, pd)
-			fmt.Fprintf(w, "  %-44s %-12s %12s   %s\n", pd.Label, qtyWord(pd.Quantity), amp.FormatValue(v, pd.Quantity), bandOf(pd.ID, pd.Quantity))
+			line := fmt.Sprintf("  %-44s %-12s %12s   %s", pd.Label, qtyWord(pd.Quantity), amp.FormatValue(v, pd.Quantity), bandOf(pd.ID, pd.Quantity))
+			fmt.Fprintln(w, strings.TrimRight(line, " "))
 		}
 		fmt.Fprintln(w)
 	}
 	if op.Supply != nil {
 		fmt.Fprintln(w, "HT supply (from the rectifier outwards)")
 		for _, n := range rep.Supply {
-			fmt.Fprintf(w, "  %-8s %10s DC (%s)  ripple %10s rms  load %9s  switch-on peak %10s\n", n.Net,
-				units.Format(n.Volts, units.Volts), bandOf(n.Net, amp.DCVolts), units.Format(n.Ripple, units.Volts),
+			band := bandOf(n.Net, amp.DCVolts)
+			if band != "" {
+				band = " (" + band + ")"
+			}
+			fmt.Fprintf(w, "  %-8s %10s DC%s  ripple %10s rms  load %9s  switch-on peak %10s\n", n.Net,
+				units.Format(n.Volts, units.Volts), band, units.Format(n.Ripple, units.Volts),
 				units.Format(n.LoadAmps, units.Amps), units.Format(n.ColdPeak, units.Volts))
 		}
 		fmt.Fprintf(w, "  rectifier peak current %s per path\n\n", units.Format(op.Supply.PeakRectAmps, units.Amps))
@@ -436,7 +448,8 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 		if pd.Valve != "" || pd.Quantity != amp.DCVolts || isSupplyNet(rep, pd.Net) || strings.HasPrefix(pd.Net, "~") {
 			continue
 		}
-		fmt.Fprintf(w, "  %-8s %10s   %s\n", pd.Net, amp.FormatValue(m.Value(op, pd), pd.Quantity), bandOf(pd.ID, pd.Quantity))
+		line := fmt.Sprintf("  %-8s %10s   %s", pd.Net, amp.FormatValue(m.Value(op, pd), pd.Quantity), bandOf(pd.ID, pd.Quantity))
+		fmt.Fprintln(w, strings.TrimRight(line, " "))
 	}
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "Meter loading (%s, %s input)\n", rep.Meter, units.Format(rep.MeterOhms, units.Ohms))
@@ -531,6 +544,17 @@ func qtyWord(q string) string {
 		return "ripple"
 	}
 	return q
+}
+
+// jsonWinding is one heater winding: loaded rms volts and amps, the
+// winding's rated current (0 when the design does not give it) and the
+// valves it feeds.
+type jsonWinding struct {
+	Name      string   `json:"name"`
+	Volts     float64  `json:"volts"`
+	Amps      float64  `json:"amps"`
+	RatedAmps float64  `json:"rated_amps"`
+	Refs      []string `json:"valves"`
 }
 
 // jsonStep is one variac setting of `expect --variac steps`.

@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"regexp"
 	"strings"
 	"testing"
 )
@@ -116,5 +117,74 @@ func TestExpectVariac(t *testing.T) {
 	code, out, errOut := runCLI("expect", "--variac", "steps", "--samples", "20", "demo")
 	if code != exitOK || !strings.Contains(out, "Variac 25%") || !strings.Contains(out, "Variac 100%") || !strings.Contains(out, "DANGER") {
 		t.Errorf("steps: exit %d\n%s%s", code, out, errOut)
+	}
+}
+
+// snakeKey is a JSON key in snake_case: lower-case words joined by "_".
+var snakeKey = regexp.MustCompile(`^[a-z0-9]+(_[a-z0-9]+)*$`)
+
+// badKeys returns every object key in a decoded JSON value that is not
+// snake_case, with its path.
+func badKeys(v any, at string) []string {
+	var bad []string
+	switch x := v.(type) {
+	case map[string]any:
+		for k, e := range x {
+			if !snakeKey.MatchString(k) {
+				bad = append(bad, at+"."+k)
+			}
+			bad = append(bad, badKeys(e, at+"."+k)...)
+		}
+	case []any:
+		for _, e := range x {
+			bad = append(bad, badKeys(e, at+"[]")...)
+		}
+	}
+	return bad
+}
+
+// Every key of every expect --json shape is snake_case, heater windings
+// included.
+func TestExpectJSONSnakeCase(t *testing.T) {
+	for _, args := range [][]string{
+		{"demo", "--samples", "20"},
+		{"demo", "--samples", "0"},
+		{"demo:pp-el34-fixed", "--samples", "20", "--tone", "1kHz:100mV"},
+		{"demo", "--samples", "20", "--variac", "steps"},
+		{"demo", "--cold"},
+	} {
+		code, out, errOut := runCLI(append([]string{"expect", "--json"}, args...)...)
+		if code != exitOK {
+			t.Fatalf("expect --json %v: exit %d: %s", args, code, errOut)
+		}
+		var doc any
+		if err := json.Unmarshal([]byte(out), &doc); err != nil {
+			t.Fatalf("expect --json %v: %v", args, err)
+		}
+		if bad := badKeys(doc, ""); len(bad) > 0 {
+			t.Errorf("expect --json %v: keys not snake_case: %v", args, bad)
+		}
+		if args[len(args)-1] == "20" && !strings.Contains(out, `"heater_windings"`) {
+			t.Errorf("expect --json %v: no heater_windings", args)
+		} else if strings.Contains(out, `"heater_windings"`) && !strings.Contains(out, `"rated_amps"`) {
+			t.Errorf("expect --json %v: heater windings without rated_amps", args)
+		}
+	}
+}
+
+// With --samples 0 there are no bands, and no empty band brackets or
+// trailing blanks where a band would be.
+func TestExpectNominalOnlyText(t *testing.T) {
+	code, out, errOut := runCLI("expect", "demo", "--samples", "0")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	for i, l := range strings.Split(out, "\n") {
+		if strings.Contains(l, "()") || strings.HasSuffix(l, " ") {
+			t.Errorf("line %d: %q: an empty band", i+1, l)
+		}
+	}
+	if !strings.Contains(out, "B1 ") || !strings.Contains(out, " V DC  ripple") {
+		t.Errorf("supply lines missing:\n%s", out)
 	}
 }

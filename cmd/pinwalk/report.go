@@ -21,6 +21,7 @@ func runReport(args []string, stdout, stderr io.Writer) int {
 	out := fs.String("o", "", "write to this file instead of standard output")
 	designArg := fs.String("design", "", "the design to use instead of the one the session names (a file, demo or demo:NAME)")
 	compare := fs.Bool("compare", false, "compare two sessions of the same amp, point by point: --compare OLD NEW")
+	reader := fs.String("for", "bench", "who the sheet is for: bench (the technician's log, every reading against its band) or customer (the repair report: complaint, what was found, parts, before and after, safety tests, sign-off; the bench log as an appendix)")
 	fs.Usage = func() {
 		fmt.Fprintln(stderr, `Usage: pinwalk report [options] SESSION
        pinwalk report --compare [options] OLD NEW
@@ -33,7 +34,8 @@ point with dissipation against its rating, the B+ chain, and the findings;
 for training and practice sessions, the predictions and the path taken.
 HTML is one self-contained file with plots of each valve's plate
 characteristics and load lines, for printing or archiving. --compare sets
-two sessions side by side (before and after a repair).`)
+two sessions side by side (before and after a repair). --for customer
+writes the repair report for the amp's owner instead, in plain words.`)
 		fs.PrintDefaults()
 	}
 	pos, code, done := parseInterspersed(fs, args)
@@ -66,6 +68,19 @@ two sessions side by side (before and after a repair).`)
 		fmt.Fprintf(stderr, "pinwalk: --format %q: expected md or html\n", *format)
 		return exitUsage
 	}
+	customer := false
+	switch *reader {
+	case "bench":
+	case "customer":
+		customer = true
+		if *compare {
+			fmt.Fprintln(stderr, "pinwalk: report --for customer takes one session (its before and after come from the readings), not --compare")
+			return exitUsage
+		}
+	default:
+		fmt.Fprintf(stderr, "pinwalk: --for %q: expected bench or customer\n", *reader)
+		return exitUsage
+	}
 
 	var sheets []*jobsheet.Sheet
 	for _, p := range pos {
@@ -84,6 +99,10 @@ two sessions side by side (before and after a repair).`)
 		} else {
 			err = c.Markdown(&buf)
 		}
+	} else if customer && f == "html" {
+		err = sheets[0].CustomerHTML(&buf)
+	} else if customer {
+		err = sheets[0].CustomerMarkdown(&buf)
 	} else if f == "html" {
 		err = sheets[0].HTML(&buf)
 	} else {

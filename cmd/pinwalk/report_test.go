@@ -66,3 +66,37 @@ func TestReportFileAndErrors(t *testing.T) {
 		t.Errorf("--design with another design: exit %d, stderr %q", code, errs)
 	}
 }
+
+// --for customer writes the repair report (Markdown, or HTML by -o's
+// extension) with no point keys; --for takes bench or customer only.
+func TestReportForCustomer(t *testing.T) {
+	const repair = "../../testdata/sessions/pp-el34-repair.yaml"
+	code, md, errs := runCLI("report", repair, "--for", "customer")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, w := range []string{"# Repair report: Example Audio PP-40 (invented)", "## Before and after the repair", "## Appendix: bench log",
+		"Discharge and verify C2 (47 µF on B2): ✓ within range"} {
+		if !strings.Contains(md, w) {
+			t.Errorf("customer sheet lacks %q", w)
+		}
+	}
+	for _, key := range []string{"cold:", "discharge:", "bias:", "dc\\_volts", "V3.8", "variac-"} {
+		if strings.Contains(md, key) {
+			t.Errorf("customer sheet shows the internal key %q", key)
+		}
+	}
+	out := filepath.Join(t.TempDir(), "job.html")
+	if code, _, errs := runCLI("report", repair, "--for", "customer", "-o", out); code != 0 {
+		t.Fatalf("-o job.html: exit %d: %s", code, errs)
+	}
+	if b, err := os.ReadFile(out); err != nil || !strings.Contains(string(b), "@page") {
+		t.Errorf("-o job.html: no print stylesheet (%v)", err)
+	}
+	if code, _, _ := runCLI("report", repair, "--for", "owner"); code != exitUsage {
+		t.Errorf("--for owner: exit %d, want %d", code, exitUsage)
+	}
+	if code, _, _ := runCLI("report", "--compare", "--for", "customer", reportFixture, repair); code != exitUsage {
+		t.Errorf("--compare --for customer: exit %d, want %d", code, exitUsage)
+	}
+}

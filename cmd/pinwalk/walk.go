@@ -7,10 +7,12 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"strings"
 	"time"
 
 	"github.com/charmbracelet/x/term"
 
+	"pinwalk/expect/units"
 	"pinwalk/procedures"
 	"pinwalk/tui"
 )
@@ -31,6 +33,14 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 	seed := fs.Uint64("seed", 1, "seed of the bands and of a practice session's hidden fault")
 	samples := fs.Int("samples", 0, "Monte Carlo samples per variac setting (default 300)")
 	accept := fs.Bool("accept-changed-design", false, "continue a session whose design file changed since it started")
+	// Job intake, for scripts (the walk asks for the same on screen).
+	customer := fs.String("customer", "", "job intake: the customer's name")
+	ampName := fs.String("amp", "", "job intake: the amp's make and model")
+	serial := fs.String("serial", "", "job intake: the amp's serial number")
+	complaint := fs.String("complaint", "", "job intake: the fault in the customer's words")
+	technician := fs.String("technician", "", "who works on the amp (signs the job sheet)")
+	meterName := fs.String("bench-meter", "", "the meter used: make, model and accuracy as on its data sheet")
+	benchMains := fs.String("bench-mains", "", "bench mains as measured at the wall, volts rms (e.g. 232)")
 	fs.Usage = func() {
 		fmt.Fprintf(stderr, "Usage: pinwalk walk [DESIGN] --plain [--mode bringup|faultfind|training|practice|signal] [--session FILE] [--seed N]\n\n")
 		fs.PrintDefaults()
@@ -77,6 +87,10 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 		sess = procedures.NewSession(d, m, *seed, now)
 		fmt.Fprintf(stdout, "New session: %s\n", path)
 	}
+	if err := fillIntake(sess, *customer, *ampName, *serial, *complaint, *technician, *meterName, *benchMains); err != nil {
+		fmt.Fprintf(stderr, "pinwalk walk: %v\n", err)
+		return exitUsage
+	}
 	wo := procedures.WalkOptions{Samples: *samples, Seed: *seed, AcceptChanged: *accept}
 	if *tone != "" {
 		if wo.Tone, err = parseTone(*tone); err != nil {
@@ -116,4 +130,29 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 func isTerminal(w any) bool {
 	f, ok := w.(*os.File)
 	return ok && term.IsTerminal(f.Fd())
+}
+
+// fillIntake sets the session's job-intake and bench fields from the
+// walk's flags; an empty flag leaves its field as it is (a resumed
+// session keeps what it has).
+func fillIntake(s *procedures.Session, customer, ampName, serial, complaint, technician, meter, mains string) error {
+	set := func(dst *string, v string) {
+		if v = strings.TrimSpace(v); v != "" {
+			*dst = v
+		}
+	}
+	set(&s.Job.Customer, customer)
+	set(&s.Bench.AmpID, ampName)
+	set(&s.Bench.Serial, serial)
+	set(&s.Job.Complaint, complaint)
+	set(&s.Bench.Who, technician)
+	set(&s.Bench.Meter, meter)
+	if mains = strings.TrimSpace(mains); mains != "" {
+		v, err := units.Parse(mains, units.Volts)
+		if err != nil || v < 50 || v > 300 {
+			return fmt.Errorf("--bench-mains %q: expected the mains volts as measured, 50 to 300 (e.g. 232 or 232V)", mains)
+		}
+		s.Bench.Mains = v
+	}
+	return nil
 }

@@ -47,6 +47,7 @@ type docSection struct {
 type document struct {
 	Title    string
 	Sections []docSection
+	CSS      string // the HTML style ("": the bench sheet's)
 }
 
 func (s *docSection) para(format string, args ...any) {
@@ -62,6 +63,16 @@ func (s *docSection) list(items []string) {
 func (s *docSection) table(t *table) { s.Blocks = append(s.Blocks, block{Kind: bTable, Table: t}) }
 func (s *docSection) svg(svg, caption string) {
 	s.Blocks = append(s.Blocks, block{Kind: bSVG, SVG: svg, Text: caption})
+}
+
+func nonEmpty(ss ...string) []string {
+	var out []string
+	for _, s := range ss {
+		if strings.TrimSpace(s) != "" {
+			out = append(out, s)
+		}
+	}
+	return out
 }
 
 func orDash(s string) string {
@@ -107,6 +118,21 @@ func (sh *Sheet) document() *document {
 		{"Started", sh.Started.Format(TimeLayout + " MST")},
 		{"Last change", sh.Updated.Format(TimeLayout + " MST")},
 	}})
+	// Job intake, when the session has it.
+	var intake [][]string
+	for _, r := range [][2]string{{"Customer", s.Job.Customer}, {"Serial", s.Bench.Serial}, {"Complaint", s.Job.Complaint}} {
+		if strings.TrimSpace(r[1]) != "" {
+			intake = append(intake, []string{r[0], r[1]})
+		}
+	}
+	if len(intake) > 0 {
+		top.heading("Job intake")
+		top.table(&table{Head: []string{"Item", "Value"}, Rows: intake})
+	}
+	if len(s.Job.Visual) > 0 {
+		top.heading("Visual inspection")
+		top.list(s.Job.Visual)
+	}
 	if len(s.Symptoms) > 0 {
 		top.heading("Symptoms reported")
 		top.list(s.Symptoms)
@@ -281,6 +307,25 @@ func (sh *Sheet) document() *document {
 		{"Parts replaced", orDash(strings.Join(sh.Replaced, ", "))},
 		{"Summary", orDash(sh.Summary)},
 	}})
+	if j := s.Job; len(j.Parts) > 0 || j.After.EarthBond != nil || j.After.Insulation != nil || len(j.After.PowerOut) > 0 || j.After.Soak != nil || j.SignOff != nil {
+		fd.heading("Close-out")
+		var rows [][]string
+		for _, p := range j.Parts {
+			rows = append(rows, []string{"Replaced " + p.Ref, strings.Join(nonEmpty(p.Value, p.Rating, p.Reason), "; ")})
+		}
+		eb, ins := judgeEarth(j.After.EarthBond), judgeInsulation(j.After.Insulation)
+		rows = append(rows, []string{"Earth bond", eb.Result + ": " + eb.Verdict}, []string{"Insulation resistance", ins.Result + ": " + ins.Verdict})
+		for _, p := range j.After.PowerOut {
+			rows = append(rows, []string{"Power out, " + orDash(p.Channel), fmtVal(p.Watts, "W") + " into " + fmtVal(p.LoadOhms, "Ω") + " " + p.Note})
+		}
+		if j.After.Soak != nil {
+			rows = append(rows, []string{"Soak", strings.Join(nonEmpty(durationWords(j.After.Soak.Duration), j.After.Soak.Note), ": ")})
+		}
+		if j.SignOff != nil {
+			rows = append(rows, []string{"Signed off", j.SignOff.Name + ", " + timeZ(j.SignOff.At)})
+		}
+		fd.table(&table{Head: []string{"Item", "Value"}, Rows: rows})
+	}
 	if len(sh.Notes) > 0 {
 		fd.heading("Notes")
 		t := &table{Head: []string{"Time", "Step", "Note"}}
@@ -308,7 +353,7 @@ func (sh *Sheet) document() *document {
 					res = "✓ within the band"
 					good++
 				}
-				t.Rows = append(t.Rows, []string{g.At.Format("15:04"), pointLabel(g.Point), g.Raw + " (" + fmtVal(g.Value, unit) + ")", fmtBand(g.Low, g.High, unit), res})
+				t.Rows = append(t.Rows, []string{g.At.Format("15:04"), sh.Label(g.Point), g.Raw + " (" + fmtVal(g.Value, unit) + ")", fmtBand(g.Low, g.High, unit), res})
 				t.Strong = append(t.Strong, false)
 			}
 			tr.para("%d of %d predictions within the band.", good, len(sh.Guesses))

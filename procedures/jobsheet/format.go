@@ -22,6 +22,9 @@ func fmtVal(v float64, unit string) string {
 	if math.IsInf(v, 1) && unit == "Ω" {
 		return "open (OL)"
 	}
+	if math.IsInf(v, 0) || math.IsNaN(v) {
+		return "no limit"
+	}
 	q := units.BySymbol(unit)
 	if q == units.None {
 		return strconv.FormatFloat(v, 'g', 3, 64) + unit
@@ -31,6 +34,17 @@ func fmtVal(v float64, unit string) string {
 
 // fmtBand prints a band "261 V to 298 V".
 func fmtBand(lo, hi float64, unit string) string {
+	switch {
+	case math.IsInf(lo, 1) && unit == "Ω":
+		return "open (OL)"
+	case math.IsInf(hi, 1):
+		if unit == "Ω" {
+			return fmtVal(lo, unit) + " or more, up to open"
+		}
+		return fmtVal(lo, unit) + " or more"
+	case math.IsInf(lo, -1):
+		return fmtVal(hi, unit) + " or less"
+	}
 	return fmtVal(lo, unit) + " to " + fmtVal(hi, unit)
 }
 
@@ -88,18 +102,28 @@ func pct(v, of float64) string {
 	return strconv.FormatFloat(100*v/of, 'f', 0, 64) + " %"
 }
 
+// variacText says how the amp was powered, from the variac fractions its
+// readings were taken at (0: unpowered): "not powered" when no reading
+// was taken with mains applied, "not used" only when every powered
+// reading was at full mains.
 func variacText(vs []float64) string {
 	var parts []string
-	on := false
+	powered, reduced := false, false
 	for _, v := range vs {
-		if v == 0 {
+		if v <= 0 {
 			continue
 		}
-		on = true
+		powered = true
+		if v < 0.99 {
+			reduced = true
+		}
 		parts = append(parts, strconv.FormatFloat(100*v, 'f', 0, 64)+" %")
 	}
-	if !on {
-		return "not used (full mains)"
+	switch {
+	case !powered:
+		return "not powered: no reading was taken with mains applied"
+	case !reduced:
+		return "not used: powered at full mains"
 	}
 	return "readings at " + strings.Join(parts, ", ") + " of mains"
 }

@@ -39,7 +39,11 @@ func esc(s string) string { return html.EscapeString(s) }
 func (d *document) html(w io.Writer) error {
 	var b strings.Builder
 	b.WriteString("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n")
-	b.WriteString("<title>" + esc(d.Title) + "</title>\n<style>" + css + "</style>\n</head>\n<body>\n")
+	style := css
+	if d.CSS != "" {
+		style = d.CSS
+	}
+	b.WriteString("<title>" + esc(d.Title) + "</title>\n<style>" + style + "</style>\n</head>\n<body>\n")
 	b.WriteString("<h1>" + esc(d.Title) + "</h1>\n")
 	for _, s := range d.Sections {
 		b.WriteString("<section id=\"" + esc(s.ID) + "\">\n<h2>" + esc(s.Title) + "</h2>\n")

@@ -73,7 +73,12 @@ type Sheet struct {
 	Attempts  []AttemptRow
 	Practice  *procedures.Practice
 	StepTitle map[string]string
+
+	labeller *Labeller
 }
+
+// Label describes a point key in words (see Labeller.Label).
+func (sh *Sheet) Label(k point.Key) string { return sh.labeller.Label(k) }
 
 // SafetyCheck is a safety step done: confirmed, or measured (discharge
 // verified, earth continuity read).
@@ -259,12 +264,11 @@ func Build(s *procedures.Session, opt Options) (*Sheet, error) {
 			}
 		}
 	}
+	sh.labeller = NewLabeller(d)
 	for _, r := range s.Readings {
 		sh.StepTitle[r.Step] = stepTitle(r.Step)
+		labels[r.Point.String()] = sh.labeller.Label(r.Point)
 		row := ReadingRow{Reading: r, Label: labels[r.Point.String()], HasBand: r.Low != 0 || r.High != 0 || r.Nominal != 0}
-		if row.Label == "" {
-			row.Label = pointLabel(r.Point)
-		}
 		sh.Readings = append(sh.Readings, row)
 	}
 
@@ -298,26 +302,6 @@ func Build(s *procedures.Session, opt Options) (*Sheet, error) {
 
 // TimeLayout is how the sheet prints times: in the session's own zone.
 const TimeLayout = "2006-01-02 15:04"
-
-// pointLabel describes a point key that is not a socket pin or net of the
-// design: "cold:B1 ohms" → "B1 to chassis, cold (ohms)".
-func pointLabel(k point.Key) string {
-	switch k.Domain {
-	case point.Cold:
-		return k.ID + " to chassis, unpowered"
-	case point.Discharge:
-		return k.ID + " after discharge"
-	case point.Part:
-		return k.ID + " out of circuit"
-	case point.Bias:
-		return k.ID + " idle current setting"
-	case point.Earth:
-		return "mains earth pin to chassis"
-	case point.Mains:
-		return "mains volts"
-	}
-	return k.ID
-}
 
 // lastAccepted returns the latest reading of a point that is not a
 // retry, at full mains (no variac or variac ≥ 0.99), or nil.
@@ -358,7 +342,7 @@ func OutOfBand(rs []procedures.Reading, labels map[string]string) []Suspect {
 		}
 		label := labels[r.Point.String()]
 		if label == "" {
-			label = pointLabel(r.Point)
+			label = (*Labeller)(nil).Label(r.Point)
 		}
 		why := fmt.Sprintf("%s reads %s, %s its band (%s) by %.2g band widths",
 			label, fmtVal(r.Value, r.Unit), dir, fmtBand(r.Low, r.High, r.Unit), dist)

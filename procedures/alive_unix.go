@@ -1,0 +1,19 @@
+//go:build unix
+
+package procedures
+
+import (
+	"errors"
+	"syscall"
+)
+
+// processAlive reports whether a process with this id exists (signal 0
+// probes without sending anything; EPERM means it exists under another
+// user).
+func processAlive(pid int) bool {
+	if pid <= 0 {
+		return false
+	}
+	err := syscall.Kill(pid, 0)
+	return err == nil || errors.Is(err, syscall.EPERM)
+}
