@@ -1,11 +1,13 @@
 package mna
 
 import (
+	"encoding/binary"
 	"errors"
 	"fmt"
 	"math"
 	"sort"
 	"strings"
+	"sync"
 )
 
 // relTol is the relative part of both convergence tests: a node-voltage step
@@ -143,11 +145,7 @@ func (c *Circuit) prepare() {
 		}
 	}
 	mark := c.buildPattern()
-	hasDiag := make([]bool, s)
-	for i := 0; i < w.nn; i++ {
-		hasDiag[i] = true
-	}
-	w.sym = analyse(mark, s, hasDiag)
+	w.sym = c.symbolicFor(mark)
 	w.vals = make([]float64, w.sym.nnz)
 	w.vbase = make([]float64, w.sym.nnz)
 	w.vcopy = make([]float64, w.sym.nnz)
@@ -193,6 +191,56 @@ func (c *Circuit) prepare() {
 	w.a, w.piv, w.span = nil, nil, nil
 	w.frozen, w.frozenOK = nil, false
 	w.valid = true
+}
+
+// symCache holds the symbolic analyses of nonlinear circuits by pattern:
+// every tolerance sample and fault hypothesis of an amplifier builds a
+// circuit of the same topology, and the analysis (ordering and fill) is
+// read-only once made. Linear circuits (cold resistance networks, one
+// solve each, many topologies) are not cached.
+var (
+	symMu    sync.Mutex
+	symCache = map[string]*symbolic{}
+)
+
+const maxSymCache = 64
+
+func (c *Circuit) symbolicFor(mark []bool) *symbolic {
+	w := &c.ws
+	s := w.size
+	analyseNow := func() *symbolic {
+		hasDiag := make([]bool, s)
+		for i := 0; i < w.nn; i++ {
+			hasDiag[i] = true
+		}
+		return analyse(mark, s, hasDiag)
+	}
+	if len(c.devs) == 0 {
+		return analyseNow()
+	}
+	key := make([]byte, 0, 4*(len(w.cols)+len(w.rowPtr)+2))
+	key = binary.LittleEndian.AppendUint32(key, uint32(s))
+	key = binary.LittleEndian.AppendUint32(key, uint32(w.nn))
+	for _, v := range w.rowPtr {
+		key = binary.LittleEndian.AppendUint32(key, uint32(v))
+	}
+	for _, v := range w.cols {
+		key = binary.LittleEndian.AppendUint32(key, uint32(v))
+	}
+	symMu.Lock()
+	sym, ok := symCache[string(key)]
+	symMu.Unlock()
+	if ok {
+		return sym
+	}
+	sym = analyseNow()
+	symMu.Lock()
+	if len(symCache) >= maxSymCache {
+		clear(symCache)
+	}
+	symCache[string(key)] = sym
+	symMu.Unlock()
+	return sym
 }
 
 // buildPattern records which entries of the assembled matrix can be
