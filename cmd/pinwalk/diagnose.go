@@ -63,8 +63,15 @@ func parseReadingsFile(name string, data []byte) (*readingsFile, []string) {
 	}
 	rf := &readingsFile{}
 	var errs []string
+	seen := map[string]int{} // point id → line of its first reading
 	for i := 0; i+1 < len(root.Content); i += 2 {
 		k, v := root.Content[i], root.Content[i+1]
+		switch k.Value {
+		case "mains", "variac", "meter":
+			errs = append(errs, fmt.Sprintf("%s:%d: %s: a setting, not a point: expected it under `conditions:`, like `conditions: {%s: %s}`",
+				name, k.Line, k.Value, k.Value, map[string]string{"mains": "230V", "variac": "50%", "meter": "10M"}[k.Value]))
+			continue
+		}
 		if k.Value == "conditions" {
 			if v.Kind != yaml.MappingNode {
 				errs = append(errs, fmt.Sprintf("%s:%d: conditions: expected a mapping (mains, variac, meter)", name, v.Line))
@@ -89,6 +96,10 @@ func parseReadingsFile(name string, data []byte) (*readingsFile, []string) {
 					}
 					rf.cond.Variac = x / 100
 				case "meter":
+					if _, err := bands.ParseMeter(cv.Value); err != nil {
+						errs = append(errs, fmt.Sprintf("%s:%d: conditions: %v", name, cv.Line, err))
+						continue
+					}
 					rf.meter = cv.Value
 				default:
 					errs = append(errs, fmt.Sprintf("%s:%d: conditions: unknown field %q%s: expected mains, variac or meter", name, ck.Line, ck.Value,
@@ -101,9 +112,55 @@ func parseReadingsFile(name string, data []byte) (*readingsFile, []string) {
 			errs = append(errs, fmt.Sprintf("%s:%d: %s: expected one reading, like 245V", name, v.Line, k.Value))
 			continue
 		}
+		id := strings.TrimSpace(k.Value)
+		if first, dup := seen[id]; dup {
+			errs = append(errs, fmt.Sprintf("%s:%d: %s: read twice, at line %d and line %d: expected one reading per point (keep the one you trust)", name, k.Line, id, first, k.Line))
+			continue
+		}
+		seen[id] = k.Line
+		if msg := checkReadingValue(id, v.Value); msg != "" {
+			errs = append(errs, fmt.Sprintf("%s:%d: %s: %s", name, v.Line, id, msg))
+			continue
+		}
 		rf.readings = append(rf.readings, rawReading{id: k.Value, value: v.Value, line: k.Line})
 	}
 	return rf, errs
+}
+
+// Largest magnitudes a bench reading can have (our limits, far above any
+// valve amplifier's: its B+ is at most a few kilovolts).
+const (
+	maxReadingVolts = 10e3
+	maxReadingAmps  = 100
+	maxReadingOhms  = 1e13
+)
+
+// checkReadingValue checks a reading's value for its point id (the unit
+// follows from the id: "cold:…" is ohms, "… dc_amps" amps, else volts) and
+// returns what was expected, or "".
+func checkReadingValue(id, value string) string {
+	uq, what, limit := units.Volts, "volts", maxReadingVolts
+	switch {
+	case strings.HasPrefix(id, "cold:"):
+		uq, what, limit = units.Ohms, "ohms", maxReadingOhms
+		switch strings.ToLower(strings.TrimSpace(value)) {
+		case "open", "ol", "inf", "o.l.", "over":
+			return ""
+		}
+	case strings.HasSuffix(id, " "+amp.DCAmps), strings.HasSuffix(id, " "+amp.ACAmps):
+		uq, what, limit = units.Amps, "amps", maxReadingAmps
+	}
+	x, err := units.Parse(value, uq)
+	if err != nil {
+		return fmt.Sprintf("%v", err)
+	}
+	switch {
+	case math.IsNaN(x) || math.IsInf(x, 0) || math.Abs(x) > limit:
+		return fmt.Sprintf("%q: expected a finite reading in %s within ±%s", value, what, units.Format(limit, uq))
+	case uq == units.Ohms && x < 0:
+		return fmt.Sprintf("%q: expected a resistance of 0 Ω or more, or open (an ohmmeter shows a negative value when a charged capacitor or a live circuit drives it: power off, discharge, and measure again)", value)
+	}
+	return ""
 }
 
 func suggestHint(w string, cands []string) string {
@@ -346,6 +403,7 @@ that would narrow them down most for the effort.`)
 	}
 	var obs []infer.Observation
 	bad := false
+	firstLine := map[string]int{}
 	for _, r := range rf.readings {
 		o, err := resolveReading(e, keys, ids, *readings, r)
 		if err != nil {
@@ -353,6 +411,12 @@ that would narrow them down most for the effort.`)
 			bad = true
 			continue
 		}
+		if l, dup := firstLine[o.Key]; dup {
+			fmt.Fprintf(stderr, "%s:%d: %s: the same point as line %d (%s): expected one reading per point\n", *readings, r.line, strings.TrimSpace(r.id), l, o.Key)
+			bad = true
+			continue
+		}
+		firstLine[o.Key] = r.line
 		obs = append(obs, o)
 	}
 	if bad {

@@ -506,6 +506,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	var res supply.Result
 	var err error
 	prevV := math.Inf(1)
+	prevV0, prevI0 := math.Inf(1), 0.0
 	for it := 1; it <= 30; it++ {
 		sp.FixedPointIterations = it
 		s.stageLoads(&p, nil)
@@ -513,8 +514,25 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		if err != nil && !errors.Is(err, supply.ErrNoSteadyState) {
 			return fmt.Errorf("HT supply: %w", err)
 		}
-		v0 := res.Nets[0].Vdc
-		i0 := res.Nets[0].DCAmps
+		// A rectifier and capacitor-input filter cannot hold the reservoir
+		// below 0 V nor above the cold-start peak (no current flows
+		// backwards through a rectifier); a simulation that has not
+		// settled (an emission-limited valve rectifier on a low variac
+		// setting, a rectifier open) can report either, so the line is
+		// clamped to what the supply can physically give.
+		v0 := clampSupply(res.Nets[0].Vdc, cold)
+		i0 := max(res.Nets[0].DCAmps, 0)
+		if it > 1 && math.Abs(v0-prevV0) > 0.05*max(1, math.Abs(v0)) && i0 != prevI0 {
+			// B+ still moves by more than 5 %: the supply's line is far
+			// from straight (an emission-limited rectifier on a low
+			// variac setting); the secant through the last two points
+			// of the supply's curve keeps the iteration from
+			// oscillating between no load and overload.
+			if sec := (prevV0 - v0) / (i0 - prevI0); sec > rth {
+				rth = sec
+			}
+		}
+		prevV0, prevI0 = v0, i0
 		if it == 1 {
 			// Incremental output resistance from a perturbed simulation.
 			dI := max(0.02*i0, 1e-3)
@@ -523,7 +541,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 			p2.Stages[0].LoadA += dI
 			r2, err2 := supply.Simulate(p2, s.sopt)
 			if err2 == nil || errors.Is(err2, supply.ErrNoSteadyState) {
-				rth = max((v0-r2.Nets[0].Vdc)/dI, 0.1)
+				rth = max((v0-clampSupply(r2.Nets[0].Vdc, cold))/dI, 0.1)
 			}
 		}
 		vth = v0 + rth*i0
@@ -560,6 +578,15 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	}
 	s.extract(op, hv, frac)
 	return nil
+}
+
+// clampSupply limits a simulated reservoir voltage to [0, peak] (NaN
+// gives 0).
+func clampSupply(v, peak float64) float64 {
+	if !(v > 0) {
+		return 0
+	}
+	return min(v, max(peak, 0))
 }
 
 // ColdPeakAll records the same cold-start peak on every net (no current

@@ -71,22 +71,45 @@ func FaultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault, c
 		n.adj[e.b] = append(n.adj[e.b], i)
 	}
 	out = make([]Check, len(base))
+	hits := make([]bool, len(base))
+	byTo := map[string][]int{} // readings to solve, by the net they are read to
+	var tos []string
 	for i, c := range base {
 		out[i] = c
-		hit := false
 		for net := range orig.reach(c.From, "") {
 			if touched[net] {
-				hit = true
+				hits[i] = true
 				break
 			}
 		}
-		if !hit {
-			continue
+		if hits[i] {
+			if _, ok := byTo[c.To]; !ok {
+				tos = append(tos, c.To)
+			}
+			byTo[c.To] = append(byTo[c.To], i)
 		}
-		r, open, err := n.resistance(c.From, c.To, 0)
+	}
+	nomOhms := make([]float64, len(base))
+	nomOpen := make([]bool, len(base))
+	for _, to := range tos {
+		idx := byTo[to]
+		froms := make([]string, len(idx))
+		for k, i := range idx {
+			froms[k] = base[i].From
+		}
+		rs, opens, err := n.resistances(froms, to, 0)
 		if err != nil {
 			return nil, true, err
 		}
+		for k, i := range idx {
+			nomOhms[i], nomOpen[i] = rs[k], opens[k]
+		}
+	}
+	for i, c := range base {
+		if !hits[i] {
+			continue
+		}
+		r, open := nomOhms[i], nomOpen[i]
 		if open {
 			out[i].Ohms, out[i].Open = math.Inf(1), true
 			out[i].Tol = [2]float64{math.Inf(1), math.Inf(1)}

@@ -183,3 +183,66 @@ func (n *network) resistance(from, to string, corner int) (ohms float64, open bo
 	}
 	return sol.V[c.Node(from)], false, nil
 }
+
+// resistances is resistance for several nets `from` to one net `to`: one
+// circuit on the nets joined to `to`, built and ordered once, with a
+// current source at each `from` switched on in turn (1 A, the others 0 A),
+// so that a fault's readings cost one solve each rather than one circuit
+// each. The readings equal resistance's: a net not joined to `to` reads
+// open, and the nets outside to's component carry no current either way.
+func (n *network) resistances(froms []string, to string, corner int) (ohms []float64, open []bool, err error) {
+	ohms = make([]float64, len(froms))
+	open = make([]bool, len(froms))
+	comp := n.reach(to, "")
+	c := mna.New()
+	c.SetGround(to)
+	names := make([]string, 0, len(comp))
+	for net := range comp {
+		names = append(names, net)
+	}
+	sort.Strings(names)
+	for _, net := range names {
+		c.Node(net)
+	}
+	seenEdge := map[int]bool{}
+	for _, net := range names {
+		for _, ei := range n.adj[net] {
+			if seenEdge[ei] {
+				continue
+			}
+			seenEdge[ei] = true
+			e := n.edges[ei]
+			c.AddResistor(c.Node(e.a), c.Node(e.b), e.scaled(corner))
+		}
+	}
+	src := map[string]int{}
+	for i, from := range froms {
+		switch {
+		case from == to:
+			continue
+		case !comp[from]:
+			ohms[i], open[i] = math.Inf(1), true
+			continue
+		}
+		if _, ok := src[from]; !ok {
+			src[from] = c.AddISource(0, c.Node(from), 0)
+		}
+	}
+	opt := mna.DefaultOptions()
+	opt.Gmin = 0
+	var sol mna.Solution
+	for i, from := range froms {
+		h, ok := src[from]
+		if !ok {
+			continue
+		}
+		c.SetSource(h, 1)
+		err := c.Solve(opt, nil, &sol)
+		c.SetSource(h, 0)
+		if err != nil {
+			return nil, nil, fmt.Errorf("cold resistance %s to %s: %w", from, to, err)
+		}
+		ohms[i] = sol.V[c.Node(from)]
+	}
+	return ohms, open, nil
+}

@@ -82,6 +82,7 @@ func luMatrices() map[string]struct {
 		panic(err)
 	}
 	c.assemble(1, 1e-12)
+	c.densify()
 	ladder := append([]float64(nil), c.ws.a...)
 	const n = 80
 	rng := rand.New(rand.NewPCG(3, 4))

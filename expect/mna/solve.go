@@ -1,11 +1,13 @@
 package mna
 
 import (
+	"encoding/binary"
 	"errors"
 	"fmt"
 	"math"
 	"sort"
 	"strings"
+	"sync"
 )
 
 // relTol is the relative part of both convergence tests: a node-voltage step
@@ -78,8 +80,6 @@ type workspace struct {
 	valid  bool
 	nn     int // node unknowns (NumNodes-1)
 	size   int // nn + number of voltage sources
-	a      []float64
-	abase  []float64
 	bsrc   []float64
 	b      []float64
 	x      []float64
@@ -89,13 +89,33 @@ type workspace struct {
 	branch []float64 // voltage-source currents of the last successful solve
 	r      []float64
 	rscale []float64
-	piv    []int
 	devRow []bool // node unknown touched by a device: its step is limited
-	// Sparsity pattern of the assembled matrix, row by row: the columns of
-	// row i are cols[rowPtr[i]:rowPtr[i+1]]. Used by the residual.
-	rowPtr []int
+
+	// The assembled matrix lives in vals, in the filled pattern of the
+	// sparse factorisation (sparse.go); vbase holds the linear stamps.
+	sym    *symbolic
+	vals   []float64
+	vbase  []float64
+	vcopy  []float64 // the assembled matrix before factorisation (refinement)
+	bcopy  []float64
+	y      []float64
+	gidx   []int    // per node unknown: value index of its diagonal
+	resIdx [][4]int // per resistor: (a,a), (b,b), (a,b), (b,a); −1 for ground
+	vsIdx  [][4]int // per voltage source: (p,row), (row,p), (m,row), (row,m)
+	devIdx [][]int  // per device: nt×nt value indexes (−1 for ground)
+	rowPtr []int    // original pattern, row by row: columns cols[rowPtr[i]:rowPtr[i+1]]
 	cols   []int
-	span   []int // per-row nonzero spans of the LU factors (see luFactor)
+	colIdx []int // value index of each (row, cols[t])
+
+	// Dense fallback (lu.go), allocated on first use.
+	a    []float64
+	piv  []int
+	span []int
+
+	// Frozen Jacobian (Freeze): the factors of the matrix at a solution,
+	// reused by chord iterations.
+	frozen   []float64
+	frozenOK bool
 }
 
 func (c *Circuit) prepare() {
@@ -106,8 +126,6 @@ func (c *Circuit) prepare() {
 	w.nn = len(c.names) - 1
 	w.size = w.nn + len(c.vs)
 	s := w.size
-	w.a = make([]float64, s*s)
-	w.abase = make([]float64, s*s)
 	w.bsrc = make([]float64, s)
 	w.b = make([]float64, s)
 	w.x = make([]float64, s)
@@ -117,7 +135,7 @@ func (c *Circuit) prepare() {
 	w.branch = make([]float64, s-w.nn)
 	w.r = make([]float64, s)
 	w.rscale = make([]float64, s)
-	w.piv = make([]int, s)
+	w.y = make([]float64, s)
 	w.devRow = make([]bool, w.nn)
 	for _, d := range c.devs {
 		for _, n := range d.term {
@@ -126,15 +144,110 @@ func (c *Circuit) prepare() {
 			}
 		}
 	}
-	c.buildPattern()
-	w.span = make([]int, 2*s)
+	mark := c.buildPattern()
+	w.sym = c.symbolicFor(mark)
+	w.vals = make([]float64, w.sym.nnz)
+	w.vbase = make([]float64, w.sym.nnz)
+	w.vcopy = make([]float64, w.sym.nnz)
+	w.bcopy = make([]float64, s)
+	at := func(i, j int) int {
+		if i < 0 || j < 0 {
+			return -1
+		}
+		return int(w.sym.idx[i*s+j])
+	}
+	w.colIdx = make([]int, len(w.cols))
+	for i := 0; i < s; i++ {
+		for t := w.rowPtr[i]; t < w.rowPtr[i+1]; t++ {
+			w.colIdx[t] = at(i, w.cols[t])
+		}
+	}
+	w.gidx = make([]int, w.nn)
+	for i := range w.gidx {
+		w.gidx[i] = at(i, i)
+	}
+	w.resIdx = make([][4]int, len(c.res))
+	for k, r := range c.res {
+		a, b := r.a-1, r.b-1
+		w.resIdx[k] = [4]int{at(a, a), at(b, b), at(a, b), at(b, a)}
+	}
+	w.vsIdx = make([][4]int, len(c.vs))
+	for k, v := range c.vs {
+		row := w.nn + k
+		p, m := v.plus-1, v.minus-1
+		w.vsIdx[k] = [4]int{at(p, row), at(row, p), at(m, row), at(row, m)}
+	}
+	w.devIdx = make([][]int, len(c.devs))
+	for k, d := range c.devs {
+		nt := len(d.term)
+		ix := make([]int, nt*nt)
+		for i, a := range d.term {
+			for j, b := range d.term {
+				ix[i*nt+j] = at(a-1, b-1)
+			}
+		}
+		w.devIdx[k] = ix
+	}
+	w.a, w.piv, w.span = nil, nil, nil
+	w.frozen, w.frozenOK = nil, false
 	w.valid = true
+}
+
+// symCache holds the symbolic analyses of nonlinear circuits by pattern:
+// every tolerance sample and fault hypothesis of an amplifier builds a
+// circuit of the same topology, and the analysis (ordering and fill) is
+// read-only once made. Linear circuits (cold resistance networks, one
+// solve each, many topologies) are not cached.
+var (
+	symMu    sync.Mutex
+	symCache = map[string]*symbolic{}
+)
+
+const maxSymCache = 64
+
+func (c *Circuit) symbolicFor(mark []bool) *symbolic {
+	w := &c.ws
+	s := w.size
+	analyseNow := func() *symbolic {
+		hasDiag := make([]bool, s)
+		for i := 0; i < w.nn; i++ {
+			hasDiag[i] = true
+		}
+		return analyse(mark, s, hasDiag)
+	}
+	if len(c.devs) == 0 {
+		return analyseNow()
+	}
+	key := make([]byte, 0, 4*(len(w.cols)+len(w.rowPtr)+2))
+	key = binary.LittleEndian.AppendUint32(key, uint32(s))
+	key = binary.LittleEndian.AppendUint32(key, uint32(w.nn))
+	for _, v := range w.rowPtr {
+		key = binary.LittleEndian.AppendUint32(key, uint32(v))
+	}
+	for _, v := range w.cols {
+		key = binary.LittleEndian.AppendUint32(key, uint32(v))
+	}
+	symMu.Lock()
+	sym, ok := symCache[string(key)]
+	symMu.Unlock()
+	if ok {
+		return sym
+	}
+	sym = analyseNow()
+	symMu.Lock()
+	if len(symCache) >= maxSymCache {
+		clear(symCache)
+	}
+	symCache[string(key)] = sym
+	symMu.Unlock()
+	return sym
 }
 
 // buildPattern records which entries of the assembled matrix can be
 // nonzero: the diagonal of every node row (gmin), resistor and voltage-source
-// stamps, and every pair of device terminals.
-func (c *Circuit) buildPattern() {
+// stamps, and every pair of device terminals. It returns the pattern as an
+// s×s mask and keeps it row by row in rowPtr and cols.
+func (c *Circuit) buildPattern() []bool {
 	w := &c.ws
 	s := w.size
 	mark := make([]bool, s*s)
@@ -178,6 +291,7 @@ func (c *Circuit) buildPattern() {
 		}
 		w.rowPtr[i+1] = len(w.cols)
 	}
+	return mark
 }
 
 // stampLinear writes the resistor and voltage-source stamps into abase and
@@ -185,24 +299,24 @@ func (c *Circuit) buildPattern() {
 // the sum of currents leaving the node into its elements equals zero.
 func (c *Circuit) stampLinear() error {
 	w := &c.ws
-	s, nn := w.size, w.nn
-	clear(w.abase)
+	nn := w.nn
+	clear(w.vbase)
 	clear(w.bsrc)
 	for i, r := range c.res {
 		if math.IsNaN(r.ohms) {
 			return fmt.Errorf("mna: resistor %d (%s–%s) is NaN", i, c.names[r.a], c.names[r.b])
 		}
 		g := r.g
-		a, b := r.a-1, r.b-1
-		if a >= 0 {
-			w.abase[a*s+a] += g
+		ix := &w.resIdx[i]
+		if ix[0] >= 0 {
+			w.vbase[ix[0]] += g
 		}
-		if b >= 0 {
-			w.abase[b*s+b] += g
+		if ix[1] >= 0 {
+			w.vbase[ix[1]] += g
 		}
-		if a >= 0 && b >= 0 {
-			w.abase[a*s+b] -= g
-			w.abase[b*s+a] -= g
+		if ix[2] >= 0 {
+			w.vbase[ix[2]] -= g
+			w.vbase[ix[3]] -= g
 		}
 	}
 	for k, v := range c.vs {
@@ -211,13 +325,14 @@ func (c *Circuit) stampLinear() error {
 		}
 		row := nn + k
 		// Branch current j flows from the + node into the source.
-		if p := v.plus - 1; p >= 0 {
-			w.abase[p*s+row] += 1
-			w.abase[row*s+p] += 1
+		ix := &w.vsIdx[k]
+		if ix[0] >= 0 {
+			w.vbase[ix[0]] += 1
+			w.vbase[ix[1]] += 1
 		}
-		if m := v.minus - 1; m >= 0 {
-			w.abase[m*s+row] -= 1
-			w.abase[row*s+m] -= 1
+		if ix[2] >= 0 {
+			w.vbase[ix[2]] -= 1
+			w.vbase[ix[3]] -= 1
 		}
 		w.bsrc[row] = v.volts
 	}
@@ -241,10 +356,9 @@ func (c *Circuit) stampLinear() error {
 // device gave a non-finite value.
 func (c *Circuit) assemble(lambda, gmin float64) bool {
 	w := &c.ws
-	s := w.size
-	copy(w.a, w.abase)
-	for i := 0; i < w.nn; i++ {
-		w.a[i*s+i] += gmin
+	copy(w.vals, w.vbase)
+	for _, q := range w.gidx {
+		w.vals[q] += gmin
 	}
 	for i, v := range w.bsrc {
 		w.b[i] = lambda * v
@@ -252,6 +366,7 @@ func (c *Circuit) assemble(lambda, gmin float64) bool {
 	for di := range c.devs {
 		d := &c.devs[di]
 		nt := len(d.term)
+		ix := w.devIdx[di]
 		for k, n := range d.term {
 			if n == 0 {
 				d.v[k] = 0
@@ -277,13 +392,68 @@ func (c *Circuit) assemble(lambda, gmin float64) bool {
 				}
 				eq -= jv * d.v[j]
 				if nj != 0 {
-					w.a[row*s+nj-1] += jv
+					w.vals[ix[k*nt+j]] += jv
 				}
 			}
 			w.b[row] -= eq
 		}
 	}
 	return true
+}
+
+// factorSolve factors the assembled matrix and solves A·x = b in place in
+// b: the sparse LU, or, when it gives up on a pivot, the dense LU with
+// partial pivoting on the matrix assembled again (lambda, gmin as for the
+// assembly). It returns false when the matrix is singular.
+func (c *Circuit) factorSolve(lambda, gmin float64) bool {
+	w := &c.ws
+	copy(w.vcopy, w.vals)
+	copy(w.bcopy, w.b)
+	if growth, ok := w.sym.factor(w.vals); ok {
+		w.sym.solve(w.vals, w.b, w.y)
+		if growth > refineGrowth {
+			// One step of iterative refinement: d = A⁻¹(b − A·x), x += d.
+			for i := 0; i < w.size; i++ {
+				sum := w.bcopy[i]
+				lo, hi := w.rowPtr[i], w.rowPtr[i+1]
+				for t, j := range w.cols[lo:hi] {
+					sum -= w.vcopy[w.colIdx[lo+t]] * w.b[j]
+				}
+				w.r[i] = sum
+			}
+			w.sym.solve(w.vals, w.r, w.y)
+			for i, d := range w.r {
+				w.b[i] += d
+			}
+		}
+		return true
+	}
+	if !c.assemble(lambda, gmin) {
+		return false
+	}
+	c.densify()
+	if !luFactor(w.a, w.size, w.piv, w.span) {
+		return false
+	}
+	luSolve(w.a, w.size, w.piv, w.span, w.b)
+	return true
+}
+
+// densify copies the assembled matrix into the dense work array.
+func (c *Circuit) densify() {
+	w := &c.ws
+	s := w.size
+	if len(w.a) != s*s {
+		w.a = make([]float64, s*s)
+		w.piv = make([]int, s)
+		w.span = make([]int, 2*s)
+	}
+	clear(w.a)
+	for i := 0; i < s; i++ {
+		for t := w.rowPtr[i]; t < w.rowPtr[i+1]; t++ {
+			w.a[i*s+w.cols[t]] = w.vals[w.colIdx[t]]
+		}
+	}
 }
 
 // residual computes r = A x − b for every row and whether all rows are within
@@ -295,11 +465,11 @@ func (c *Circuit) residual(opt *Options) (small, ok bool) {
 	s := w.size
 	small = true
 	for i := 0; i < s; i++ {
-		row := w.a[i*s : i*s+s]
 		sum := -w.b[i]
 		scale := math.Abs(w.b[i])
-		for _, j := range w.cols[w.rowPtr[i]:w.rowPtr[i+1]] {
-			t := row[j] * w.x[j]
+		lo, hi := w.rowPtr[i], w.rowPtr[i+1]
+		for t, j := range w.cols[lo:hi] {
+			t := w.vals[w.colIdx[lo+t]] * w.x[j]
 			sum += t
 			scale += math.Abs(t)
 		}
@@ -342,10 +512,9 @@ func (c *Circuit) newton(opt *Options, lambda, gmin float64) (int, error) {
 			return it, nil
 		}
 		// Solve A·xnew = b, using b as the result vector.
-		if !luFactor(w.a, s, w.piv, w.span) {
+		if !c.factorSolve(lambda, gmin) {
 			return it + 1, ErrSingular
 		}
-		luSolve(w.a, s, w.piv, w.span, w.b)
 		alpha := 1.0
 		if !linear && opt.MaxStepVolts > 0 {
 			maxd := 0.0

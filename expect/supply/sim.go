@@ -435,6 +435,13 @@ func Simulate(p Params, opt Options) (Result, error) {
 			for try := 0; try < 4 && e.cycles < opt.MaxCycles; try++ {
 				for i := range x {
 					xt[i] = x[i] + lambda*delta[i]
+					if i < len(e.capNode) {
+						// A filter capacitor fed by a rectifier holds
+						// between 0 V and the winding's peak: keep the
+						// Newton step of the shooting inside what the
+						// circuit can reach.
+						xt[i] = min(max(xt[i], 0), vpk)
+					}
 				}
 				e.cycle(xt, pt)
 				if rt := resid(xt, pt); rt < r && finiteAll(pt) {

@@ -64,6 +64,12 @@ type Options struct {
 	// ACMeter is the meter tone and ripple readings are taken with (zero:
 	// true rms, flat).
 	ACMeter ACMeter
+	// Eager solves every hypothesis's cloud in New. Without it (the
+	// default) New solves each fault's nominal only and maps the healthy
+	// cloud onto it (see coarseFill); Rank then solves the cloud of every
+	// hypothesis that carries weight in the ranking or the next-probe
+	// choice, on first need.
+	Eager bool
 }
 
 // DefaultSamples is the tolerance cloud size per hypothesis.
@@ -132,6 +138,11 @@ type hyp struct {
 	valid                    []bool     // per DC point
 	bandLo, bandHi, mean, sd []float64  // per DC point: 2.5/97.5 percentiles, mean, sd
 	cold                     []coldPred // per cold point
+	// coarse: the cloud is not solved; sample s at DC point k is
+	// ca[k]·(healthy sample s) + cb[k] (see coarseFill). shared: that map
+	// is exact (the fault changes no DC value), so it is never solved.
+	coarse, shared bool
+	ca, cb         []float64
 }
 
 // Engine holds the hypotheses and their predictions for one design, meter
@@ -151,7 +162,9 @@ type Engine struct {
 	tone    *bands.Extra // tone points, nil without Options.Tone
 	toneUnc float64      // the AC meter's uncertainty at the tone (fraction)
 
-	mu    sync.Mutex
+	hNom []float64 // the healthy nominal per DC point, as read through the meter
+
+	mu    sync.Mutex // guards cache, pairs and the upgrade of coarse clouds
 	cache *llCache
 	pairs map[string]*hyp
 }
@@ -246,6 +259,12 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 
 	// Clouds, in parallel; the healthy one is already solved.
 	e.fill(e.hyps[0], healthy)
+	e.hNom = make([]float64, e.nDC)
+	for k := 0; k < e.nDC; k++ {
+		if i, ok := healthy.Index(e.points[k].key); ok {
+			e.hNom[k] = healthy.Nominal[i]*e.points[k].ratio + e.points[k].offset
+		}
+	}
 	jobs := make(chan *hyp)
 	var wg sync.WaitGroup
 	for range opt.Workers {
@@ -253,12 +272,20 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 		go func() {
 			defer wg.Done()
 			for h := range jobs {
-				set, err := bands.Run(d, e.bandsOptions([]faults.Fault{*h.fault}, opt.Samples, opt.Seed, 1))
+				samples := opt.Samples
+				if !opt.Eager {
+					samples = 0 // the nominal only: the cloud waits for Rank
+				}
+				set, err := bands.Run(d, e.bandsOptions([]faults.Fault{*h.fault}, samples, opt.Seed, 1))
 				if err != nil {
 					h.err = err
 					continue
 				}
-				e.fill(h, set)
+				if opt.Eager {
+					e.fill(h, set)
+				} else {
+					e.coarseFill(h, set)
+				}
 			}
 		}()
 	}
@@ -267,7 +294,7 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 			// The fault changes no DC value (an open coupling or bypass
 			// capacitor): its DC cloud is the healthy one, sample for
 			// sample (same seeds), so it is not solved again.
-			e.fill(h, healthy)
+			e.shareHealthy(h)
 			continue
 		}
 		jobs <- h
@@ -354,6 +381,133 @@ func (e *Engine) fill(h *hyp, set *bands.Set) {
 		mu := sx / float64(n)
 		h.mean[k], h.sd[k] = mu, math.Sqrt(max(sxx/float64(n)-mu*mu, 0))
 		h.bandLo[k], h.bandHi[k] = tailQuantiles(col, 0.025, 0.975)
+	}
+}
+
+// Coarse clouds. A fault's own nominal is solved exactly; its tolerance
+// spread is borrowed from the healthy cloud, point by point: where the
+// fault leaves a point on the same side of zero and at most coarseRatio
+// times its healthy value, each healthy sample is scaled by
+// nominal_fault/nominal_healthy (a point pulled to 0 V gets no spread, a
+// halved one half the spread); elsewhere the healthy spread is shifted
+// onto the fault's nominal. The spread is then widened to at least
+// coarseWiden of the fault's shift from healthy, so that a coarse cloud
+// errs on the wide side: it only has to keep a hypothesis in play until
+// Rank solves it (upgrade), never to rule one out.
+const (
+	coarseRatio = 2.0
+	coarseWiden = 0.05
+)
+
+// coarseFill sets a hypothesis's coarse cloud from its nominal solve.
+func (e *Engine) coarseFill(h *hyp, set *bands.Set) {
+	hh := e.hyps[0]
+	h.coarse, h.n, h.failed = true, hh.n, 0
+	h.valid = make([]bool, e.nDC)
+	h.ca, h.cb = make([]float64, e.nDC), make([]float64, e.nDC)
+	h.bandLo, h.bandHi = make([]float64, e.nDC), make([]float64, e.nDC)
+	h.mean, h.sd = make([]float64, e.nDC), make([]float64, e.nDC)
+	for k := 0; k < e.nDC; k++ {
+		p := &e.points[k]
+		i, ok := set.Index(p.key)
+		if !ok {
+			continue
+		}
+		xf := set.Nominal[i]*p.ratio + p.offset
+		h.valid[k] = true
+		var a, b float64
+		switch x0 := e.hNom[k]; {
+		case !hh.valid[k]:
+			a, b = 0, xf
+		case x0 != 0 && xf/x0 >= 0 && xf/x0 <= coarseRatio:
+			a, b = xf/x0, 0
+		default:
+			a, b = 1, xf-x0
+		}
+		h.ca[k], h.cb[k] = a, b
+		lo, hi := a*hh.bandLo[k]+b, a*hh.bandHi[k]+b
+		if lo > hi {
+			lo, hi = hi, lo
+		}
+		h.bandLo[k], h.bandHi[k] = lo, hi
+		h.mean[k] = a*hh.mean[k] + b
+		h.sd[k] = max(math.Abs(a)*hh.sd[k], coarseWiden*math.Abs(xf-e.hNom[k]))
+	}
+}
+
+// shareHealthy gives a hypothesis the healthy DC cloud, exactly.
+func (e *Engine) shareHealthy(h *hyp) {
+	hh := e.hyps[0]
+	h.coarse, h.shared, h.n, h.failed = true, true, hh.n, hh.failed
+	h.valid = hh.valid
+	h.ca, h.cb = make([]float64, e.nDC), make([]float64, e.nDC)
+	for k := range h.ca {
+		h.ca[k] = 1
+	}
+	h.bandLo, h.bandHi, h.mean, h.sd = hh.bandLo, hh.bandHi, hh.mean, hh.sd
+}
+
+// cloud returns a hypothesis's samples at DC point k: its own, or the
+// healthy ones mapped (written into buf, which must hold the healthy
+// cloud's size).
+func (e *Engine) cloud(h *hyp, k int, buf []float64) []float64 {
+	if !h.coarse {
+		return h.x[k*h.n : (k+1)*h.n]
+	}
+	hh := e.hyps[0]
+	xs := hh.x[k*hh.n : (k+1)*hh.n]
+	buf = buf[:len(xs)]
+	a, b := h.ca[k], h.cb[k]
+	for s, x := range xs {
+		buf[s] = a*x + b
+	}
+	return buf
+}
+
+// upgrade solves the clouds of the given hypotheses (coarse, not shared)
+// on the engine's workers and brings the likelihood cache up to date for
+// them. The caller holds e.mu.
+func (e *Engine) upgrade(idx []int) {
+	jobs := make(chan *hyp)
+	var wg sync.WaitGroup
+	for range e.opt.Workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for h := range jobs {
+				set, err := bands.Run(e.d, e.bandsOptions([]faults.Fault{*h.fault}, e.opt.Samples, e.opt.Seed, 1))
+				if err != nil {
+					h.err = err
+					continue
+				}
+				e.fill(h, set)
+			}
+		}()
+	}
+	for _, i := range idx {
+		jobs <- e.hyps[i]
+	}
+	close(jobs)
+	wg.Wait()
+	for _, i := range idx {
+		h := e.hyps[i]
+		h.coarse, h.ca, h.cb = false, nil, nil
+		if c := e.cache; c != nil {
+			c.ll[i] = make([]float64, max(h.n, 1))
+			for _, o := range c.obs {
+				if k := e.index[o.Key]; !e.points[k].cold {
+					e.addReadingTo(h, c.ll[i], o, nil)
+				}
+			}
+		}
+	}
+}
+
+// ensureSolved upgrades one hypothesis if its cloud is coarse. The caller
+// holds e.mu.
+func (e *Engine) ensureSolved(i int) {
+	if h := e.hyps[i]; h.coarse && !h.shared && h.err == nil {
+		e.upgrade([]int{i})
 	}
 }
 
@@ -561,6 +715,12 @@ func (e *Engine) Prior(name string) float64 {
 // Unsolved lists the hypotheses whose nominal did not solve, with the
 // error: they are never ranked.
 func (e *Engine) Unsolved() []string {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	return e.unsolved()
+}
+
+func (e *Engine) unsolved() []string {
 	var out []string
 	for _, h := range e.hyps {
 		if h.err != nil {
@@ -573,8 +733,10 @@ func (e *Engine) Unsolved() []string {
 // Failed returns the number of tolerance samples, over all hypotheses,
 // that did not converge, and the number asked for.
 func (e *Engine) Failed() (failed, asked int) {
+	e.mu.Lock()
+	defer e.mu.Unlock()
 	for _, h := range e.hyps {
-		if h.err == nil {
+		if h.err == nil && (!h.coarse || h.shared) {
 			failed += h.failed
 			asked += e.opt.Samples
 		}
@@ -592,6 +754,11 @@ func (e *Engine) Band(fault, key string) (lo, nominal, hi float64, ok bool) {
 	k, okk := e.index[key]
 	if !okh || !okk {
 		return 0, 0, 0, false
+	}
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	if k < e.nDC {
+		e.ensureSolved(hi0)
 	}
 	h := e.hyps[hi0]
 	if h.err != nil {

@@ -85,22 +85,9 @@ func (e *Engine) nextProbe(c *llCache, post []float64, obs []Observation, allowe
 	if len(cands) == 0 {
 		return nil
 	}
-	// Active hypotheses: the most probable ones holding all but 1e-4 of
-	// the posterior (at most maxActive).
-	byPost := make([]int, 0, len(post))
-	for i := range post {
-		if post[i] >= activeFloor && e.hyps[i].err == nil {
-			byPost = append(byPost, i)
-		}
-	}
-	sort.Slice(byPost, func(a, b int) bool { return post[byPost[a]] > post[byPost[b]] })
-	var active []int
+	active := e.activeSet(post, 0)
 	tot := 0.0
-	for _, i := range byPost {
-		if tot >= 1-1e-4 || len(active) == maxActive {
-			break
-		}
-		active = append(active, i)
+	for _, i := range active {
 		tot += post[i]
 	}
 	weights := make([][]float64, len(active))
@@ -111,6 +98,7 @@ func (e *Engine) nextProbe(c *llCache, post []float64, obs []Observation, allowe
 	}
 	best, bestScore, bestGain := -1, -1.0, 0.0
 	comps := make([]comp, 0, len(active))
+	buf := make([]float64, e.hyps[0].n)
 	for _, k := range cands {
 		p := &e.points[k]
 		comps = comps[:0]
@@ -135,7 +123,7 @@ func (e *Engine) nextProbe(c *llCache, post []float64, obs []Observation, allowe
 			if weights[a] == nil {
 				mu, v = h.mean[k], h.sd[k]*h.sd[k]
 			} else {
-				xs := h.x[k*h.n : (k+1)*h.n]
+				xs := e.cloud(h, k, buf)
 				ws := weights[a]
 				for s, x := range xs {
 					mu += ws[s] * x
@@ -155,6 +143,29 @@ func (e *Engine) nextProbe(c *llCache, post []float64, obs []Observation, allowe
 	}
 	p := &e.points[best]
 	return &Probe{Key: p.key, Label: p.label, Setup: e.setup(p), GainBits: bestGain, Cost: e.cost(p), Live: !p.cold}
+}
+
+// activeSet returns the active hypotheses, most probable first: those
+// holding all but 1e-4 of the posterior (each at least activeFloor, at
+// most maxActive), and at least the `listed` most probable.
+func (e *Engine) activeSet(post []float64, listed int) []int {
+	byPost := make([]int, 0, len(post))
+	for i := range post {
+		if e.hyps[i].err == nil && (post[i] >= activeFloor || listed > 0) {
+			byPost = append(byPost, i)
+		}
+	}
+	sort.SliceStable(byPost, func(a, b int) bool { return post[byPost[a]] > post[byPost[b]] })
+	var active []int
+	tot := 0.0
+	for n, i := range byPost {
+		if n >= listed && (tot >= 1-1e-4 || len(active) >= maxActive || post[i] < activeFloor) {
+			break
+		}
+		active = append(active, i)
+		tot += post[i]
+	}
+	return active
 }
 
 // mutualInfo returns I(H; X) in nats for a mixture of normals.

@@ -105,10 +105,21 @@ func (e *Engine) Rank(obs []Observation, allowed func(key string) bool) *Ranking
 		}
 		use = append(use, o)
 	}
-	r.Unsolved = e.Unsolved()
 	c := e.likelihoods(use)
 	logp := e.logPosterior(c)
 	post := normalise(logp)
+	// Solve the clouds of the coarse hypotheses that carry weight (those
+	// the next-probe choice uses and those listed), until none is left.
+	for round := 0; round < maxUpgradeRounds; round++ {
+		need := e.coarseActive(post)
+		if len(need) == 0 {
+			break
+		}
+		e.upgrade(need)
+		logp = e.logPosterior(c)
+		post = normalise(logp)
+	}
+	r.Unsolved = e.unsolved()
 	order := make([]int, len(e.hyps))
 	for i := range order {
 		order[i] = i
@@ -153,6 +164,22 @@ func (e *Engine) Rank(obs []Observation, allowed func(key string) bool) *Ranking
 	}
 	r.Next = e.nextProbe(c, post, use, allowed)
 	return r
+}
+
+// maxUpgradeRounds bounds the rounds of cloud solving in one Rank: a
+// solved cloud can move its hypothesis, and so bring others into play.
+const maxUpgradeRounds = 4
+
+// coarseActive returns the coarse (unsolved, not shared) hypotheses among
+// the active ones of nextProbe and the MaxListed most probable.
+func (e *Engine) coarseActive(post []float64) []int {
+	var out []int
+	for _, i := range e.activeSet(post, MaxListed) {
+		if h := e.hyps[i]; h.coarse && !h.shared && h.err == nil {
+			out = append(out, i)
+		}
+	}
+	return out
 }
 
 // ColdOnly allows only cold points (the amplifier stays unpowered).
@@ -201,34 +228,46 @@ func (e *Engine) addReading(c *llCache, o Observation) {
 		}
 		return
 	}
-	sr := e.sigma(p.quantity, o.Value)
+	buf := make([]float64, e.hyps[0].n)
 	for i, h := range e.hyps {
 		if h.err != nil {
 			continue
 		}
-		ll := c.ll[i]
-		if !h.valid[k] {
-			w := math.Log(1 / p.width)
-			for s := range ll {
-				ll[s] += w
-			}
+		e.addReadingTo(h, c.ll[i], o, buf)
+	}
+}
+
+// addReadingTo adds one DC reading's log-likelihood to a hypothesis's
+// per-sample row ll (buf: scratch for a coarse cloud, or nil).
+func (e *Engine) addReadingTo(h *hyp, ll []float64, o Observation, buf []float64) {
+	k := e.index[o.Key]
+	p := &e.points[k]
+	lb := math.Log(OutlierFloor / p.width)
+	if !h.valid[k] {
+		w := math.Log(1 / p.width)
+		for s := range ll {
+			ll[s] += w
+		}
+		return
+	}
+	if buf == nil {
+		buf = make([]float64, e.hyps[0].n)
+	}
+	sr := e.sigma(p.quantity, o.Value)
+	bw := KernelBandwidth * h.sd[k]
+	sg := math.Sqrt(sr*sr + bw*bw)
+	lnorm := math.Log(1-OutlierFloor) - math.Log(sg*math.Sqrt(2*math.Pi))
+	inv := 1 / sg
+	cut := 2 * (lnorm - lb + 40) // z² beyond which the kernel is negligible
+	xs := e.cloud(h, k, buf)
+	for s, x := range xs {
+		z := (o.Value - x) * inv
+		z2 := z * z
+		if z2 > cut {
+			ll[s] += lb
 			continue
 		}
-		bw := KernelBandwidth * h.sd[k]
-		sg := math.Sqrt(sr*sr + bw*bw)
-		lnorm := math.Log(1-OutlierFloor) - math.Log(sg*math.Sqrt(2*math.Pi))
-		inv := 1 / sg
-		cut := 2 * (lnorm - lb + 40) // z² beyond which the kernel is negligible
-		xs := h.x[k*h.n : (k+1)*h.n]
-		for s, x := range xs {
-			z := (o.Value - x) * inv
-			z2 := z * z
-			if z2 > cut {
-				ll[s] += lb
-				continue
-			}
-			ll[s] += logAddExp(lnorm-z2/2, lb)
-		}
+		ll[s] += logAddExp(lnorm-z2/2, lb)
 	}
 }
 
@@ -367,7 +406,7 @@ func (e *Engine) misfits(h *hyp, ll []float64, obs []Observation) []string {
 				continue
 			}
 			var mu, m2 float64
-			xs := h.x[k*h.n : (k+1)*h.n]
+			xs := e.cloud(h, k, make([]float64, e.hyps[0].n))
 			for s, x := range xs {
 				mu += w[s] * x
 			}
@@ -759,10 +798,16 @@ func (e *Engine) pair(a, b *hyp) *hyp {
 
 // logLikOf computes a hypothesis's log-likelihood from scratch.
 func (e *Engine) logLikOf(h *hyp, obs []Observation) float64 {
-	tmp := &Engine{d: e.d, m: e.m, opt: e.opt, points: e.points, nDC: e.nDC, index: e.index, hyps: []*hyp{h}, toneUnc: e.toneUnc}
-	c := &llCache{ll: [][]float64{make([]float64, max(h.n, 1))}, coldLL: []float64{0}}
+	ll := make([]float64, max(h.n, 1))
+	cl := 0.0
 	for _, o := range obs {
-		tmp.addReading(c, o)
+		k := e.index[o.Key]
+		p := &e.points[k]
+		if p.cold {
+			cl += coldLogLik(h.cold[k-e.nDC], o.Value, math.Log(OutlierFloor/p.width))
+			continue
+		}
+		e.addReadingTo(h, ll, o, nil)
 	}
-	return logMeanExp(c.ll[0]) + c.coldLL[0]
+	return logMeanExp(ll) + cl
 }
