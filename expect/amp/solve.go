@@ -112,6 +112,7 @@ type FilterNetOP struct {
 	Net                string
 	Vdc, RippleRms     float64
 	RippleFund         float64 // rms of the ripple fundamental
+	RipplePP           float64 // peak to peak (full solves only)
 	LoadAmps, FeedAmps float64 // drawn at this net; flowing into it from its parent
 	ColdPeak           float64 // no valve current, at these conditions
 }
@@ -544,6 +545,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		sp.Nets[i].Net = net
 		sp.Nets[i].RippleRms = res.Nets[i].RippleRms
 		sp.Nets[i].RippleFund = res.Nets[i].RippleFund
+		sp.Nets[i].RipplePP = res.Nets[i].RipplePP
 	}
 	sp.ColdPeakAll(supply.ColdPeak(p))
 	sp.PeakRectAmps, sp.RmsAmps, sp.TotalAmps = res.PeakRectAmps, res.RmsRectAmps, res.AvgRectAmps
