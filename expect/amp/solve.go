@@ -318,6 +318,7 @@ func (s *Solver) heaterOpen(ref string, v *Values) bool {
 // applyValues loads part values into the network.
 func (s *Solver) applyValues(c Conditions, v *Values, heaterVolts map[string]float64) []float64 {
 	m := s.m
+	mf := s.mainsFactor(c)
 	for i, sl := range m.Slots {
 		switch sl.Kind {
 		case ElemResistance:
@@ -327,7 +328,11 @@ func (s *Solver) applyValues(c Conditions, v *Values, heaterVolts map[string]flo
 			}
 			m.ckt.SetResistance(sl.handle, r)
 		case ElemSource:
-			m.ckt.SetSource(sl.handle, v.Slot[i])
+			x := v.Slot[i]
+			if sl.MainsFed {
+				x = RectifiedVolts(x, mf)
+			}
+			m.ckt.SetSource(sl.handle, x)
 		}
 	}
 	frac := make([]float64, len(m.Sections))
@@ -358,6 +363,21 @@ func (s *Solver) applyValues(c Conditions, v *Values, heaterVolts map[string]flo
 		}
 	}
 	return frac
+}
+
+// BiasDiodeDrop is the forward drop of the silicon diode of a rectified
+// bias winding (common practice: about 0.7 V).
+const BiasDiodeDrop = 0.7
+
+// RectifiedVolts is the unloaded output of a supply rectified from a
+// transformer winding whose output is v0 (signed) at the design's mains,
+// at f times the transformer's rated primary volts: the winding's peak
+// scales with its primary, the diode's drop does not (a peak-rectified
+// winding: Vout = f·(|v0| + Vd) − Vd, and 0 once the peak no longer
+// clears the diode).
+func RectifiedVolts(v0, f float64) float64 {
+	out := math.Max(0, f*(math.Abs(v0)+BiasDiodeDrop)-BiasDiodeDrop)
+	return math.Copysign(out, v0)
 }
 
 func (m *Model) heaterRated(ref string) float64 {
