@@ -118,3 +118,57 @@ func TestExpectVariac(t *testing.T) {
 		t.Errorf("steps: exit %d\n%s%s", code, out, errOut)
 	}
 }
+
+// Every band says why it is as wide as it is; the meter's accuracy and
+// counts are settable; ripple is read on the AC function with its
+// peak-to-peak band beside it; a current's band never goes below zero.
+func TestExpectReadingBands(t *testing.T) {
+	code, out, errOut := runCLI("expect", "--json", "--samples", "100", "--meter-accuracy", "1%+5", "--meter-counts", "2000", "demo:pp-el34-fixed")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	var doc struct {
+		MeterAccuracy string `json:"meter_accuracy"`
+		Points        []struct {
+			ID, Quantity, Function string
+			Low, High              float64
+			Why                    []string
+			PP                     *struct{ Low, High float64 } `json:"peak_to_peak"`
+		} `json:"points"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if doc.MeterAccuracy != "DC volts 1 % + 5 digits, 2000 counts" {
+		t.Errorf("meter accuracy %q", doc.MeterAccuracy)
+	}
+	seen := 0
+	for _, p := range doc.Points {
+		if len(p.Why) == 0 || p.Function == "" {
+			t.Errorf("%s %s: no why or function", p.ID, p.Quantity)
+		}
+		if p.Quantity == "dc_amps" && p.Low < 0 {
+			t.Errorf("%s current band starts at %g", p.ID, p.Low)
+		}
+		if p.ID == "V3.3" && p.Quantity == "dc_volts" {
+			seen++
+			if !strings.Contains(strings.Join(p.Why, ";"), "meter 1 % + 5 digits on the 1 kV range (2000 counts") {
+				t.Errorf("V3.3 why %q", p.Why)
+			}
+		}
+		if p.ID == "B1" && p.Quantity == "ripple_volts" {
+			seen++
+			if p.Function != "AC volts (true rms)" || p.PP == nil || !(p.PP.High > p.High) {
+				t.Errorf("B1 ripple %+v", p)
+			}
+		}
+	}
+	if seen != 2 {
+		t.Errorf("V3.3 or B1 ripple missing")
+	}
+	for _, bad := range []string{"--meter-accuracy=0.5", "--meter-counts=10"} {
+		if code, _, _ := runCLI("expect", bad, "demo"); code != exitUsage {
+			t.Errorf("%s: exit %d", bad, code)
+		}
+	}
+}
