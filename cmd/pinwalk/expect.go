@@ -614,9 +614,12 @@ type jsonStep struct {
 	Cold    []jsonNet   `json:"cold_peak"`
 }
 
-// runVariacSteps prints the supply nets and every plate and cathode
-// current at 25, 50, 75 and 100 % variac, with bands, and each filter
-// net's switch-on peak at that setting (nominal and at high mains).
+// runVariacSteps prints, at 25, 50, 75 and 100 % variac, every socket
+// pin's DC volts in one table (a column per setting, nominal over its
+// reading band), then the supply nets and every plate and cathode current
+// with bands, and each filter net's switch-on peak at that setting
+// (nominal and at high mains). Bands are bands.Set.Expect's, read with
+// opt.Meter.
 func runVariacSteps(d *design.Design, opt bands.Options, asJSON bool, stdout, stderr io.Writer) int {
 	steps, err := bands.VariacSteps(d, opt, bands.VariacSettings)
 	if err != nil {
@@ -636,15 +639,20 @@ func runVariacSteps(d *design.Design, opt bands.Options, asJSON bool, stdout, st
 		for _, p := range peaks {
 			js.Cold = append(js.Cold, jsonNet{Net: p.Net, Volts: round(p.Nominal), ColdPeak: round(p.HighMains)})
 		}
-		for i, pd := range st.Set.Points {
+		for _, pd := range st.Set.Points {
 			keep := pd.Valve == "" && pd.Quantity == amp.DCVolts && isFilterNet(peaks, pd.Net) ||
+				pd.Valve != "" && pd.Quantity == amp.DCVolts ||
 				pd.Quantity == amp.DCAmps && (pd.Electrode == "plate" || pd.Electrode == "cathode")
 			if !keep {
 				continue
 			}
-			b := st.Set.Band(i)
-			js.Points = append(js.Points, jsonPoint{ID: pd.ID, Quantity: pd.Quantity, Unit: amp.UnitOf(pd.Quantity),
-				Nominal: round(b.Nominal), Low: round(min(b.Low, b.Nominal)), High: round(max(b.High, b.Nominal)), Label: pd.Label, Net: pd.Net})
+			b, err := st.Set.Expect(pd.Key(), opt.Meter)
+			if err != nil {
+				continue
+			}
+			jp := jsonPoint{ID: pd.ID, Quantity: pd.Quantity, Unit: amp.UnitOf(pd.Quantity), Label: pd.Label, Net: pd.Net}
+			fillPoint(&jp, b)
+			js.Points = append(js.Points, jp)
 		}
 		out = append(out, js)
 	}
@@ -659,26 +667,79 @@ func runVariacSteps(d *design.Design, opt bands.Options, asJSON bool, stdout, st
 		}
 		return exitOK
 	}
-	fmt.Fprintf(stdout, "%s: bring-up on a variac\n", d.Title)
-	fmt.Fprintln(stdout, "DANGER: these voltages are lethal and filter capacitors hold them after power-off.")
-	fmt.Fprintln(stdout, "At low settings the heaters run cool, the valves barely conduct and B+ rises towards its")
-	fmt.Fprintln(stdout, "switch-on peak: the figures there are emission-limited estimates, not precise values.")
+	w := stdout
+	fmt.Fprintf(w, "%s: bring-up on a variac\n", d.Title)
+	fmt.Fprintln(w, "DANGER: these voltages are lethal and filter capacitors hold them after power-off.")
+	fmt.Fprintln(w, "At low settings the heaters run cool, the valves barely conduct and B+ rises towards its")
+	fmt.Fprintln(w, "switch-on peak: the figures there are emission-limited estimates, not precise values.")
 	for _, js := range out {
-		fmt.Fprintf(stdout, "\nVariac %.0f%%", 100*js.Variac)
 		if js.Failed > 0 {
-			fmt.Fprintf(stdout, "  (WARNING: %d of %d samples did not converge)", js.Failed, js.Samples)
+			fmt.Fprintf(w, "WARNING: at %.0f%% variac %d of %d samples did not converge\n", 100*js.Variac, js.Failed, js.Samples)
 		}
-		fmt.Fprintln(stdout)
+	}
+	printPinSteps(w, out)
+	for _, js := range out {
+		fmt.Fprintf(w, "\nVariac %.0f%%: supply and currents\n", 100*js.Variac)
 		for _, p := range js.Points {
-			fmt.Fprintf(stdout, "  %-36s %12s   %s – %s\n", p.Label+" "+qtyWord(p.Quantity), amp.FormatValue(p.Nominal, p.Quantity),
-				amp.FormatValue(p.Low, p.Quantity), amp.FormatValue(p.High, p.Quantity))
+			if p.Quantity == amp.DCVolts && p.ID != p.Net {
+				continue // socket pins: in the table above
+			}
+			fmt.Fprintf(w, "  %-36s %10s   %s\n", p.Label+" "+qtyWord(p.Quantity), bandOfPoint(p).FormatNominal(), formatBand(p))
 		}
 		for _, c := range js.Cold {
-			fmt.Fprintf(stdout, "  %-36s %12s   at high mains %s\n", "net "+c.Net+" switch-on peak", units.Format(c.Volts, units.Volts),
+			fmt.Fprintf(w, "  %-36s %10s   at high mains %s\n", "net "+c.Net+" switch-on peak", units.Format(c.Volts, units.Volts),
 				units.Format(c.ColdPeak, units.Volts))
 		}
 	}
 	return exitOK
+}
+
+// printPinSteps prints every socket pin's DC volts at each variac step:
+// one row of nominal values and one of reading bands per pin, a column
+// per step, within 100 columns for four steps.
+func printPinSteps(w io.Writer, steps []jsonStep) {
+	const label, cell = 20, 20
+	fmt.Fprintf(w, "\nDC volts at every socket pin (to chassis): nominal, then the 95 %% reading band\n")
+	head := fmt.Sprintf("%-*s", label, "pin")
+	for _, js := range steps {
+		head += fmt.Sprintf("%-*s", cell, fmt.Sprintf("variac %.0f%%", 100*js.Variac))
+	}
+	fmt.Fprintln(w, strings.TrimRight(head, " "))
+	var order []string
+	byStep := make([]map[string]jsonPoint, len(steps))
+	labels := map[string]string{}
+	for k, js := range steps {
+		byStep[k] = map[string]jsonPoint{}
+		for _, p := range js.Points {
+			if p.Quantity != amp.DCVolts || p.ID == p.Net {
+				continue
+			}
+			if _, ok := labels[p.ID]; !ok {
+				labels[p.ID] = p.Label
+				order = append(order, p.ID)
+			}
+			byStep[k][p.ID] = p
+		}
+	}
+	for _, id := range order {
+		l := labels[id]
+		if len([]rune(l)) > label-1 {
+			l = string([]rune(l)[:label-1])
+		}
+		nom := fmt.Sprintf("%-*s", label, l)
+		band := strings.Repeat(" ", label)
+		for k := range steps {
+			p, ok := byStep[k][id]
+			n, b := "—", ""
+			if ok {
+				n, b = bandOfPoint(p).FormatNominal(), formatBand(p)
+			}
+			nom += fmt.Sprintf("%-*s ", cell-1, n)
+			band += fmt.Sprintf("%-*s ", cell-1, b)
+		}
+		fmt.Fprintln(w, strings.TrimRight(nom, " "))
+		fmt.Fprintln(w, strings.TrimRight(band, " "))
+	}
 }
 
 func isFilterNet(peaks []bands.ColdPeak, net string) bool {

@@ -172,3 +172,51 @@ func TestExpectReadingBands(t *testing.T) {
 		}
 	}
 }
+
+// --variac steps lists every socket pin's DC volts at every step, in a
+// table within 100 columns, and in --json.
+func TestExpectVariacStepsEveryPin(t *testing.T) {
+	code, out, errOut := runCLI("expect", "--variac", "steps", "--samples", "30", "demo:pp-el34-fixed")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	for _, l := range strings.Split(out, "\n") {
+		if n := len([]rune(l)); n > 100 {
+			t.Errorf("line of %d columns: %q", n, l)
+		}
+	}
+	for _, want := range []string{"V3 pin 3 plate", "V1 pin 8 cathode A", "V2 pin 7 grid A", "variac 25%", "variac 100%"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("steps table lacks %q", want)
+		}
+	}
+	code, js, errOut := runCLI("expect", "--json", "--variac", "steps", "--samples", "30", "demo:pp-el34-fixed")
+	if code != exitOK {
+		t.Fatalf("json: exit %d: %s", code, errOut)
+	}
+	var doc struct {
+		Steps []struct {
+			Variac float64
+			Points []struct{ ID, Quantity string }
+		} `json:"variac_steps"`
+	}
+	if err := json.Unmarshal([]byte(js), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.Steps) != 4 {
+		t.Fatalf("%d steps", len(doc.Steps))
+	}
+	for _, st := range doc.Steps {
+		pins := map[string]bool{}
+		for _, p := range st.Points {
+			if p.Quantity == "dc_volts" {
+				pins[p.ID] = true
+			}
+		}
+		for _, id := range []string{"V3.3", "V3.4", "V3.5", "V3.8", "V1.6", "V2.2", "V9.2"} {
+			if !pins[id] {
+				t.Errorf("variac %g: no DC volts for %s", st.Variac, id)
+			}
+		}
+	}
+}
