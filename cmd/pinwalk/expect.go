@@ -27,6 +27,23 @@ type jsonPoint struct {
 	High     float64 `json:"high"`
 	Label    string  `json:"label"`
 	Net      string  `json:"net,omitempty"`
+	// The reading band's meter function ("DC volts", "AC volts (true
+	// rms)"), range and resolution, whether the nominal is below one
+	// count, the peak-to-peak band of a ripple reading, and why the band
+	// is as wide as it is.
+	Function        string   `json:"function,omitempty"`
+	Range           float64  `json:"range,omitempty"`
+	Resolution      float64  `json:"resolution,omitempty"`
+	BelowResolution bool     `json:"below_resolution,omitempty"`
+	PP              *jsonPP  `json:"peak_to_peak,omitempty"`
+	Why             []string `json:"why,omitempty"`
+}
+
+// jsonPP is a ripple reading's peak-to-peak band (on a scope).
+type jsonPP struct {
+	Nominal float64 `json:"nominal"`
+	Low     float64 `json:"low"`
+	High    float64 `json:"high"`
 }
 
 type jsonSection struct {
@@ -85,19 +102,21 @@ type jsonReport struct {
 	} `json:"conditions"`
 	// Monte Carlo: samples asked, failed (did not converge), the seed, and
 	// up to a few distinct failure messages.
-	Samples      int            `json:"samples"`
-	Failed       int            `json:"failed"`
-	FailErrors   []string       `json:"fail_errors,omitempty"`
-	Seed         uint64         `json:"seed"`
-	Meter        string         `json:"meter"`
-	MeterOhms    float64        `json:"meter_ohms"`
-	MeterLoading []jsonLoading  `json:"meter_loading"`
-	Points       []jsonPoint    `json:"points"`
-	Sections     []jsonSection  `json:"sections"`
-	Resistors    []jsonResistor `json:"resistors"`
-	Supply       []jsonNet      `json:"supply,omitempty"`
-	Windings     []jsonWinding  `json:"heater_windings"`
-	Findings     []string       `json:"findings"`
+	Samples    int      `json:"samples"`
+	Failed     int      `json:"failed"`
+	FailErrors []string `json:"fail_errors,omitempty"`
+	Seed       uint64   `json:"seed"`
+	Meter      string   `json:"meter"`
+	// MeterAccuracy: the meter's accuracy on DC volts and its counts.
+	MeterAccuracy string         `json:"meter_accuracy"`
+	MeterOhms     float64        `json:"meter_ohms"`
+	MeterLoading  []jsonLoading  `json:"meter_loading"`
+	Points        []jsonPoint    `json:"points"`
+	Sections      []jsonSection  `json:"sections"`
+	Resistors     []jsonResistor `json:"resistors"`
+	Supply        []jsonNet      `json:"supply,omitempty"`
+	Windings      []jsonWinding  `json:"heater_windings"`
+	Findings      []string       `json:"findings"`
 }
 
 // faultFlags collects repeated --fault REF:MODE options.
@@ -127,6 +146,8 @@ func runExpect(args []string, stdout, stderr io.Writer) int {
 	mains := fs.String("mains", "", "mains volts at the wall, as measured (default: the design's, sampled within its tolerance)")
 	variac := fs.String("variac", "", "variac setting in percent of the mains, e.g. 25 (default 100); \"steps\" prints 25/50/75/100 %")
 	meterSpec := fs.String("meter", "10M", "the voltmeter: a digital meter's input resistance (10M) or an analogue meter's sensitivity and range (20k/V:500V)")
+	accSpec := fs.String("meter-accuracy", "", "the digital meter's accuracy, % of reading + digits: 0.5%+2 for every function, or per function dcv=0.5%+2,acv=1%+3,dca=1%+3,aca=1.5%+3,ohm=0.8%+3 (default: those)")
+	counts := fs.Int("meter-counts", 6000, "the digital meter's display counts (2000, 4000, 6000 …): sets its ranges and resolution")
 	cold := fs.Bool("cold", false, "cold checks instead: resistances to measure with the amplifier off and discharged")
 	samples := fs.Int("samples", 1000, "Monte Carlo samples for the tolerance bands (0: nominal only)")
 	seed := fs.Uint64("seed", 1, "random seed of the samples (the same seed gives the same bands)")
@@ -169,6 +190,15 @@ with what the meter will show.`)
 		fmt.Fprintf(stderr, "pinwalk: --meter: %v\n", err)
 		return exitUsage
 	}
+	if meter, err = bands.ParseAccuracy(meter, *accSpec); err != nil {
+		fmt.Fprintf(stderr, "pinwalk: --meter-accuracy: %v\n", err)
+		return exitUsage
+	}
+	if *counts < 1000 || *counts > 100000 {
+		fmt.Fprintf(stderr, "pinwalk: --meter-counts %d: expected a display's counts, like 2000, 4000 or 6000\n", *counts)
+		return exitUsage
+	}
+	meter.Counts = *counts
 	cond := amp.Conditions{}
 	fixed := false
 	if *mains != "" {
@@ -214,7 +244,7 @@ with what the meter will show.`)
 			return exitUsage
 		}
 	}
-	opt := bands.Options{Samples: *samples, Seed: *seed, Cond: cond, FixedMains: fixed}
+	opt := bands.Options{Samples: *samples, Seed: *seed, Cond: cond, FixedMains: fixed, Meter: meter}
 	if len(flts) > 0 {
 		opt.Values = func(m *amp.Model, v *amp.Values) error {
 			for _, f := range flts {
@@ -274,10 +304,9 @@ with what the meter will show.`)
 	return exitOK
 }
 
-// fillBands puts the Monte Carlo bands, the sample counts and the meter
-// loading notes into the report. A band is the 2.5th to 97.5th percentile,
-// widened to take in the nominal value where a skewed spread leaves it
-// just outside.
+// fillBands puts the reading bands (bands.Set.Expect: the Monte Carlo
+// spread, the meter's loading, accuracy and resolution, the model error),
+// the sample counts and the meter loading notes into the report.
 func fillBands(rep *jsonReport, set *bands.Set, loading []bands.Loading, meter bands.Meter, opt bands.Options, flts faultFlags) {
 	rep.Samples, rep.Failed, rep.FailErrors, rep.Seed = set.Samples, set.Failed, set.FailErrs, opt.Seed
 	rep.Conditions.MainsFixed = opt.FixedMains
@@ -291,10 +320,14 @@ func fillBands(rep *jsonReport, set *bands.Set, loading []bands.Loading, meter b
 		if !ok {
 			continue
 		}
-		b := set.Band(i)
-		p.Low, p.High = round(min(b.Low, b.Nominal)), round(max(b.High, b.Nominal))
+		b, err := set.Expect(set.Points[i].Key(), meter)
+		if err != nil {
+			continue
+		}
+		fillPoint(p, b)
 	}
 	rep.Meter, rep.MeterOhms = meter.Name, meter.Ohms()
+	rep.MeterAccuracy = fmt.Sprintf("DC volts %s, %d counts", meter.SpecFor(amp.DCVolts), meter.Counts)
 	rep.MeterLoading = []jsonLoading{}
 	for _, l := range loading {
 		if !l.Significant {
@@ -304,6 +337,28 @@ func fillBands(rep *jsonReport, set *bands.Set, loading []bands.Loading, meter b
 		rep.MeterLoading = append(rep.MeterLoading, jsonLoading{ID: id, Quantity: q, Net: l.Net,
 			Nominal: round(l.Unloaded), Loaded: round(l.Loaded), ChangePct: round(100 * l.Change)})
 	}
+}
+
+// fillPoint copies a reading band into a report point.
+func fillPoint(p *jsonPoint, b bands.Band) {
+	p.Nominal, p.Low, p.High = round(b.Nominal), round(b.Low), round(b.High)
+	if b.BelowResolution {
+		p.Nominal = 0
+	}
+	p.Function, p.Range, p.Resolution, p.BelowResolution, p.Why = b.Function, round(b.Range.Full), b.Range.Res, b.BelowResolution, b.Why
+	if b.PP != nil {
+		p.PP = &jsonPP{Nominal: round(b.PP.Nominal), Low: round(b.PP.Low), High: round(b.PP.High)}
+	}
+}
+
+// formatBand prints a report point's band as the meter shows it.
+func formatBand(p jsonPoint) string {
+	return bandOfPoint(p).Format()
+}
+
+func bandOfPoint(p jsonPoint) bands.Band {
+	return bands.Band{Nominal: p.Nominal, Low: p.Low, High: p.High, Quantity: p.Quantity,
+		Range: bands.Range{Full: p.Range, Res: p.Resolution}, BelowResolution: p.BelowResolution}
 }
 
 func buildReport(d *design.Design, m *amp.Model, op, cold *amp.OP, cond amp.Conditions) *jsonReport {
@@ -397,11 +452,13 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 		fmt.Fprintf(w, "Assuming the fault(s): %s\n", strings.Join(rep.Conditions.Faults, ", "))
 	}
 	if rep.Samples > 0 {
-		fmt.Fprintf(w, "Bands: 95%% of %d Monte Carlo samples (parts within tolerance, transformer, mains, valve spread; seed %d)\n",
+		fmt.Fprintf(w, "Bands: 95%% of %d Monte Carlo samples (parts within tolerance, transformer, mains, valve spread; seed %d),\n",
 			rep.Samples-rep.Failed, rep.Seed)
 	} else {
-		fmt.Fprintln(w, "Nominal values only (--samples 0): no bands")
+		fmt.Fprintln(w, "Nominal values only (--samples 0): bands without the parts' tolerances,")
 	}
+	fmt.Fprintf(w, "widened by the model's own error and the meter's (%s) on the range each reading uses;\n", rep.MeterAccuracy)
+	fmt.Fprintln(w, "values below the meter's resolution show as 0. `--json` lists why for every band.")
 	if rep.Failed > 0 {
 		fmt.Fprintf(w, "WARNING: %d of %d samples did not converge and are left out of the bands:\n", rep.Failed, rep.Samples)
 		for _, e := range rep.FailErrors {
@@ -415,17 +472,24 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 	}
 	bandOf := func(id, q string) string {
 		p, ok := byKey[id+" "+q]
-		if !ok || rep.Samples == 0 {
+		if !ok {
 			return ""
 		}
-		return amp.FormatValue(p.Low, q) + " – " + amp.FormatValue(p.High, q)
+		return formatBand(p)
+	}
+	nominalOf := func(pd amp.PointDef, v float64) string {
+		p, ok := byKey[pd.Key()]
+		if !ok {
+			return amp.FormatValue(v, pd.Quantity)
+		}
+		return bandOfPoint(p).FormatNominal()
 	}
 	points := m.Points()
 	for _, vp := range d.Valves() {
 		fmt.Fprintf(w, "%s  %s (%s base, pins seen from below)\n", vp.Ref, vp.Valve.Type.Name, vp.Valve.Type.Base)
 		for _, pd := range amp.PinsOfValve(points, vp.Ref) {
 			v := m.Value(op, pd)
-			line := fmt.Sprintf("  %-44s %-12s %12s   %s", pd.Label, qtyWord(pd.Quantity), amp.FormatValue(v, pd.Quantity), bandOf(pd.ID, pd.Quantity))
+			line := fmt.Sprintf("  %-38s %-21s %10s   %s", pd.Label, bands.Function(pd.Quantity), nominalOf(pd, v), bandOf(pd.ID, pd.Quantity))
 			fmt.Fprintln(w, strings.TrimRight(line, " "))
 		}
 		fmt.Fprintln(w)
@@ -437,9 +501,17 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 			if band != "" {
 				band = " (" + band + ")"
 			}
-			fmt.Fprintf(w, "  %-8s %10s DC%s  ripple %10s rms  load %9s  switch-on peak %10s\n", n.Net,
-				units.Format(n.Volts, units.Volts), band, units.Format(n.Ripple, units.Volts),
+			fmt.Fprintf(w, "  %-6s DC volts %8s%s  load %8s  switch-on peak %8s\n", n.Net,
+				nominalOf(amp.PointDef{ID: n.Net, Quantity: amp.DCVolts}, n.Volts), band,
 				units.Format(n.LoadAmps, units.Amps), units.Format(n.ColdPeak, units.Volts))
+			if p, ok := byKey[n.Net+" "+amp.RippleVolts]; ok {
+				line := fmt.Sprintf("         ripple, %s: %s (%s)", p.Function, bandOfPoint(p).FormatNominal(), formatBand(p))
+				if p.PP != nil {
+					line += fmt.Sprintf(", %s – %s peak to peak on a scope", units.FormatMeasured(p.PP.Low, units.Volts, p.Resolution),
+						units.FormatMeasured(p.PP.High, units.Volts, p.Resolution))
+				}
+				fmt.Fprintln(w, line)
+			}
 		}
 		fmt.Fprintf(w, "  rectifier peak current %s per path\n\n", units.Format(op.Supply.PeakRectAmps, units.Amps))
 	}
@@ -448,7 +520,7 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 		if pd.Valve != "" || pd.Quantity != amp.DCVolts || isSupplyNet(rep, pd.Net) || strings.HasPrefix(pd.Net, "~") {
 			continue
 		}
-		line := fmt.Sprintf("  %-8s %10s   %s", pd.Net, amp.FormatValue(m.Value(op, pd), pd.Quantity), bandOf(pd.ID, pd.Quantity))
+		line := fmt.Sprintf("  %-8s %10s   %s", pd.Net, nominalOf(pd, m.Value(op, pd)), bandOf(pd.ID, pd.Quantity))
 		fmt.Fprintln(w, strings.TrimRight(line, " "))
 	}
 	fmt.Fprintln(w)
@@ -566,9 +638,12 @@ type jsonStep struct {
 	Cold    []jsonNet   `json:"cold_peak"`
 }
 
-// runVariacSteps prints the supply nets and every plate and cathode
-// current at 25, 50, 75 and 100 % variac, with bands, and each filter
-// net's switch-on peak at that setting (nominal and at high mains).
+// runVariacSteps prints, at 25, 50, 75 and 100 % variac, every socket
+// pin's DC volts in one table (a column per setting, nominal over its
+// reading band), then the supply nets and every plate and cathode current
+// with bands, and each filter net's switch-on peak at that setting
+// (nominal and at high mains). Bands are bands.Set.Expect's, read with
+// opt.Meter.
 func runVariacSteps(d *design.Design, opt bands.Options, asJSON bool, stdout, stderr io.Writer) int {
 	steps, err := bands.VariacSteps(d, opt, bands.VariacSettings)
 	if err != nil {
@@ -588,15 +663,20 @@ func runVariacSteps(d *design.Design, opt bands.Options, asJSON bool, stdout, st
 		for _, p := range peaks {
 			js.Cold = append(js.Cold, jsonNet{Net: p.Net, Volts: round(p.Nominal), ColdPeak: round(p.HighMains)})
 		}
-		for i, pd := range st.Set.Points {
+		for _, pd := range st.Set.Points {
 			keep := pd.Valve == "" && pd.Quantity == amp.DCVolts && isFilterNet(peaks, pd.Net) ||
+				pd.Valve != "" && pd.Quantity == amp.DCVolts ||
 				pd.Quantity == amp.DCAmps && (pd.Electrode == "plate" || pd.Electrode == "cathode")
 			if !keep {
 				continue
 			}
-			b := st.Set.Band(i)
-			js.Points = append(js.Points, jsonPoint{ID: pd.ID, Quantity: pd.Quantity, Unit: amp.UnitOf(pd.Quantity),
-				Nominal: round(b.Nominal), Low: round(min(b.Low, b.Nominal)), High: round(max(b.High, b.Nominal)), Label: pd.Label, Net: pd.Net})
+			b, err := st.Set.Expect(pd.Key(), opt.Meter)
+			if err != nil {
+				continue
+			}
+			jp := jsonPoint{ID: pd.ID, Quantity: pd.Quantity, Unit: amp.UnitOf(pd.Quantity), Label: pd.Label, Net: pd.Net}
+			fillPoint(&jp, b)
+			js.Points = append(js.Points, jp)
 		}
 		out = append(out, js)
 	}
@@ -611,26 +691,79 @@ func runVariacSteps(d *design.Design, opt bands.Options, asJSON bool, stdout, st
 		}
 		return exitOK
 	}
-	fmt.Fprintf(stdout, "%s: bring-up on a variac\n", d.Title)
-	fmt.Fprintln(stdout, "DANGER: these voltages are lethal and filter capacitors hold them after power-off.")
-	fmt.Fprintln(stdout, "At low settings the heaters run cool, the valves barely conduct and B+ rises towards its")
-	fmt.Fprintln(stdout, "switch-on peak: the figures there are emission-limited estimates, not precise values.")
+	w := stdout
+	fmt.Fprintf(w, "%s: bring-up on a variac\n", d.Title)
+	fmt.Fprintln(w, "DANGER: these voltages are lethal and filter capacitors hold them after power-off.")
+	fmt.Fprintln(w, "At low settings the heaters run cool, the valves barely conduct and B+ rises towards its")
+	fmt.Fprintln(w, "switch-on peak: the figures there are emission-limited estimates, not precise values.")
 	for _, js := range out {
-		fmt.Fprintf(stdout, "\nVariac %.0f%%", 100*js.Variac)
 		if js.Failed > 0 {
-			fmt.Fprintf(stdout, "  (WARNING: %d of %d samples did not converge)", js.Failed, js.Samples)
+			fmt.Fprintf(w, "WARNING: at %.0f%% variac %d of %d samples did not converge\n", 100*js.Variac, js.Failed, js.Samples)
 		}
-		fmt.Fprintln(stdout)
+	}
+	printPinSteps(w, out)
+	for _, js := range out {
+		fmt.Fprintf(w, "\nVariac %.0f%%: supply and currents\n", 100*js.Variac)
 		for _, p := range js.Points {
-			fmt.Fprintf(stdout, "  %-36s %12s   %s – %s\n", p.Label+" "+qtyWord(p.Quantity), amp.FormatValue(p.Nominal, p.Quantity),
-				amp.FormatValue(p.Low, p.Quantity), amp.FormatValue(p.High, p.Quantity))
+			if p.Quantity == amp.DCVolts && p.ID != p.Net {
+				continue // socket pins: in the table above
+			}
+			fmt.Fprintf(w, "  %-36s %10s   %s\n", p.Label+" "+qtyWord(p.Quantity), bandOfPoint(p).FormatNominal(), formatBand(p))
 		}
 		for _, c := range js.Cold {
-			fmt.Fprintf(stdout, "  %-36s %12s   at high mains %s\n", "net "+c.Net+" switch-on peak", units.Format(c.Volts, units.Volts),
+			fmt.Fprintf(w, "  %-36s %10s   at high mains %s\n", "net "+c.Net+" switch-on peak", units.Format(c.Volts, units.Volts),
 				units.Format(c.ColdPeak, units.Volts))
 		}
 	}
 	return exitOK
+}
+
+// printPinSteps prints every socket pin's DC volts at each variac step:
+// one row of nominal values and one of reading bands per pin, a column
+// per step, within 100 columns for four steps.
+func printPinSteps(w io.Writer, steps []jsonStep) {
+	const label, cell = 20, 20
+	fmt.Fprintf(w, "\nDC volts at every socket pin (to chassis): nominal, then the 95 %% reading band\n")
+	head := fmt.Sprintf("%-*s", label, "pin")
+	for _, js := range steps {
+		head += fmt.Sprintf("%-*s", cell, fmt.Sprintf("variac %.0f%%", 100*js.Variac))
+	}
+	fmt.Fprintln(w, strings.TrimRight(head, " "))
+	var order []string
+	byStep := make([]map[string]jsonPoint, len(steps))
+	labels := map[string]string{}
+	for k, js := range steps {
+		byStep[k] = map[string]jsonPoint{}
+		for _, p := range js.Points {
+			if p.Quantity != amp.DCVolts || p.ID == p.Net {
+				continue
+			}
+			if _, ok := labels[p.ID]; !ok {
+				labels[p.ID] = p.Label
+				order = append(order, p.ID)
+			}
+			byStep[k][p.ID] = p
+		}
+	}
+	for _, id := range order {
+		l := labels[id]
+		if len([]rune(l)) > label-1 {
+			l = string([]rune(l)[:label-1])
+		}
+		nom := fmt.Sprintf("%-*s", label, l)
+		band := strings.Repeat(" ", label)
+		for k := range steps {
+			p, ok := byStep[k][id]
+			n, b := "—", ""
+			if ok {
+				n, b = bandOfPoint(p).FormatNominal(), formatBand(p)
+			}
+			nom += fmt.Sprintf("%-*s ", cell-1, n)
+			band += fmt.Sprintf("%-*s ", cell-1, b)
+		}
+		fmt.Fprintln(w, strings.TrimRight(nom, " "))
+		fmt.Fprintln(w, strings.TrimRight(band, " "))
+	}
 }
 
 func isFilterNet(peaks []bands.ColdPeak, net string) bool {

@@ -184,7 +184,109 @@ func TestExpectNominalOnlyText(t *testing.T) {
 			t.Errorf("line %d: %q: an empty band", i+1, l)
 		}
 	}
-	if !strings.Contains(out, "B1 ") || !strings.Contains(out, " V DC  ripple") {
+	if !strings.Contains(out, "B1 ") || !strings.Contains(out, "DC volts") {
 		t.Errorf("supply lines missing:\n%s", out)
+	}
+}
+
+// Every band says why it is as wide as it is; the meter's accuracy and
+// counts are settable; ripple is read on the AC function with its
+// peak-to-peak band beside it; a current's band never goes below zero.
+func TestExpectReadingBands(t *testing.T) {
+	code, out, errOut := runCLI("expect", "--json", "--samples", "100", "--meter-accuracy", "1%+5", "--meter-counts", "2000", "demo:pp-el34-fixed")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	var doc struct {
+		MeterAccuracy string `json:"meter_accuracy"`
+		Points        []struct {
+			ID, Quantity, Function string
+			Low, High              float64
+			Why                    []string
+			PP                     *struct{ Low, High float64 } `json:"peak_to_peak"`
+		} `json:"points"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if doc.MeterAccuracy != "DC volts 1 % + 5 digits, 2000 counts" {
+		t.Errorf("meter accuracy %q", doc.MeterAccuracy)
+	}
+	seen := 0
+	for _, p := range doc.Points {
+		if len(p.Why) == 0 || p.Function == "" {
+			t.Errorf("%s %s: no why or function", p.ID, p.Quantity)
+		}
+		if p.Quantity == "dc_amps" && p.Low < 0 {
+			t.Errorf("%s current band starts at %g", p.ID, p.Low)
+		}
+		if p.ID == "V3.3" && p.Quantity == "dc_volts" {
+			seen++
+			if !strings.Contains(strings.Join(p.Why, ";"), "meter 1 % + 5 digits on the 1 kV range (2000 counts") {
+				t.Errorf("V3.3 why %q", p.Why)
+			}
+		}
+		if p.ID == "B1" && p.Quantity == "ripple_volts" {
+			seen++
+			if p.Function != "AC volts (true rms)" || p.PP == nil || !(p.PP.High > p.High) {
+				t.Errorf("B1 ripple %+v", p)
+			}
+		}
+	}
+	if seen != 2 {
+		t.Errorf("V3.3 or B1 ripple missing")
+	}
+	for _, bad := range []string{"--meter-accuracy=0.5", "--meter-counts=10"} {
+		if code, _, _ := runCLI("expect", bad, "demo"); code != exitUsage {
+			t.Errorf("%s: exit %d", bad, code)
+		}
+	}
+}
+
+// --variac steps lists every socket pin's DC volts at every step, in a
+// table within 100 columns, and in --json.
+func TestExpectVariacStepsEveryPin(t *testing.T) {
+	code, out, errOut := runCLI("expect", "--variac", "steps", "--samples", "30", "demo:pp-el34-fixed")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	for _, l := range strings.Split(out, "\n") {
+		if n := len([]rune(l)); n > 100 {
+			t.Errorf("line of %d columns: %q", n, l)
+		}
+	}
+	for _, want := range []string{"V3 pin 3 plate", "V1 pin 8 cathode A", "V2 pin 7 grid A", "variac 25%", "variac 100%"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("steps table lacks %q", want)
+		}
+	}
+	code, js, errOut := runCLI("expect", "--json", "--variac", "steps", "--samples", "30", "demo:pp-el34-fixed")
+	if code != exitOK {
+		t.Fatalf("json: exit %d: %s", code, errOut)
+	}
+	var doc struct {
+		Steps []struct {
+			Variac float64
+			Points []struct{ ID, Quantity string }
+		} `json:"variac_steps"`
+	}
+	if err := json.Unmarshal([]byte(js), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.Steps) != 4 {
+		t.Fatalf("%d steps", len(doc.Steps))
+	}
+	for _, st := range doc.Steps {
+		pins := map[string]bool{}
+		for _, p := range st.Points {
+			if p.Quantity == "dc_volts" {
+				pins[p.ID] = true
+			}
+		}
+		for _, id := range []string{"V3.3", "V3.4", "V3.5", "V3.8", "V1.6", "V2.2", "V9.2"} {
+			if !pins[id] {
+				t.Errorf("variac %g: no DC volts for %s", st.Variac, id)
+			}
+		}
 	}
 }

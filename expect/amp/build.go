@@ -33,10 +33,14 @@ const (
 // Slot is one value that sampling or a fault may change: a resistance or a
 // source voltage in the network.
 type Slot struct {
-	Ref    string // part reference
-	Role   string // "", "a-wiper", "wiper-b", "dcr", "leak", "half-a", "half-b", "winding"…
-	Kind   ElemKind
-	handle int
+	Ref  string // part reference
+	Role string // "", "a-wiper", "wiper-b", "dcr", "leak", "half-a", "half-b", "winding"…
+	Kind ElemKind
+	// MainsFed: a source rectified from a power-transformer winding; its
+	// volts (the part's output at the design's mains) follow the mains
+	// and variac (see rectifiedVolts).
+	MainsFed bool
+	handle   int
 }
 
 // Section is one amplifying valve section in the network.
@@ -198,7 +202,7 @@ func Build(d *design.Design) (*Model, error) {
 			out, ref := p.Terminals[0].Net, p.Terminals[1].Net
 			inner := "~" + p.Ref
 			h := m.ckt.AddVSource(m.node(inner), m.node(ref), p.Value)
-			m.Slots = append(m.Slots, Slot{Ref: p.Ref, Role: "volts", Kind: ElemSource, handle: h})
+			m.Slots = append(m.Slots, Slot{Ref: p.Ref, Role: "volts", Kind: ElemSource, MainsFed: p.MainsFed, handle: h})
 			m.Nominal = append(m.Nominal, p.Value)
 			m.slotNets = append(m.slotNets, [2]string{out, ref})
 			m.slotByRef[p.Ref] = append(m.slotByRef[p.Ref], len(m.Slots)-1)

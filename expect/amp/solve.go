@@ -112,6 +112,7 @@ type FilterNetOP struct {
 	Net                string
 	Vdc, RippleRms     float64
 	RippleFund         float64 // rms of the ripple fundamental
+	RipplePP           float64 // peak to peak (full solves only)
 	LoadAmps, FeedAmps float64 // drawn at this net; flowing into it from its parent
 	ColdPeak           float64 // no valve current, at these conditions
 }
@@ -317,6 +318,7 @@ func (s *Solver) heaterOpen(ref string, v *Values) bool {
 // applyValues loads part values into the network.
 func (s *Solver) applyValues(c Conditions, v *Values, heaterVolts map[string]float64) []float64 {
 	m := s.m
+	mf := s.mainsFactor(c)
 	for i, sl := range m.Slots {
 		switch sl.Kind {
 		case ElemResistance:
@@ -326,7 +328,11 @@ func (s *Solver) applyValues(c Conditions, v *Values, heaterVolts map[string]flo
 			}
 			m.ckt.SetResistance(sl.handle, r)
 		case ElemSource:
-			m.ckt.SetSource(sl.handle, v.Slot[i])
+			x := v.Slot[i]
+			if sl.MainsFed {
+				x = RectifiedVolts(x, mf)
+			}
+			m.ckt.SetSource(sl.handle, x)
 		}
 	}
 	frac := make([]float64, len(m.Sections))
@@ -357,6 +363,21 @@ func (s *Solver) applyValues(c Conditions, v *Values, heaterVolts map[string]flo
 		}
 	}
 	return frac
+}
+
+// BiasDiodeDrop is the forward drop of the silicon diode of a rectified
+// bias winding (common practice: about 0.7 V).
+const BiasDiodeDrop = 0.7
+
+// RectifiedVolts is the unloaded output of a supply rectified from a
+// transformer winding whose output is v0 (signed) at the design's mains,
+// at f times the transformer's rated primary volts: the winding's peak
+// scales with its primary, the diode's drop does not (a peak-rectified
+// winding: Vout = f·(|v0| + Vd) − Vd, and 0 once the peak no longer
+// clears the diode).
+func RectifiedVolts(v0, f float64) float64 {
+	out := math.Max(0, f*(math.Abs(v0)+BiasDiodeDrop)-BiasDiodeDrop)
+	return math.Copysign(out, v0)
 }
 
 func (m *Model) heaterRated(ref string) float64 {
@@ -562,6 +583,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		sp.Nets[i].Net = net
 		sp.Nets[i].RippleRms = res.Nets[i].RippleRms
 		sp.Nets[i].RippleFund = res.Nets[i].RippleFund
+		sp.Nets[i].RipplePP = res.Nets[i].RipplePP
 	}
 	sp.ColdPeakAll(supply.ColdPeak(p))
 	sp.PeakRectAmps, sp.RmsAmps, sp.TotalAmps = res.PeakRectAmps, res.RmsRectAmps, res.AvgRectAmps

@@ -43,6 +43,9 @@ type Options struct {
 	// It is called from several goroutines at once, each with its own
 	// model: it must not write shared state.
 	Values func(m *amp.Model, v *amp.Values) error
+	// Meter the readings are taken with, for Set.Expect (zero:
+	// DefaultMeter).
+	Meter Meter
 	// Extra, when set, adds points computed from each solved operating
 	// point (AC tone levels, hum) to the set, sampled like the DC ones.
 	Extra *Extra
@@ -86,9 +89,10 @@ type Set struct {
 	NominalOP  *amp.OP
 	Readings   []Reading // readings the set is conditioned on
 
-	d     *design.Design
-	opt   Options
-	index map[string]int
+	d            *design.Design
+	opt          Options
+	index        map[string]int
+	netElectrode map[string]string // a valve electrode on each net
 }
 
 // MaxFailErrs bounds the distinct failure messages kept.
@@ -99,9 +103,23 @@ const MaxFailErrs = 5
 // sample's result independent of which worker solved it and after what.
 const blockSize = 50
 
-// Band is a point's expected range.
+// Band is a point's expected range. Set.Band fills only Nominal, Low and
+// High (the model's own spread); Set.Expect and FromSpread give the band
+// of a reading, with the meter and the model error, and say why.
 type Band struct {
 	Nominal, Low, High float64
+	// Quantity of the point; Function the meter function it is read on
+	// ("DC volts", "AC volts (true rms)"); Range the meter range in use.
+	Quantity, Function string
+	Range              Range
+	// BelowResolution: the nominal value is below one count of the range:
+	// the meter shows 0 for it and the band is "under High".
+	BelowResolution bool
+	// PP is the peak-to-peak band of a ripple reading (on a scope), beside
+	// the rms one the meter shows; nil for other quantities.
+	PP *Band
+	// Why lists, in words, what the band is conditioned on and widened by.
+	Why []string
 }
 
 // Width is High − Low.
@@ -383,8 +401,14 @@ func (rs *rippleScale) apply(op *amp.OP, v *amp.Values) {
 
 func (s *Set) buildIndex() {
 	s.index = make(map[string]int, len(s.Points))
+	s.netElectrode = map[string]string{}
 	for i, pd := range s.Points {
 		s.index[pd.Key()] = i
+		if pd.Valve != "" && pd.Quantity == amp.DCVolts && pd.Electrode != "" {
+			if _, ok := s.netElectrode[pd.Net]; !ok || pd.Electrode == "cathode" {
+				s.netElectrode[pd.Net] = pd.Electrode
+			}
+		}
 	}
 }
 

@@ -25,13 +25,19 @@ type Meter struct {
 	// counts, autoranging in decades.
 	AccuracyPct, Digits float64
 	Counts              int
+	// Accuracy on the other functions, each ± % of reading + digits on the
+	// range in use; a zero Spec takes the typical figure (TypicalSpecs).
+	// DC volts are AccuracyPct and Digits above.
+	ACVolts, DCAmps, ACAmps, Resistance Spec
 }
 
 // Typical meters (common practice; the figures of a typical handheld
 // multimeter and a typical moving-coil multimeter, not of any one model).
 var (
-	// DigitalMeter: 10 MΩ input, ±(0.5 % + 2 digits), 4000 counts.
-	DigitalMeter = Meter{Name: "10 MΩ digital", InputOhms: 10e6, AccuracyPct: 0.5, Digits: 2, Counts: 4000}
+	// DigitalMeter: 10 MΩ input, DC volts ±(0.5 % + 2 digits), a
+	// 6000-count display (ranges 600 mV, 6 V, 60 V, 600 V and 1000 V on DC
+	// volts); the other functions at TypicalSpecs.
+	DigitalMeter = Meter{Name: "10 MΩ digital", InputOhms: 10e6, AccuracyPct: 0.5, Digits: 2, Counts: 6000}
 	// analogueAccuracyPct: ±3 % of full scale on DC volts.
 	analogueAccuracyPct = 3.0
 )
@@ -82,20 +88,11 @@ func (mt Meter) Ohms() float64 {
 	return mt.InputOhms
 }
 
-// Accuracy returns the meter's error limit, in the reading's unit, for a
-// reading x.
+// Accuracy returns the meter's error limit, in volts, for a DC-volts
+// reading x (ErrorLimit on DC volts).
 func (mt Meter) Accuracy(x float64) float64 {
-	if mt.OhmsPerVolt > 0 {
-		return mt.AccuracyPct / 100 * mt.RangeVolts
-	}
-	acc := mt.AccuracyPct / 100 * math.Abs(x)
-	if mt.Digits > 0 && mt.Counts > 0 {
-		// The range is the smallest decade that shows |x| within Counts:
-		// resolution 10^k with Counts·10^k ≥ |x|.
-		res := math.Pow(10, math.Ceil(math.Log10(max(math.Abs(x), 1e-12)/float64(mt.Counts))))
-		acc += mt.Digits * res
-	}
-	return acc
+	e, _ := mt.ErrorLimit(amp.DCVolts, x)
+	return e
 }
 
 // isZero reports whether the meter was left unset.

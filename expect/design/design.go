@@ -93,9 +93,13 @@ type Part struct {
 	RatedAmps    float64 // chokes
 	Leakage      float64 // capacitors: parallel leakage resistance in ohms, 0 = none
 	Setting      float64 // pots: wiper position 0..1 from end a
-	Placeholder  []string
-	Terminals    []Terminal
-	Note         string
+	// MainsFed: a bias or DC supply rectified from a winding of the power
+	// transformer, whose output follows the mains and the variac (the
+	// design's mains-fed: true; a bench supply does not).
+	MainsFed    bool
+	Placeholder []string
+	Terminals   []Terminal
+	Note        string
 
 	Valve *ValvePart
 	PT    *PowerTransformerPart

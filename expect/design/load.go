@@ -758,8 +758,8 @@ var fieldsOf = map[Kind][]string{
 	Pot:               {"setting", "ends", "wiper", "watts", "tolerance", "note"},
 	Fuse:              {"slow", "between", "note"},
 	MainsInlet:        {"live", "neutral", "earth", "note"},
-	BiasSupply:        {"dcr", "between", "note"},
-	DCSupply:          {"dcr", "between", "note"},
+	BiasSupply:        {"dcr", "between", "mains-fed", "note"},
+	DCSupply:          {"dcr", "between", "mains-fed", "note"},
 	PowerTransformer:  {"note"},
 	OutputTransformer: {"note"},
 	Rectifier:         {"anodes", "cathode", "ac", "plus", "minus", "note"},
@@ -876,6 +876,26 @@ func (l *loader) part(d *Design, p *Part, n *yaml.Node) bool {
 			p.Value = v
 		}
 		p.Tol = Tolerance{-0.1, 0.1}
+		// A bias supply rectified from a winding of the power transformer
+		// follows the mains and the variac (mains-fed: true); a bench or
+		// regulated supply does not. The default is false for now: with
+		// it on, the fixed-bias demo's grids sit near 0 V while the
+		// heaters are cool, and the network solve does not yet converge
+		// at 10 % mains and at 50 % (the emission cap's derivative loses
+		// all precision when the Koren current is far above the cap).
+		p.MainsFed = false
+		if mn, ok := fields["mains-fed"]; ok {
+			if s, ok := l.scalar(mn, field("mains-fed"), "true or false"); ok {
+				switch s {
+				case "true":
+					p.MainsFed = true
+				case "false":
+					p.MainsFed = false
+				default:
+					l.errf(mn, field("mains-fed"), "expected true (rectified from a winding of the power transformer) or false (a regulated or bench supply), found %q", s)
+				}
+			}
+		}
 		l.optValue(fields, "dcr", units.Ohms, p, &p.DCR, 0, 1e7)
 		l.twoNets(p, fields, "between", [2]string{"out", "ref"})
 	case PowerTransformer:

@@ -710,3 +710,16 @@ func scanPercent(s string) (sign int, x float64, pct, ok bool) {
 	}
 	return sign, x, pct, true
 }
+
+// FormatMeasured prints v as a display with resolution res shows it:
+// rounded to a whole number of res, and 0 when |v| is below half of res
+// ("0 V" rather than "81.4e-15 V"), then as Format. res ≤ 0 is Format.
+func FormatMeasured(v float64, q Quantity, res float64) string {
+	if res > 0 && !math.IsInf(v, 0) && !math.IsNaN(v) {
+		v = math.Round(v/res) * res
+		if math.Abs(v) < res/2 {
+			v = 0
+		}
+	}
+	return Format(v, q)
+}
