@@ -15,6 +15,7 @@ package spice
 
 import (
 	"fmt"
+	"io"
 	"math"
 	"sort"
 	"strings"
@@ -104,15 +105,17 @@ func export(m *amp.Model, c amp.Conditions, v *amp.Values) (*Netlist, error) {
 	n.head = append(n.head,
 		fmt.Sprintf("Design file %s (sha256 %s)", d.File, short(d.Hash)),
 		fmt.Sprintf("Mains %s V %s Hz (transformer primary at %.4g of its rated volts); nominal part values.", num(n.Mains), num(d.Mains.Hz), f),
-		"Written by pinwalk export --spice: the circuit pinwalk solves, as it models it.",
-		"Design net names are SPICE nodes where they can be; the list below gives the others.")
+		"Written by pinwalk export --spice: the circuit pinwalk solves, as it models it.")
 	var renamed []string
 	for _, net := range d.NetNames() {
 		if node, ok := n.Nodes[net]; ok && node != net && net != d.Ground {
 			renamed = append(renamed, fmt.Sprintf("  net %s is node %s", net, node))
 		}
 	}
-	n.head = append(n.head, renamed...)
+	if len(renamed) > 0 {
+		n.head = append(n.head, "Nets are nodes of the same name, except (SPICE names are case-insensitive plain words):")
+		n.head = append(n.head, renamed...)
+	}
 
 	if err := n.supply(m, s, c, v); err != nil {
 		return nil, err
@@ -469,10 +472,10 @@ func (n *Netlist) sections(m *amp.Model, s *amp.Solver, c amp.Conditions, v *amp
 			return pin
 		}
 		if sec.Pentode {
-			n.comment("%s: %s %s, Koren pentode mu=%s ex=%s kg1=%s kg2=%s kp=%s kvb=%s, grid diode behind %s ohm",
+			n.comment("%s: %s%s, Koren pentode mu=%s ex=%s kg1=%s kg2=%s kp=%s kvb=%s, grid diode behind %s ohm",
 				name, sec.Type.Name, sectionWord(sec.Section), num(k.Mu), num(k.Ex), num(k.KG1), num(k.KG2), num(k.KP), num(k.KVB), num(gridOhms(k)))
 		} else {
-			n.comment("%s: %s %s, Koren triode mu=%s ex=%s kg1=%s kp=%s kvb=%s, grid diode behind %s ohm",
+			n.comment("%s: %s%s, Koren triode mu=%s ex=%s kg1=%s kp=%s kvb=%s, grid diode behind %s ohm",
 				name, sec.Type.Name, sectionWord(sec.Section), num(k.Mu), num(k.Ex), num(k.KG1), num(k.KP), num(k.KVB), num(gridOhms(k)))
 		}
 		if lims[i] > 0 {
@@ -499,7 +502,7 @@ func sectionWord(s string) string {
 	if s == "" {
 		return ""
 	}
-	return "section " + s
+	return " section " + s
 }
 
 // DeckOptions says how long to run the transient and what to average.
@@ -507,7 +510,7 @@ type DeckOptions struct {
 	// Cycles is the number of mains cycles simulated; 0 means 150.
 	Cycles int
 	// Average is the number of whole mains cycles at the end over which
-	// every probe is averaged; 0 means 5.
+	// every probe is averaged; 0 means 10.
 	Average int
 	// StepsPerCycle bounds the time step to a fraction of the mains
 	// period; 0 means 100.
@@ -532,7 +535,7 @@ func (o DeckOptions) withDefaults() DeckOptions {
 		o.Cycles = 150
 	}
 	if o.Average <= 0 {
-		o.Average = 5
+		o.Average = 10
 	}
 	if o.Average > o.Cycles {
 		o.Average = o.Cycles
@@ -564,10 +567,14 @@ func (n *Netlist) Deck(o DeckOptions) string {
 	// Saved from a little before the averaged cycles, so that the first
 	// one is covered from its start.
 	tsave := max(0, (float64(o.Cycles-o.Average)-0.05)*period)
-	fmt.Fprintf(&b, "*\n* Run: ngspice -b THIS_FILE. The transient runs %d mains cycles (its start is\n", o.Cycles)
-	fmt.Fprintf(&b, "* given at the .tran line below); the .meas lines print each\n")
-	fmt.Fprintf(&b, "* net's volts (v_NODE) and each valve electrode's current (i_SOURCE, into\n")
-	fmt.Fprintf(&b, "* the electrode) averaged over the last %d whole cycles: the DC a meter reads.\n", o.Average)
+	start := "at power-on, every capacitor empty"
+	if len(o.Initial) > 0 {
+		start = "from the state given at the .ic lines"
+	}
+	fmt.Fprintf(&b, "*\n* Run: ngspice -b THIS_FILE. The transient runs %d mains cycles, starting\n", o.Cycles)
+	fmt.Fprintf(&b, "* %s; the .meas lines print each net's volts (v_NODE)\n", start)
+	fmt.Fprintf(&b, "* and each valve electrode's current (i_SOURCE, into the electrode) averaged\n")
+	fmt.Fprintf(&b, "* over the last %d whole cycles: the DC a meter reads.\n", o.Average)
 	fmt.Fprintf(&b, "* Valve heaters are loads on their windings only; the valve models do not\n")
 	fmt.Fprintf(&b, "* depend on heater volts except through the emission caps written below.\n")
 	b.WriteString("\n.options temp=26.85 tnom=26.85 reltol=1e-5 rshunt=1e12\n")
@@ -612,4 +619,49 @@ func (n *Netlist) Deck(o DeckOptions) string {
 	}
 	b.WriteString(".end\n")
 	return b.String()
+}
+
+// Write writes the design's deck for a user's own simulator run: Export,
+// then Deck with the defaults, starting from pinwalk's nominal volts at the
+// reservoir (the first filter net) when pinwalk can solve the design, from
+// power-on otherwise (a comment in the deck says which).
+func Write(w io.Writer, d *design.Design) error {
+	n, err := Export(d)
+	if err != nil {
+		return err
+	}
+	o := DeckOptions{}
+	if start, err := ReservoirStart(d); err == nil {
+		o.Initial = start
+	} else {
+		n.head = append(n.head, "pinwalk could not solve this design ("+firstLine(err.Error())+"): the run starts at power-on.")
+	}
+	_, err = io.WriteString(w, n.Deck(o))
+	return err
+}
+
+// ReservoirStart solves the design at nominal mains and returns the volts
+// of its first HT filter net (the reservoir), for DeckOptions.Initial; an
+// empty map when the design has no HT rectifier. Errors are the solver's.
+func ReservoirStart(d *design.Design) (map[string]float64, error) {
+	m, err := amp.Build(d)
+	if err != nil {
+		return nil, err
+	}
+	if m.HT == nil {
+		return map[string]float64{}, nil
+	}
+	var op amp.OP
+	if err := amp.NewSolver(m).Solve(amp.Conditions{}, m.NominalValues(), false, &op); err != nil {
+		return nil, err
+	}
+	v, _ := m.NetVolts(&op, m.HT.Nets[0])
+	return map[string]float64{m.HT.Nets[0]: v}, nil
+}
+
+func firstLine(s string) string {
+	if i := strings.IndexByte(s, '\n'); i >= 0 {
+		return s[:i]
+	}
+	return s
 }
