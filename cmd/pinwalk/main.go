@@ -36,6 +36,7 @@ func commands() []command {
 		{"show", "a readable summary of a design, to check it against the schematic", runShow},
 		{"diagnose", "rank the likely faults from readings and say what to measure next", runDiagnose},
 		{"report", "a job sheet from a session (Markdown or HTML), or two sessions compared", runReport},
+		{"export", "the circuit as a SPICE netlist, to run in your own simulator (--spice)", runExport},
 		{"walk", "guided bring-up, fault-finding, training, practice or signal tracing (--plain: line by line)", runWalk},
 	}
 }

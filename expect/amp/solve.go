@@ -229,6 +229,60 @@ func saturationAmps(t *valves.Type) float64 {
 	return emissionReserve * best
 }
 
+// MainsFactor is the ratio of the volts on the transformer primary under
+// conditions c (mains times variac) to its rated primary volts: every
+// winding's open-circuit volts scale by it.
+func (s *Solver) MainsFactor(c Conditions) float64 { return s.mainsFactor(c) }
+
+// SupplyParams returns the parameters the HT supply simulation of a full
+// Solve starts from under conditions c with values v (stage loads zero:
+// Solve fills them in from the network), and false when the design has
+// no HT rectifier.
+func (s *Solver) SupplyParams(c Conditions, v *Values) (supply.Params, bool) {
+	if s.m.HT == nil {
+		return supply.Params{}, false
+	}
+	var op OP
+	hv := s.heaters(c, v, &op)
+	return s.supplyParams(c, v, hv), true
+}
+
+// EmissionLimits returns, per Model.Sections, the cathode current (amps)
+// at which Solve caps each section's current under conditions c with
+// values v (valves.EmissionCap; 0 means no cap, a fully heated cathode).
+func (s *Solver) EmissionLimits(c Conditions, v *Values) []float64 {
+	var op OP
+	lim, _ := s.emissionLimits(c, v, s.heaters(c, v, &op))
+	return lim
+}
+
+// emissionLimits returns each section's emission cap (amps, 0 = none) and
+// its saturation emission relative to a fully heated cathode.
+func (s *Solver) emissionLimits(c Conditions, v *Values, heaterVolts map[string]float64) (lim, frac []float64) {
+	m := s.m
+	lim = make([]float64, len(m.Sections))
+	frac = make([]float64, len(m.Sections))
+	for i, sec := range m.Sections {
+		ef := 1.0
+		if hv, ok := heaterVolts[sec.Ref]; ok {
+			ef = emissionFraction(hv / m.heaterRated(sec.Ref))
+		}
+		em := v.Emission[i]
+		if em < 0 {
+			em = 0 // heater open
+		}
+		ef *= em
+		if c.ColdValves {
+			ef = 0
+		}
+		if ef < 0.999 {
+			lim[i] = max(saturationAmps(sec.Type)*ef, 1e-9)
+		}
+		frac[i] = ef
+	}
+	return lim, frac
+}
+
 func (s *Solver) mainsFactor(c Conditions) float64 {
 	mains := c.MainsVolts
 	if mains <= 0 {
@@ -278,17 +332,8 @@ func (s *Solver) heaters(c Conditions, v *Values, op *OP) map[string]float64 {
 	}
 	for _, w := range order {
 		l := loads[w]
-		r := w.DCR
-		if l.pt.PrimaryVolts > 0 {
-			ratio := w.Volts / l.pt.PrimaryVolts
-			r += l.pt.PrimaryDCR * ratio * ratio
-		}
+		voc, r := HeaterWindingSource(w, l.pt)
 		rated := w.RatedAmps
-		voc := w.Volts + rated*r
-		if r == 0 {
-			voc = w.Volts * 1.05 // common practice: small heater windings rise about 5 % unloaded
-			r = 0.05 * w.Volts / max(rated, 0.1)
-		}
 		vl := voc * f / (1 + r*l.g)
 		for _, ref := range l.refs {
 			volts[ref] = vl
@@ -304,6 +349,27 @@ func (s *Solver) heaters(c Conditions, v *Values, op *OP) map[string]float64 {
 		op.Heaters = append(op.Heaters, HeaterOP{Ref: h.Ref, Volts: vv, Amps: h.RatedAmps * vv / h.RatedVolts})
 	}
 	return volts
+}
+
+// HeaterWindingSource returns the open-circuit rms volts (at the
+// transformer's rated primary volts) and the source resistance (winding
+// DCR plus reflected primary DCR, ohms) of a heater or other non-HT
+// winding: its rated volts are at its rated current, so the open-circuit
+// volts add that current's drop in the source resistance (common
+// practice). A winding whose DCRs are unknown rises about 5 % unloaded
+// (common practice for small heater windings).
+func HeaterWindingSource(w *design.Winding, pt *design.PowerTransformerPart) (vocRms, ohms float64) {
+	r := w.DCR
+	if pt.PrimaryVolts > 0 {
+		ratio := w.Volts / pt.PrimaryVolts
+		r += pt.PrimaryDCR * ratio * ratio
+	}
+	voc := w.Volts + w.RatedAmps*r
+	if r == 0 {
+		voc = w.Volts * 1.05
+		r = 0.05 * w.Volts / max(w.RatedAmps, 0.1)
+	}
+	return voc, r
 }
 
 func (s *Solver) heaterOpen(ref string, v *Values) bool {
@@ -335,31 +401,14 @@ func (s *Solver) applyValues(c Conditions, v *Values, heaterVolts map[string]flo
 			m.ckt.SetSource(sl.handle, x)
 		}
 	}
-	frac := make([]float64, len(m.Sections))
+	lim, frac := s.emissionLimits(c, v, heaterVolts)
 	for i, sec := range m.Sections {
-		lim := 0.0
-		ef := 1.0
-		if hv, ok := heaterVolts[sec.Ref]; ok {
-			ef = emissionFraction(hv / m.heaterRated(sec.Ref))
-		}
-		em := v.Emission[i]
-		if em < 0 {
-			em = 0 // heater open
-		}
-		ef *= em
-		if c.ColdValves {
-			ef = 0
-		}
-		if ef < 0.999 {
-			lim = max(saturationAmps(sec.Type)*ef, 1e-9)
-		}
-		frac[i] = ef
 		if sec.tri != nil {
 			sec.tri.Model = v.Koren[i]
-			sec.tri.EmissionLimit = lim
+			sec.tri.EmissionLimit = lim[i]
 		} else {
 			sec.pen.Model = v.Koren[i]
-			sec.pen.EmissionLimit = lim
+			sec.pen.EmissionLimit = lim[i]
 		}
 	}
 	return frac
