@@ -35,8 +35,9 @@ func funcs() string {
 	}
 	w("ln(1+exp(x)) without overflow (valves.softplus)",
 		"pw_softplus(x) {max(x,0) + ln(1 + exp(-abs(x)))}")
-	// valves.Koren.TriodePlate:
-	//   E1 = (Vpk/kp)·ln(1+exp(kp·(1/mu + Vgk/√(kvb+Vpk²))))
+	// valves.Koren.TriodePlate (the callers pass Vgk + vct, the
+	// contact-potential offset):
+	//   E1 = (Vpk/kp)·ln(1+exp(kp·(1/mu + (Vgk+vct)/√(kvb+Vpk²))))
 	//   Ip = 2·E1^ex/kg1 for Vpk > 0 and E1 > 0, else 0
 	w("Koren triode E1 (valves.Koren.TriodePlate)",
 		"koren_tri_e1(vgk, vpk, mu, kp, kvb) {vpk/kp * pw_softplus(kp*(1/mu + vgk/sqrt(kvb + vpk*vpk)))}")
@@ -45,13 +46,14 @@ func funcs() string {
 	// valves.Koren.Pentode:
 	//   E1  = (Vg2k/kp)·ln(1+exp(kp·(1/mu + Vg1k/Vg2k)))
 	//   Ip  = 2·E1^ex/kg1 · atan(Vpk/kvb)   (Vg2k > 0, Vpk > 0)
-	//   Ig2 = (Vg2k/mu + Vg1k)^ex / kg2      (Vg2k > 0, bracket > 0)
+	//   Ig2 = E1^ex/kg2 · (1 + αs·Vg2k/(Vg2k + βs·Vp)), Vp = 2·ln(1+exp(Vpk/2))
+	//   (Vg1k carries + vct as for the triode)
 	w("Koren pentode E1 (valves.Koren.Pentode); the max() only keeps the unused branch finite",
 		"koren_pen_e1(vg1k, vg2k, mu, kp) {vg2k/kp * pw_softplus(kp*(1/mu + vg1k/max(vg2k, 1e-30)))}")
 	w("Koren pentode plate current, amps: 2*E1^ex/kg1*atan(Vpk/kvb), 0 for Vg2k <= 0 or Vpk <= 0",
 		"koren_pen_ip(vg1k, vg2k, vpk, mu, ex, kg1, kp, kvb) {vg2k > 0 ? (vpk > 0 ? 2*pwr(max(koren_pen_e1(vg1k, vg2k, mu, kp), 0), ex)/kg1*atan(vpk/kvb) : 0) : 0}")
-	w("Koren pentode screen current, amps: (Vg2k/mu+Vg1k)^ex/kg2, 0 when Vg2k <= 0 or the bracket <= 0",
-		"koren_pen_ig2(vg1k, vg2k, mu, ex, kg2) {vg2k > 0 ? (vg2k/mu + vg1k > 0 ? pwr(vg2k/mu + vg1k, ex)/kg2 : 0) : 0}")
+	w("pentode screen current, amps: E1^ex/kg2 times the plate-dependent division factor (valves.Koren.Pentode), 0 for Vg2k <= 0",
+		"koren_pen_ig2(vg1k, vg2k, vpk, mu, ex, kp, kg2, as, bs) {vg2k > 0 ? pwr(max(koren_pen_e1(vg1k, vg2k, mu, kp), 0), ex)/kg2*(1 + as*vg2k/(vg2k + bs*2*pw_softplus(vpk/2))) : 0}")
 	// valves.Koren.GridCurrent: Ig = (soft/R)·ln(1+exp((Vgk−onset)/soft)).
 	w(fmt.Sprintf("grid-current diode, amps (valves.Koren.GridCurrent): knee %g V wide at %g V, then 1/r", gridSoftVolts, gridOnsetVolts),
 		fmt.Sprintf("pw_grid(vgk, r) {%g/r * pw_softplus((vgk - %g)/%g)}", gridSoftVolts, gridOnsetVolts, gridSoftVolts))
@@ -87,7 +89,7 @@ func triodeIp(k valves.Koren, vgk, vpk string, imax float64) string {
 	if !korenValid(k) {
 		return "0"
 	}
-	ip := fmt.Sprintf("koren_tri_ip(%s, %s, %s, %s, %s, %s, %s)", vgk, vpk, num(k.Mu), num(k.Ex), num(k.KG1), num(k.KP), num(k.KVB))
+	ip := fmt.Sprintf("koren_tri_ip(%s, %s, %s, %s, %s, %s, %s)", withVCT(vgk, k), vpk, num(k.Mu), num(k.Ex), num(k.KG1), num(k.KP), num(k.KVB))
 	if imax > 0 {
 		return fmt.Sprintf("%s*pw_emcap(%s, %s)", ip, ip, num(imax))
 	}
@@ -101,10 +103,10 @@ func pentodeCurrents(k valves.Koren, vg1k, vg2k, vpk string, imax float64) (ip, 
 	ip, ig2 = "0", "0"
 	if k.Mu > 0 && k.KP > 0 {
 		if k.KG1 > 0 && k.KVB > 0 {
-			ip = fmt.Sprintf("koren_pen_ip(%s, %s, %s, %s, %s, %s, %s, %s)", vg1k, vg2k, vpk, num(k.Mu), num(k.Ex), num(k.KG1), num(k.KP), num(k.KVB))
+			ip = fmt.Sprintf("koren_pen_ip(%s, %s, %s, %s, %s, %s, %s, %s)", withVCT(vg1k, k), vg2k, vpk, num(k.Mu), num(k.Ex), num(k.KG1), num(k.KP), num(k.KVB))
 		}
 		if k.KG2 > 0 {
-			ig2 = fmt.Sprintf("koren_pen_ig2(%s, %s, %s, %s, %s)", vg1k, vg2k, num(k.Mu), num(k.Ex), num(k.KG2))
+			ig2 = fmt.Sprintf("koren_pen_ig2(%s, %s, %s, %s, %s, %s, %s, %s, %s)", withVCT(vg1k, k), vg2k, vpk, num(k.Mu), num(k.Ex), num(k.KP), num(k.KG2), num(k.AlphaS), num(k.BetaS))
 		}
 	}
 	if imax > 0 {
@@ -117,6 +119,15 @@ func pentodeCurrents(k valves.Koren, vg1k, vg2k, vpk string, imax float64) (ip, 
 		}
 	}
 	return ip, ig2
+}
+
+// withVCT adds a model's contact-potential offset to a grid voltage
+// expression (valves.Koren.VCT).
+func withVCT(vg string, k valves.Koren) string {
+	if k.VCT == 0 {
+		return vg
+	}
+	return fmt.Sprintf("(%s + %s)", vg, num(k.VCT))
 }
 
 // gridIg returns the behavioural expression of the grid-current diode.
