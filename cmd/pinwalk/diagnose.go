@@ -16,6 +16,7 @@ import (
 	"pinwalk/expect/amp"
 	"pinwalk/expect/bands"
 	"pinwalk/expect/design"
+	pkey "pinwalk/expect/point"
 	"pinwalk/expect/units"
 	"pinwalk/procedures/infer"
 )
@@ -140,14 +141,14 @@ const (
 // returns what was expected, or "".
 func checkReadingValue(id, value string) string {
 	uq, what, limit := units.Volts, "volts", maxReadingVolts
-	switch {
-	case strings.HasPrefix(id, "cold:"):
+	k, _ := pkey.ParseShort(id)
+	switch k.Quantity {
+	case pkey.Ohms:
 		uq, what, limit = units.Ohms, "ohms", maxReadingOhms
-		switch strings.ToLower(strings.TrimSpace(value)) {
-		case "open", "ol", "inf", "o.l.", "over":
+		if pkey.IsOpenWord(value) {
 			return ""
 		}
-	case strings.HasSuffix(id, " "+amp.DCAmps), strings.HasSuffix(id, " "+amp.ACAmps):
+	case pkey.DCAmps, pkey.ACAmps:
 		uq, what, limit = units.Amps, "amps", maxReadingAmps
 	}
 	x, err := units.Parse(value, uq)
@@ -175,37 +176,21 @@ func suggestHint(w string, cands []string) string {
 // is a cold resistance ("open" or "OL" for an open reading).
 func resolveReading(e *infer.Engine, keys map[string]bool, ids []string, file string, r rawReading) (infer.Observation, error) {
 	id := strings.TrimSpace(r.id)
-	// "V2.5 tone" and "B1 ripple" are short for the AC quantities.
-	if base, q, ok := strings.Cut(id, " "); ok {
-		switch strings.TrimSpace(q) {
-		case "tone":
-			id = base + " " + ac.ToneVolts
-		case "ripple":
-			id = base + " " + amp.RippleVolts
-		}
-	}
-	if infer.IsTone(id) && !keys[id] && !hasTone(keys) {
+	pk, perr := pkey.ParseShort(id)
+	key := pk.String()
+	if pk.Quantity == pkey.ToneVolts && !keys[key] && !hasTone(keys) {
 		return infer.Observation{}, fmt.Errorf("%s:%d: %s: a tone reading needs the tone set up: give --tone FREQ:LEVEL (like 1kHz:100mV), as injected at the input", file, r.line, id)
 	}
-	key := id
-	switch {
-	case strings.HasPrefix(id, "cold:") && !strings.HasSuffix(id, " "+amp.Ohms):
-		key = id + " " + amp.Ohms
-	case !strings.HasPrefix(id, "cold:") && !strings.Contains(id, " "):
-		key = id + " " + amp.DCVolts
-	}
-	if !keys[key] {
+	if perr != nil || !keys[key] {
 		return infer.Observation{}, fmt.Errorf("%s:%d: %s: no such point in the design%s", file, r.line, id, suggestHint(id, ids))
 	}
-	q := key[strings.LastIndexByte(key, ' ')+1:]
 	uq := units.Volts
-	switch q {
-	case amp.DCAmps, amp.ACAmps:
+	switch pk.Quantity {
+	case pkey.DCAmps, pkey.ACAmps:
 		uq = units.Amps
-	case amp.Ohms:
+	case pkey.Ohms:
 		uq = units.Ohms
-		switch strings.ToLower(strings.TrimSpace(r.value)) {
-		case "open", "ol", "inf", "o.l.", "over":
+		if pkey.IsOpenWord(r.value) {
 			return infer.Observation{Key: key, Value: math.Inf(1)}, nil
 		}
 	}

@@ -229,3 +229,34 @@ func IsOpenWord(s string) bool {
 	}
 	return false
 }
+
+// ParseShort reads a point as a readings file or a technician writes it:
+// a full key ("V2.3 dc_amps", "cold:B1 ohms"), or a short form — a pin or
+// net alone is DC volts ("V2.3", "B1"), a cold point alone is ohms
+// ("cold:B1"), "tone" and "ripple" stand for the AC quantities ("V2.5
+// tone", "B1 ripple").
+func ParseShort(s string) (Key, error) {
+	s = strings.TrimSpace(s)
+	if k, err := Parse(s); err == nil {
+		return k, nil
+	}
+	if base, q, ok := strings.Cut(s, " "); ok {
+		switch strings.TrimSpace(q) {
+		case "tone":
+			return Parse(base + " " + ToneVolts)
+		case "ripple":
+			return Parse(base + " " + RippleVolts)
+		}
+		return Parse(s)
+	}
+	for d, p := range prefixes {
+		if strings.HasPrefix(s, p) {
+			q := Ohms
+			if d == Discharge || d == Bias {
+				q = DCVolts
+			}
+			return Parse(s + " " + q)
+		}
+	}
+	return Parse(s + " " + DCVolts)
+}

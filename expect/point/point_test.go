@@ -83,3 +83,22 @@ func TestOpenWords(t *testing.T) {
 		t.Errorf("0L is not an open word")
 	}
 }
+
+func TestParseShort(t *testing.T) {
+	for in, want := range map[string]string{
+		"V2.3":         "V2.3 dc_volts",
+		"B1":           "B1 dc_volts",
+		"V2.3 dc_amps": "V2.3 dc_amps",
+		"cold:B1":      "cold:B1 ohms",
+		"cold:B1 ohms": "cold:B1 ohms",
+		"V2.5 tone":    "V2.5 tone_volts",
+		"B1 ripple":    "B1 ripple_volts",
+		"discharge:C1": "discharge:C1 dc_volts",
+		"earth ohms":   "earth ohms",
+	} {
+		k, err := ParseShort(in)
+		if err != nil || k.String() != want {
+			t.Errorf("ParseShort(%q) = %q, %v; want %q", in, k, err, want)
+		}
+	}
+}

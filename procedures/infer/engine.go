@@ -25,6 +25,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	pkey "pinwalk/expect/point"
 	"reflect"
 	"runtime"
 	"sort"
@@ -336,7 +337,7 @@ func (e *Engine) addPoint(p point) {
 
 // ColdKey returns the observation key of a cold point: "cold:B1 ohms",
 // "cold:OT1 primary ohms", "cold:V3 heater ohms".
-func ColdKey(id string) string { return "cold:" + id + " " + amp.Ohms }
+func ColdKey(id string) string { return pkey.ColdKey(id).String() }
 
 func coldLabel(c cold.Check) string {
 	if c.Kind == "winding" {

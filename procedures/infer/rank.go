@@ -3,6 +3,7 @@ package infer
 import (
 	"fmt"
 	"math"
+	pkey "pinwalk/expect/point"
 	"sort"
 	"strings"
 
@@ -183,7 +184,10 @@ func (e *Engine) coarseActive(post []float64) []int {
 }
 
 // ColdOnly allows only cold points (the amplifier stays unpowered).
-func ColdOnly(key string) bool { return strings.HasPrefix(key, "cold:") }
+func ColdOnly(key string) bool {
+	k, err := pkey.Parse(key)
+	return err == nil && k.Domain == pkey.Cold
+}
 
 // likelihoods returns the cache updated for obs: reused when the cached
 // observations are a prefix of obs, rebuilt otherwise.
