@@ -62,6 +62,7 @@ type BenchModel struct {
 	opt   BenchOptions
 
 	mu   sync.Mutex
+	nom  *amp.OP // the nominal operating point, solved once
 	sets map[setKey]*bands.Set
 	cond map[string]*bands.Set // conditioned sets, by variac, mains and readings
 }
@@ -124,6 +125,25 @@ func (b *BenchModel) HighestVolts() float64 {
 		}
 	}
 	return v
+}
+
+// Nominal is the design's nominal operating point at its own mains (full
+// supply simulation), solved once: what the amp overview shows.
+func (b *BenchModel) Nominal() (*amp.OP, error) {
+	b.mu.Lock()
+	op := b.nom
+	b.mu.Unlock()
+	if op != nil {
+		return op, nil
+	}
+	var o amp.OP
+	if err := amp.NewSolver(b.M).Solve(amp.Conditions{}, b.M.NominalValues(), false, &o); err != nil {
+		return nil, err
+	}
+	b.mu.Lock()
+	b.nom = &o
+	b.mu.Unlock()
+	return &o, nil
 }
 
 // set returns the unconditioned bands at a variac setting and mains.

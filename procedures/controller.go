@@ -3,8 +3,10 @@ package procedures
 import (
 	"errors"
 	"fmt"
+	"slices"
 	"strconv"
 	"strings"
+	"sync"
 
 	"pinwalk/expect/point"
 	"pinwalk/procedures/infer"
@@ -439,4 +441,28 @@ func (c *Controller) guessed(k point.Key) bool {
 		}
 	}
 	return false
+}
+
+// Ranker ranks suspects on a copy of the readings for a walk with no
+// measuring loop (bring-up, training), with an inference engine built
+// from the design on first use. It may run beside Do (it reads only the
+// readings it is given); calls are serialised.
+func (c *Controller) Ranker() func([]Reading) (*infer.Ranking, error) {
+	var mu sync.Mutex
+	var eng *infer.Engine
+	d := c.w.B.D
+	seed := c.w.R.Sess.Seed
+	symptoms := slices.Clone(c.w.R.Sess.Symptoms)
+	return func(rs []Reading) (*infer.Ranking, error) {
+		mu.Lock()
+		defer mu.Unlock()
+		if eng == nil {
+			e, err := infer.New(d, infer.Options{Seed: seed, Symptoms: symptoms})
+			if err != nil {
+				return nil, err
+			}
+			eng = e
+		}
+		return eng.Rank(Observations(rs), nil), nil
+	}
 }

@@ -2,7 +2,6 @@ package tui
 
 import (
 	"slices"
-	"sync"
 
 	"github.com/charmbracelet/bubbles/help"
 	"github.com/charmbracelet/bubbles/key"
@@ -144,7 +143,7 @@ func New(cfg Config) Model {
 		step: newStepView(e), sock: newSocketView(e, mdl), sus: newSuspectsView(e), ov: newOverviewView(e, mdl)}
 	m.rankFn = cfg.Rank
 	if m.rankFn == nil && cfg.Walk.B != nil {
-		m.rankFn = engineRanker(cfg.Walk)
+		m.rankFn = m.ctl.Ranker()
 	}
 	m.setSize(80, 24)
 	return m
@@ -161,35 +160,12 @@ func (e *env) relabel() {
 	}
 }
 
-// engineRanker ranks with an inference engine built from the design on
-// first use (for modes without a measuring loop). The engine is not safe
-// for concurrent use: calls are serialised.
-func engineRanker(w *procedures.Walk) func([]procedures.Reading) (*infer.Ranking, error) {
-	var mu sync.Mutex
-	var eng *infer.Engine
-	d := w.B.D
-	seed := w.R.Sess.Seed
-	symptoms := slices.Clone(w.R.Sess.Symptoms)
-	return func(rs []procedures.Reading) (*infer.Ranking, error) {
-		mu.Lock()
-		defer mu.Unlock()
-		if eng == nil {
-			e, err := infer.New(d, infer.Options{Seed: seed, Symptoms: symptoms})
-			if err != nil {
-				return nil, err
-			}
-			eng = e
-		}
-		return eng.Rank(procedures.Observations(rs), nil), nil
-	}
-}
-
 // Init starts the work the first screen needs: the nominal operating
 // point, the current step's bands, and the measuring loop's first move.
 func (m Model) Init() tea.Cmd {
 	cmds := []tea.Cmd{m.step.bandCmds()}
-	if m.ov.m != nil {
-		cmds = append(cmds, solveNominal(m.ov.m))
+	if m.ov.m != nil && m.walk.B != nil {
+		cmds = append(cmds, nominalOP(m.walk.B))
 	}
 	if m.walk.Loop != nil {
 		cmds = append(cmds, func() tea.Msg { return changedMsg{} })

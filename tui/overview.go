@@ -16,17 +16,12 @@ type opMsg struct {
 	Err error
 }
 
-// solveNominal solves the design's nominal operating point at its own
-// mains (full supply simulation); it runs in a command.
-func solveNominal(m *amp.Model) tea.Cmd {
+// nominalOP fetches the design's nominal operating point from the bench
+// model (solved once there); it runs in a command.
+func nominalOP(b interface{ Nominal() (*amp.OP, error) }) tea.Cmd {
 	return func() tea.Msg {
-		s := amp.NewSolver(m)
-		var op amp.OP
-		err := s.Solve(amp.Conditions{}, m.NominalValues(), false, &op)
-		if err != nil {
-			return opMsg{Err: err}
-		}
-		return opMsg{OP: &op}
+		op, err := b.Nominal()
+		return opMsg{OP: op, Err: err}
 	}
 }
 
