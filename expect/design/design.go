@@ -178,6 +178,10 @@ type OutputTransformerPart struct {
 	Ends      [2]string
 	Centre    string     // B+ feed of a push-pull primary; "" single-ended
 	DCR       [2]float64 // per half (push-pull) or [whole, 0] (single-ended)
+	// DCRWhole: a push-pull primary's dcr was given as one figure, the
+	// whole primary end to end (as schematics give it); DCR holds half of
+	// it for each half. False when the file gave one figure per half.
+	DCRWhole  bool
 	Impedance float64    // primary impedance, plate to plate for push-pull
 	Load      float64    // speaker load the impedance is quoted for
 	SecDCR    float64
