@@ -63,9 +63,9 @@ type Netlist struct {
 	// Mains is the rms mains volts at the wall and Variac the fraction of
 	// it applied (1: none) that the winding sources are set for.
 	Mains, Variac float64
-	head  []string // comment lines for the top of the deck
-	body  strings.Builder
-	names map[string]bool // element and node names used (lower case)
+	head          []string // comment lines for the top of the deck
+	body          strings.Builder
+	names         map[string]bool // element and node names used (lower case)
 }
 
 // Node returns the SPICE node of a design net and whether the net is in
