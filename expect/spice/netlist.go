@@ -1,6 +1,7 @@
 // Package spice writes a design as a SPICE netlist of the circuit pinwalk
-// solves, for a general-purpose simulator (ngspice in batch mode, or any
-// SPICE3-compatible one with behavioural sources and .func): the valve
+// solves, for a general-purpose simulator (written for ngspice: its
+// behavioural sources, .func, the ternary ? : and pwr(); other simulators
+// may spell those differently): the valve
 // sections as behavioural current sources with their Koren parameters
 // (models.go mirrors expect/valves exactly), the rectifier (silicon
 // diodes, or Child–Langmuir anodes for a valve rectifier), the power
