@@ -4,6 +4,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"strings"
 
 	"pinwalk/expect/amp"
 	"pinwalk/expect/design"
@@ -41,13 +42,15 @@ heater windings. Exit status 1 when any design has errors.`)
 
 func checkOne(file string, quiet bool, stdout, stderr io.Writer) int {
 	d, probs, err := loadDesign(file, stdout)
-	errs, warns, notes := 0, 0, 0
+	errs, warns, notes, placeholders := 0, 0, 0, 0
 	for _, p := range probs {
-		switch p.Severity {
-		case design.Error:
+		switch {
+		case p.Severity == design.Error:
 			errs++
-		case design.Warning:
+		case p.Severity == design.Warning:
 			warns++
+		case strings.HasPrefix(p.Msg, "placeholder value"):
+			placeholders++
 		default:
 			notes++
 		}
@@ -105,7 +108,10 @@ func checkOne(file string, quiet bool, stdout, stderr io.Writer) int {
 	}
 	fmt.Fprintf(stdout, "%s: %d error(s), %d warning(s)", file, errs, warns)
 	if notes > 0 {
-		fmt.Fprintf(stdout, ", %d placeholder(s) to replace", notes)
+		fmt.Fprintf(stdout, ", %d note(s)", notes)
+	}
+	if placeholders > 0 {
+		fmt.Fprintf(stdout, ", %d placeholder(s) to replace", placeholders)
 	}
 	fmt.Fprintln(stdout)
 	if errs > 0 {

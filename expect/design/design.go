@@ -179,11 +179,15 @@ func (t *PowerTransformerPart) Winding(name string) *Winding {
 // OutputTransformerPart is the output transformer. A single-ended one has
 // no centre tap.
 type OutputTransformerPart struct {
-	Ends      [2]string
-	Centre    string     // B+ feed of a push-pull primary; "" single-ended
-	DCR       [2]float64 // per half (push-pull) or [whole, 0] (single-ended)
-	Impedance float64    // primary impedance, plate to plate for push-pull
-	Load      float64    // speaker load the impedance is quoted for
+	Ends   [2]string
+	Centre string     // B+ feed of a push-pull primary; "" single-ended
+	DCR    [2]float64 // per half (push-pull) or [whole, 0] (single-ended)
+	// DCRWhole: a push-pull primary's dcr was given as one figure, the
+	// whole primary end to end (as schematics give it); DCR holds half of
+	// it for each half. False when the file gave one figure per half.
+	DCRWhole  bool
+	Impedance float64 // primary impedance, plate to plate for push-pull
+	Load      float64 // speaker load the impedance is quoted for
 	SecDCR    float64
 }
 

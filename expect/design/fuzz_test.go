@@ -10,7 +10,8 @@ import (
 // FuzzParse feeds arbitrary bytes to the design loader. Seeds: the demo
 // designs, the templates and the malformed catalogue. Whatever the input,
 // Parse must not panic, every problem must carry a position inside the
-// file and a field, and a design returned without errors must have every
+// file and a field (never an empty field name for a key that is not a
+// name), and a design returned without errors must have every
 // part's terminals on known nets.
 func FuzzParse(f *testing.F) {
 	for _, glob := range []string{"../../testdata/designs/*.yaml", "../../testdata/bad/*.yaml"} {
@@ -25,6 +26,8 @@ func FuzzParse(f *testing.F) {
 		f.Add(t.Text)
 	}
 	f.Add([]byte("pinwalk: 1\nparts: {R1: {resistor: 4K7?, between: [A, A]}}\n"))
+	f.Add([]byte("{[]}"))                          // a key that is a list
+	f.Add([]byte("pinwalk: 1\n---\npinwalk: 1\n")) // two documents
 	f.Fuzz(func(t *testing.T, data []byte) {
 		d, probs := Parse("fuzz.yaml", data)
 		// YAML counts a lone CR as a line break too.
@@ -35,6 +38,9 @@ func FuzzParse(f *testing.F) {
 			}
 			if p.Field == "" || p.Msg == "" {
 				t.Fatalf("problem without field or message: %#v", p)
+			}
+			if strings.Contains(p.Msg, `unknown field ""`) {
+				t.Fatalf("a key that is not a name reported as an empty field name: %v", p)
 			}
 		}
 		if d == nil || len(probs.Errors()) > 0 {

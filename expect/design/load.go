@@ -1,6 +1,7 @@
 package design
 
 import (
+	"bytes"
 	"crypto/sha256"
 	"encoding/hex"
 	"errors"
@@ -55,7 +56,8 @@ func Parse(name string, data []byte) (*Design, Problems) {
 	}
 	var doc yaml.Node
 	data, l.marks = markFlowPlaceholders(data)
-	if err := yaml.Unmarshal(data, &doc); err != nil {
+	dec := yaml.NewDecoder(bytes.NewReader(data))
+	if err := dec.Decode(&doc); err != nil && !errors.Is(err, io.EOF) {
 		if line := firstBadLine(data); line > 0 {
 			l.errAt(Pos{line, 1}, "file", "not valid YAML: %s", stripYAMLLine(cleanYAMLError(err)))
 		} else {
@@ -67,8 +69,28 @@ func Parse(name string, data []byte) (*Design, Problems) {
 		l.errAt(Pos{1, 1}, "file", "the file is empty: expected a design starting with `pinwalk: %d`", SchemaVersion)
 		return nil, l.probs
 	}
+	// yaml.v3 reads the first document only: a second one (a design pasted
+	// after another, behind a --- line) would be dropped without a word.
+	var next yaml.Node
+	if err := dec.Decode(&next); !errors.Is(err, io.EOF) {
+		pos := Pos{next.Line, next.Column}
+		if err != nil || pos.Line == 0 {
+			pos = secondDocumentMarker(data)
+		}
+		l.errAt(pos, "file", "a second YAML document starts here (---): a design file holds one design; move the rest to a file of its own, or delete the --- line")
+		return nil, l.probs
+	}
 	if a := findAlias(&doc); a != nil {
 		l.errf(a, "file", "YAML anchors and aliases (& and *) are not allowed in design files: write each part out")
+		return nil, l.probs
+	}
+	if k, field := nonScalarKey(doc.Content[0], ""); k != nil {
+		hint := ""
+		top, _, _ := strings.Cut(field, ".")
+		if k.Kind == yaml.SequenceNode && !contains([]string{"file", "pinwalk", "title", "mains", "tolerances", "ground", "valve-files", "parts", "notes"}, top) {
+			hint = "a list of nets goes after its field name: between: [K1, 0V]"
+		}
+		l.add(posOf(k), Error, field, hint, "a key here is %s: expected a plain name before the colon, like R1, volts or between", describe(k))
 		return nil, l.probs
 	}
 	sum := sha256.Sum256(data)
@@ -102,6 +124,61 @@ func (l *loader) templateHints(d *Design) {
 		bridge := p.Rect != nil && p.Rect.Bridge
 		pr.Hint = TemplateHint(p.Kind, pushPull, bridge)
 	}
+}
+
+// secondDocumentMarker returns the position of the --- line that starts
+// the file's second YAML document (the first marker after any content,
+// since a file may open with one), or line 1 when there is none to find.
+func secondDocumentMarker(data []byte) Pos {
+	content := false
+	for i, line := range strings.Split(string(data), "\n") {
+		t := strings.TrimRight(line, " \t\r")
+		if t == "---" || strings.HasPrefix(t, "--- ") || strings.HasPrefix(t, "---\t") {
+			if content {
+				return Pos{i + 1, 1}
+			}
+			content = true // an opening marker
+			continue
+		}
+		if s := strings.TrimSpace(t); s != "" && !strings.HasPrefix(s, "#") && !strings.HasPrefix(s, "%") {
+			content = true
+		}
+	}
+	return Pos{1, 1}
+}
+
+// nonScalarKey returns the first mapping key, in document order, that is
+// not a plain scalar (`{[]}`, `? [a, b]: x`), with the dotted field path of
+// the mapping holding it ("file" at the top; part references stand for
+// themselves, as in every other message), or nil.
+func nonScalarKey(n *yaml.Node, path string) (*yaml.Node, string) {
+	field := path
+	if field == "" {
+		field = "file"
+	}
+	switch n.Kind {
+	case yaml.MappingNode:
+		for i := 0; i+1 < len(n.Content); i += 2 {
+			k, v := n.Content[i], n.Content[i+1]
+			if k.Kind != yaml.ScalarNode {
+				return k, field
+			}
+			sub := join(path, k.Value)
+			if path == "parts" {
+				sub = k.Value
+			}
+			if bad, f := nonScalarKey(v, sub); bad != nil {
+				return bad, f
+			}
+		}
+	case yaml.SequenceNode:
+		for _, c := range n.Content {
+			if bad, f := nonScalarKey(c, path); bad != nil {
+				return bad, f
+			}
+		}
+	}
+	return nil, ""
 }
 
 // findAlias returns the first node, in document order, that is an alias
@@ -1220,7 +1297,7 @@ func (l *loader) outputTransformer(p *Part, n *yaml.Node) {
 			if ot.Centre == "" {
 				l.errf(dn, df, "two DCRs given but the primary has no centre: expected one DCR for a single-ended primary")
 			} else if len(dn.Content) != 2 {
-				l.errf(dn, df, "expected two DCRs, one per half: [95R, 105R]")
+				l.errf(dn, df, "%d DCRs given: expected one per half, [95R, 105R], or one figure for the whole primary end to end, 200R", len(dn.Content))
 			} else {
 				for i := range 2 {
 					if v, ok := l.value(dn.Content[i], df, units.Ohms, p); ok {
@@ -1233,7 +1310,12 @@ func (l *loader) outputTransformer(p *Part, n *yaml.Node) {
 				l.errf(dn, df, "%s is out of range: expected a primary DCR of tens to hundreds of ohms", units.Format(v, units.Ohms))
 			}
 			if ot.Centre != "" {
-				ot.DCR = [2]float64{v, v} // one figure given: taken per half
+				// One figure for a push-pull primary is the whole winding,
+				// plate to plate, as schematics and meters give it.
+				ot.DCR = [2]float64{v / 2, v / 2}
+				ot.DCRWhole = true
+				l.add(posOf(dn), Note, df, "", "%s taken as the whole primary, plate to plate: %s per half (for figures per half write [%s, %s])",
+					units.Format(v, units.Ohms), units.Format(v/2, units.Ohms), units.FormatRKM(v/2, units.Ohms), units.FormatRKM(v/2, units.Ohms))
 			} else {
 				ot.DCR = [2]float64{v, 0}
 			}

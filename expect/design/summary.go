@@ -139,7 +139,18 @@ func DescribePart(p *Part) string {
 			b = append(b, "silicon")
 		}
 	case OutputTransformer:
-		b = append(b, units.Format(p.OT.Impedance, units.Ohms))
+		ot := p.OT
+		b = append(b, units.Format(ot.Impedance, units.Ohms))
+		switch {
+		case ot.Centre == "":
+			b = append(b, "primary DCR "+units.Format(ot.DCR[0], units.Ohms))
+		case ot.DCRWhole:
+			b = append(b, fmt.Sprintf("primary DCR %s plate to plate (%s per half)",
+				units.Format(ot.DCR[0]+ot.DCR[1], units.Ohms), units.Format(ot.DCR[0], units.Ohms)))
+		default:
+			b = append(b, fmt.Sprintf("primary DCR %s + %s per half",
+				units.Format(ot.DCR[0], units.Ohms), units.Format(ot.DCR[1], units.Ohms)))
+		}
 	}
 	if p.Note != "" {
 		b = append(b, "("+p.Note+")")

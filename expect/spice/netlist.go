@@ -1,6 +1,7 @@
 // Package spice writes a design as a SPICE netlist of the circuit pinwalk
-// solves, for a general-purpose simulator (ngspice in batch mode, or any
-// SPICE3-compatible one with behavioural sources and .func): the valve
+// solves, for a general-purpose simulator (written for ngspice: its
+// behavioural sources, .func, the ternary ? : and pwr(); other simulators
+// may spell those differently): the valve
 // sections as behavioural current sources with their Koren parameters
 // (models.go mirrors expect/valves exactly), the rectifier (silicon
 // diodes, or Child–Langmuir anodes for a valve rectifier), the power
@@ -60,11 +61,12 @@ type Netlist struct {
 	Hz     float64 // mains frequency
 	Nodes  map[string]string
 	Probes []Probe
-	// Mains is the rms mains volts the sources are set for.
-	Mains float64
-	head  []string // comment lines for the top of the deck
-	body  strings.Builder
-	names map[string]bool // element and node names used (lower case)
+	// Mains is the rms mains volts at the wall and Variac the fraction of
+	// it applied (1: none) that the winding sources are set for.
+	Mains, Variac float64
+	head          []string // comment lines for the top of the deck
+	body          strings.Builder
+	names         map[string]bool // element and node names used (lower case)
 }
 
 // Node returns the SPICE node of a design net and whether the net is in
@@ -77,21 +79,29 @@ func (n *Netlist) Node(net string) (string, bool) {
 // Export writes a design as pinwalk models it at the nominal mains (the
 // design's mains volts, no variac, nominal part values). It fails when the
 // design cannot be built into a model (the same errors amp.Build gives).
-func Export(d *design.Design) (*Netlist, error) {
+func Export(d *design.Design) (*Netlist, error) { return ExportAt(d, amp.Conditions{}) }
+
+// ExportAt is Export under other bench conditions (mains volts, a variac
+// setting): the winding sources scale with the primary volts, and the
+// emission caps pinwalk applies to cool cathodes are written in.
+func ExportAt(d *design.Design, c amp.Conditions) (*Netlist, error) {
 	m, err := amp.Build(d)
 	if err != nil {
 		return nil, err
 	}
-	return export(m, amp.Conditions{}, m.NominalValues())
+	return export(m, c, m.NominalValues())
 }
 
 func export(m *amp.Model, c amp.Conditions, v *amp.Values) (*Netlist, error) {
 	d := m.D
 	s := amp.NewSolver(m)
 	f := s.MainsFactor(c)
-	n := &Netlist{Title: d.Title, Hz: d.Mains.Hz, Mains: d.Mains.Volts * f, Nodes: map[string]string{}, names: map[string]bool{}}
+	n := &Netlist{Title: d.Title, Hz: d.Mains.Hz, Mains: d.Mains.Volts, Variac: 1, Nodes: map[string]string{}, names: map[string]bool{}}
 	if c.MainsVolts > 0 {
 		n.Mains = c.MainsVolts
+	}
+	if c.Variac > 0 {
+		n.Variac = c.Variac
 	}
 	n.Nodes[d.Ground] = "0"
 	n.names["0"] = true
@@ -104,7 +114,7 @@ func export(m *amp.Model, c amp.Conditions, v *amp.Values) (*Netlist, error) {
 	}
 	n.head = append(n.head,
 		fmt.Sprintf("Design file %s (sha256 %s)", d.File, short(d.Hash)),
-		fmt.Sprintf("Mains %s V %s Hz (transformer primary at %.4g of its rated volts); nominal part values.", num(n.Mains), num(d.Mains.Hz), f),
+		fmt.Sprintf("Mains %s V %s Hz%s (transformer primary at %.4g of its rated volts); nominal part values.", num(n.Mains), num(d.Mains.Hz), variacWords(n.Variac), f),
 		"Written by pinwalk export --spice: the circuit pinwalk solves, as it models it.")
 	var renamed []string
 	for _, net := range d.NetNames() {
@@ -136,6 +146,13 @@ func export(m *amp.Model, c amp.Conditions, v *amp.Values) (*Netlist, error) {
 	}
 	n.Probes = append(probes, n.Probes...)
 	return n, nil
+}
+
+func variacWords(v float64) string {
+	if v == 1 {
+		return ""
+	}
+	return fmt.Sprintf(" on a variac at %.4g %%", 100*v)
 }
 
 func short(h string) string {
