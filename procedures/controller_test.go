@@ -188,3 +188,46 @@ func TestRankOncePerReading(t *testing.T) {
 		t.Fatal("no cold reading was taken")
 	}
 }
+
+// TestPowerUpPullsOutputsOnRiskySuspects: fault-finding on the fixed-bias
+// demo with a red-plating complaint: the leading suspects include a lost
+// bias, under which a power-up with the output valves fitted would drive
+// them over their plate rating (the model solved under each suspect), so
+// the power-up goes first with the output valves out, their grids read,
+// and a hands-in step refits them.
+func TestPowerUpPullsOutputsOnRiskySuspects(t *testing.T) {
+	d := loadDesign(t, "pp-el34-fixed")
+	w := newWalk(t, d, FaultFind, "")
+	c := NewController(w)
+	st, err := c.Do(Action{Kind: ActSymptoms, Text: "red-plate"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := 0; i < 80 && st.Step != nil && st.Step.Kind != KindPowerUp && !st.Finished; i++ {
+		a := Action{Kind: ActConfirm}
+		if st.Measure != nil {
+			a = Action{Kind: ActRead, Text: strconv.FormatFloat(st.Band.Nominal, 'g', 6, 64) + "!"}
+			if st.Measure.Point.Domain == point.Discharge {
+				a.Text = "0.3"
+			}
+		}
+		if st, err = c.Do(a); err != nil {
+			t.Fatalf("%s: %v", st.Step.ID, err)
+		}
+	}
+	if st.Step == nil || st.Step.ID != StepPowerUpPulled {
+		t.Fatalf("the power-up is %v (suspects %v), want the one with the output valves out", st.Step, st.Rank.Suspects[:3])
+	}
+	if len(st.Step.Pulled) == 0 || len(st.Step.Measures) == 0 || st.Step.Measures[0].Point.Domain != point.Live {
+		t.Errorf("pulled power-up %+v: want the output valves out and their grids read", st.Step)
+	}
+	t.Logf("why: %s", st.Step.Why)
+	// A grid at 0 V with the valve out: the bias is missing, a stop.
+	st, _ = c.Do(Action{Kind: ActRead, Text: "0"})
+	if len(st.Stops) == 0 {
+		t.Fatalf("no bias at an output grid: want a stop, got %+v", st.Last)
+	}
+	if pw := c.Runner().Proc.Step(StepPowerUp); pw == nil || len(c.Runner().Blockers(pw)) == 0 {
+		t.Errorf("the power-up with every valve fitted is not blocked by the missing bias")
+	}
+}

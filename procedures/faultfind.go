@@ -13,6 +13,7 @@ import (
 	"pinwalk/expect/faults"
 	"pinwalk/expect/point"
 	"pinwalk/expect/units"
+	"pinwalk/expect/valves"
 	"pinwalk/procedures/infer"
 )
 
@@ -315,7 +316,26 @@ func (l *faultLoop) addPowerUp() error {
 			return err
 		}
 		l.withdraw()
+		// Suspects that would over-dissipate the output valves: a first
+		// power-up with them out of their sockets proves the grids.
+		if risky := l.riskyOutputs(); len(risky.valves) > 0 && w.R.Proc.Step(StepPowerUpPulled) == nil {
+			pre, refit := l.pulledPowerUp(risky)
+			w.AddStep(pre)
+			w.AddStep(refit)
+			st.Gate = append(st.Gate, pre.ID, refit.ID)
+			st.Why += " " + risky.why
+		}
 		w.AddStep(st)
+	}
+	if id := StepPowerUpPulled; w.R.Proc.Step(id) != nil && !w.R.Done(id) {
+		if err := w.R.Goto(id); err == nil {
+			return nil
+		}
+	}
+	if id := StepRefitOutputs; w.R.Proc.Step(id) != nil && !w.R.Done(id) && w.R.Done(StepPowerUpPulled) {
+		if err := w.R.Goto(id); err == nil {
+			return nil
+		}
 	}
 	if w.R.Done(StepPowerUp) {
 		return nil
@@ -328,6 +348,119 @@ func (l *faultLoop) addPowerUp() error {
 		return err
 	}
 	return nil
+}
+
+// Step ids of the power-up with the output valves out.
+const (
+	StepPowerUpPulled = "power-up-outputs-out"
+	StepRefitOutputs  = "refit-outputs"
+)
+
+// RiskShare: a suspect at least this probable that would drive an output
+// valve over its rated plate or screen dissipation makes the first
+// power-up go without the output valves (our choice).
+const RiskShare = 0.05
+
+type riskyOut struct {
+	valves []string // output valves to pull
+	grids  []amp.PointDef
+	why    string
+}
+
+// riskyOutputs finds the leading suspects under which powering up with
+// every valve fitted would over-dissipate an output valve (a lost bias,
+// a shorted cathode resistor or bypass, an open plate winding leaving
+// the screen to take the current): each is solved at full mains and its
+// output sections' plate and screen dissipation compared with their
+// ratings.
+func (l *faultLoop) riskyOutputs() riskyOut {
+	var out riskyOut
+	if l.rank == nil {
+		if _, err := l.Rank(); err != nil {
+			return out
+		}
+	}
+	m := l.w.B.M
+	solver := amp.NewSolver(m)
+	seen := map[string]bool{}
+	var whys []string
+	for _, sp := range l.rank.Suspects {
+		if sp.Probability < RiskShare || len(whys) >= 3 {
+			continue
+		}
+		f, err := faults.Parse(sp.Fault)
+		if err != nil {
+			continue
+		}
+		v := m.NominalValues()
+		if faults.Apply(m, v, f) != nil {
+			continue
+		}
+		var op amp.OP
+		if solver.Solve(amp.Conditions{}, v, false, &op) != nil {
+			continue
+		}
+		for i, sec := range m.Sections {
+			if !sec.Pentode || i >= len(op.Sections) {
+				continue
+			}
+			so, lim := op.Sections[i], sec.Type.Limits
+			over := ""
+			switch {
+			case lim.PlateWatts > 0 && so.Pa > lim.PlateWatts:
+				over = fmt.Sprintf("%s plate %s of its %s", sec.Ref, units.Format(so.Pa, units.Watts), units.Format(lim.PlateWatts, units.Watts))
+			case lim.ScreenWatts > 0 && so.Pg2 > lim.ScreenWatts:
+				over = fmt.Sprintf("%s screen %s of its %s", sec.Ref, units.Format(so.Pg2, units.Watts), units.Format(lim.ScreenWatts, units.Watts))
+			}
+			if over == "" {
+				continue
+			}
+			whys = append(whys, fmt.Sprintf("with %s (%.0f %%) %s", sp.Label, 100*sp.Probability, over))
+			for _, s2 := range m.Sections {
+				if s2.Pentode && !seen[s2.Ref] {
+					seen[s2.Ref] = true
+					out.valves = append(out.valves, s2.Ref)
+				}
+			}
+			break
+		}
+	}
+	if len(out.valves) == 0 {
+		return out
+	}
+	for _, pd := range m.Points() {
+		if pd.Electrode == valves.Grid && pd.Quantity == amp.DCVolts && seen[pd.Valve] && pd.Section >= 0 && m.Sections[pd.Section].Pentode {
+			out.grids = append(out.grids, pd)
+		}
+	}
+	out.why = "The first power-up goes without the output valves: " + strings.Join(whys, "; ") + "."
+	return out
+}
+
+// pulledPowerUp is the power-up with the output valves out (their grids
+// read: the bias or the coupling from the driver) and the hands-in step
+// that refits them.
+func (l *faultLoop) pulledPowerUp(r riskyOut) (*Step, *Step) {
+	b := l.w.B
+	g := append([]string(nil), l.safety...)
+	pre := &Step{ID: StepPowerUpPulled, Kind: KindPowerUp, Live: true, Variac: 1, Gate: g, Pulled: r.valves,
+		Title:    "Power up with the output valves out",
+		Cautions: []string{LiveCaution, VariacCaution},
+		Instruction: fmt.Sprintf("Unplugged: pull %s out of their sockets. %s Plug in through the variac and series lamp and bring it up slowly to 100 %%, then measure each output socket's grid pin: it shows the bias (or the driver's coupling) with no valve to harm.",
+			strings.Join(r.valves, ", "), r.why),
+		StopIf: []string{"a grid reads near 0 V or positive where it should be negative (no bias)", "smoke, arcing, a smell of hot varnish, or the fuse blows"},
+		Why:    r.why}
+	for _, pd := range r.grids {
+		if bd, ok := b.Expect(pd.PointKey(), 1, nil); ok {
+			m := pointMeasure(pd, bd.Low)
+			m.Label = fmt.Sprintf("%s grid (pin %d, valve out)", pd.Valve, pd.Pin)
+			pre.Measures = append(pre.Measures, m)
+		}
+	}
+	refit := b.handsIn(StepRefitOutputs, "Refit the output valves",
+		fmt.Sprintf("Variac to zero, switch off and unplug. Measure B+ to chassis: it must read below 10 V before you touch anything (discharge it if not). Then refit %s.", strings.Join(r.valves, ", ")),
+		"The grids are proved: the output valves go back for the power-up with every valve fitted.", append(g, StepPowerUpPulled))
+	return pre, refit
 }
 
 // withdraw removes the suggested measurements that are open and have no
@@ -358,7 +491,7 @@ func (l *faultLoop) unpowered() {
 	r := l.w.R
 	var keep []*Step
 	for _, st := range r.Proc.Steps {
-		if st.ID == StepPowerUp || (strings.HasPrefix(st.ID, "probe-") && st.Live && !r.Done(st.ID)) {
+		if st.ID == StepPowerUp || st.ID == StepPowerUpPulled || st.ID == StepRefitOutputs || (strings.HasPrefix(st.ID, "probe-") && st.Live && !r.Done(st.ID)) {
 			continue
 		}
 		keep = append(keep, st)
