@@ -24,6 +24,8 @@ const (
 	StepMains    = "mains"
 	StepSupply   = "supply"
 	StepSummary  = "summary"
+	StepIntake   = "intake"
+	StepVisual   = "visual"
 )
 
 // meterRatings are common meter voltage ratings, volts.
@@ -162,7 +164,7 @@ func coldSteps(b *BenchModel, gate []string) []*Step {
 				continue
 			}
 			ms = append(ms, Measure{Point: ColdKey(c), Label: c.ID + " resistance", Function: FuncOhms,
-				Range: ohmsRange(c), Probes: fmt.Sprintf("red on %s, black on %s", c.From, c.To), Unit: "Ω"})
+				Range: ohmsRange(c), Probes: fmt.Sprintf("red on %s, black on %s", b.probeAt(c.From), b.probeAt(c.To)), Unit: "Ω"})
 		}
 		if len(ms) == 0 {
 			continue
@@ -174,6 +176,21 @@ func coldSteps(b *BenchModel, gate []string) []*Step {
 			Measures:    ms, Why: g.why})
 	}
 	return out
+}
+
+// probeAt names where a probe goes on a net, as the technician finds it:
+// a valve socket pin on the net when there is one ("V1 pin 6, net PL1"),
+// "chassis" for the ground net, else the net.
+func (b *BenchModel) probeAt(net string) string {
+	if net == b.D.Ground {
+		return "chassis"
+	}
+	for _, pd := range b.M.Points() {
+		if pd.Net == net && pd.Valve != "" && pd.Quantity == amp.DCVolts {
+			return fmt.Sprintf("%s pin %d (net %s)", pd.Valve, pd.Pin, net)
+		}
+	}
+	return "net " + net
 }
 
 func ohmsRange(c cold.Check) string {
@@ -219,6 +236,10 @@ func BringUpProcedure(b *BenchModel) (*Procedure, error) {
 	p := &Procedure{Mode: BringUp, Title: "Bring-up: " + b.D.Title}
 	safe, gate := safetySteps(b)
 	p.Steps = append(p.Steps, safe...)
+	in, vis := intakeStep(), visualStep(gate)
+	in.Gate = append([]string(nil), gate...)
+	p.Steps = append(p.Steps, in, vis)
+	gate = append(gate, vis.ID)
 	cs := coldSteps(b, gate)
 	p.Steps = append(p.Steps, cs...)
 	liveGate := append([]string(nil), gate...)

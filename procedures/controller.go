@@ -36,6 +36,9 @@ type State struct {
 	Index, Total int
 	// Blockers: what keeps the current step from starting.
 	Blockers []string
+	// Ask is the next question the step puts (nil: none): answered in
+	// words, before any reading.
+	Ask *Ask
 	// Measure is the next reading the step wants (nil: none), Band its
 	// expected band.
 	Measure *Measure
@@ -116,6 +119,15 @@ func (c *Controller) do(a Action, said *[]string) (*Verdict, error) {
 			err = fmt.Errorf("%q: %w", line, ErrNotHere)
 		}
 		return err
+	}
+	if q := r.NextAsk(); q != nil && (a.Kind == ActRead || a.Kind == ActConfirm) {
+		if err := r.AnswerAsk(a.Text); err != nil {
+			return nil, err
+		}
+		if r.Done(st.ID) && !r.Finished() {
+			r.Next()
+		}
+		return nil, nil
 	}
 	switch a.Kind {
 	case ActRead:
@@ -419,7 +431,8 @@ func (c *Controller) State() State {
 		Stops: r.Stops(), Halt: r.PendingHalt(), Finished: r.Finished(), SaveErr: r.SaveErr}
 	if st != nil {
 		s.Blockers = r.Blockers(st)
-		if m := r.NextMeasure(); m != nil {
+		s.Ask = r.NextAsk()
+		if m := r.NextMeasure(); m != nil && s.Ask == nil {
 			s.Measure = m
 			s.Band, s.HasBand = r.Expected(st, m)
 			s.WantPrediction = r.Training && !c.guessed(m.Point) && !c.noGuess[m.Point] && len(s.Blockers) == 0

@@ -57,14 +57,23 @@ func FaultFindProcedure(b *BenchModel, mode Mode) (*Procedure, error) {
 	if mode == Practise {
 		sym.Instruction = "Practice: the tool has picked a fault and answers your measurements from a simulated amp. Confirm to start. After the safety steps each best next measurement follows by itself: m to take the (simulated) reading, measure KEY to choose your own, power to power up, name REF:MODE when you know."
 	}
+	if ch := channels(b.D); len(ch) > 1 && mode != Practise {
+		sym.Asks = []Ask{{Field: FieldChannel, Prompt: fmt.Sprintf("Which channel is affected (%s, or both)?", strings.Join(ch, ", "))}}
+	}
+	if mode != Practise {
+		p.Steps = append([]*Step{intakeStep()}, p.Steps...)
+	}
 	p.Steps = append(p.Steps, sym)
-	safe, _ := safetySteps(b)
+	safe, gate := safetySteps(b)
 	for _, s := range safe {
 		if len(s.Gate) == 0 {
 			s.Gate = []string{StepSymptoms}
 		}
 	}
 	p.Steps = append(p.Steps, safe...)
+	if mode != Practise {
+		p.Steps = append(p.Steps, visualStep(gate))
+	}
 	p.Steps = append(p.Steps, summaryStep())
 	return p, nil
 }
@@ -86,6 +95,11 @@ type faultLoop struct {
 func newFaultLoop(w *Walk) (*faultLoop, error) {
 	l := &faultLoop{w: w}
 	_, l.safety = safetySteps(w.B)
+	for _, id := range []string{StepIntake, StepVisual} {
+		if w.R.Proc.Step(id) != nil {
+			l.safety = append(l.safety, id)
+		}
+	}
 	s := w.R.Sess
 	if s.Mode == Practise && s.Practice == nil {
 		s.Practice = &Practice{Seed: s.Seed}
@@ -640,6 +654,13 @@ func (l *faultLoop) conclude(fault string, clear bool) {
 		Why: "A replacement must meet the ratings the circuit puts on it, with margin: watts at least twice the dissipation, volts at least the switch-on peak (common practice)."}
 	l.w.AddStep(conf)
 	l.w.AddStep(rep)
+	if r.Sess.Mode == FaultFind {
+		for _, st := range l.closeOutSteps() {
+			if r.Proc.Step(st.ID) == nil {
+				l.w.AddStep(st)
+			}
+		}
+	}
 	if r.Sess.Mode == Practise && r.Proc.Step(StepName) == nil {
 		l.w.AddStep(&Step{ID: StepName, Kind: KindConfirm, Gate: []string{StepReplace}, Title: "Name the fault",
 			Instruction: "Type name REF:MODE for the fault you think the amp has (the measurements point at " + fault + "); the tool then reveals the fault and scores your path.",

@@ -175,7 +175,7 @@ func TestPowerCommand(t *testing.T) {
 	if _, _, err := w.Loop.Command("power"); err == nil {
 		t.Error("power before the safety steps was accepted")
 	}
-	for !r.Done(StepEarth) {
+	for !r.Done(StepEarth) || !r.Done(StepVisual) {
 		st := r.Current()
 		if m := r.NextMeasure(); m == nil {
 			r.Confirm()

@@ -51,6 +51,8 @@ type Session struct {
 	Added []*Step `yaml:"added-steps,omitempty"`
 	// Seed of the bands (and of a practice session's simulated amp).
 	Seed uint64 `yaml:"seed,omitempty"`
+	// Answers to the steps' questions (intake, inspection, close-out).
+	Answers []Answer `yaml:"answers,omitempty"`
 	// Overrides are stops let through with a reason; Halts the switch-offs.
 	Overrides []Override `yaml:"overrides,omitempty"`
 	Halts     []Halt     `yaml:"switch-offs,omitempty"`

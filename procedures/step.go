@@ -31,6 +31,8 @@ const (
 	KindConfirm   Kind = "confirm"
 	KindTone      Kind = "tone"
 	KindSummary   Kind = "summary"
+	KindIntake    Kind = "intake"
+	KindVisual    Kind = "visual"
 )
 
 // Function is the meter function a step needs.
@@ -93,6 +95,8 @@ type Step struct {
 	// Pulled lists the valves that must be out of their sockets during
 	// the step (readings taken then are not evidence of the whole amp).
 	Pulled []string `yaml:"valves-out,omitempty"`
+	// Asks are questions answered in words for the job's paperwork.
+	Asks []Ask `yaml:"asks,omitempty"`
 }
 
 // Procedure is an ordered list of steps.

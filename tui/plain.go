@@ -78,7 +78,9 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 			say(p, state, err)
 			continue
 		}
-		if state.Measure != nil {
+		if state.Ask != nil {
+			p("Question: %s (Enter passes)", state.Ask.Prompt)
+		} else if state.Measure != nil {
 			printMeasure(p, r, st, state)
 		}
 		if st.Kind == procedures.KindSummary {
@@ -108,7 +110,7 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 			}
 			continue
 		case procedures.ActRead:
-			if state.Measure == nil {
+			if state.Measure == nil && state.Ask == nil {
 				p("%q: %s (? for help).", line, procedures.NoReading)
 				continue
 			}

@@ -60,7 +60,12 @@ func script(t testing.TB) []string {
 	for !r.Finished() {
 		st := r.Current()
 		m := r.NextMeasure()
-		if m == nil {
+		if q := r.NextAsk(); q != nil {
+			lines = append(lines, "") // an empty Enter passes a question
+			if err := r.AnswerAsk(""); err != nil {
+				t.Fatal(err)
+			}
+		} else if m == nil {
 			lines = append(lines, "y")
 			if err := r.Confirm(); err != nil {
 				t.Fatal(err)
@@ -196,7 +201,13 @@ func faultScript(t testing.TB, fault string, seed uint64) []string {
 			break
 		}
 		m := r.NextMeasure()
-		if m == nil {
+		if q := r.NextAsk(); q != nil {
+			ans := map[string]string{procedures.FieldEarthBond: "0.05 tester", procedures.FieldInsulation: "200M tester", procedures.FieldSignOff: "bench technician"}[q.Field]
+			lines = append(lines, ans)
+			if err := r.AnswerAsk(ans); err != nil {
+				t.Fatalf("%s: %v", st.ID, err)
+			}
+		} else if m == nil {
 			lines = append(lines, "y")
 			if err := r.Confirm(); err != nil {
 				t.Fatalf("%s: %v", st.ID, err)

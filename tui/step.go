@@ -160,7 +160,7 @@ func (v stepView) enter() (stepView, tea.Cmd) {
 		}
 		m := r.NextMeasure()
 		a = procedures.ParseCommand(text)
-		if a.Kind == procedures.ActRead && m == nil {
+		if a.Kind == procedures.ActRead && m == nil && r.NextAsk() == nil {
 			v.say("this step takes no reading: Enter with an empty line confirms it", true)
 			return v, nil
 		}
