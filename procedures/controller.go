@@ -97,7 +97,7 @@ func (c *Controller) Do(a Action) (State, error) {
 	st := c.State()
 	st.Last = last
 	if last != nil && last.Reading.Said != "" {
-		said = append(said, last.Reading.Said)
+		said = append([]string{last.Reading.Said}, said...)
 	}
 	st.Said = append(said, st.Said...)
 	return st, err

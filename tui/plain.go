@@ -186,7 +186,7 @@ func printStep(p func(string, ...any), r *procedures.Runner, st *procedures.Step
 		p("Switch off if: %s", c)
 	}
 	for _, rd := range s.Stops {
-		p("STOP IN FORCE: %s", rd.Said)
+		p("In force: %s", rd.Said)
 	}
 	if r.Training && st.Why != "" && len(st.Measures) == 0 {
 		p("Why: %s", st.Why)
