@@ -12,6 +12,7 @@ import (
 	"pinwalk/expect/design"
 	"pinwalk/expect/point"
 	"pinwalk/expect/units"
+	"pinwalk/expect/valves"
 )
 
 // EarthKey and MainsKey are the two fixed points outside the amplifier
@@ -298,7 +299,7 @@ func (b *BenchModel) Expect(k point.Key, variac float64, readings []Reading) (Ba
 	case point.Cold:
 		for _, c := range b.Cold {
 			if c.ID == k.ID {
-				return coldBand(c), true
+				return b.coldBand(c), true
 			}
 		}
 		return Band{}, false
@@ -311,29 +312,17 @@ func (b *BenchModel) Expect(k point.Key, variac float64, readings []Reading) (Ba
 	if err != nil {
 		return Band{}, false
 	}
-	i, ok := s.Index(k.String())
-	if !ok {
+	// The one band function: the model's spread, the meter's loading,
+	// accuracy on the range in use and resolution, the model error.
+	bb, err := s.Expect(k.String(), b.opt.Meter)
+	if err != nil {
 		return Band{}, false
 	}
-	bb := s.Band(i)
-	// Widen by the meter's accuracy and a small floor for the model's own
-	// error (bands.Sigma's floor), so a 0 V grid may read a few millivolts.
-	mt := b.opt.Meter
-	if mt.InputOhms == 0 && mt.OhmsPerVolt == 0 {
-		mt = bands.DefaultMeter()
+	out := Band{Nominal: bb.Nominal, Low: bb.Low, High: bb.High, Why: bb.Why}
+	if bb.PP != nil {
+		out.PP = &Band{Nominal: bb.PP.Nominal, Low: bb.PP.Low, High: bb.PP.High, Why: bb.PP.Why}
 	}
-	floor := 0.1 // volts
-	if s.Points[i].Quantity == amp.DCAmps || s.Points[i].Quantity == amp.ACAmps {
-		floor = 10e-6
-	}
-	widen := mt.Accuracy(math.Max(math.Abs(bb.Low), math.Abs(bb.High))) + floor
-	out := Band{Nominal: bb.Nominal, Low: bb.Low - widen, High: bb.High + widen}
-	if len(s.Readings) > 0 || len(readings) > 0 {
-		out.Nominal = s.Mean(i)
-	}
-	if s.Degenerate {
-		out.Note = "earlier readings do not fit a healthy amp: " + s.Reason
-	}
+	b.capCathode(k, &out)
 	if v := variac; v > 0 && v < 0.9 && b.M.HT != nil {
 		if b.valveRectifier() != nil {
 			out.Note = join(out.Note, fmt.Sprintf("at %.0f %% mains every heater runs cool, the rectifier's too: its emission limits B+, which stays low until the filament warms (emission-limited estimate)", 100*v))
@@ -344,14 +333,54 @@ func (b *BenchModel) Expect(k point.Key, variac float64, readings []Reading) (Ba
 	return out, true
 }
 
-// coldBand widens a cold check's exact tolerance corners by a meter's
-// resistance accuracy (±1.5 % + 0.3 Ω of leads, common practice for a
-// handheld meter with unnulled leads).
-func coldBand(c cold.Check) Band {
+// coldBand is a cold check's band: its exact tolerance corners, read
+// with the meter (accuracy on the range in use, resolution, model error:
+// bands.FromSpread, the same widening as every live band).
+func (b *BenchModel) coldBand(c cold.Check) Band {
 	if c.Open {
 		return Band{Nominal: math.Inf(1), Low: openOhms, High: math.Inf(1), Note: join("reads open (OL)", c.Note)}
 	}
-	return Band{Nominal: c.Ohms, Low: math.Max(0, c.Tol[0]*0.985-0.3), High: c.Tol[1]*1.015 + 0.3, Note: c.Note}
+	bb := bands.FromSpread(point.Ohms, c.Ohms, c.Tol[0], c.Tol[1], b.opt.Meter, "tolerance corners of the parts in the path")
+	return Band{Nominal: bb.Nominal, Low: bb.Low, High: bb.High, Note: c.Note, Why: bb.Why}
+}
+
+// capCathode caps the band of a cathode pin whose current returns through
+// resistors to chassis at the volts the rated plate dissipation allows
+// (a wider band would accept a red-plating valve as in band), and never
+// lets it go below 0 V.
+func (b *BenchModel) capCathode(k point.Key, out *Band) {
+	ref, pin, ok := k.Valve()
+	if !ok || k.Quantity != point.DCVolts {
+		return
+	}
+	sec, electrode := b.sectionOfPin(ref, pin)
+	if sec < 0 || electrode != valves.Cathode {
+		return
+	}
+	rk, n := b.cathodeLoad(sec)
+	op := b.nominalOP()
+	rated := b.M.Sections[sec].Type.Limits.PlateWatts
+	if rk <= 0 || op == nil || sec >= len(op.Sections) || rated <= 0 {
+		return
+	}
+	so := op.Sections[sec]
+	va := so.Va - so.Vk
+	if va <= 0 {
+		return
+	}
+	share := 1.0
+	if so.Ia > 0 {
+		share = (so.Ia + so.Ig2) / so.Ia
+	}
+	vmax := rated / va * share * rk * float64(n)
+	out.Low = math.Max(0, out.Low)
+	if out.High > vmax {
+		out.High = vmax
+		out.Why = append(out.Why, fmt.Sprintf("capped at %s: the cathode volts of the rated %s plate dissipation", FormatValue(vmax, "V"), units.Format(rated, units.Watts)))
+		if out.Nominal > vmax {
+			out.Nominal = vmax
+		}
+	}
 }
 
 func dischargeNote(dr cold.Discharge) string {

@@ -63,6 +63,13 @@ type Band struct {
 	// Note qualifies the band ("emission-limited: valves barely conduct
 	// at this variac setting", "reading climbs as C1 charges").
 	Note string
+	// Why says in words what the band rests on: tolerances, the meter's
+	// accuracy on its range, the model error, and the readings that
+	// narrowed it ("narrowed by your B2 reading, 289 V") — from the one
+	// band function, bands.Set.Expect.
+	Why []string
+	// PP is a ripple reading's peak-to-peak band (on a scope), nil else.
+	PP *Band
 }
 
 // Contains says whether v lies in the band.

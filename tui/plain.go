@@ -207,6 +207,11 @@ func printMeasure(p func(string, ...any), r *procedures.Runner, st *procedures.S
 		if s.Band.Note != "" {
 			p("  note: %s", s.Band.Note)
 		}
+		for _, w := range s.Band.Why {
+			if strings.HasPrefix(w, "narrowed by") || strings.HasPrefix(w, "meter ") || strings.HasPrefix(w, "the readings do not fit") || strings.HasPrefix(w, "capped at") {
+				p("  %s", w)
+			}
+		}
 	}
 	if r.Sess.Mode == procedures.Practise {
 		p("  m to take the (simulated) reading")
