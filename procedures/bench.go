@@ -180,12 +180,7 @@ func (b *BenchModel) Set(variac float64, readings []Reading) (*bands.Set, error)
 	if variac <= 0 {
 		variac = 1
 	}
-	mains := 0.0
-	for _, r := range readings {
-		if r.Point == MainsKey && r.Status != Retry && r.Value > 50 {
-			mains = r.Value
-		}
-	}
+	mains := MeasuredMains(readings)
 	if mains == 0 {
 		for _, r := range readings {
 			if r.Mains > 0 {
@@ -274,6 +269,40 @@ func (b *BenchModel) Set(variac float64, readings []Reading) (*bands.Set, error)
 	return out, nil
 }
 
+// MeasuredMains is the mains at the outlet as last read (a mains reading
+// taken at full mains), or 0.
+func MeasuredMains(readings []Reading) float64 {
+	mains := 0.0
+	for _, r := range readings {
+		if r.Point == MainsKey && r.Status != Retry && r.Status != Corrected && r.Value > 50 && (r.Variac == 0 || r.Variac == 1) {
+			mains = r.Value
+		}
+	}
+	return mains
+}
+
+// effectiveVariac is the share of the mains the amp really gets at a
+// variac setting: the variac's output as read at that setting over the
+// mains (as measured, else the design's), or the setting itself.
+func (b *BenchModel) effectiveVariac(variac float64, readings []Reading) float64 {
+	if variac <= 0 || variac >= 1 {
+		return variac
+	}
+	mains := MeasuredMains(readings)
+	if mains == 0 {
+		mains = b.D.Mains.Volts
+	}
+	for i := len(readings) - 1; i >= 0; i-- {
+		r := readings[i]
+		if r.Point == MainsKey && r.Variac == variac && r.Status != Retry && r.Status != Corrected && r.Value > 0 && mains > 0 {
+			if f := r.Value / mains; f > 0.05 && f < 1.3 {
+				return math.Round(f*1000) / 1000
+			}
+		}
+	}
+	return variac
+}
+
 // Expect implements Expecter.
 func (b *BenchModel) Expect(k point.Key, variac float64, readings []Reading) (Band, bool) {
 	switch k.Domain {
@@ -282,11 +311,16 @@ func (b *BenchModel) Expect(k point.Key, variac float64, readings []Reading) (Ba
 			Note: "after nulling the meter leads; a multimeter reading is only an indication, no substitute for an earth-bond tester (IEC 61557-4): in-service limit 0.1 Ω plus the cord (IET Code of Practice)"}, true
 	case point.Mains:
 		v := b.D.Mains.Volts
+		note := "the design's mains and its tolerance"
+		if m := MeasuredMains(readings); m > 0 && variac > 0 && variac < 1 {
+			v, note = m, "your mains reading times the variac setting, ±5 % for the variac's scale (common practice)"
+			v *= variac
+			return Band{Nominal: v, Low: 0.95 * v, High: 1.05 * v, Note: note}, true
+		}
 		if variac > 0 && variac != 1 {
 			v *= variac
 		}
-		return Band{Nominal: v, Low: v * (1 + b.D.Mains.Tol.Lo), High: v * (1 + b.D.Mains.Tol.Hi),
-			Note: "the design's mains and its tolerance"}, true
+		return Band{Nominal: v, Low: v * (1 + b.D.Mains.Tol.Lo), High: v * (1 + b.D.Mains.Tol.Hi), Note: note}, true
 	case point.Discharge:
 		ref := k.ID
 		for _, dr := range b.Drain {
@@ -308,7 +342,7 @@ func (b *BenchModel) Expect(k point.Key, variac float64, readings []Reading) (Ba
 	case point.Part:
 		return b.partBand(k)
 	}
-	s, err := b.Set(variac, readings)
+	s, err := b.Set(b.effectiveVariac(variac, readings), readings)
 	if err != nil {
 		return Band{}, false
 	}

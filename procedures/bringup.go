@@ -335,6 +335,14 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 		outputs = append(outputs, bs.Ref)
 	}
 	lamp := lampWatts(b)
+	if ramp {
+		after(&Step{ID: StepMains, Kind: KindLive, Live: true, Variac: 1, Gate: append([]string(nil), gate...), Cautions: liveC,
+			Title:       "Mains at the bench",
+			Instruction: "Before the amp is plugged in: measure the mains at the outlet you will use (AC volts, probes into the outlet's live and neutral with shrouded probes, or at the variac's output set to 100 %). Every band after this is worked out at the mains you read.",
+			Measures: []Measure{{Point: MainsKey, Label: "mains at the outlet", Function: FuncACV, Unit: "V",
+				Range: rangeFor(b.D.Mains.Volts*1.1, "V AC"), Probes: "live and neutral of the outlet (or the variac output at 100 %)"}},
+			Why: "Mains is rarely the design's figure: 5 % high mains is 5 % more B+ and heater volts; the bands follow what you read, not what the design assumed."})
+	}
 	if ramp && len(heaters) > 0 {
 		// Heaters with no HT: at a low setting first, then at full mains.
 		var how, back string
@@ -422,6 +430,12 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 			st.Instruction = fmt.Sprintf("Plug in through the variac and a series lamp limiter (about %.0f W for this amp, common practice), with a dummy load (or speaker) on the output. ", lamp)
 		}
 		st.Instruction += fmt.Sprintf("Set the variac to %.0f %% of the mains, wait a minute for the heaters, watch the series lamp, and measure:", 100*f)
+		if ramp && f < 1 {
+			// The variac's real output at this setting: the bands of the
+			// step follow it.
+			st.Measures = append(st.Measures, Measure{Point: MainsKey, Label: fmt.Sprintf("variac output at %.0f %%", 100*f), Function: FuncACV, Unit: "V",
+				Range: rangeFor(b.D.Mains.Volts*f*1.1, "V AC"), Probes: "the variac's output terminals (or the socket the amp plugs into)"})
+		}
 		if !ramp {
 			st.Instruction = "Plug in through the variac and series lamp and bring it up slowly (25 %, 50 %, 75 %, 100 %), watching the lamp and B+. At 100 % measure:"
 		}

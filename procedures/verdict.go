@@ -77,6 +77,13 @@ func (b *BenchModel) judge(st *Step, m *Measure, v float64, band Band, has bool,
 					"Do not power up. Re-check the probes and let the reading settle; if it stays low, find the short (fault-finding starts from this reading).",
 				c.ID, FormatValue(v, "Ω"), FormatBand(band, "Ω"))}
 		}
+	case point.Mains:
+		d := b.D.Mains
+		if (st.Variac == 0 || st.Variac == 1) && d.Volts > 0 && v > d.Volts*(1+d.Tol.Hi+0.05) {
+			return judgement{Consequence: Stop, Said: fmt.Sprintf(
+				"STOP: the outlet gives %s; this amp is built for %s (%+.0f %%): on this mains its heaters, B+ and capacitors would be overstressed. Do not plug it in here: check the mains selector or the transformer tapping, or feed it through a step-down transformer or the variac set to %s.",
+				FormatValue(v, "V"), FormatValue(d.Volts, "V"), 100*d.Tol.Hi, FormatValue(d.Volts, "V"))}
+		}
 	case point.Bias:
 		if st.Live {
 			if j, ok := b.judgeBias(k, v, readings); ok {
