@@ -132,12 +132,11 @@ func (l *faultLoop) practice() error {
 		return err
 	}
 	if s.Practice.Fault == "" {
-		all := faults.All(l.w.B.M)
-		if len(all) == 0 {
-			return fmt.Errorf("practice: the design has no modelled faults")
+		f, complaint, err := l.drawPractice(e, s.Practice.Seed)
+		if err != nil {
+			return err
 		}
-		r := rand.New(rand.NewPCG(s.Practice.Seed, 0x70726163))
-		s.Practice.Fault = all[r.IntN(len(all))].String()
+		s.Practice.Fault, s.Practice.Complaint = f, complaint
 	}
 	sim, err := e.Simulate(s.Practice.Fault, s.Practice.Seed)
 	if err != nil {
@@ -145,6 +144,93 @@ func (l *faultLoop) practice() error {
 	}
 	l.sim = sim
 	return nil
+}
+
+// drawPractice picks a practice session's hidden fault: among the faults
+// a customer would notice (they move a supply net or an output valve's
+// current by more than 10 %), weighted by their priors (common-practice
+// failure rates), and words the complaint the way a customer brings it
+// in.
+func (l *faultLoop) drawPractice(e *infer.Engine, seed uint64) (string, string, error) {
+	m := l.w.B.M
+	all := faults.All(m)
+	if len(all) == 0 {
+		return "", "", fmt.Errorf("practice: the design has no modelled faults")
+	}
+	var keys []string
+	if m.HT != nil {
+		for _, n := range m.HT.Nets {
+			keys = append(keys, point.LiveKey(n, point.DCVolts).String())
+		}
+	}
+	outs := map[string]string{} // plate current key -> valve
+	for _, pd := range m.Points() {
+		if pd.Quantity == amp.DCAmps && pd.Electrode == valves.Plate && pd.Section >= 0 && m.Sections[pd.Section].Pentode {
+			keys = append(keys, pd.Key())
+			outs[pd.Key()] = pd.Valve
+		}
+	}
+	healthy := map[string]float64{}
+	for _, k := range keys {
+		if _, nom, _, ok := e.Band(infer.Healthy, k); ok {
+			healthy[k] = nom
+		}
+	}
+	type cand struct {
+		name, complaint string
+		w               float64
+	}
+	var cs []cand
+	total := 0.0
+	for _, f := range all {
+		name := f.String()
+		complaint := ""
+		for _, k := range keys {
+			_, nom, _, ok := e.Band(name, k)
+			h, okh := healthy[k]
+			if !ok || !okh || h == 0 {
+				continue
+			}
+			ch := (nom - h) / math.Abs(h)
+			if math.Abs(ch) < 0.1 {
+				continue
+			}
+			switch v, out := outs[k]; {
+			case out && ch > 0.25:
+				complaint = "One of the big valves (" + v + ") glows red inside after a few minutes, and it sounds rough."
+			case out && ch < -0.6:
+				complaint = "No sound from one channel (or very faint), the other is fine."
+			case out:
+				complaint = "It sounds weak and distorts early."
+			case ch < -0.6:
+				complaint = "It is dead: no sound at all, the valves may light but nothing comes out."
+			default:
+				complaint = "It hums and sounds weak."
+			}
+			break
+		}
+		if complaint == "" {
+			continue
+		}
+		w := e.Prior(name)
+		if !(w > 0) {
+			continue
+		}
+		cs = append(cs, cand{name, complaint, w})
+		total += w
+	}
+	r := rand.New(rand.NewPCG(seed, 0x70726163))
+	if len(cs) == 0 {
+		return all[r.IntN(len(all))].String(), "It does not sound right.", nil
+	}
+	x := r.Float64() * total
+	for _, c := range cs {
+		if x -= c.w; x <= 0 {
+			return c.name, c.complaint, nil
+		}
+	}
+	c := cs[len(cs)-1]
+	return c.name, c.complaint, nil
 }
 
 // baseDone: symptoms and every safety step done.
@@ -256,11 +342,13 @@ func (l *faultLoop) openAdded() bool {
 // power-up step first.
 func (l *faultLoop) Advance() error {
 	r := l.w.R
+	if r.Sess.Mode == Practise && r.Sess.Outcome == nil {
+		if err := l.practice(); err != nil {
+			return err
+		}
+	}
 	if !l.baseDone() || l.openAdded() || r.Sess.Outcome != nil {
 		return nil
-	}
-	if err := l.practice(); err != nil {
-		return err
 	}
 	rk, err := l.Rank()
 	if err != nil {
@@ -686,7 +774,10 @@ func confirmText(b *BenchModel, fault string) string {
 	case design.Resistor:
 		return fmt.Sprintf("Unplugged and discharged: lift one end of %s and measure it (%s ±%.0f %% expected when healthy). Enter the reading.", p.Ref, units.Format(p.Value, units.Ohms), 100*p.Tol.Hi)
 	case design.Capacitor:
-		return fmt.Sprintf("Unplugged and discharged: lift one end of %s; check it on a capacitance meter and for leakage at its working volts, and look for bulging or leaking electrolyte. Confirm when checked.", p.Ref)
+		if p.Material == "electrolytic" {
+			return fmt.Sprintf("Unplugged and discharged: lift one end of %s; check it on a capacitance meter (and its ESR) and for leakage at its working volts, and look for a bulging top, a vented seal or leaking electrolyte. Confirm when checked.", p.Ref)
+		}
+		return fmt.Sprintf("Unplugged and discharged: lift one end of %s (%s); check its capacitance and its leakage at its working volts (an insulation tester or a leakage tester: a good film or mica part shows hundreds of MΩ). Confirm when checked.", p.Ref, p.Material)
 	case design.Valve:
 		return fmt.Sprintf("Swap %s for a known-good %s (or test it on a valve tester); the fault should follow the valve. Confirm when checked.", p.Ref, p.Valve.Type.Name)
 	}
@@ -814,6 +905,9 @@ func (l *faultLoop) Hint() []string {
 	var out []string
 	st := r.Current()
 	if r.Sess.Mode == Practise {
+		if p := r.Sess.Practice; p != nil && p.Complaint != "" && !p.Revealed {
+			out = append(out, "The customer says: \""+p.Complaint+"\"")
+		}
 		if st != nil && st.ID == StepPowerUp && l.rank != nil && l.rank.Next != nil {
 			out = append(out, fmt.Sprintf("best cold measurement left: %s, about %.2f bits", l.rank.Next.Label, l.rank.Next.GainBits))
 		}

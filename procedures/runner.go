@@ -160,10 +160,13 @@ func (r *Runner) Done(id string) bool {
 }
 
 // openMeasure: a measure still wants a reading: none yet, or its latest
-// reading holds a stop (or a switch-off) that no override let through.
+// reading holds a stop (or a switch-off) that no override let through. A
+// cold reading's stop (a near-short) does not hold its step: it is the
+// evidence the fault-finding goes on from, and it blocks every live step
+// until a retake clears it.
 func (r *Runner) openMeasure(st *Step, m *Measure) bool {
 	rd := r.Last(st.ID, m.Point)
-	return rd == nil || r.blocking(rd)
+	return rd == nil || (r.blocking(rd) && rd.Point.Domain != point.Cold)
 }
 
 // blocking reports whether a reading's stop is in force: its consequence

@@ -276,6 +276,9 @@ type Guess struct {
 type Practice struct {
 	Seed     uint64 `yaml:"seed"`
 	Fault    string `yaml:"fault"` // hidden from the trainee until revealed
+	// Complaint is what the customer says, in their words: the trainee's
+	// starting point.
+	Complaint string `yaml:"complaint,omitempty"`
 	Named    string `yaml:"named,omitempty"`
 	Revealed bool   `yaml:"revealed,omitempty"`
 	Score    int    `yaml:"score,omitempty"`
