@@ -274,14 +274,14 @@ type Guess struct {
 
 // Practice holds a practice session's hidden fault.
 type Practice struct {
-	Seed     uint64 `yaml:"seed"`
-	Fault    string `yaml:"fault"` // hidden from the trainee until revealed
+	Seed  uint64 `yaml:"seed"`
+	Fault string `yaml:"fault"` // hidden from the trainee until revealed
 	// Complaint is what the customer says, in their words: the trainee's
 	// starting point.
 	Complaint string `yaml:"complaint,omitempty"`
-	Named    string `yaml:"named,omitempty"`
-	Revealed bool   `yaml:"revealed,omitempty"`
-	Score    int    `yaml:"score,omitempty"`
+	Named     string `yaml:"named,omitempty"`
+	Revealed  bool   `yaml:"revealed,omitempty"`
+	Score     int    `yaml:"score,omitempty"`
 }
 
 // Outcome is how a session ended.
