@@ -48,8 +48,11 @@ model was fitted to, with the model's figures beside each row. With
 				units.Format(t.Heater.Volts, units.Volts), units.Format(t.Heater.Amps, units.Amps))
 		}
 		for _, t := range valves.All() {
-			fmt.Fprintf(stdout, "%-8s %-9s %-6s heater %s %s\n", t.Name, t.Kind, t.Base,
-				units.Format(t.Heater.Volts, units.Volts), units.Format(t.Heater.Amps, units.Amps))
+			h := "no heater"
+			if t.Heater.Volts > 0 {
+				h = "heater " + units.Format(t.Heater.Volts, units.Volts) + " " + units.Format(t.Heater.Amps, units.Amps)
+			}
+			fmt.Fprintf(stdout, "%-8s %-9s %-6s %s\n", t.Name, t.Kind, t.Base, h)
 		}
 		return exitOK
 	}
@@ -68,11 +71,46 @@ model was fitted to, with the model's figures beside each row. With
 		}
 		fmt.Fprintf(stdout, "  pin %d  %s%s\n", p.Number, p.Electrode, sec)
 	}
-	fmt.Fprintf(stdout, "heater %s at %s", units.Format(t.Heater.Volts, units.Volts), units.Format(t.Heater.Amps, units.Amps))
+	if t.Heater.Volts == 0 {
+		fmt.Fprint(stdout, "no heater (cold cathode)")
+	} else {
+		fmt.Fprintf(stdout, "heater %s at %s", units.Format(t.Heater.Volts, units.Volts), units.Format(t.Heater.Amps, units.Amps))
+	}
 	if t.Heater.AltVolts > 0 {
 		fmt.Fprintf(stdout, " (or %s at %s)", units.Format(t.Heater.AltVolts, units.Volts), units.Format(t.Heater.AltAmps, units.Amps))
 	}
 	fmt.Fprintln(stdout)
+	switch {
+	case t.Kind == valves.Multi:
+		for _, sec := range t.Sections {
+			st := t.SectionType(sec, side)
+			if st == nil {
+				fmt.Fprintf(stdout, "section %s: unit type %s missing\n", sec, t.Units[sec])
+				continue
+			}
+			fmt.Fprintf(stdout, "section %s (%s):\n", sec, st.Kind)
+			if st.Kind.Modelled() {
+				showRatingsAndModel(stdout, st)
+			} else {
+				fmt.Fprintln(stdout, "  not modelled: a design leaves this section unused")
+			}
+		}
+	case t.Kind == valves.Regulator:
+		g := t.Gas
+		fmt.Fprintf(stdout, "gas regulator: strikes at %s, maintains %s, %s to %s\n", units.Format(g.StrikeVolts, units.Volts),
+			units.Format(g.MaintainVolts, units.Volts), units.Format(g.MinAmps, units.Amps), units.Format(g.MaxAmps, units.Amps))
+		fmt.Fprintln(stdout, "not yet modelled in a design")
+	case !t.Kind.Modelled():
+		fmt.Fprintf(stdout, "limits: plate %s, %s\nnot yet modelled in a design\n", units.Format(t.Limits.PlateWatts, units.Watts), units.Format(t.Limits.PlateVolts, units.Volts))
+	default:
+		showRatingsAndModel(stdout, t)
+	}
+	return exitOK
+}
+
+// showRatingsAndModel prints a modelled type's (or section's) limits,
+// model and datasheet rows.
+func showRatingsAndModel(stdout io.Writer, t *valves.Type) {
 	l := t.Limits
 	fmt.Fprintf(stdout, "limits: plate %s, %s", units.Format(l.PlateWatts, units.Watts), units.Format(l.PlateVolts, units.Volts))
 	if l.ScreenWatts > 0 {
@@ -84,7 +122,7 @@ model was fitted to, with the model's figures beside each row. With
 	fmt.Fprintln(stdout)
 	if t.Kind == valves.Rectifier {
 		fmt.Fprintf(stdout, "perveance %.3g A/V^1.5 per anode\n", t.Perveance)
-		return exitOK
+		return
 	}
 	k := t.Model
 	fmt.Fprintf(stdout, "Koren model: mu %.4g ex %.4g kg1 %.4g kg2 %.4g kp %.4g kvb %.4g", k.Mu, k.Ex, k.KG1, k.KG2, k.KP, k.KVB)
@@ -98,7 +136,6 @@ model was fitted to, with the model's figures beside each row. With
 	for _, r := range t.Rows {
 		fmt.Fprintf(stdout, "  row Va %s Vg1 %s: Ia %s  (%s)\n", units.Format(r.Va, units.Volts), units.Format(r.Vg1, units.Volts), units.Format(r.Ia, units.Amps), r.Source)
 	}
-	return exitOK
 }
 
 // lookupWith finds a type by name or alias among side (first) and then the

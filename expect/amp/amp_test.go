@@ -55,17 +55,33 @@ func netV(t testing.TB, m *Model, op *OP, net string) float64 {
 // stageDesign is a valve section with its plate held by a stiff supply at
 // va, its grid held at vg by a bias supply and its cathode grounded: the
 // conditions of a datasheet's typical-operation row.
-func rowDesign(valve string, pentode bool, va, vg2, vg float64) string {
+func rowDesign(vt *valves.Type, section string, va, vg2, vg float64) string {
 	heater := "6.3"
-	if vt, ok := valves.Lookup(valve); ok && vt.Heater.AltVolts != 6.3 && vt.Heater.Volts != 6.3 {
-		heater = fmt.Sprint(vt.Heater.Volts) // series-string types (50C5): a winding at their rating
+	if vt.Heater.AltVolts != 6.3 && vt.Heater.Volts != 6.3 {
+		heater = fmt.Sprint(vt.Heater.Volts) // series-string types (50C5), filaments: a winding at their rating
 	}
-	elec := fmt.Sprintf("    A: {plate: P, grid: G, cathode: 0V}\n    B: unused\n")
+	st := vt.SectionType(section, nil)
+	wire := "{plate: P, grid: G, cathode: 0V}"
 	extra := ""
-	if pentode {
-		elec = "    plate: P\n    screen: S\n    grid: G\n    cathode: 0V\n"
+	if st.Kind == valves.Pentode {
+		wire = "{plate: P, screen: S, grid: G, cathode: 0V}"
 		extra = fmt.Sprintf("  U3: {dc-supply: %gV, dcr: 0R001, between: [S, 0V]}\n", vg2)
 	}
+	var elec string
+	if len(vt.Sections) == 1 {
+		// A directly heated triode's cathode is the filament winding's
+		// centre tap, 0V here.
+		elec = "    " + strings.ReplaceAll(strings.Trim(wire, "{}"), ", ", "\n    ") + "\n"
+	} else {
+		for _, s := range vt.Sections {
+			if s == section {
+				elec += fmt.Sprintf("    %s: %s\n", s, wire)
+			} else {
+				elec += fmt.Sprintf("    %s: unused\n", s)
+			}
+		}
+	}
+	valve := vt.Name
 	if vg == 0 {
 		vg = -1e-9
 	}
@@ -91,26 +107,32 @@ parts:
 // and is checked in the valves package) and checks Ia within ±10 %.
 func TestStageAgainstDatasheetRows(t *testing.T) {
 	for _, vt := range valves.All() {
-		if vt.Kind == valves.Rectifier {
+		if vt.Kind == valves.Rectifier || !(vt.Kind.Modelled() || vt.Kind == valves.Multi) {
 			continue
 		}
-		for _, r := range vt.Rows {
-			if r.Vg1 == 0 && r.Ia == 0 {
+		for _, sec := range vt.Sections {
+			st := vt.SectionType(sec, nil)
+			if !st.Kind.Modelled() || (vt.Kind != valves.Multi && sec != vt.Sections[0]) {
 				continue
 			}
-			if vt.Name == "12AT7" {
-				continue // row is given with a 200 Ω cathode resistor, not a grid voltage
+			for _, r := range st.Rows {
+				if r.Vg1 == 0 && r.Ia == 0 {
+					continue
+				}
+				if vt.Name == "12AT7" {
+					continue // row is given with a 200 Ω cathode resistor, not a grid voltage
+				}
+				src := rowDesign(vt, sec, r.Va, r.Vg2, r.Vg1)
+				d := parse(t, src)
+				m, op := solve(t, d, Conditions{})
+				ia := op.Sections[0].Ia
+				err := (ia - r.Ia) / r.Ia
+				t.Logf("%-8s Va %3.0f Vg1 %6.2f: Ia %.3g A, datasheet %.3g A (%+.1f%%)  [%s]", vt.Name, r.Va, r.Vg1, ia, r.Ia, 100*err, r.Source)
+				if math.Abs(err) > 0.10 {
+					t.Errorf("%s row Va %.0f: Ia %.4g, datasheet %.4g (%s): off by %.1f%%", vt.Name, r.Va, ia, r.Ia, r.Source, 100*err)
+				}
+				_ = m
 			}
-			src := rowDesign(vt.Name, vt.Kind == valves.Pentode, r.Va, r.Vg2, r.Vg1)
-			d := parse(t, src)
-			m, op := solve(t, d, Conditions{})
-			ia := op.Sections[0].Ia
-			err := (ia - r.Ia) / r.Ia
-			t.Logf("%-8s Va %3.0f Vg1 %6.2f: Ia %.3g A, datasheet %.3g A (%+.1f%%)  [%s]", vt.Name, r.Va, r.Vg1, ia, r.Ia, 100*err, r.Source)
-			if math.Abs(err) > 0.10 {
-				t.Errorf("%s row Va %.0f: Ia %.4g, datasheet %.4g (%s): off by %.1f%%", vt.Name, r.Va, ia, r.Ia, r.Source, 100*err)
-			}
-			_ = m
 		}
 	}
 }

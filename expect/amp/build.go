@@ -283,14 +283,20 @@ func (m *Model) addValve(p *design.Part) {
 			continue
 		}
 		e := vp.Sections[s]
-		sec := &Section{Ref: p.Ref, Section: s, Type: vt, Pentode: vt.Kind == valves.Pentode,
+		// A multi-function valve's section takes the kind, model and
+		// limits of its unit type; the name and pins stay the valve's.
+		st := vt.SectionType(s, m.D.SideValves)
+		if st == nil || (st.Kind != valves.Triode && st.Kind != valves.Pentode) {
+			continue // the loader refuses wired sections it cannot model
+		}
+		sec := &Section{Ref: p.Ref, Section: s, Type: st, Pentode: st.Kind == valves.Pentode,
 			P: m.node(e[valves.Plate]), G: m.node(e[valves.Grid]), K: m.node(e[valves.Cathode])}
 		if sec.Pentode {
 			sec.G2 = m.node(e[valves.Screen])
-			sec.pen = &valves.PentodeDevice{P: sec.P, G2: sec.G2, G1: sec.G, K: sec.K, Model: vt.Model}
+			sec.pen = &valves.PentodeDevice{P: sec.P, G2: sec.G2, G1: sec.G, K: sec.K, Model: st.Model}
 			sec.handle = m.ckt.AddDevice(sec.pen)
 		} else {
-			sec.tri = &valves.TriodeDevice{P: sec.P, G: sec.G, K: sec.K, Model: vt.Model}
+			sec.tri = &valves.TriodeDevice{P: sec.P, G: sec.G, K: sec.K, Model: st.Model}
 			sec.handle = m.ckt.AddDevice(sec.tri)
 		}
 		m.Sections = append(m.Sections, sec)

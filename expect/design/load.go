@@ -287,9 +287,25 @@ type loader struct {
 
 // lookupValve finds a valve type in the design's side files, then in the
 // library.
+// kindWords names a valve kind for messages.
+func kindWords(k valves.Kind) string {
+	switch k {
+	case valves.Regulator:
+		return "gas regulator"
+	case valves.Heptode:
+		return "pentagrid converter"
+	case valves.Diode:
+		return "signal diodes"
+	}
+	return string(k)
+}
+
 func (l *loader) lookupValve(name string) (*valves.Type, bool) {
 	key := strings.ToUpper(strings.TrimSpace(name))
 	for _, t := range l.sideValves {
+		if t.Unit {
+			continue
+		}
 		if strings.ToUpper(t.Name) == key {
 			return t, true
 		}
@@ -840,7 +856,7 @@ var fieldsOf = map[Kind][]string{
 	PowerTransformer:  {"note"},
 	OutputTransformer: {"note"},
 	Rectifier:         {"anodes", "cathode", "ac", "plus", "minus", "note"},
-	Valve:             {"heater", "note", "plate", "grid", "cathode", "screen", "suppressor", "plates", "A", "B"},
+	Valve:             {"heater", "note", "plate", "grid", "cathode", "screen", "suppressor", "plates", "A", "B", "T", "P", "D"}, // sections: A, B double triodes; T, P, D triode, pentode and diode sections
 }
 
 // CapacitorKinds are the dielectric kinds a capacitor may name.
@@ -1464,6 +1480,11 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 	}
 	vp := &ValvePart{Type: vt, Sections: map[string]map[string]string{}, Unused: map[string]bool{}, PinNets: map[int]string{}}
 	p.Valve = vp
+	if !vt.Kind.Modelled() && vt.Kind != valves.Multi {
+		l.errf(kv, f, "the %s (%s) is not yet modelled: pinwalk cannot put it in the network or predict its pins; "+
+			"leave it out of the design file (its pins and ratings: pinwalk valves %s)", vt.Name, kindWords(vt.Kind), vt.Name)
+		return
+	}
 	multi := len(vt.Sections) > 1
 	for _, sec := range vt.Sections {
 		elecs := vt.Electrodes(sec)
@@ -1486,6 +1507,15 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 				}
 				continue
 			}
+			if st := vt.SectionType(sec, l.sideValves); st == nil || !st.Kind.Modelled() {
+				what := "its unit type is missing"
+				if st != nil {
+					what = "its " + kindWords(st.Kind) + " are not yet modelled"
+				}
+				l.errf(sn, sf, "section %s of the %s cannot be wired: %s; write %s: unused (ties it to ground)", sec, vt.Name, what, sec)
+				vp.Unused[sec] = true
+				continue
+			}
 			src = map[string]*yaml.Node{}
 			for _, ekv := range l.pairs(sn, sf, elecs) {
 				src[ekv[0].Value] = ekv[1]
@@ -1496,7 +1526,7 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 			for k, v := range fields {
 				if contains(elecs, k) {
 					src[k] = v
-				} else if k != "heater" && k != "note" && k != string(Valve) && k != "A" && k != "B" { // A, B: reported below
+				} else if k != "heater" && k != "note" && k != string(Valve) && !contains(sectionNames, k) { // sections: reported below
 					l.errf(v, p.Ref+"."+k, "the %s has no %s: expected %s", vt.Name, k, strings.Join(elecs, ", "))
 				}
 			}
@@ -1539,7 +1569,7 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 			}
 		}
 	} else {
-		for _, s := range []string{"A", "B"} {
+		for _, s := range sectionNames {
 			if v, ok := fields[s]; ok {
 				l.errf(v, p.Ref+"."+s, "the %s has one section: write its electrodes directly (%s)", vt.Name, electrodeHint(vt.Electrodes(vt.Sections[0])))
 			}
@@ -1593,7 +1623,7 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 			}
 		}
 	}
-	if vt.Heater.DirectlyHeated {
+	if vt.Heater.DirectlyHeated && vt.Kind == valves.Rectifier { // triodes: checkFilamentCathodes
 		if cat := vp.Sections[""][valves.Cathode]; cat != "" && cat != vp.HeaterNets[0] && cat != vp.HeaterNets[1] && vp.HeaterNets[0] != "" {
 			l.add(p.FieldPos("cathode"), Error, p.Ref+".cathode", "write heater: [B1, F2] with the B+ net as one filament end",
 				"a %s is directly heated: its filament is the cathode, so the cathode net %s must be one of the heater nets %s, %s",
@@ -1700,3 +1730,8 @@ func (l *loader) heater(p *Part, vp *ValvePart, fields map[string]*yaml.Node) {
 }
 
 func near(a, b float64) bool { return b != 0 && a/b > 0.97 && a/b < 1.03 }
+
+// sectionNames are the section keys a valve part may carry: A and B on
+// double triodes, T (triode), P (pentode) and D (diodes) on multi-function
+// valves.
+var sectionNames = []string{"A", "B", "T", "P", "D"}

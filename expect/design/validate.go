@@ -47,6 +47,7 @@ func (l *loader) validate(d *Design) {
 	l.checkSupply(d)
 	l.checkDCPaths(d)
 	l.checkHeaters(d)
+	l.checkFilamentCathodes(d)
 	for _, p := range d.Parts {
 		for _, f := range p.Placeholder {
 			l.add(p.FieldPos(strings.TrimPrefix(f, p.Ref+".")), Note, f, "", "placeholder value: replace it with the value on your amp's schematic or part (then drop the ?)")
@@ -302,4 +303,54 @@ func windingField(d *Design, w *Winding) string {
 		}
 	}
 	return "secondaries." + w.Name
+}
+
+// checkFilamentCathodes checks directly heated triodes (2A3, 300B): the
+// filament is the cathode, so the cathode net must be one filament end, the
+// centre tap of the filament winding, or the wiper of a hum-balance pot
+// across the filament (common practice).
+func (l *loader) checkFilamentCathodes(d *Design) {
+	for _, p := range d.Valves() {
+		vp := p.Valve
+		vt := vp.Type
+		if !vt.Heater.DirectlyHeated || vt.Kind == valves.Rectifier || vp.HeaterNets[0] == "" {
+			continue
+		}
+		cat := vp.Sections[""][valves.Cathode]
+		if cat == "" {
+			continue
+		}
+		h := vp.HeaterNets
+		ok := cat == h[0] || cat == h[1]
+		for _, pt := range d.PartsOfKind(PowerTransformer) {
+			for _, w := range pt.PT.Windings {
+				e := map[string]bool{w.Ends[0]: true, w.Ends[1]: true}
+				if e[h[0]] && e[h[1]] && w.Centre != "" && w.Centre == cat {
+					ok = true
+				}
+			}
+		}
+		for _, pot := range d.PartsOfKind(Pot) {
+			var a, b, wiper string
+			for _, t := range pot.Terminals {
+				switch t.Name {
+				case "a":
+					a = t.Net
+				case "b":
+					b = t.Net
+				case "wiper":
+					wiper = t.Net
+				}
+			}
+			if wiper == cat && ((a == h[0] && b == h[1]) || (a == h[1] && b == h[0])) {
+				ok = true
+			}
+		}
+		if !ok {
+			l.add(p.FieldPos("cathode"), Error, p.Ref+".cathode",
+				"take the cathode from the filament winding's centre tap (centre: NET), a hum-balance pot across the filament (wiper), or one filament end",
+				"a %s is directly heated: its filament is the cathode, so the cathode net %s must be a filament net (%s, %s), the filament winding's centre tap or a hum-balance pot's wiper",
+				vt.Name, cat, h[0], h[1])
+		}
+	}
 }

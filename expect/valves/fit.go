@@ -451,7 +451,7 @@ func Refit(file string, src []byte) ([]byte, []FitReport, error) {
 		if cur == nil {
 			continue
 		}
-		if m := reModelLine.FindStringSubmatch(ln); m != nil && cur.Kind != Rectifier {
+		if m := reModelLine.FindStringSubmatch(ln); m != nil && (cur.Kind == Triode || cur.Kind == Pentode) {
 			k, rep, err := Fit(cur.Kind, cur.Rows, cur.Start)
 			if err != nil {
 				return nil, nil, fmt.Errorf("%s:%d: %s: %w", file, i+1, cur.Name, err)
@@ -470,7 +470,7 @@ func Refit(file string, src []byte) ([]byte, []FitReport, error) {
 		}
 	}
 	for _, t := range p.types {
-		if !done[t.Name] {
+		if !done[t.Name] && t.Kind.Modelled() {
 			return nil, nil, fmt.Errorf("%s: %s: no model or perveance_ma line to rewrite", file, t.Name)
 		}
 	}

@@ -11,7 +11,7 @@ import (
 // memory, see REFERENCES.md) are in library.yaml beside each row.
 func TestFitTable(t *testing.T) {
 	t.Logf("%-8s %-28s %8s %8s %8s %8s", "valve", "row (Va/Vg2/Vg1)", "Ia err%", "gm err%", "mu err%", "Ig2 err%")
-	for _, ty := range All() {
+	for _, ty := range Fitted() {
 		if ty.Kind == Rectifier {
 			continue
 		}
@@ -42,7 +42,7 @@ func fmtRow(r Row) string {
 // voltage; at Vg1 = −2·Va/mu (well beyond cutoff; mu from the row where the
 // data sheet gives it) Ia is under 1 % of the row's; ex lies in 1.1–1.8.
 func TestCurvesArePhysical(t *testing.T) {
-	for _, ty := range All() {
+	for _, ty := range Fitted() {
 		if ty.Kind == Rectifier {
 			continue
 		}
@@ -88,7 +88,7 @@ func TestCurvesArePhysical(t *testing.T) {
 // the library cannot drift from the fit (regenerate with
 // go run ./expect/valves/cmd/fitlib).
 func TestStoredParametersMatchFreshFit(t *testing.T) {
-	for _, ty := range All() {
+	for _, ty := range Fitted() {
 		k, g, rep, err := FitType(ty)
 		if err != nil {
 			t.Fatalf("%s: %v", ty.Name, err)

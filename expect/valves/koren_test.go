@@ -12,7 +12,7 @@ func near(got, want, rel, abs float64) bool {
 }
 
 func TestTriodeDerivativesMatchFiniteDifferences(t *testing.T) {
-	for _, ty := range All() {
+	for _, ty := range Fitted() {
 		if ty.Kind != Triode {
 			continue
 		}
@@ -34,7 +34,7 @@ func TestTriodeDerivativesMatchFiniteDifferences(t *testing.T) {
 }
 
 func TestPentodeDerivativesMatchFiniteDifferences(t *testing.T) {
-	for _, ty := range All() {
+	for _, ty := range Fitted() {
 		if ty.Kind != Pentode {
 			continue
 		}

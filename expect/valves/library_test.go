@@ -11,8 +11,9 @@ import (
 )
 
 func TestNamesAndLookup(t *testing.T) {
-	want := []string{"12AT7", "12AU7", "12AX7", "12AY7", "35W4", "50C5", "5751", "5AR4", "5R4GY", "5U4GB", "5V4G", "5Y3GT",
-		"6550", "6AQ5", "6AU6", "6BA6", "6CG7", "6DJ8", "6L6GC", "6SL7GT", "6SN7GTB", "6V6GT", "6X4", "EF86", "EL34", "EL84", "EZ81", "GZ37", "KT66", "KT88"}
+	want := []string{"0D3", "12AT7", "12AU7", "12AV6", "12AX7", "12AY7", "2A3", "300B", "35W4", "50C5", "5751", "5AR4", "5R4GY", "5U4GB", "5V4G", "5Y3GT",
+		"6550", "6AQ5", "6AU6", "6AV6", "6BA6", "6BE6", "6C4", "6CG7", "6DJ8", "6J5", "6L6GC", "6SL7GT", "6SN7GTB", "6V6GT", "6X4",
+		"ECL82", "EF86", "EL34", "EL84", "EZ81", "GZ37", "KT66", "KT88", "OA2", "OB2"}
 	if got := Names(); !reflect.DeepEqual(got, want) {
 		t.Errorf("Names() = %v, want %v", got, want)
 	}
@@ -22,7 +23,7 @@ func TestNamesAndLookup(t *testing.T) {
 	for alias, canon := range map[string]string{
 		"ecc83": "12AX7", "ECC82": "12AU7", "Ecc81": "12AT7", "6sn7": "6SN7GTB", "6BQ5": "EL84",
 		"6V6": "6V6GT", "6l6": "6L6GC", "6CA7": "EL34", "gz34": "5AR4", "6CA4": "EZ81", " 12ax7 ": "12AX7",
-		"ECC88": "6DJ8", "6922": "6DJ8", "EF94": "6AU6", "EZ90": "6X4", "6SL7": "6SL7GT", "EL90": "6AQ5", "6267": "EF86",
+		"6BM8": "ECL82", "VR150": "0D3", "EBC91": "6AV6", "EK90": "6BE6", "EC90": "6C4", "ECC88": "6DJ8", "6922": "6DJ8", "EF94": "6AU6", "EZ90": "6X4", "6SL7": "6SL7GT", "EL90": "6AQ5", "6267": "EF86",
 	} {
 		ty, ok := Lookup(alias)
 		if !ok || ty.Name != canon {
@@ -150,7 +151,7 @@ func TestHeatersAndLimits(t *testing.T) {
 	if u4.Limits.PeakPlateAmps != 1 || u4.Limits.MaxReservoirFarads != 40e-6 {
 		t.Errorf("5U4GB peak %g A, reservoir %g F; want 1 A, 40 µF (GE data, as quoted)", u4.Limits.PeakPlateAmps, u4.Limits.MaxReservoirFarads)
 	}
-	for _, ty := range All() {
+	for _, ty := range Fitted() {
 		if ty.Limits.PlateVolts <= 0 || len(ty.Rows) == 0 {
 			t.Errorf("%s lacks plate volts or rows", ty.Name)
 		}
@@ -211,10 +212,12 @@ func TestSideFileErrors(t *testing.T) {
 // number fits its base; series-string heaters as in the makers' data (RCA
 // 50C5 50 V 0.15 A, 35W4 35 V 0.15 A, from memory).
 func TestScreenVoltsBasesAndSeriesHeaters(t *testing.T) {
-	for _, ty := range All() {
+	for _, ty := range Fitted() {
 		if ty.Kind == Pentode && !(ty.Limits.ScreenVolts > 0) {
 			t.Errorf("%s: no screen_v limit", ty.Name)
 		}
+	}
+	for _, ty := range All() {
 		n := ty.Base.PinCount()
 		if n == 0 {
 			t.Errorf("%s: unknown base %q", ty.Name, ty.Base)
@@ -236,5 +239,62 @@ func TestScreenVoltsBasesAndSeriesHeaters(t *testing.T) {
 	}
 	if ty, _ := Lookup("6AU6"); !reflect.DeepEqual(ty.PinsOf("", Screen), []int{6}) || !reflect.DeepEqual(ty.PinsOf("", Plate), []int{5}) {
 		t.Errorf("6AU6 pins %v", ty.Pins)
+	}
+}
+
+// Multi-function valves name their sections; each section is modelled by
+// its unit type (Mullard ECL82 base diagram and data, from memory). Unit
+// types are not valve types of their own.
+func TestMultiFunctionSections(t *testing.T) {
+	ty, ok := Lookup("6BM8")
+	if !ok || ty.Kind != Multi || !reflect.DeepEqual(ty.Sections, []string{"T", "P"}) {
+		t.Fatalf("6BM8: %+v", ty)
+	}
+	tri, pen := ty.SectionType("T", nil), ty.SectionType("P", nil)
+	if tri == nil || pen == nil || tri.Kind != Triode || pen.Kind != Pentode || tri.Name != "ECL82" {
+		t.Fatalf("sections: %+v %+v", tri, pen)
+	}
+	if pen.Limits.PlateWatts != 7 || pen.Limits.ScreenVolts != 250 || tri.Model.Mu < 50 {
+		t.Errorf("section data: pentode %+v, triode mu %g", pen.Limits, tri.Model.Mu)
+	}
+	for sec, want := range map[string][]string{"T": {Plate, Grid, Cathode}, "P": {Plate, Screen, Grid, Cathode}} {
+		if got := ty.Electrodes(sec); !reflect.DeepEqual(got, want) {
+			t.Errorf("ECL82 section %s electrodes %v, want %v", sec, got, want)
+		}
+	}
+	if !reflect.DeepEqual(ty.PinsOf("T", Plate), []int{9}) || !reflect.DeepEqual(ty.PinsOf("P", Plate), []int{6}) {
+		t.Errorf("ECL82 plates: T %v, P %v", ty.PinsOf("T", Plate), ty.PinsOf("P", Plate))
+	}
+	if _, ok := Lookup("ECL82-T"); ok {
+		t.Error("a unit type is found by Lookup")
+	}
+	av6, _ := Lookup("6AV6")
+	if d := av6.SectionType("D", nil); d == nil || d.Kind != Diode || d.Kind.Modelled() {
+		t.Errorf("6AV6 diode section: %+v", d)
+	}
+	if twelve, _ := Lookup("12AV6"); twelve.Heater.Volts != 12.6 || twelve.SectionType("T", nil).Model != av6.SectionType("T", nil).Model {
+		t.Errorf("12AV6: heater %g V, or a model unlike the 6AV6's", twelve.Heater.Volts)
+	}
+}
+
+// Gas regulators and directly heated triodes (RCA OA2/OB2/0D3, RCA 2A3,
+// Western Electric 300B data, from memory; REFERENCES.md).
+func TestRegulatorsAndDirectlyHeatedTriodes(t *testing.T) {
+	for name, g := range map[string]GasRating{
+		"OA2": {StrikeVolts: 185, MaintainVolts: 150, MinAmps: 0.005, MaxAmps: 0.030},
+		"OB2": {StrikeVolts: 133, MaintainVolts: 108, MinAmps: 0.005, MaxAmps: 0.030},
+		"0D3": {StrikeVolts: 185, MaintainVolts: 150, MinAmps: 0.005, MaxAmps: 0.040},
+	} {
+		ty, _ := Lookup(name)
+		if ty.Kind != Regulator || ty.Gas != g || ty.Kind.Modelled() || len(ty.PinsOf("", Anode)) != 1 {
+			t.Errorf("%s: kind %s gas %+v", name, ty.Kind, ty.Gas)
+		}
+	}
+	for name, h := range map[string][2]float64{"2A3": {2.5, 2.5}, "300B": {5, 1.2}} {
+		ty, _ := Lookup(name)
+		if ty.Base != UX4 || !ty.Heater.DirectlyHeated || [2]float64{ty.Heater.Volts, ty.Heater.Amps} != h ||
+			!reflect.DeepEqual(ty.PinsOf("", Cathode), []int{1, 4}) || !reflect.DeepEqual(ty.PinsOf("", Plate), []int{2}) {
+			t.Errorf("%s: %+v", name, ty)
+		}
 	}
 }

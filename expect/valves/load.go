@@ -24,18 +24,21 @@ type fileDoc struct {
 }
 
 type valveDoc struct {
-	Name        string       `yaml:"name"`
-	Aliases     []string     `yaml:"aliases"`
-	Kind        string       `yaml:"kind"`
-	Base        string       `yaml:"base"`
-	Sections    []string     `yaml:"sections"`
-	Pins        []Pin        `yaml:"pins"`
-	Heater      HeaterRating `yaml:"heater"`
-	Limits      Limits       `yaml:"limits"`
-	Start       *Koren       `yaml:"start"`
-	Model       *Koren       `yaml:"model"`
-	PerveanceMA float64      `yaml:"perveance_ma"` // mA/V^1.5
-	Rows        []rowDoc     `yaml:"rows"`
+	Name        string            `yaml:"name"`
+	Aliases     []string          `yaml:"aliases"`
+	Kind        string            `yaml:"kind"`
+	Base        string            `yaml:"base"`
+	Sections    []string          `yaml:"sections"`
+	Pins        []Pin             `yaml:"pins"`
+	Heater      HeaterRating      `yaml:"heater"`
+	Limits      Limits            `yaml:"limits"`
+	Start       *Koren            `yaml:"start"`
+	Model       *Koren            `yaml:"model"`
+	PerveanceMA float64           `yaml:"perveance_ma"` // mA/V^1.5
+	Rows        []rowDoc          `yaml:"rows"`
+	Units       map[string]string `yaml:"units"`
+	Unit        bool              `yaml:"unit"`
+	Gas         *GasRating        `yaml:"gas"`
 }
 
 type rowDoc struct {
@@ -175,7 +178,7 @@ func keyNode(m *yaml.Node, key string) *yaml.Node {
 
 var validElectrodes = map[string]bool{
 	Plate: true, Grid: true, Screen: true, Cathode: true, Heater: true,
-	HeaterCT: true, Grid3: true, Plates: true, "nc": true,
+	HeaterCT: true, Grid3: true, Plates: true, "nc": true, Anode: true, Jumper: true, OscGrid: true,
 }
 
 // parsed is the result of reading one YAML document.
@@ -219,6 +222,22 @@ func parseDoc(file string, src []byte, fit bool) (*parsed, error) {
 		}
 		out.types = append(out.types, t)
 	}
+	byName := map[string]*Type{}
+	for _, t := range out.types {
+		byName[strings.ToUpper(t.Name)] = t
+	}
+	for i, t := range out.types {
+		for _, sec := range t.Sections {
+			if t.Kind != Multi {
+				break
+			}
+			u := byName[strings.ToUpper(t.Units[sec])]
+			if u == nil || !u.Unit {
+				return nil, d.errAt(keyNode(valvesNode.Content[i], "units"), fmt.Sprintf("valves[%d].units.%s", i, sec),
+					fmt.Errorf("%q is not a unit type in this file (unit: true)", t.Units[sec]))
+			}
+		}
+	}
 	diodesNode := keyNode(top, "diodes")
 	for i, dd := range doc.Diodes {
 		p := fmt.Sprintf("diodes[%d]", i)
@@ -242,11 +261,37 @@ func (d decoder) buildType(v *valveDoc, vn *yaml.Node, p string, fit bool) (*Typ
 		return nil, at("name", errors.New("missing"))
 	}
 	t := &Type{Name: v.Name, Aliases: v.Aliases, Kind: Kind(v.Kind), Base: Base(v.Base),
-		Sections: v.Sections, Pins: v.Pins, Heater: v.Heater, Limits: v.Limits}
+		Sections: v.Sections, Pins: v.Pins, Heater: v.Heater, Limits: v.Limits, Units: v.Units, Unit: v.Unit}
 	switch t.Kind {
-	case Triode, Pentode, Rectifier:
+	case Triode, Pentode, Rectifier, Multi, Diode, Regulator, Heptode:
 	default:
-		return nil, at("kind", fmt.Errorf("%q is not triode, pentode or rectifier", v.Kind))
+		return nil, at("kind", fmt.Errorf("%q is not triode, pentode, rectifier, multi, diode, regulator or heptode", v.Kind))
+	}
+	if t.Unit {
+		return d.buildUnit(t, v, vn, p, fit)
+	}
+	if t.Kind == Diode {
+		return nil, at("kind", errors.New("diode is a section kind of a multi-function valve: give it unit: true"))
+	}
+	if t.Kind == Multi {
+		if len(v.Sections) < 2 || len(v.Units) != len(v.Sections) {
+			return nil, at("units", errors.New("a multi valve names a unit type for each of its sections"))
+		}
+		for _, sec := range v.Sections {
+			if v.Units[sec] == "" {
+				return nil, at("units", fmt.Errorf("section %q has no unit type", sec))
+			}
+		}
+	} else if len(v.Units) > 0 {
+		return nil, at("units", errors.New("only multi valves name unit types"))
+	}
+	if t.Kind == Regulator {
+		if v.Gas == nil || !(v.Gas.MaintainVolts > 0) || !(v.Gas.StrikeVolts >= v.Gas.MaintainVolts) || !(v.Gas.MaxAmps > v.Gas.MinAmps) || v.Gas.MinAmps < 0 {
+			return nil, at("gas", errors.New("a regulator needs gas: {strike_v, maintain_v, min_a, max_a} with strike ≥ maintain and max > min"))
+		}
+		t.Gas = *v.Gas
+	} else if v.Gas != nil {
+		return nil, at("gas", errors.New("only regulators take gas ratings"))
 	}
 	maxPin := t.Base.PinCount()
 	if maxPin == 0 {
@@ -269,8 +314,18 @@ func (d decoder) buildType(v *valveDoc, vn *yaml.Node, p string, fit bool) (*Typ
 			return nil, d.errAt(pn, pp+".section", fmt.Errorf("section %q not in sections %v", pin.Section, t.Sections))
 		}
 	}
-	if !(t.Heater.Volts > 0) || !(t.Heater.Amps > 0) {
+	if t.Kind == Regulator {
+		if t.Heater != (HeaterRating{}) {
+			return nil, at("heater", errors.New("a gas regulator has a cold cathode and no heater"))
+		}
+	} else if !(t.Heater.Volts > 0) || !(t.Heater.Amps > 0) {
 		return nil, at("heater", errors.New("volts and amps must be positive"))
+	}
+	if !t.Kind.Modelled() {
+		if v.Model != nil || v.Start != nil || v.PerveanceMA != 0 || len(v.Rows) > 0 {
+			return nil, at("kind", fmt.Errorf("a %s type takes no model, perveance or rows", t.Kind))
+		}
+		return t, nil
 	}
 	rowsNode := keyNode(vn, "rows")
 	for i, r := range v.Rows {
@@ -358,6 +413,35 @@ func (d decoder) buildType(v *valveDoc, vn *yaml.Node, p string, fit bool) (*Typ
 	return t, nil
 }
 
+// buildUnit reads a section type of a multi-function valve: name, kind,
+// limits, rows and model; no base, pins or heater (those are the valve's).
+func (d decoder) buildUnit(t *Type, v *valveDoc, vn *yaml.Node, p string, fit bool) (*Type, error) {
+	at := func(key string, err error) error {
+		return d.errAt(keyNode(vn, key), p+"."+key, err)
+	}
+	if v.Base != "" || len(v.Pins) > 0 || v.Heater != (HeaterRating{}) || len(v.Aliases) > 0 || len(v.Sections) > 0 {
+		return nil, at("unit", errors.New("a unit type has no base, pins, heater, aliases or sections: they belong to its valve"))
+	}
+	switch t.Kind {
+	case Triode, Pentode:
+	case Diode:
+		return t, nil
+	default:
+		return nil, at("kind", fmt.Errorf("a unit is a triode, pentode or diode section, not %s", t.Kind))
+	}
+	t.Sections = []string{""}
+	tmp := *v
+	tmp.Unit = false
+	tmp.Base = string(Noval)
+	tmp.Heater = HeaterRating{Volts: 1, Amps: 1}
+	u, err := d.buildType(&tmp, vn, p, fit)
+	if err != nil {
+		return nil, err
+	}
+	u.Unit, u.Base, u.Heater = true, "", HeaterRating{}
+	return u, nil
+}
+
 func checkKoren(kind Kind, k Koren) error {
 	if !(k.Mu > 0) || !(k.KG1 > 0) || !(k.KP > 0) || !(k.KVB > 0) {
 		return errors.New("mu, kg1, kp and kvb must be positive")
@@ -407,6 +491,12 @@ func (t *Type) clone() *Type {
 	c.Sections = append([]string(nil), t.Sections...)
 	c.Pins = append([]Pin(nil), t.Pins...)
 	c.Rows = append([]Row(nil), t.Rows...)
+	if t.Units != nil {
+		c.Units = map[string]string{}
+		for k, v := range t.Units {
+			c.Units[k] = v
+		}
+	}
 	return &c
 }
 
@@ -415,6 +505,9 @@ func (t *Type) clone() *Type {
 func Lookup(name string) (*Type, bool) {
 	key := strings.ToUpper(strings.TrimSpace(name))
 	for _, t := range library().types {
+		if t.Unit {
+			continue
+		}
 		if strings.ToUpper(t.Name) == key {
 			return t.clone(), true
 		}
@@ -431,19 +524,72 @@ func Lookup(name string) (*Type, bool) {
 func Names() []string {
 	var n []string
 	for _, t := range library().types {
-		n = append(n, t.Name)
+		if !t.Unit {
+			n = append(n, t.Name)
+		}
 	}
 	sort.Strings(n)
 	return n
 }
 
-// All returns copies of all library types, in library order.
+// All returns copies of all library types, in library order, without the
+// unit (section) types of multi-function valves.
 func All() []*Type {
 	var out []*Type
 	for _, t := range library().types {
-		out = append(out, t.clone())
+		if !t.Unit {
+			out = append(out, t.clone())
+		}
 	}
 	return out
+}
+
+// Fitted returns copies of every library type that has a fitted model or
+// perveance: triodes, pentodes and rectifiers, the unit (section) types of
+// multi-function valves included, in library order.
+func Fitted() []*Type {
+	var out []*Type
+	for _, t := range library().types {
+		if t.Kind.Modelled() {
+			out = append(out, t.clone())
+		}
+	}
+	return out
+}
+
+// SectionType returns the type that models one section: for a Multi valve
+// a copy of the valve with the kind, model, start, limits and rows of the
+// section's unit type (name, pins, base and heater stay the valve's); for
+// every other type the type itself. side holds the user's side-file types,
+// searched before the library for unit names. It returns nil when a unit
+// cannot be found.
+func (t *Type) SectionType(section string, side []*Type) *Type {
+	if t.Kind != Multi {
+		return t
+	}
+	name := t.Units[section]
+	var u *Type
+	for _, s := range side {
+		if s.Unit && strings.EqualFold(s.Name, name) {
+			u = s
+			break
+		}
+	}
+	if u == nil {
+		for _, s := range library().types {
+			if s.Unit && strings.EqualFold(s.Name, name) {
+				u = s
+				break
+			}
+		}
+	}
+	if u == nil {
+		return nil
+	}
+	c := t.clone()
+	c.Kind, c.Model, c.Start, c.Limits, c.Perveance = u.Kind, u.Model, u.Start, u.Limits, u.Perveance
+	c.Rows = append([]Row(nil), u.Rows...)
+	return c
 }
 
 // LookupDiode finds a silicon diode entry of the library by name (case-insensitive).

@@ -10,7 +10,25 @@ const (
 	Triode    Kind = "triode"
 	Pentode   Kind = "pentode" // pentodes and beam tetrodes share the Koren pentode model
 	Rectifier Kind = "rectifier"
+	// Multi is a valve whose sections are of different kinds (triode-pentode,
+	// diode-triode): each section names a unit type (Type.Units) that holds
+	// its kind, model, limits and rows.
+	Multi Kind = "multi"
+	// Diode is a signal-diode section of a multi-function valve (the
+	// detector diodes of a diode-triode): library data only, no network
+	// device; a design must leave it unused.
+	Diode Kind = "diode"
+	// Regulator is a cold-cathode gas voltage regulator (OA2, OB2, 0D3):
+	// library data (Type.Gas) only, not yet a network device.
+	Regulator Kind = "regulator"
+	// Heptode is a pentagrid converter (6BE6): library data only, not yet a
+	// network device.
+	Heptode Kind = "heptode"
 )
+
+// Modelled reports whether pinwalk can put a section of this kind in the
+// network (triodes, pentodes, rectifier valves).
+func (k Kind) Modelled() bool { return k == Triode || k == Pentode || k == Rectifier }
 
 // Base is the socket a valve plugs into.
 type Base string
@@ -49,6 +67,9 @@ const (
 	Cathode  = "cathode"
 	Heater   = "heater"     // both heater pins carry this name
 	HeaterCT = "heater-ct"  // heater centre tap (noval double triodes, pin 9)
+	Anode    = "anode"      // gas regulator anode
+	Jumper   = "jumper"     // gas regulator internal link (pins tied inside, used to break B+ when the valve is out)
+	OscGrid  = "osc-grid"   // oscillator grid (grid 1) of a pentagrid converter
 	Grid3    = "suppressor" // grid 3 when brought out on its own pin
 	Plates   = "plates"     // rectifier anodes (two pins)
 )
@@ -131,7 +152,23 @@ type Type struct {
 	// I = Perveance · V^1.5 (A/V^1.5).
 	Perveance float64
 	Rows      []Row // datasheet rows the model is fitted to
+	// Units maps each section of a Multi valve to the name of its unit
+	// type; nil otherwise.
+	Units map[string]string
+	// Unit marks a section type of a multi-function valve (named in another
+	// type's Units): Lookup, Names and All leave it out.
+	Unit bool
+	// Gas holds the ratings of a gas regulator; zero otherwise.
+	Gas GasRating
 	// Start is the parameter set the fit is pulled towards: a published
 	// Koren set where one is known, otherwise derived from the rows.
 	Start Koren
+}
+
+// GasRating describes a cold-cathode gas voltage regulator.
+type GasRating struct {
+	StrikeVolts   float64 `yaml:"strike_v"`   // DC supply volts needed to start the discharge
+	MaintainVolts float64 `yaml:"maintain_v"` // operating (burning) voltage across it
+	MinAmps       float64 `yaml:"min_a"`      // smallest current for a stable discharge
+	MaxAmps       float64 `yaml:"max_a"`      // largest continuous current
 }
