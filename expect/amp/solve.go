@@ -354,11 +354,21 @@ func (s *Solver) applyValues(c Conditions, v *Values, heaterVolts map[string]flo
 			lim = max(saturationAmps(sec.Type)*ef, 1e-9)
 		}
 		frac[i] = ef
+		k := v.Koren[i]
+		if saturationAmps(sec.Type)*ef < offAmps {
+			// No emission to speak of (cold, or an open heater): the
+			// section conducts nothing, exactly, rather than a current
+			// capped at a nanoamp, whose capped derivative is lost to
+			// rounding and stalls Newton's method when the grid is near
+			// its cathode (a bias supply that follows the variac).
+			k.KG1, k.KG2 = math.Inf(1), math.Inf(1)
+			lim = 0
+		}
 		if sec.tri != nil {
-			sec.tri.Model = v.Koren[i]
+			sec.tri.Model = k
 			sec.tri.EmissionLimit = lim
 		} else {
-			sec.pen.Model = v.Koren[i]
+			sec.pen.Model = k
 			sec.pen.EmissionLimit = lim
 		}
 	}
@@ -379,6 +389,11 @@ func RectifiedVolts(v0, f float64) float64 {
 	out := math.Max(0, f*(math.Abs(v0)+BiasDiodeDrop)-BiasDiodeDrop)
 	return math.Copysign(out, v0)
 }
+
+// offAmps is the saturation emission below which a section is taken as
+// not conducting at all: 10 nA, far below anything a meter shows on a
+// plate.
+const offAmps = 1e-8
 
 func (m *Model) heaterRated(ref string) float64 {
 	for _, h := range m.Heaters {
@@ -527,6 +542,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	var res supply.Result
 	var err error
 	prevV := math.Inf(1)
+	settled := false
 	for it := 1; it <= 30; it++ {
 		sp.FixedPointIterations = it
 		s.stageLoads(&p, nil)
@@ -547,7 +563,11 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 				rth = max((v0-r2.Nets[0].Vdc)/dI, 0.1)
 			}
 		}
-		vth = v0 + rth*i0
+		// The line's open-circuit volts lie between 0 and the no-load
+		// peak: an emission-limited rectifier (a cool filament on a low
+		// variac setting) that cannot carry the load otherwise throws the
+		// iteration far outside, and the network with it.
+		vth = min(max(v0+rth*i0, 0), 1.05*cold)
 		if err := s.setSource(vth, rth); err != nil {
 			return err
 		}
@@ -556,9 +576,15 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		}
 		vNow := s.sol.V[m.nodeOf[m.HT.Nets[0]]]
 		if math.Abs(vNow-prevV) < 1e-3*max(1, math.Abs(vNow)) && math.Abs(vNow-v0) < 2e-3*max(1, math.Abs(v0)) {
+			settled = true
 			break
 		}
 		prevV = vNow
+	}
+	if !settled && cold > 0 {
+		if vth, rth, res, err = s.bisectSupply(&p, cold); err != nil {
+			return err
+		}
 	}
 	s.stageLoads(&p, sp)
 	for i, net := range m.HT.Nets {
@@ -582,6 +608,76 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	}
 	s.extract(op, hv, frac)
 	return nil
+}
+
+// bisectSupply finds the first filter net's volts where the supply and
+// the network agree when the Thevenin iteration does not settle (an
+// emission-limited valve rectifier on a low variac setting, whose output
+// falls steeply once the load reaches what the cool filament can give).
+// With the network held at V by a stiff source, the supply's output at
+// the network's load falls as V rises and the load grows, so
+// g(V) = Vsupply(load(V)) − V falls monotonically from g(0) ≥ 0 to
+// g(cold peak) ≤ 0: bisection on [0, 1.05·cold] finds its root. The line
+// returned goes through the root with the slope of the last two
+// simulations (at least 0.1 Ω), and the network is left solved on it.
+func (s *Solver) bisectSupply(p *supply.Params, cold float64) (vth, rth float64, res supply.Result, err error) {
+	m := s.m
+	node := m.nodeOf[m.HT.Nets[0]]
+	lo, hi := 0.0, 1.05*cold
+	type eval struct{ i, v float64 }
+	var last [2]eval
+	n := 0
+	for k := 0; k < 40 && hi-lo > 1e-4*max(1, hi); k++ {
+		mid := (lo + hi) / 2
+		if err := s.setSource(mid, minOhms); err != nil {
+			return 0, 0, res, err
+		}
+		if err := s.network(); err != nil {
+			return 0, 0, res, err
+		}
+		s.stageLoads(p, nil)
+		r, err := supply.Simulate(*p, s.sopt)
+		if err != nil && !errors.Is(err, supply.ErrNoSteadyState) {
+			return 0, 0, res, fmt.Errorf("HT supply: %w", err)
+		}
+		load := p.Stages[0].LoadA
+		if err != nil && r.Nets[0].DCAmps < 0.99*load {
+			// No steady state because the rectifier cannot carry this
+			// load at all: the reservoir runs down, the volts collapse.
+			hi = mid
+			continue
+		}
+		res = r
+		last[n%2] = eval{load, r.Nets[0].Vdc}
+		n++
+		if r.Nets[0].Vdc > s.sol.V[node] {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	v := (lo + hi) / 2
+	if n == 0 {
+		// It carries no load at any volts (a filament far too cool to
+		// emit): the supply gives nothing.
+		res = supply.Result{Nets: make([]supply.NetResult, len(p.Stages))}
+		v = 0
+	}
+	rth = 0.1
+	if n >= 2 {
+		if di := last[0].i - last[1].i; di != 0 {
+			rth = max(-(last[0].v-last[1].v)/di, 0.1)
+		}
+	}
+	load := res.Nets[0].DCAmps
+	vth = v + rth*load
+	if err := s.setSource(vth, rth); err != nil {
+		return 0, 0, res, err
+	}
+	if err := s.network(); err != nil {
+		return 0, 0, res, err
+	}
+	return vth, rth, res, nil
 }
 
 // ColdPeakAll records the same cold-start peak on every net (no current
