@@ -94,8 +94,8 @@ type Part struct {
 	Leakage      float64 // capacitors: parallel leakage resistance in ohms, 0 = none
 	Setting      float64 // pots: wiper position 0..1 from end a
 	// MainsFed: a bias or DC supply rectified from a winding of the power
-	// transformer, whose output follows the mains and the variac (the
-	// design's mains-fed: true; a bench supply does not).
+	// transformer, whose output follows the mains and the variac
+	// (mains-fed; default true for bias-supply, false for dc-supply).
 	MainsFed    bool
 	Placeholder []string
 	Terminals   []Terminal

@@ -969,14 +969,11 @@ func (l *loader) part(d *Design, p *Part, n *yaml.Node) bool {
 			p.Value = v
 		}
 		p.Tol = Tolerance{-0.1, 0.1}
-		// A bias supply rectified from a winding of the power transformer
-		// follows the mains and the variac (mains-fed: true); a bench or
-		// regulated supply does not. The default is false for now: with
-		// it on, the fixed-bias demo's grids sit near 0 V while the
-		// heaters are cool, and the network solve does not yet converge
-		// at 10 % mains and at 50 % (the emission cap's derivative loses
-		// all precision when the Koren current is far above the cap).
-		p.MainsFed = false
+		// A bias supply is a winding of the power transformer, rectified:
+		// it follows the mains and the variac unless it says otherwise
+		// (mains-fed: false, a regulated supply); a bench supply
+		// (dc-supply) is regulated and does not, unless it says so.
+		p.MainsFed = kind == BiasSupply
 		if mn, ok := fields["mains-fed"]; ok {
 			if s, ok := l.scalar(mn, field("mains-fed"), "true or false"); ok {
 				switch s {
