@@ -1,0 +1,61 @@
+package procedures
+
+import (
+	"math"
+	"testing"
+	"time"
+)
+
+// The answers of the job questions land in the session's paperwork;
+// figures are parsed and checked, and what cannot be read is refused
+// with what was expected.
+func TestJobAnswers(t *testing.T) {
+	at := fixedNow
+	var s Session
+	for _, c := range []struct{ field, text string }{
+		{FieldCustomer, "job 1042"}, {FieldAmp, "bench build, 2 × 6V6"}, {FieldComplaint, "hums and one side is quiet"},
+		{FieldVisual, "C2 top bulging"}, {FieldVisual + "-2", "ok"},
+		{FieldPart, "C2 100µF 450V, bulging"},
+		{FieldPowerOut + "OT1", "4.5W"}, {FieldSoak, "90"},
+		{FieldEarthBond, "0.08 tester"}, {FieldInsulation, "OL tester"}, {FieldSignOff, "bench technician"},
+	} {
+		if err := s.answer(c.field, c.text, at); err != nil {
+			t.Fatalf("%s %q: %v", c.field, c.text, err)
+		}
+	}
+	j := s.Job
+	if j.Customer != "job 1042" || s.Bench.AmpID == "" || len(j.Visual) != 1 {
+		t.Errorf("intake: %+v, bench %+v", j, s.Bench)
+	}
+	if len(j.Parts) != 1 || j.Parts[0].Ref != "C2" || j.Parts[0].Value != "100µF" || j.Parts[0].Rating != "450V" || j.Parts[0].Reason != "bulging" {
+		t.Errorf("part: %+v", j.Parts)
+	}
+	if len(j.After.PowerOut) != 1 || j.After.PowerOut[0].Watts != 4.5 || j.After.PowerOut[0].Channel != "OT1" {
+		t.Errorf("power out: %+v", j.After.PowerOut)
+	}
+	if j.After.Soak == nil || j.After.Soak.Duration != 90*time.Minute {
+		t.Errorf("soak: %+v", j.After.Soak)
+	}
+	if e := j.After.EarthBond; e == nil || e.Ohms != 0.08 || e.Instrument != EarthBondTester {
+		t.Errorf("earth bond: %+v", e)
+	}
+	if i := j.After.Insulation; i == nil || !math.IsInf(i.Ohms, 1) || i.Instrument != InsulationTester || i.TestVolts != 500 {
+		t.Errorf("insulation: %+v", i)
+	}
+	if j.SignOff == nil || j.SignOff.Name != "bench technician" {
+		t.Errorf("sign-off: %+v", j.SignOff)
+	}
+	for _, bad := range []struct{ field, text string }{
+		{FieldPowerOut + "OT1", "loud"}, {FieldSoak, "a while"}, {FieldEarthBond, "0.08"}, {FieldEarthBond, "0.08 guess"},
+		{FieldInsulation, "-5M tester"}, {FieldPart, "C2"},
+	} {
+		if err := s.answer(bad.field, bad.text, at); err == nil {
+			t.Errorf("%s %q accepted", bad.field, bad.text)
+		}
+	}
+	// A multimeter reading is recorded as one: the sheet calls it an
+	// indication only.
+	if err := s.answer(FieldEarthBond, "0.3 meter", at); err != nil || s.Job.After.EarthBond.Instrument != Multimeter {
+		t.Errorf("multimeter earth bond: %v %+v", err, s.Job.After.EarthBond)
+	}
+}
