@@ -196,7 +196,9 @@ func (b *BenchModel) Set(variac float64, readings []Reading) (*bands.Set, error)
 	by := map[float64][]bands.Reading{}
 	var sig strings.Builder
 	for _, r := range readings {
-		if r.Status == Retry || r.Point.Domain != point.Live {
+		// A reading that fired a stop or a switch-off is a fault, not a
+		// healthy amp's spread: it narrows nothing.
+		if r.Status == Retry || r.Status == Corrected || r.Point.Domain != point.Live || r.Consequence != GoOn || len(r.Pulled) > 0 {
 			continue
 		}
 		if math.IsNaN(r.Value) || math.IsInf(r.Value, 0) {
