@@ -74,14 +74,22 @@ func FaultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault, c
 	hits := make([]bool, len(base))
 	byTo := map[string][]int{} // readings to solve, by the net they are read to
 	var tos []string
+	// Components of the network before the fault, each found once.
+	compOf := map[string]int{}
+	var compHit []bool
 	for i, c := range base {
 		out[i] = c
-		for net := range orig.reach(c.From, "") {
-			if touched[net] {
-				hits[i] = true
-				break
+		ci, ok := compOf[c.From]
+		if !ok {
+			ci = len(compHit)
+			hit := false
+			for net := range orig.reach(c.From, "") {
+				compOf[net] = ci
+				hit = hit || touched[net]
 			}
+			compHit = append(compHit, hit)
 		}
+		hits[i] = compHit[ci]
 		if hits[i] {
 			if _, ok := byTo[c.To]; !ok {
 				tos = append(tos, c.To)

@@ -185,11 +185,10 @@ func (n *network) resistance(from, to string, corner int) (ohms float64, open bo
 }
 
 // resistances is resistance for several nets `from` to one net `to`: one
-// circuit on the nets joined to `to`, built and ordered once, with a
-// current source at each `from` switched on in turn (1 A, the others 0 A),
-// so that a fault's readings cost one solve each rather than one circuit
-// each. The readings equal resistance's: a net not joined to `to` reads
-// open, and the nets outside to's component carry no current either way.
+// circuit on the nets joined to `to`, built and factored once
+// (mna.Circuit.DrivingPoint), one pair of triangular solves per reading.
+// The readings equal resistance's: a net not joined to `to` reads open,
+// and the nets outside to's component carry no current either way.
 func (n *network) resistances(froms []string, to string, corner int) (ohms []float64, open []bool, err error) {
 	ohms = make([]float64, len(froms))
 	open = make([]bool, len(froms))
@@ -215,7 +214,8 @@ func (n *network) resistances(froms []string, to string, corner int) (ohms []flo
 			c.AddResistor(c.Node(e.a), c.Node(e.b), e.scaled(corner))
 		}
 	}
-	src := map[string]int{}
+	var nodes []int
+	var at []int
 	for i, from := range froms {
 		switch {
 		case from == to:
@@ -224,25 +224,18 @@ func (n *network) resistances(froms []string, to string, corner int) (ohms []flo
 			ohms[i], open[i] = math.Inf(1), true
 			continue
 		}
-		if _, ok := src[from]; !ok {
-			src[from] = c.AddISource(0, c.Node(from), 0)
-		}
+		nodes = append(nodes, c.Node(from))
+		at = append(at, i)
 	}
-	opt := mna.DefaultOptions()
-	opt.Gmin = 0
-	var sol mna.Solution
-	for i, from := range froms {
-		h, ok := src[from]
-		if !ok {
-			continue
-		}
-		c.SetSource(h, 1)
-		err := c.Solve(opt, nil, &sol)
-		c.SetSource(h, 0)
-		if err != nil {
-			return nil, nil, fmt.Errorf("cold resistance %s to %s: %w", from, to, err)
-		}
-		ohms[i] = sol.V[c.Node(from)]
+	if len(nodes) == 0 {
+		return ohms, open, nil
+	}
+	rs, err := c.DrivingPoint(nodes)
+	if err != nil {
+		return nil, nil, fmt.Errorf("cold resistance to %s: %w", to, err)
+	}
+	for k, i := range at {
+		ohms[i] = rs[k]
 	}
 	return ohms, open, nil
 }

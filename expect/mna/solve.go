@@ -193,17 +193,17 @@ func (c *Circuit) prepare() {
 	w.valid = true
 }
 
-// symCache holds the symbolic analyses of nonlinear circuits by pattern:
-// every tolerance sample and fault hypothesis of an amplifier builds a
-// circuit of the same topology, and the analysis (ordering and fill) is
-// read-only once made. Linear circuits (cold resistance networks, one
-// solve each, many topologies) are not cached.
+// symCache holds symbolic analyses by pattern: every tolerance sample and
+// fault hypothesis of an amplifier builds a circuit of the same topology
+// (and most faults leave the cold resistance networks' topology alone),
+// and an analysis (ordering and fill) is read-only once made. The cache is
+// emptied when it reaches maxSymCache patterns.
 var (
 	symMu    sync.Mutex
 	symCache = map[string]*symbolic{}
 )
 
-const maxSymCache = 64
+const maxSymCache = 128
 
 func (c *Circuit) symbolicFor(mark []bool) *symbolic {
 	w := &c.ws
@@ -214,9 +214,6 @@ func (c *Circuit) symbolicFor(mark []bool) *symbolic {
 			hasDiag[i] = true
 		}
 		return analyse(mark, s, hasDiag)
-	}
-	if len(c.devs) == 0 {
-		return analyseNow()
 	}
 	key := make([]byte, 0, 4*(len(w.cols)+len(w.rowPtr)+2))
 	key = binary.LittleEndian.AppendUint32(key, uint32(s))

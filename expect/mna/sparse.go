@@ -1,6 +1,10 @@
 package mna
 
-import "math"
+import (
+	"errors"
+	"fmt"
+	"math"
+)
 
 // Sparse LU in a fill-reducing order, with the dense in-place LU (lu.go)
 // as the fallback.
@@ -252,4 +256,51 @@ func (sym *symbolic) solve(vals, b, y []float64) {
 	for k, p := range sym.perm {
 		b[p] = y[k]
 	}
+}
+
+// DrivingPoint returns, for each node, the voltage at that node when 1 A
+// is injected into it from ground and every other node is left alone:
+// the resistance an ideal ohmmeter reads from the node to ground. The
+// circuit must be linear (no devices); sources are ignored and no Gmin is
+// added. The matrix is factored once for all the nodes. A node with no
+// resistive path to ground makes the matrix singular (ErrSingular).
+func (c *Circuit) DrivingPoint(nodes []int) ([]float64, error) {
+	if len(c.devs) > 0 {
+		return nil, errors.New("mna: DrivingPoint needs a linear circuit (no devices)")
+	}
+	for _, n := range nodes {
+		if n <= 0 || n >= len(c.names) {
+			return nil, fmt.Errorf("mna: DrivingPoint: node %d is ground or out of range", n)
+		}
+	}
+	c.prepare()
+	if err := c.stampLinear(); err != nil {
+		return nil, err
+	}
+	w := &c.ws
+	copy(w.vals, w.vbase)
+	sparse := true
+	if _, ok := w.sym.factor(w.vals); !ok {
+		sparse = false
+		copy(w.vals, w.vbase)
+		c.densify()
+		if !luFactor(w.a, w.size, w.piv, w.span) {
+			return nil, ErrSingular
+		}
+	}
+	out := make([]float64, len(nodes))
+	for i, n := range nodes {
+		clear(w.b)
+		w.b[n-1] = 1
+		if sparse {
+			w.sym.solve(w.vals, w.b, w.y)
+		} else {
+			luSolve(w.a, w.size, w.piv, w.span, w.b)
+		}
+		if !finite(w.b[n-1]) {
+			return nil, ErrSingular
+		}
+		out[i] = w.b[n-1]
+	}
+	return out, nil
 }

@@ -602,8 +602,12 @@ const SeparateDPrime = 2.0
 // coldOnly.
 func (e *Engine) separator(a, b *hyp, coldToo, coldOnly bool) int {
 	apart := func(q string, ma, va, mb, vb, loa, hia, lob, hib float64) bool {
+		gap := max(lob-hia, loa-hib)
+		if gap <= 0 && math.Abs(ma-mb) <= SeparateDPrime*math.Sqrt((va+vb)/2) {
+			return false // the reading's σ only widens the spread: no need for it
+		}
 		sg := e.sigma(q, max(math.Abs(ma), math.Abs(mb)))
-		if gap := max(lob-hia, loa-hib); gap > 3*sg {
+		if gap > 3*sg {
 			return true
 		}
 		return math.Abs(ma-mb) > SeparateDPrime*math.Sqrt((va+vb)/2+sg*sg)
