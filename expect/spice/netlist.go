@@ -131,7 +131,7 @@ func export(m *amp.Model, c amp.Conditions, v *amp.Values) (*Netlist, error) {
 		return nil, err
 	}
 	n.windings(m, f)
-	n.parts(m, v)
+	n.parts(m, v, f)
 	n.sections(m, s, c, v)
 	n.heaters(m)
 	// Probes: every net of pinwalk's network, then electrode currents
@@ -398,7 +398,7 @@ func (n *Netlist) heaters(m *amp.Model) {
 }
 
 // parts writes the passive parts and DC sources.
-func (n *Netlist) parts(m *amp.Model, v *amp.Values) {
+func (n *Netlist) parts(m *amp.Model, v *amp.Values, mainsFactor float64) {
 	d := m.D
 	n.section("parts")
 	slot := func(ref, role string) (float64, bool) {
@@ -436,6 +436,11 @@ func (n *Netlist) parts(m *amp.Model, v *amp.Values) {
 			n.resistor(p.Ref+"_wb", t(2), t(1), wb, p.Ref+" wiper to end")
 		case design.BiasSupply, design.DCSupply:
 			volts, _ := slot(p.Ref, "volts")
+			if p.MainsFed {
+				// Rectified from a winding: it follows the mains and
+				// the variac as the solver has it (amp.RectifiedVolts).
+				volts = amp.RectifiedVolts(volts, mainsFactor)
+			}
 			r, _ := slot(p.Ref, "dcr")
 			mid := n.inner(clean(p.Ref) + "_emf")
 			n.line("%s %s %s dc %s", n.elem("V", p.Ref), mid, t(1), num(volts))
