@@ -71,11 +71,17 @@ keys Enter
 wait_for "in band"
 wait_for "Recent readings:"
 save_shot step-reading
-keys Enter
+# A reading in band completes the step: the walk moves on by itself.
 wait_for "Discharge and verify C2"
 typed "400mV"
 keys Enter
-wait_for "step done"
+wait_for "Discharge and verify C3"
+# A charged capacitor stops the walk: the step stays, the screen says why.
+typed "120"
+keys Enter
+wait_for "DO NOT TOUCH"
+wait_for "Discharge and verify C3"
+save_shot stop
 
 keys Tab
 wait_for "Seen from below"
