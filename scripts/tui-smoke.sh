@@ -99,11 +99,10 @@ save_shot amp
 keys Tab
 wait_for "[Step]"
 keys F1
-wait_for "Keys"
-wait_for "retry saving"
+wait_for "Typed commands"
 save_shot help
 keys Escape
-keys C-l
+keys F5
 wait_for "(you are here)"
 save_shot steps
 keys Escape

@@ -12,6 +12,7 @@ import (
 	"pinwalk/expect/point"
 	"pinwalk/procedures"
 	"pinwalk/procedures/infer"
+	"pinwalk/procedures/jobsheet"
 )
 
 // Config is what the program presents.
@@ -36,6 +37,19 @@ type Config struct {
 	// a measuring loop (bring-up, training); nil builds an inference
 	// engine from the design on first use. It runs in a command.
 	Rank func(readings []procedures.Reading) (*infer.Ranking, error)
+	// Start says how the session began, for the first screen and the
+	// commands to resume it (zero: a new session of an unnamed design).
+	Start Start
+}
+
+// Start is how the session began: new or resumed from its file, and the
+// design as the command line named it ("demo", "myamp.yaml").
+type Start struct {
+	Resumed bool
+	// Readings in the session file when it was resumed.
+	Readings int
+	// Design is the DESIGN argument of pinwalk walk ("" takes "DESIGN").
+	Design string
 }
 
 // View indexes.
@@ -127,7 +141,7 @@ func New(cfg Config) Model {
 	if mdl == nil && cfg.Walk.B != nil {
 		mdl = cfg.Walk.B.M
 	}
-	e := &env{run: r, st: st, g: g, keys: keys, labels: map[point.Key]string{}, bands: map[bandKey]bandEntry{}, cfg: &cfg}
+	e := &env{run: r, st: st, g: g, keys: keys, labels: map[point.Key]string{}, lab: labeller(cfg.Walk), bands: map[bandKey]bandEntry{}, cfg: &cfg}
 	e.relabel()
 	h := help.New()
 	h.Styles.ShortKey = st.Label
@@ -141,12 +155,21 @@ func New(cfg Config) Model {
 	h.Ellipsis = g.Ellipsis
 	m := Model{e: e, cfg: cfg, walk: cfg.Walk, ctl: procedures.NewController(cfg.Walk), path: path, help: h,
 		step: newStepView(e), sock: newSocketView(e, mdl), sus: newSuspectsView(e), ov: newOverviewView(e, mdl)}
+	m.step.start = m.startLines(m.w)
 	m.rankFn = cfg.Rank
 	if m.rankFn == nil && cfg.Walk.B != nil {
 		m.rankFn = m.ctl.Ranker()
 	}
 	m.setSize(80, 24)
 	return m
+}
+
+// labeller is the job sheet's labeller for the walk's design.
+func labeller(w *procedures.Walk) *jobsheet.Labeller {
+	if w.B != nil {
+		return jobsheet.NewLabeller(w.B.D)
+	}
+	return jobsheet.NewLabeller(nil)
 }
 
 // relabel maps every measure's point key to its label.
@@ -273,6 +296,9 @@ func (m *Model) setSize(w, h int) {
 	m.sus.SetSize(m.w, bh)
 	m.ov.SetSize(m.w, bh)
 	m.help.Width = m.w
+	if m.step.start != nil {
+		m.step.start = m.startLines(m.w)
+	}
 }
 
 // bodyHeight: the screen less header, tabs, status line and help line.
@@ -411,6 +437,13 @@ func (m Model) key(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 		return m, nil
 	}
 	m.info = ""
+	if m.over == overNone && m.view == viewStep && (k.Type == tea.KeyRunes || k.Type == tea.KeySpace) {
+		// Typed or pasted text goes to the field whole, whatever its
+		// letters: no key binding takes a printable key here.
+		var cmd tea.Cmd
+		m.step.in, cmd = m.step.in.Update(k)
+		return m, cmd
+	}
 	switch m.over {
 	case overQuit:
 		switch {

@@ -7,6 +7,7 @@ import (
 
 	"pinwalk/expect/point"
 	"pinwalk/procedures"
+	"pinwalk/procedures/jobsheet"
 )
 
 // env is what every view reads: the runner (the engine), styles, glyphs,
@@ -19,6 +20,7 @@ type env struct {
 	g      Glyphs
 	keys   KeyMap
 	labels map[point.Key]string // point → label, from the procedure's measures
+	lab    *jobsheet.Labeller   // every other point's label
 	bands  map[bandKey]bandEntry
 	cfg    *Config
 }
@@ -70,12 +72,13 @@ func (e *env) cachedBand(pk point.Key, variac float64) bandEntry {
 	return e.bands[bandKey{pk, variac, len(e.run.Sess.Readings)}]
 }
 
-// label returns a point's label, or the key itself.
+// label returns a point's label: the procedure's own for its measures,
+// else the job sheet's labeller's words (never the key).
 func (e *env) label(pk point.Key) string {
 	if l, ok := e.labels[pk]; ok && l != "" {
 		return l
 	}
-	return pk.String()
+	return e.lab.Label(pk)
 }
 
 // lastReading returns the latest accepted reading of a point in any step.

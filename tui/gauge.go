@@ -180,6 +180,32 @@ func (g Glyphs) cut(s string, width int) string {
 	return ansi.Truncate(s, width, g.Ellipsis)
 }
 
+// cutWords shortens s to at most width cells at a word boundary, with
+// the ellipsis when anything was left off (never in the middle of a word,
+// unless the first word alone is wider than the line).
+func cutWords(s string, width int, ellipsis string) string {
+	if lipgloss.Width(s) <= width {
+		return s
+	}
+	room := width - lipgloss.Width(ellipsis)
+	lead := len(s) - len(strings.TrimLeft(s, " "))
+	out := s[:lead]
+	for _, w := range strings.Fields(s) {
+		next := out + w
+		if out != s[:lead] {
+			next = out + " " + w
+		}
+		if lipgloss.Width(next) > room {
+			break
+		}
+		out = next
+	}
+	if strings.TrimSpace(out) == "" {
+		return ansi.Truncate(s, width, ellipsis)
+	}
+	return out + ellipsis
+}
+
 // wrap breaks text into lines of at most width cells, at spaces.
 func wrap(text string, width int) []string {
 	if width < 8 {

@@ -5,6 +5,7 @@ import (
 	"strings"
 
 	tea "github.com/charmbracelet/bubbletea"
+	"github.com/charmbracelet/lipgloss"
 
 	"pinwalk/expect/amp"
 	"pinwalk/expect/point"
@@ -159,10 +160,19 @@ func (v overviewView) View() string {
 		}
 		line := fmt.Sprintf("  %-8s %-7s %8s %9s %8s %8s  %s %3.0f%% %s", name, v.e.g.cut(sec.Type.Name, 7), v.e.g.compact(so.Va, "V"), v.e.g.compact(so.Ia, "A"), v.e.g.compact(so.Vk, "V"),
 			v.e.g.compact(so.Pa, "W"), bar(g, pct, barW), 100*pct, mark)
+		scr := ""
 		if sec.Pentode && sec.Type.Limits.ScreenWatts > 0 {
-			line += fmt.Sprintf("  screen %s (%.0f%%)", v.e.g.compact(so.Pg2, "W"), 100*so.Pg2/sec.Type.Limits.ScreenWatts)
+			scr = fmt.Sprintf("screen %s (%.0f%%)", v.e.g.compact(so.Pg2, "W"), 100*so.Pg2/sec.Type.Limits.ScreenWatts)
 		}
-		lines = append(lines, style.Render(v.e.g.cut(line, w)))
+		switch {
+		case scr != "" && lipgloss.Width(line)+2+lipgloss.Width(scr) <= w:
+			lines = append(lines, style.Render(line+"  "+scr))
+		case scr != "":
+			// The screen's share on a line of its own, under the plate's.
+			lines = append(lines, style.Render(v.e.g.cut(line, w)), style.Render(v.e.g.cut(strings.Repeat(" ", 11)+scr, w)))
+		default:
+			lines = append(lines, style.Render(v.e.g.cut(line, w)))
+		}
 	}
 
 	if len(op.Windings) > 0 {

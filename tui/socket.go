@@ -201,7 +201,10 @@ func (v socketView) View() string {
 	w := max(20, v.w)
 	head := fmt.Sprintf("%s %s  %s %s (%s)  %d of %d  %s", g.Left, s.Title.Render(sv.Ref), g.Dot, sv.Type, sv.Base, v.sel+1, len(v.vs), g.Right)
 	sub := "Seen from below (wiring side), pins clockwise from the " + map[bool]string{true: "key", false: "gap"}[sv.Base == valves.Octal] + ". ~ expected, plain = measured."
-	lines := []string{v.e.g.cut(head, w), s.Dim.Render(v.e.g.cut(sub, w))}
+	lines := []string{v.e.g.cut(head, w)}
+	for _, l := range wrap(sub, w) {
+		lines = append(lines, s.Dim.Render(l))
+	}
 
 	drawing := v.drawing(sv)
 	table := v.table(sv, w)
@@ -233,7 +236,9 @@ func (v socketView) View() string {
 		lines = append(lines, table...)
 	default:
 		lines = append(lines, drawing...)
-		lines = append(lines, s.Dim.Render(v.e.g.cut(fmt.Sprintf("%s in band  %s out of band  %s re-measure  %s not yet %s a taller or wider screen shows the table", g.InBand, g.OutOfBand, g.Retry, g.NotYet, g.Dot), w)))
+		for _, l := range wrap(fmt.Sprintf("%s in band  %s out of band  %s re-measure  %s not yet %s a taller or wider screen shows the table", g.InBand, g.OutOfBand, g.Retry, g.NotYet, g.Dot), w) {
+			lines = append(lines, s.Dim.Render(l))
+		}
 	}
 	if len(lines) > v.h && v.h > 0 {
 		lines = lines[:v.h]

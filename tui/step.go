@@ -10,6 +10,7 @@ import (
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/lipgloss"
 
+	"pinwalk/expect/point"
 	"pinwalk/procedures"
 )
 
@@ -26,7 +27,10 @@ const (
 // where to probe, the expected band as a gauge, the value input and the
 // last readings.
 type stepView struct {
-	e      *env
+	e *env
+	// start is the first screen's word on the session (new or resumed,
+	// its file), shown until the first action.
+	start  []string
 	w, h   int
 	in     textinput.Model
 	mode   inputMode
@@ -205,11 +209,18 @@ func (v *stepView) acted(a procedures.Action, s procedures.State, err error) {
 		bad = bad || vd.Reading.Status == procedures.OutOfBand || vd.Reading.Status == procedures.Retry || vd.Reading.Consequence != procedures.GoOn
 		v.last = vd
 	}
-	parts = append(parts, s.Said...)
+	for _, said := range s.Said {
+		// A stop's or a switch-off's own words are in the banner above.
+		if s.Last != nil && s.Last.Reading.Consequence != procedures.GoOn && said == s.Last.Reading.Said {
+			continue
+		}
+		parts = append(parts, said)
+	}
 	if err != nil {
 		parts = append(parts, err.Error())
 	}
-	v.say(strings.Join(parts, " "+v.e.g.Dot+" "), bad)
+	v.start = nil
+	v.say(v.e.words(strings.Join(parts, " "+v.e.g.Dot+" ")), bad)
 }
 
 // readingError words a rejected reading.
@@ -220,7 +231,10 @@ func readingError(text string, err error) string {
 	return fmt.Sprintf("cannot read %q: %v", text, err)
 }
 
-// View draws the step.
+// View draws the step. At any size the instruction, where to probe and
+// any stop in force are drawn whole (wrapped, never cut): the step's
+// hazard folds to one line after the briefing, and the recent readings
+// get what is left.
 func (v stepView) View() string {
 	r := v.e.run
 	s, g := v.e.st, v.e.g
@@ -229,7 +243,6 @@ func (v stepView) View() string {
 		return "no steps"
 	}
 	w := max(20, v.w)
-	// Fixed parts first, then the instruction and history share what is left.
 	title := fmt.Sprintf("Step %d of %d %s %s", r.CurrentIndex()+1, len(r.Proc.Steps), g.Dot, st.Title)
 	state := ""
 	switch {
@@ -247,17 +260,40 @@ func (v stepView) View() string {
 	if st.Live && st.Variac > 0 && st.Variac < 1 {
 		state += fmt.Sprintf(" %s variac %.0f %%", g.Dot, 100*st.Variac)
 	}
-	top := []string{joinEnds(s.Title.Render(v.e.g.cut(title, w-lipgloss.Width(state)-2)), s.Warn.Render(state), w)}
+	if lipgloss.Width(state) > w/2 {
+		state = g.cut(state, w/2)
+	}
+	var top []string
+	if lipgloss.Width(title)+lipgloss.Width(state)+2 <= w {
+		top = []string{joinEnds(s.Title.Render(title), s.Warn.Render(state), w)}
+	} else {
+		tl := wrap(title, w-lipgloss.Width(state)-2)
+		top = append(top, joinEnds(s.Title.Render(tl[0]), s.Warn.Render(state), w))
+		for _, l := range tl[1:] {
+			top = append(top, s.Title.Render(l))
+		}
+	}
+	if v.start != nil {
+		for _, l := range v.start {
+			top = append(top, s.Prompt.Render(l))
+		}
+	}
+
+	halt := st.Kind == procedures.KindPowerDown && r.PendingHalt() != nil
+	alert := v.alertLines(st, w, halt)
 
 	var mid []string
 	if b := r.Blockers(st); len(b) > 0 && !r.Done(st.ID) {
-		mid = append(mid, s.Bad.Render(g.OutOfBand+" NOT YET: first "+strings.Join(b, ", ")))
+		for _, l := range wrap(g.OutOfBand+" NOT YET: first "+strings.Join(b, ", "), w) {
+			mid = append(mid, s.Bad.Render(l))
+		}
 	}
 	m := r.NextMeasure()
 	shown := m
 	if shown == nil && len(st.Measures) > 0 {
 		shown = &st.Measures[len(st.Measures)-1]
 	}
+	var note []string
 	if shown != nil {
 		n := 0
 		for i := range st.Measures {
@@ -269,18 +305,23 @@ func (v stepView) View() string {
 		if shown.Range != "" {
 			meter += ", " + shown.Range
 		}
-		mid = append(mid, v.e.g.cut(s.Label.Render(fmt.Sprintf("Reading %d of %d: ", n, len(st.Measures)))+shown.Label+meter, w))
+		head := fmt.Sprintf("Reading %d of %d: ", n, len(st.Measures))
+		rl := wrapHanging(head+shown.Label+meter, w, 2)
+		mid = append(mid, s.Label.Render(head)+strings.TrimPrefix(rl[0], head))
+		mid = append(mid, rl[1:]...)
 		if shown.Probes != "" {
-			for _, l := range wrap("Probes: "+shown.Probes, w) {
-				mid = append(mid, l)
-			}
+			mid = append(mid, wrapHanging("Probes: "+shown.Probes, w, 8)...)
 		}
-		mid = append(mid, v.gaugeLines(st, shown, w)...)
-	} else {
-		mid = append(mid, s.Dim.Render("No reading: do what the step says, then press Enter to confirm it."))
+		var gl []string
+		gl, note = v.gaugeLines(st, shown, w)
+		mid = append(mid, gl...)
+	} else if !halt {
+		mid = append(mid, wrap("No reading: do what the step says, then press Enter to confirm it.", w)...)
 	}
 	if v.mode == modeReading && v.in.Value() == "" {
 		switch {
+		case halt:
+			v.in.Placeholder = " y (or Enter) once it is off and unplugged"
 		case m == nil:
 			v.in.Placeholder = " Enter confirms the step"
 		case v.predicting(m):
@@ -289,48 +330,59 @@ func (v stepView) View() string {
 			v.in.Placeholder = " the meter's reading, then Enter"
 		}
 	}
-	mid = append(mid, v.in.View())
+	input := []string{v.in.View()}
+	var msg []string
 	if v.msg != "" {
 		style := s.Good
 		if v.msgBad {
 			style = s.Bad
 		}
 		for _, l := range wrap(v.msg, w) {
-			mid = append(mid, style.Render(l))
+			msg = append(msg, style.Render(l))
 		}
 	}
-	if st.Live && v.last != nil && v.last.Reading.Status == procedures.OutOfBand && len(st.StopIf) > 0 {
-		mid = append(mid, s.Bad.Render(v.e.g.cut("SWITCH OFF if: "+strings.Join(st.StopIf, "; "), w)))
+	if st.Live && !halt && v.last != nil && v.last.Reading.Status == procedures.OutOfBand && len(st.StopIf) > 0 {
+		for _, l := range wrap("SWITCH OFF if: "+strings.Join(st.StopIf, "; "), w) {
+			msg = append(msg, s.Bad.Render(l))
+		}
 	}
 	if r.Finished() {
-		mid = append(mid, v.finishLines(w)...)
+		msg = append(msg, v.finishLines(w)...)
 	}
 
-	// The caution box gets what the fixed parts leave, less one line for
-	// the instruction, but never less than its heading and two lines.
-	box := v.cautionBox(st, w, max(5, v.h-len(top)-len(mid)-1))
-	boxLines := strings.Split(box, "\n")
-	if box == "" {
-		boxLines = nil
-	}
-	left := v.h - len(top) - len(boxLines) - len(mid)
-	instr := wrap(st.Instruction, w)
-	if r.Training && st.Why != "" {
-		instr = append(instr, wrap("Why: "+st.Why, w)...)
-	}
-	if left < len(instr) {
-		keep := max(1, left)
-		if keep < len(instr) {
-			instr = append(instr[:keep-1:keep-1], v.e.g.cut(instr[keep-1], w-16)+" (^E: all)")
+	var instr []string
+	if !halt {
+		instr = wrap(st.Instruction, w)
+		if r.Training && st.Why != "" {
+			instr = append(instr, wrap("Why: "+v.e.words(st.Why), w)...)
 		}
 	}
-	left -= len(instr)
+	fixed := len(top) + len(alert) + len(instr) + len(mid) + len(input) + len(msg)
+	// The hazard: the whole caution box on the briefing and on a narrow
+	// screen's first steps, one line after the briefing (F4 shows all).
+	var haz []string
+	if !halt {
+		if v.folded(st) {
+			haz = v.hazardLine(st, w)
+		} else if box := v.cautionBox(st, w, max(5, v.h-fixed)); box != "" {
+			haz = strings.Split(box, "\n")
+		}
+	}
+	left := v.h - fixed - len(haz)
+	if left < len(note) {
+		note = nil // the band's note gives way first (F4 has the step in full)
+	}
+	left -= len(note)
 	hist := v.history(w, left-1)
 
 	out := append([]string{}, top...)
-	out = append(out, boxLines...)
+	out = append(out, haz...)
+	out = append(out, alert...)
 	out = append(out, instr...)
 	out = append(out, mid...)
+	out = append(out, note...)
+	out = append(out, input...)
+	out = append(out, msg...)
 	if len(hist) > 0 {
 		out = append(out, s.Dim.Render("Recent readings:"))
 		out = append(out, hist...)
@@ -339,6 +391,130 @@ func (v stepView) View() string {
 		out = out[:v.h]
 	}
 	return strings.Join(out, "\n")
+}
+
+// folded: the step's cautions fold to one line once the safety briefing
+// is done (the briefing itself shows them whole).
+func (v stepView) folded(st *procedures.Step) bool {
+	if st.Kind == procedures.KindBriefing {
+		return false
+	}
+	for _, s := range v.e.run.Proc.Steps {
+		if s.Kind == procedures.KindBriefing {
+			return v.e.run.Done(s.ID)
+		}
+	}
+	return true
+}
+
+// shortCaution is each standing caution in a few words, for the folded
+// hazard line; the full text is one key away.
+var shortCaution = map[string]string{
+	procedures.LiveCaution:      "lethal B+ and mains, caps stay charged · one hand, shrouded probes",
+	procedures.UnpluggedCaution: "plug out · caps may hold charge: treat every node as live",
+	procedures.DischargeCaution: "discharge through a resistor, never a screwdriver",
+	procedures.VariacCaution:    "variac and lamp limiter, load on the output",
+	procedures.EarthCaution:     "meter continuity is only an indication",
+	procedures.DummyLoadCaution: "load on every output",
+	procedures.GeneratorCaution: "generator from its minimum",
+}
+
+// hazardLine is the folded caution: LIVE or UNPLUGGED, each caution in a
+// few words, and the key for the full text; wrapped, never cut.
+func (v stepView) hazardLine(st *procedures.Step, w int) []string {
+	if len(st.Cautions) == 0 && !st.Live {
+		return nil
+	}
+	s, g := v.e.st, v.e.g
+	head := "CAUTION"
+	if st.Live {
+		head = "DANGER LIVE"
+	} else if st.HasCaution("Unplug") {
+		head = "UNPLUGGED"
+	}
+	parts := []string{head}
+	for _, c := range st.Cautions {
+		sc, ok := shortCaution[c]
+		if !ok {
+			sc = firstWords(c, 40)
+		}
+		if c == procedures.UnpluggedCaution && head == "UNPLUGGED" {
+			sc = strings.TrimPrefix(sc, "plug out · ")
+		}
+		parts = append(parts, sc)
+	}
+	parts = append(parts, v.e.keys.Detail.Help().Key+" all cautions")
+	text := g.Warning + " " + strings.Join(parts, " "+g.Dot+" ")
+	var out []string
+	for _, l := range wrapHanging(text, w, 2) {
+		out = append(out, s.Bad.Render(l))
+	}
+	return out
+}
+
+// firstWords is a caution's first clause, ended at a word, at most n
+// cells (with an ellipsis when it goes on: the full text is one key away).
+func firstWords(c string, n int) string {
+	if i := strings.IndexAny(c, ".:;"); i > 0 {
+		c = c[:i]
+	}
+	ws := strings.Fields(c)
+	out := ""
+	for _, w := range ws {
+		if lipgloss.Width(out)+1+lipgloss.Width(w) > n {
+			return out + "…"
+		}
+		if out != "" {
+			out += " "
+		}
+		out += w
+	}
+	return out
+}
+
+// alertLines is the banner of what the walk says must happen now: the
+// SWITCH OFF NOW step with its reason, and every stop in force with the
+// words the reading's rule said; wrapped in a heavy box, never cut.
+func (v stepView) alertLines(st *procedures.Step, w int, halt bool) []string {
+	r := v.e.run
+	s, g := v.e.st, v.e.g
+	inner := w - 4
+	var lines []string
+	if halt {
+		h := r.PendingHalt()
+		lines = append(lines, s.Bad.Render(g.Warning+" SWITCH OFF NOW "+g.Warning+" variac to zero, switch off, unplug"))
+		for _, l := range wrap(v.e.words(h.Why), inner) {
+			lines = append(lines, s.Bad.Render(l))
+		}
+		lines = append(lines, wrap("Its capacitors are charged: the walk asks you to discharge them again. Then type y (or Enter) to confirm it is off.", inner)...)
+	}
+	for _, rd := range r.Stops() {
+		where := ""
+		if rd.Step != st.ID {
+			if i := r.Proc.Step(rd.Step); i != nil {
+				where = " (step " + i.Title + ")"
+			}
+		}
+		said := rd.Said
+		if said == "" {
+			said = "this reading stops the walk until it is measured again."
+		}
+		lines = append(lines, s.Bad.Render(wrap(g.OutOfBand+" STOP: "+v.e.label(rd.Point)+where, inner)[0]))
+		for _, l := range wrap(v.e.words(said), inner) {
+			lines = append(lines, s.Bad.Render(l))
+		}
+		how := "Measure again: type again VALUE (or the new reading)."
+		if rd.Point.Domain != point.Discharge {
+			how += " override REASON lets it through where the rule allows."
+		}
+		if rd.Step == st.ID {
+			lines = append(lines, wrap(how, inner)...)
+		}
+	}
+	if len(lines) == 0 {
+		return nil
+	}
+	return strings.Split(s.Alert.Width(w-2).Render(strings.Join(lines, "\n")), "\n")
 }
 
 // cautionBox draws the step's cautions in a bordered box headed DANGER on
@@ -361,28 +537,28 @@ func (v stepView) cautionBox(st *procedures.Step, w, height int) string {
 	for _, c := range st.Cautions {
 		lines = append(lines, wrap(c, inner)...)
 	}
-	// A box taller than a third of the screen is cut, never dropped: the
-	// heading stays, the rest is one key away.
+	// A box too tall for the screen is cut, never dropped: the heading
+	// stays, the rest is one key away.
 	limit := height - 2
 	if len(lines) > limit {
-		lines = append(lines[:limit-1:limit-1], s.Bad.Render("more cautions below: Ctrl+E (^E) shows them all"))
+		lines = append(lines[:limit-1:limit-1], s.Bad.Render("more cautions: "+v.e.keys.Detail.Help().Key+" shows them all"))
 	}
 	return style.Width(w - 2).Render(strings.Join(lines, "\n"))
 }
 
 // gaugeLines draws the expected band of a measure (or the prediction
 // prompt in training), with the latest reading marked.
-func (v stepView) gaugeLines(st *procedures.Step, m *procedures.Measure, w int) []string {
+func (v stepView) gaugeLines(st *procedures.Step, m *procedures.Measure, w int) (lines, note []string) {
 	s := v.e.st
 	if v.predicting(m) && v.mode == modeReading {
-		return []string{
-			s.Prompt.Render("What do you expect " + m.Label + " to read?"),
-			s.Dim.Render("Type your estimate; the expected band is shown after it."),
+		for _, l := range wrap("What do you expect "+m.Label+" to read?", w) {
+			lines = append(lines, s.Prompt.Render(l))
 		}
+		return append(lines, s.Dim.Render("Type your estimate; the expected band is shown after it.")), nil
 	}
 	be := v.e.cachedBand(m.Point, st.Variac)
 	if be.Pending {
-		return []string{s.Dim.Render("working out the expected band " + v.e.g.Ellipsis)}
+		return []string{s.Dim.Render("working out the expected band " + v.e.g.Ellipsis)}, nil
 	}
 	if !be.Has {
 		// A reading just taken moves the conditioning; fall back to the
@@ -390,7 +566,7 @@ func (v stepView) gaugeLines(st *procedures.Step, m *procedures.Measure, w int) 
 		if rd := v.e.run.Last(st.ID, m.Point); rd != nil && rd.High > rd.Low {
 			be = bandEntry{Band: procedures.Band{Nominal: rd.Nominal, Low: rd.Low, High: rd.High}, Has: true}
 		} else {
-			return []string{s.Dim.Render("no expected value for this point: the reading is recorded as typed")}
+			return []string{s.Dim.Render("no expected value for this point: the reading is recorded as typed")}, nil
 		}
 	}
 	mk := gaugeMarks{}
@@ -405,11 +581,13 @@ func (v stepView) gaugeLines(st *procedures.Step, m *procedures.Measure, w int) 
 		val := gu.Value
 		mk.Guess = &val
 	}
-	lines := gauge(s, v.e.g, w, be.Band, m.Unit, mk)
+	lines = gauge(s, v.e.g, w, be.Band, m.Unit, mk)
 	if be.Band.Note != "" {
-		lines = append(lines, s.Dim.Render(v.e.g.cut("note: "+be.Band.Note, w)))
+		for _, l := range wrapHanging("note: "+v.e.words(be.Band.Note), w, 6) {
+			note = append(note, s.Dim.Render(l))
+		}
 	}
-	return lines
+	return lines, note
 }
 
 // history lists the latest readings of the session, newest first.

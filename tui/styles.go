@@ -22,6 +22,7 @@ type Glyphs struct {
 	Left, Right, UpDown                             string // arrow keys in headings and hints
 	Cursor                                          string // the input's cursor when colour is off
 	Sep                                             string // between hints in the help line
+	Warning                                         string // heads the folded hazard line and the stop banner
 	ASCII                                           bool   // values are spelled in ASCII (4.7 kohm, 2 uA)
 }
 
@@ -34,6 +35,7 @@ func UnicodeGlyphs() Glyphs {
 		Rule: "─", BandRule: "═", EndL: "├", EndR: "┤", BandL: "[", BandR: "]",
 		Arrow: "→", Ellipsis: "…", Dot: "·", Key: "▲",
 		Dash: "—", To: "–", Left: "←", Right: "→", UpDown: "↑/↓", Cursor: "█", Sep: " • ",
+		Warning: "▲",
 	}
 }
 
@@ -46,6 +48,7 @@ func ASCIIGlyphs() Glyphs {
 		Rule: "-", BandRule: "=", EndL: "|", EndR: "|", BandL: "[", BandR: "]",
 		Arrow: "->", Ellipsis: "...", Dot: ".", Key: "^",
 		Dash: "-", To: "..", Left: "<-", Right: "->", UpDown: "up/down", Cursor: "_", Sep: " | ", ASCII: true,
+		Warning: "!!",
 	}
 }
 
@@ -65,6 +68,7 @@ type Styles struct {
 	Warn     lipgloss.Style
 	Danger   lipgloss.Style // box around cautions on live steps
 	Caution  lipgloss.Style // box around cautions on other steps
+	Alert    lipgloss.Style // box around a stop in force and SWITCH OFF NOW
 	Overlay  lipgloss.Style
 	Status   lipgloss.Style
 	StatusEr lipgloss.Style
@@ -90,6 +94,7 @@ func DefaultStyles(r *lipgloss.Renderer) *Styles {
 	s.Warn = r.NewStyle().Foreground(fg("#8a5a00", "#ffc34d"))
 	s.Danger = r.NewStyle().Border(lipgloss.DoubleBorder()).BorderForeground(fg("#a00000", "#ff5f5f")).Padding(0, 1)
 	s.Caution = r.NewStyle().Border(lipgloss.NormalBorder()).BorderForeground(fg("#8a5a00", "#ffc34d")).Padding(0, 1)
+	s.Alert = r.NewStyle().Border(lipgloss.ThickBorder()).BorderForeground(fg("#a00000", "#ff5f5f")).Padding(0, 1)
 	s.Overlay = r.NewStyle().Border(lipgloss.RoundedBorder()).Padding(0, 1)
 	s.Status = r.NewStyle().Foreground(fg("#444444", "#bcbcbc"))
 	s.StatusEr = r.NewStyle().Bold(true).Foreground(fg("#a00000", "#ff6b6b"))
@@ -105,6 +110,7 @@ func (s *Styles) asciiBorders() {
 	n := lipgloss.Border{Top: "-", Bottom: "-", Left: "|", Right: "|", TopLeft: "+", TopRight: "+", BottomLeft: "+", BottomRight: "+"}
 	s.Danger = s.Danger.Border(b)
 	s.Caution = s.Caution.Border(n)
+	s.Alert = s.Alert.Border(lipgloss.Border{Top: "!", Bottom: "!", Left: "!", Right: "!", TopLeft: "!", TopRight: "!", BottomLeft: "!", BottomRight: "!"})
 	s.Overlay = s.Overlay.Border(n)
 }
 

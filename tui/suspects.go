@@ -6,8 +6,10 @@ import (
 
 	"github.com/charmbracelet/bubbles/key"
 	tea "github.com/charmbracelet/bubbletea"
+	"github.com/charmbracelet/lipgloss"
 
 	"pinwalk/expect/point"
+	"pinwalk/procedures"
 	"pinwalk/procedures/infer"
 )
 
@@ -86,9 +88,10 @@ func (v suspectsView) View() string {
 	}
 	lines = append(lines, s.Title.Render(head))
 	if !rk.Fits && rk.FitNote != "" {
-		note := wrap(g.OutOfBand+" NO SINGLE FAULT FITS: "+rk.FitNote, w)
+		note := wrap(g.OutOfBand+" NO SINGLE FAULT FITS: "+v.e.words(rk.FitNote), w)
 		if len(note) > 3 {
-			note = append(note[:2:2], v.e.g.cut(note[2], w-16)+" (^E: all)")
+			more := " (" + v.e.keys.Detail.Help().Key + ": all)"
+			note = append(note[:2:2], cutWords(note[2], w-lipgloss.Width(more), g.Ellipsis)+more)
 		}
 		for _, l := range note {
 			lines = append(lines, s.Bad.Render(l))
@@ -99,9 +102,17 @@ func (v suspectsView) View() string {
 		if p.Live {
 			live = "LIVE"
 		}
-		lines = append(lines, s.Label.Render(v.e.g.cut(fmt.Sprintf("Next: %s (%s) %s %.2f bits %s ^G goes there", p.Label, live, g.Dot, p.GainBits, g.Dot), w)))
+		gain := gainWords(p.GainBits)
+		if v.e.run.Sess.Mode == procedures.FaultFind || v.e.run.Sess.Mode == procedures.BringUp {
+			gain += fmt.Sprintf(" (%.2f bits)", p.GainBits)
+		}
+		for _, l := range wrapHanging(fmt.Sprintf("Next: %s (%s) %s %s %s %s goes there", v.e.words(p.Label), live, g.Dot, gain, g.Dot, v.e.keys.GoSuggested.Help().Key), w, 6) {
+			lines = append(lines, s.Label.Render(l))
+		}
 		if p.Setup != "" {
-			lines = append(lines, s.Dim.Render(v.e.g.cut("  "+p.Setup, w)))
+			for _, l := range wrapHanging("  "+v.e.words(p.Setup), w, 2) {
+				lines = append(lines, s.Dim.Render(l))
+			}
 		}
 	} else {
 		lines = append(lines, s.Dim.Render("No measurement left that would tell the suspects apart."))
@@ -135,7 +146,7 @@ func (v suspectsView) View() string {
 			if j == nwhy {
 				break
 			}
-			body = append(body, s.Dim.Render(v.e.g.cut("      "+why, w)))
+			body = append(body, s.Dim.Render(cutWords("      "+v.e.words(why), w, g.Ellipsis)))
 		}
 	}
 	var groups []string
@@ -144,9 +155,11 @@ func (v suspectsView) View() string {
 			continue
 		}
 		line := fmt.Sprintf("group %d, no reading tells these apart: %s", i+1, strings.Join(gr, " = "))
-		groups = append(groups, v.e.g.cut(line, w))
+		groups = append(groups, wrapHanging(line, w, 2)...)
 		if i < len(rk.GroupNotes) && rk.GroupNotes[i] != "" {
-			groups = append(groups, s.Dim.Render(v.e.g.cut("  "+rk.GroupNotes[i], w)))
+			for _, l := range wrapHanging("  "+v.e.words(rk.GroupNotes[i]), w, 2) {
+				groups = append(groups, s.Dim.Render(l))
+			}
 		}
 	}
 	if len(groups) > 0 {

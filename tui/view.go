@@ -42,7 +42,7 @@ func (m Model) View() string {
 		bl = append(bl, "")
 	}
 	lines = append(lines, bl...)
-	lines = append(lines, m.statusLine(), m.e.g.cut(m.help.ShortHelpView(m.shortHelp()), m.w))
+	lines = append(lines, m.statusLine(), m.footer())
 	// Last, what the engine and the design say (µF in a label, an en
 	// dash in a note) is spelled in ASCII too.
 	if m.cfg.ASCII {
@@ -53,21 +53,22 @@ func (m Model) View() string {
 	return strings.Join(lines, "\n")
 }
 
-// hint is a binding with a shorter description for the help line.
+// hint is a binding with a shorter description for the foot line.
 func hint(b key.Binding, desc string) key.Binding {
 	b.SetHelp(b.Help().Key, desc)
 	return b
 }
 
-// shortHelp is the help line for what is on screen: the keys that act
-// there, with short words. Letters are readings, so every command on the
-// step view is a Ctrl key (^K is Ctrl+K).
+// shortHelp is the foot line's keys for what is on screen, with short
+// words. Letters and spaces are readings and typed commands, so every
+// key here is a function key, Tab, Enter, Esc or an arrow.
 func (m Model) shortHelp() []key.Binding {
 	k := m.e.keys
-	quit, help, next := hint(k.Quit, "quit"), hint(k.Help, "help"), hint(k.NextView, "next view")
+	quit, help, next := hint(k.Quit, "quit"), hint(k.Help, "help"), hint(k.NextView, "views")
 	switch m.over {
 	case overHelp:
-		return []key.Binding{hint(k.Cancel, "close"), quit}
+		ud := key.NewBinding(key.WithKeys("up", "down"), key.WithHelp(m.e.g.UpDown, "scroll"))
+		return []key.Binding{ud, hint(k.Cancel, "close"), quit}
 	case overQuit:
 		if m.saveErr != nil {
 			return []key.Binding{hint(k.Yes, "save again, quit if it works"), hint(k.No, "stay"), k.RetrySave}
@@ -83,18 +84,32 @@ func (m Model) shortHelp() []key.Binding {
 	switch m.view {
 	case viewSockets:
 		lr := key.NewBinding(key.WithKeys("left", "right"), key.WithHelp(m.e.g.Left+"/"+m.e.g.Right, "other valve"))
-		return []key.Binding{lr, next, hint(k.Steps, "steps"), help, quit}
+		return []key.Binding{help, lr, hint(k.Steps, "steps"), next, quit}
 	case viewSuspects:
 		ud := key.NewBinding(key.WithKeys("up", "down"), key.WithHelp(m.e.g.UpDown, "scroll"))
-		return []key.Binding{hint(k.GoSuggested, "go to suggested"), hint(k.Detail, "all reasons"), ud, next, help, quit}
+		return []key.Binding{help, hint(k.GoSuggested, "go to suggested"), hint(k.Detail, "all reasons"), ud, next, quit}
 	case viewAmp:
-		return []key.Binding{next, hint(k.PrevView, "back"), hint(k.Steps, "steps"), help, quit}
+		return []key.Binding{help, hint(k.Steps, "steps"), next, hint(k.PrevView, "back"), quit}
 	}
 	if m.step.mode != modeReading {
 		return []key.Binding{hint(k.Enter, "save"), hint(k.Cancel, "cancel"), quit}
 	}
-	return []key.Binding{hint(k.Enter, "record"), hint(k.Skip, "skip"), hint(k.Detail, "full text"), hint(k.Steps, "steps"),
-		hint(k.NextView, "views"), help, quit}
+	return []key.Binding{help, hint(k.Skip, "skip"), hint(k.Note, "note"), hint(k.Detail, "full text"), hint(k.Steps, "steps"), next, quit}
+}
+
+// footer is the foot line: on the step view, what the field takes on
+// the left, the keys on the right; elsewhere the keys alone.
+func (m Model) footer() string {
+	h := m.help
+	h.ShortSeparator = "  "
+	keys := h.ShortHelpView(m.shortHelp())
+	if m.over == overNone && m.view == viewStep && m.step.mode == modeReading {
+		lead := m.e.st.Dim.Render("type a value or a command │ ")
+		if lipgloss.Width(lead)+lipgloss.Width(keys) <= m.w {
+			keys = lead + keys
+		}
+	}
+	return m.e.g.cut(keys, m.w)
 }
 
 // body is the current view, or the overlay over it.
@@ -102,7 +117,7 @@ func (m Model) body() string {
 	bh := m.bodyHeight()
 	switch m.over {
 	case overHelp:
-		return m.place(m.helpBox(), bh)
+		return m.scrolled(m.helpLines(m.w), bh)
 	case overQuit:
 		return m.place(m.quitBox(), bh)
 	case overSteps:
@@ -163,7 +178,7 @@ func (m Model) statusLine() string {
 	case m.path == "":
 		save = s.Warn.Render("not saved to a file (no session path)")
 	case m.saveErr != nil:
-		save = s.StatusEr.Render(g.OutOfBand + " NOT SAVED (kept in memory; ^R retries): " + m.saveErr.Error())
+		save = s.StatusEr.Render(g.OutOfBand + " NOT SAVED (kept in memory; F9 saves again): " + m.saveErr.Error())
 	case m.saving || m.dirty:
 		save = s.Status.Render("saving " + g.Ellipsis)
 	default:
@@ -176,41 +191,152 @@ func (m Model) statusLine() string {
 	return m.e.g.cut(line, m.w)
 }
 
-func (m Model) helpBox() string {
+// helpLines is the help overlay: every key of the key map by group, and
+// beside them (or under them on a narrow screen) every typed command of
+// this mode from procedures.CommandHelp, the same list plain mode prints.
+func (m Model) helpLines(w int) []string {
 	s := m.e.st
 	h := m.help
-	h.Width = 0 // each column whole; the columns are laid out here
-	var cols []string
+	h.Width = 0
+	var keyCol []string
 	for _, g := range m.e.keys.Groups() {
-		cols = append(cols, s.Title.Render(g.Title)+"\n"+h.FullHelpView([][]key.Binding{g.Keys}))
+		keyCol = append(keyCol, s.Title.Render(g.Title))
+		keyCol = append(keyCol, strings.Split(h.FullHelpView([][]key.Binding{g.Keys}), "\n")...)
+		keyCol = append(keyCol, "")
 	}
-	// Side by side when they fit, else two by two, else one under another.
-	gap := "   "
-	var keys string
-	switch all := lipgloss.JoinHorizontal(lipgloss.Top, interleave(cols, gap)...); {
-	case lipgloss.Width(all) <= m.w-6:
-		keys = all
-	case len(cols) == 4 && max(lipgloss.Width(lipgloss.JoinHorizontal(lipgloss.Top, cols[0], gap, cols[1])),
-		lipgloss.Width(lipgloss.JoinHorizontal(lipgloss.Top, cols[2], gap, cols[3]))) <= m.w-6:
-		w0 := max(lipgloss.Width(cols[0]), lipgloss.Width(cols[2]))
-		left := lipgloss.JoinVertical(lipgloss.Left, cols[0], "", cols[2])
-		right := lipgloss.JoinVertical(lipgloss.Left, cols[1], "", cols[3])
-		keys = lipgloss.JoinHorizontal(lipgloss.Top, lipgloss.NewStyle().Width(w0).Render(left), gap, right)
-	default:
-		keys = lipgloss.JoinVertical(lipgloss.Left, cols...)
+	kw := 0
+	for _, l := range keyCol {
+		kw = max(kw, lipgloss.Width(l))
 	}
-	// The notes wrap to the keys' width; on a short screen the examples
-	// of readings go first.
-	tw := max(40, min(lipgloss.Width(keys), m.w-6))
-	lines := []string{s.Title.Render("Keys") + s.Dim.Render(m.e.g.cut("  ^K is Ctrl+K; letters and digits are readings", tw-4)), keys}
-	examples := wrap("Readings: 312, 4.7mA, 4m7A, 2k2, 4k7"+m.ohm()+", 1M, OL (open).\nEnd with ! to keep a value the program questions.", tw)
-	if used := len(lines) - 1 + lipgloss.Height(keys) + 2; used+1+len(examples) <= m.bodyHeight() {
-		lines = append(lines, "")
-		for _, l := range examples {
-			lines = append(lines, s.Dim.Render(l))
+	side := w-kw-3 >= 44
+	cw := w
+	if side {
+		cw = w - kw - 3
+	}
+	cmdCol := []string{s.Title.Render("Typed commands") + s.Dim.Render(" (then Enter)")}
+	for _, c := range procedures.CommandHelp(m.e.run.Sess.Mode) {
+		word, desc := splitCommandHelp(c)
+		if word == "VALUE" {
+			desc += " (" + m.ohm() + " or ohm for ohms: 4k7" + m.ohm() + ")"
+		}
+		dl := wrap(desc, max(20, cw-17))
+		if lipgloss.Width(word) > 16 {
+			cmdCol = append(cmdCol, s.Label.Render(word))
+		} else {
+			cmdCol = append(cmdCol, s.Label.Render(fmt.Sprintf("%-16s", word))+" "+s.Dim.Render(dl[0]))
+			dl = dl[1:]
+		}
+		for _, l := range dl {
+			cmdCol = append(cmdCol, strings.Repeat(" ", 17)+s.Dim.Render(l))
 		}
 	}
-	return s.Overlay.Render(strings.Join(lines, "\n"))
+	head := []string{s.Title.Render("Help") + s.Dim.Render("  "+m.e.g.UpDown+" scroll, Esc or F1 closes")}
+	if !side {
+		return append(append(head, keyCol...), cmdCol...)
+	}
+	out := head
+	for i := 0; i < max(len(keyCol), len(cmdCol)); i++ {
+		l, r := "", ""
+		if i < len(keyCol) {
+			l = keyCol[i]
+		}
+		if i < len(cmdCol) {
+			r = cmdCol[i]
+		}
+		out = append(out, l+strings.Repeat(" ", kw-lipgloss.Width(l)+3)+r)
+	}
+	return out
+}
+
+// splitCommandHelp splits a line of procedures.CommandHelp into the
+// command as typed ("again / retake VALUE") and what it does: the words
+// are the first word, its aliases after " / " and the upper-case
+// arguments.
+func splitCommandHelp(line string) (word, desc string) {
+	f := strings.Fields(line)
+	n := 1
+	for n < len(f) {
+		switch {
+		case f[n] == "/" && n+1 < len(f):
+			n += 2
+		case f[n] == strings.ToUpper(f[n]) && strings.ToUpper(f[n]) != strings.ToLower(f[n]):
+			n++
+		default:
+			return strings.Join(f[:n], " "), strings.Join(f[n:], " ")
+		}
+	}
+	return strings.Join(f[:n], " "), ""
+}
+
+// designArg is the design as the command line names it.
+func (m Model) designArg() string {
+	if d := m.cfg.Start.Design; d != "" {
+		return shellWord(d)
+	}
+	return "DESIGN"
+}
+
+// shellWord quotes a word for a POSIX shell when it needs it.
+func shellWord(s string) string {
+	if s != "" && strings.IndexFunc(s, func(r rune) bool {
+		return !(r == '/' || r == '.' || r == '-' || r == '_' || r == ':' || r == '+' || r == '=' || r == '@' || r == ',' ||
+			(r >= '0' && r <= '9') || (r >= 'a' && r <= 'z') || (r >= 'A' && r <= 'Z'))
+	}) < 0 {
+		return s
+	}
+	return "'" + strings.ReplaceAll(s, "'", `'\''`) + "'"
+}
+
+// resumeLines are the exact commands to carry on with this session and
+// to write its job sheets, each wrapped to w cells (never cut).
+func (m Model) resumeLines(w int) []string {
+	f := shellWord(m.path)
+	var out []string
+	for _, c := range []string{
+		"resume:        pinwalk walk " + m.designArg() + " --session " + f,
+		"job sheet:     pinwalk report " + f,
+		"for the owner: pinwalk report " + f + " --for customer",
+	} {
+		out = append(out, wrapHanging(c, w, 15)...)
+	}
+	return out
+}
+
+// startLines is the first screen's word on the session: new or resumed,
+// its file, and how to start a fresh one instead.
+func (m Model) startLines(w int) []string {
+	if m.path == "" {
+		return wrap("This session has no file: its readings go when you quit.", w)
+	}
+	st := m.cfg.Start
+	f := shellWord(m.path)
+	var head string
+	if st.Resumed {
+		head = fmt.Sprintf("RESUMED session (%d readings so far) from %s", st.Readings, m.path)
+	} else {
+		head = "NEW session, saved after every entry to " + m.path
+	}
+	out := wrap(head, w)
+	fresh := "a fresh session instead: quit, then pinwalk walk " + m.designArg() + " --session NEWFILE"
+	if !st.Resumed {
+		fresh = "resume later: pinwalk walk " + m.designArg() + " --session " + f
+	}
+	return append(out, wrapHanging(fresh, w, 2)...)
+}
+
+// wrapHanging wraps text to w cells with every line after the first
+// indented by ind spaces.
+func wrapHanging(text string, w, ind int) []string {
+	ls := wrap(text, w)
+	if len(ls) <= 1 {
+		return ls
+	}
+	rest := wrap(strings.Join(strings.Fields(strings.Join(ls[1:], " ")), " "), max(8, w-ind))
+	out := []string{ls[0]}
+	for _, l := range rest {
+		out = append(out, strings.Repeat(" ", ind)+l)
+	}
+	return out
 }
 
 // ohm is the ohm sign, or "ohm" (which the field takes too) where only
@@ -231,14 +357,22 @@ func (m Model) quitBox() string {
 		lines = append(lines, s.Warn.Render("This session has no file: its readings go when you quit."))
 	case m.saveErr != nil:
 		lines = append(lines, s.Bad.Render(m.e.g.OutOfBand+" The last save FAILED:"), s.Bad.Render(m.e.g.cut(m.saveErr.Error(), m.w-8)),
-			"Your readings are still in memory. ^R tries again;", "y tries once more and quits only if it works.")
+			"Your readings are still in memory. F9 tries again;", "y tries once more and quits only if it works.")
 	case m.saving || m.dirty:
 		lines = append(lines, "The last change is being saved; y quits as soon as it is on disk.")
 	default:
-		lines = append(lines, "Your session is already saved (every change is saved as you go):", m.e.g.cut(m.path, m.w-8),
-			"Start pinwalk walk with the same session file to carry on.")
+		lines = append(lines, "Your session is already saved (every change is saved as you go).")
+	}
+	if m.path != "" {
+		lines = append(lines, "", "To carry on later:")
+		lines = append(lines, m.resumeLines(m.w-8)...)
 	}
 	lines = append(lines, "", s.Prompt.Render("y quit   n stay"))
+	for i, l := range lines {
+		if lipgloss.Width(l) > m.w-6 {
+			lines[i] = m.e.g.cut(l, m.w-6)
+		}
+	}
 	return s.Overlay.Render(strings.Join(lines, "\n"))
 }
 
@@ -247,8 +381,11 @@ func (m Model) quitBox() string {
 func (m Model) stepsList(h int) string {
 	s, g, r := m.e.st, m.e.g, m.e.run
 	var lines []string
-	lines = append(lines, s.Title.Render("Steps")+s.Dim.Render(fmt.Sprintf("  %s choose, Enter go, Esc close  (%s done, %s skipped, %s open, - waits on earlier steps)", g.UpDown, g.Done, g.Skipped, g.NotYet)))
-	room := max(1, h-1)
+	lines = append(lines, s.Title.Render("Steps")+s.Dim.Render(fmt.Sprintf("  %s choose, Enter go, Esc close", g.UpDown)))
+	for _, l := range wrap(fmt.Sprintf("%s done  %s skipped  %s open  - waits on earlier steps", g.Done, g.Skipped, g.NotYet), m.w) {
+		lines = append(lines, s.Dim.Render(l))
+	}
+	room := max(1, h-len(lines))
 	top := max(0, min(m.listCursor-room/2, len(r.Proc.Steps)-room))
 	for i := top; i < len(r.Proc.Steps) && i < top+room; i++ {
 		st := r.Proc.Steps[i]
