@@ -37,6 +37,10 @@ type stepView struct {
 	msg    string // verdict or error from the last action
 	msgBad bool
 	last   *procedures.Verdict // verdict of the last reading on this step
+	// sent is the line the last Enter sent: the field is cleared at once
+	// (what is typed while the walk works is kept), and a refused reading
+	// comes back into an empty field for editing.
+	sent string
 }
 
 func newStepView(e *env) stepView {
@@ -95,10 +99,18 @@ func (v *stepView) bandCmds() tea.Cmd {
 	return tea.Batch(cmds...)
 }
 
-// moved resets the per-step state after the runner moved.
+// moved resets the per-step state after the runner moved. Text already
+// in the reading field stays: it was typed for the step now showing.
 func (v *stepView) moved() {
 	v.last = nil
+	keep := ""
+	if v.mode == modeReading {
+		keep = v.in.Value()
+	}
 	v.setMode(modeReading)
+	if keep != "" {
+		v.in.SetValue(keep)
+	}
 }
 
 func (v stepView) Update(msg tea.Msg) (stepView, tea.Cmd) {
@@ -186,6 +198,8 @@ func (v stepView) enter() (stepView, tea.Cmd) {
 	if v.mode != modeReading {
 		v.setMode(modeReading)
 	}
+	v.sent = v.in.Value()
+	v.in.Reset()
 	return v, func() tea.Msg { return actionMsg{a} }
 }
 
@@ -196,11 +210,18 @@ type overlayMsg struct{ o overlay }
 // reading stays in the field for editing; anything else clears it.
 func (v *stepView) acted(a procedures.Action, s procedures.State, err error) {
 	typed := a.Kind == procedures.ActRead || a.Kind == procedures.ActPredict || a.Kind == procedures.ActRetake || a.Kind == procedures.ActCorrect
-	if err == nil || !typed {
-		v.in.Reset()
-	} else if a.Kind == procedures.ActRead || a.Kind == procedures.ActPredict {
-		err = errors.New(readingError(a.Text, err))
+	if err != nil && typed {
+		// A refused reading comes back for editing, unless something
+		// new has been typed since (the message quotes it either way).
+		if v.in.Value() == "" && v.sent != "" {
+			v.in.SetValue(v.sent)
+			v.in.CursorEnd()
+		}
+		if a.Kind == procedures.ActRead || a.Kind == procedures.ActPredict {
+			err = errors.New(readingError(a.Text, err))
+		}
 	}
+	v.sent = ""
 	var parts []string
 	bad := err != nil
 	if vd := s.Last; vd != nil {
@@ -294,7 +315,19 @@ func (v stepView) View() string {
 		shown = &st.Measures[len(st.Measures)-1]
 	}
 	var note []string
-	if shown != nil {
+	ask := r.NextAsk()
+	if ask != nil {
+		n := 0
+		for i := range st.Asks {
+			if &st.Asks[i] == ask {
+				n = i + 1
+			}
+		}
+		head := fmt.Sprintf("Question %d of %d: ", n, len(st.Asks))
+		ql := wrapHanging(head+ask.Prompt, w, 2)
+		mid = append(mid, s.Label.Render(head)+strings.TrimPrefix(ql[0], head))
+		mid = append(mid, ql[1:]...)
+	} else if shown != nil {
 		n := 0
 		for i := range st.Measures {
 			if &st.Measures[i] == shown || st.Measures[i].Point == shown.Point {
@@ -322,6 +355,10 @@ func (v stepView) View() string {
 		switch {
 		case halt:
 			v.in.Placeholder = " y (or Enter) once it is off and unplugged"
+		case ask != nil && ask.Required:
+			v.in.Placeholder = " your answer, then Enter (needed here)"
+		case ask != nil:
+			v.in.Placeholder = " your answer, then Enter (an empty Enter passes)"
 		case m == nil:
 			v.in.Placeholder = " Enter confirms the step"
 		case v.predicting(m):
