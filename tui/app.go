@@ -129,6 +129,7 @@ func New(cfg Config) Model {
 		path = r.Path
 	}
 	r.Path = ""
+	cfg.Path = path
 	cfg.Start = cfg.Start.fill(r.Sess)
 	rend := cfg.Renderer
 	if rend == nil {

@@ -1,6 +1,7 @@
 package tui
 
 import (
+	"fmt"
 	"strings"
 	"testing"
 
@@ -103,4 +104,80 @@ func TestPastedLineArrivesIntact(t *testing.T) {
 			}
 		})
 	}
+}
+
+// The summary step lists every stop, reading out of band, override and
+// skipped step of the walk, however many readings came after them; the
+// full text (F4) has them all and the commands.
+func TestSummaryListsEveryException(t *testing.T) {
+	walk, _ := openWalk(t, "se-6v6-stereo", procedures.BringUp)
+	m := newModel(t, walk, 120, 40)
+	m = walkTo(t, m, "discharge-C3")
+	m = drive(t, m, typeText("120")...) // a charged capacitor: stop
+	m = drive(t, m, typeText("again 0")...)
+	m = walkTo(t, m, procedures.StepEarth)
+	m = drive(t, m, typeText("3")...) // earth bond too high: stop
+	m = drive(t, m, typeText("override earth bonded through the bench isolating transformer")...)
+	m = walkTo(t, m, "cold-plate")
+	m = drive(t, m, typeText("4k7")...) // far out of band
+	if walk.R.Current().ID == "cold-plate" {
+		m = drive(t, m, keyMsg(tea.KeyF2))
+		m = drive(t, m, typeText("probe tip broke")...)
+	}
+	m = walkTo(t, m, procedures.StepSummary)
+	ex := procedures.Exceptions(walk.R)
+	kinds := map[string]bool{}
+	for _, e := range ex {
+		kinds[e.Kind] = true
+	}
+	for _, k := range []string{"stop", "override", "out of band"} {
+		if !kinds[k] {
+			t.Errorf("exceptions lack a %q: %+v", k, ex)
+		}
+	}
+	s := screen(m)
+	flat := strings.Join(strings.Fields(s), " ")
+	if !strings.Contains(flat, fmt.Sprintf("Needs a look: %d", len(ex))) {
+		t.Errorf("summary screen does not count %d exceptions:\n%s", len(ex), s)
+	}
+	for _, want := range []string{"STOP: C3 volts after discharge read 120 V", "OVERRIDE: earth pin to chassis let through: earth bonded", "OUT OF BAND:"} {
+		if !strings.Contains(flat, want) {
+			t.Errorf("summary screen lacks %q:\n%s", want, s)
+		}
+	}
+	// At 80×24 the full text has every one of them.
+	m = drive(t, m, tea.WindowSizeMsg{Width: 80, Height: 24}, keyMsg(tea.KeyF4))
+	var all []string
+	for i := 0; i < 10; i++ {
+		all = append(all, screen(m))
+		m = drive(t, m, keyMsg(tea.KeyDown), keyMsg(tea.KeyDown), keyMsg(tea.KeyDown), keyMsg(tea.KeyDown), keyMsg(tea.KeyDown))
+	}
+	text := strings.Join(strings.Fields(strings.Join(all, "\n")), " ")
+	for _, e := range ex {
+		if want := strings.Join(strings.Fields(e.Text), " "); !strings.Contains(text, firstN(want, 30)) {
+			t.Errorf("the summary's full text lacks %q", want)
+		}
+	}
+	if !strings.Contains(text, "--for customer") {
+		t.Errorf("the summary's full text lacks the job sheet commands")
+	}
+	// Confirming the summary ends the walk: the end screen gives the
+	// commands, whole, at 80×24.
+	m = drive(t, m, keyMsg(tea.KeyEsc), keyMsg(tea.KeyEnter))
+	if !walk.R.Finished() {
+		t.Fatalf("not finished after confirming the summary:\n%s", screen(m))
+	}
+	end := strings.Join(strings.Fields(screen(m)), " ")
+	for _, want := range []string{"Resume: pinwalk walk", "Job sheet: pinwalk report", "--for customer -o"} {
+		if !strings.Contains(end, want) {
+			t.Errorf("end screen lacks %q:\n%s", want, screen(m))
+		}
+	}
+}
+
+func firstN(s string, n int) string {
+	if len(s) > n {
+		return s[:n]
+	}
+	return s
 }

@@ -410,7 +410,13 @@ func (v stepView) View() string {
 		note = nil // the band's note gives way first (F4 has the step in full)
 	}
 	left -= len(note)
-	hist := v.history(w, left-1)
+	var hist []string
+	histHead := "Recent readings:"
+	if st.Kind == procedures.KindSummary {
+		histHead, hist = v.exceptionLines(w, left-1)
+	} else {
+		hist = v.history(w, left-1)
+	}
 
 	out := append([]string{}, top...)
 	out = append(out, haz...)
@@ -420,8 +426,8 @@ func (v stepView) View() string {
 	out = append(out, note...)
 	out = append(out, input...)
 	out = append(out, msg...)
-	if len(hist) > 0 {
-		out = append(out, s.Dim.Render("Recent readings:"))
+	if len(hist) > 0 || st.Kind == procedures.KindSummary {
+		out = append(out, s.Dim.Render(histHead))
 		out = append(out, hist...)
 	}
 	if len(out) > v.h && v.h > 0 {
@@ -649,17 +655,54 @@ func (v stepView) history(w, n int) []string {
 	return out
 }
 
-// finishLines is the end-of-procedure summary: skipped safety steps and,
-// in training and practice, the score of the predictions.
+// exceptionLines is the summary step's list: every stop, reading out of
+// band, override and skipped step, at most n lines (the rest counted,
+// and whole in the full text); the heading counts them.
+func (v stepView) exceptionLines(w, n int) (head string, lines []string) {
+	s, g := v.e.st, v.e.g
+	ex := procedures.Exceptions(v.e.run)
+	head = fmt.Sprintf("Needs a look: %d (stops, readings out of band, overrides, skipped steps)", len(ex))
+	if len(ex) == 0 {
+		head = "Needs a look: nothing (no stop, no reading out of band, no override, no step skipped)"
+	}
+	all := exceptionText(ex, w, g)
+	if n <= 0 {
+		return head, nil
+	}
+	if len(all) > n {
+		more := fmt.Sprintf("  and %d more lines: %s shows them all", len(all)-n+1, v.e.keys.Detail.Help().Key)
+		all = append(all[:n-1:n-1], more)
+	}
+	for _, l := range all {
+		lines = append(lines, s.Bad.Render(l))
+	}
+	return head, lines
+}
+
+// exceptionText words the exceptions, wrapped to w cells.
+func exceptionText(ex []procedures.Exception, w int, g Glyphs) []string {
+	var out []string
+	for _, e := range ex {
+		out = append(out, wrapHanging(" "+g.OutOfBand+" "+strings.ToUpper(e.Kind)+": "+e.Text+" ("+e.Step+")", w, 4)...)
+	}
+	return out
+}
+
+// finishLines is the end of the procedure: skipped safety steps, in
+// training and practice the score of the predictions, and the exact
+// commands to resume the session and to write its job sheets.
 func (v stepView) finishLines(w int) []string {
 	s, g := v.e.st, v.e.g
 	r := v.e.run
-	out := []string{s.Good.Render(g.Done + " Every step is done. The session is saved; the job sheet comes from it.")}
+	out := []string{s.Good.Render(g.Done + " Every step is done and saved. Next:")}
 	for _, sk := range r.SkippedSafety() {
 		out = append(out, s.Bad.Render(v.e.g.cut(g.OutOfBand+" safety step skipped: "+sk.Step+" ("+sk.Reason+")", w)))
 	}
 	if r.Training {
 		out = append(out, practiceScore(r.Sess, g)...)
+	}
+	for _, c := range CommandLines(v.e.cfg.Start, v.e.cfg.Path, false) {
+		out = append(out, wrapHanging(c, w, 2)...)
 	}
 	return out
 }

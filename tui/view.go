@@ -418,6 +418,12 @@ func (m Model) detail(h int) string {
 	for _, ms := range st.Measures {
 		lines = append(lines, wrap(fmt.Sprintf("Reading: %s %s %s %s %s probes: %s", ms.Label, m.e.g.Dot, ms.Function, ms.Range, m.e.g.Dot, ms.Probes), w)...)
 	}
+	if st.Kind == procedures.KindSummary {
+		lines = append(lines, "", s.Title.Render("Needs a look"))
+		lines = append(lines, exceptionText(procedures.Exceptions(r), w, m.e.g)...)
+		lines = append(lines, "", s.Title.Render("Commands"))
+		lines = append(lines, m.resumeLines(w)...)
+	}
 	return m.scrolled(lines, h)
 }
 
