@@ -181,3 +181,68 @@ func firstN(s string, n int) string {
 	}
 	return s
 }
+
+// The complaint's words, a note and the reading field each take a line
+// pasted or typed in one burst whole, key-name letters and all (y, n, q,
+// s, m are keys elsewhere in the program; none may take a letter here).
+func TestBurstsReachEveryField(t *testing.T) {
+	const line = "no sound on right channel, hum at idle"
+	for name, burst := range map[string]func(string) []tea.Msg{"paste": pasteRunes, "runes": burstRunes} {
+		t.Run(name, func(t *testing.T) {
+			walk, _ := openWalk(t, "se-6v6-stereo", procedures.BringUp)
+			m := newModel(t, walk, 80, 24)
+			m = walkTo(t, m, procedures.StepIntake)
+			for walk.R.NextAsk() != nil && walk.R.NextAsk().Field != procedures.FieldComplaint {
+				m = drive(t, m, keyMsg(tea.KeyEnter))
+			}
+			if walk.R.NextAsk() == nil {
+				t.Fatal("the intake asks no complaint")
+			}
+			// A customer's complaint is often a paragraph: all of it.
+			long := strings.Repeat(line+"; ", 9) + "worse when warm"
+			m = drive(t, m, burst(long)...)
+			if got := m.step.in.Value(); got != long {
+				t.Fatalf("complaint field holds %q, want %q", got, long)
+			}
+			checkFrame(t, "complaint", strings.TrimSuffix(screen(m), "\n"), 80, 24)
+			m = drive(t, m, keyMsg(tea.KeyEnter))
+			if got := walk.R.Sess.Job.Complaint; got != long {
+				t.Errorf("complaint recorded as %q, want %q", got, long)
+			}
+
+			// A note (F3) on a reading step.
+			m = walkTo(t, m, "cold-plate")
+			m = drive(t, m, keyMsg(tea.KeyF3))
+			m = drive(t, m, burst(line)...)
+			if got := m.step.in.Value(); got != line {
+				t.Fatalf("note field holds %q, want %q", got, line)
+			}
+			m = drive(t, m, keyMsg(tea.KeyEnter))
+			notes := walk.R.Sess.Notes
+			if len(notes) == 0 || !strings.Contains(fmt.Sprint(notes[len(notes)-1]), line) {
+				t.Errorf("note recorded as %v, want %q", notes, line)
+			}
+
+			// The reading field: the same line as a note typed there
+			// ("n TEXT"), then a reading, both whole.
+			m = drive(t, m, burst("n "+line)...)
+			if got := m.step.in.Value(); got != "n "+line {
+				t.Fatalf("reading field holds %q, want %q", got, "n "+line)
+			}
+			m = drive(t, m, keyMsg(tea.KeyEnter))
+			notes = walk.R.Sess.Notes
+			if len(notes) < 2 || !strings.Contains(fmt.Sprint(notes[len(notes)-1]), line) {
+				t.Errorf("typed note recorded as %v, want %q", notes, line)
+			}
+			n := len(walk.R.Sess.Readings)
+			m = drive(t, m, burst("4k7 !")...)
+			if got := m.step.in.Value(); got != "4k7 !" {
+				t.Fatalf("reading field holds %q, want %q", got, "4k7 !")
+			}
+			m = drive(t, m, keyMsg(tea.KeyEnter))
+			if len(walk.R.Sess.Readings) != n+1 || walk.R.Sess.Readings[n].Value != 4700 {
+				t.Errorf("the reading 4k7 was not recorded as 4.7 kΩ: %+v", walk.R.Sess.Readings[n:])
+			}
+		})
+	}
+}
