@@ -6,6 +6,7 @@ import (
 	"math"
 	"strings"
 	"time"
+	"unicode"
 
 	"pinwalk/expect/point"
 	"pinwalk/expect/units"
@@ -445,6 +446,18 @@ func ParseReading(raw string, m *Measure, expect *Band) (float64, error) {
 	if q == units.Ohms && point.IsOpenWord(s) {
 		return math.Inf(1), nil
 	}
+	s, kind := cutACDC(s)
+	if kind != "" && (q == units.Volts || q == units.Amps) {
+		ac := isAC(m.Point.Quantity)
+		if (kind == "AC") != ac {
+			want := "DC"
+			if ac {
+				want = "AC"
+			}
+			return 0, fmt.Errorf("%s is an %s reading: this step measures %s; set the meter to %s %s and read again",
+				strings.TrimSpace(raw), kind, m.Function, want, q.Symbol())
+		}
+	}
 	if _, q2, err := units.ParseAny(s); err == nil && q2 != units.None && q2 != q {
 		return 0, fmt.Errorf("%s is a %s: this step measures %s (%s)", s, q2.String(), q.String(), m.Function)
 	}
@@ -453,6 +466,10 @@ func ParseReading(raw string, m *Measure, expect *Band) (float64, error) {
 		var me *units.MismatchError
 		if errors.As(err, &me) {
 			return 0, fmt.Errorf("%s: this step measures %s (%s)", err.Error(), q.String(), m.Function)
+		}
+		var se *units.SyntaxError
+		if errors.As(err, &se) && se.NotAValue() {
+			return 0, fmt.Errorf("%q is not a reading: %s", strings.TrimSpace(raw), readingForms(m, q))
 		}
 		return 0, err
 	}
@@ -482,6 +499,51 @@ func ParseReading(raw string, m *Measure, expect *Band) (float64, error) {
 		}
 	}
 	return v, nil
+}
+
+// cutACDC takes an AC or DC qualifier off the end of a reading as meters
+// and habit write it ("6.4 VAC", "6.4VAC", "6.4 V AC", "6.4 V~",
+// "312 VDC", "45 mA DC", "6.4 Vrms"): the rest, and "AC", "DC" or "" for
+// none. The qualifier counts only after a unit letter or a number, so a
+// resistor code is never cut.
+func cutACDC(s string) (string, string) {
+	low := strings.ToLower(s)
+	for _, q := range []struct{ suf, kind string }{{"ac", "AC"}, {"dc", "DC"}, {"rms", "AC"}, {"~", "AC"}} {
+		if !strings.HasSuffix(low, q.suf) {
+			continue
+		}
+		rest := strings.TrimRightFunc(s[:len(s)-len(q.suf)], unicode.IsSpace)
+		if rest == "" {
+			return s, ""
+		}
+		last := rest[len(rest)-1]
+		if last == 'v' || last == 'V' || last == 'a' || last == 'A' || (last >= '0' && last <= '9') {
+			return rest, q.kind
+		}
+	}
+	return s, ""
+}
+
+// isAC reports whether a point's quantity is read on an AC range.
+func isAC(q string) bool {
+	return q == point.ACVolts || q == point.ACAmps || q == point.RippleVolts || q == point.ToneVolts
+}
+
+// readingForms says what a reading of the measure's quantity looks like,
+// for the error on text that is none.
+func readingForms(m *Measure, q units.Quantity) string {
+	switch q {
+	case units.Volts:
+		if isAC(m.Point.Quantity) {
+			return "type the meter's AC volts, like 6.4, 6.4V, 6.4 VAC or 250mV"
+		}
+		return "type the meter's DC volts, like 289, 289V, -12.5 or 350mV (6.4 VAC only on an AC step)"
+	case units.Amps:
+		return "type the meter's current, like 45mA, 0.045A or 45 mA DC"
+	case units.Ohms:
+		return "type the meter's resistance, like 470, 4.7k, 4K7, 1M or OL for open"
+	}
+	return "type the meter's value, like 312 or 4.7mA"
 }
 
 // unitSlip reports a reading that lies below its band but inside it

@@ -3,6 +3,7 @@ package procedures
 import (
 	"bufio"
 	"errors"
+	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -245,5 +246,59 @@ func TestJobRoundTrip(t *testing.T) {
 	var se *SessionError
 	if !errors.As(err, &se) || se.Field != "job.after-repair.insulation.instrument" || !strings.Contains(se.Msg, "expected earth-bond-tester") {
 		t.Errorf("bad instrument: %v", err)
+	}
+}
+
+// TestReadingACDC: an AC reading may carry the qualifier a meter's
+// display or a habit puts on it (6.4 VAC, 6.4VAC, 6.4 V AC, 6.4 V~); a
+// qualifier that contradicts the step's meter function is refused with
+// what to set; text that is no reading gets the forms of a reading of
+// the step's quantity, never resistor codes on a voltage step.
+func TestReadingACDC(t *testing.T) {
+	heater := &Measure{Point: point.MustParse("V1.4 ac_volts"), Unit: "V", Function: FuncACV}
+	hb := &Band{Nominal: 6.3, Low: 5.9, High: 6.7}
+	for _, s := range []string{"6.4 VAC", "6.4VAC", "6.4 V AC", "6.4 vac", "6.4 V~", "6.4 Vrms", "6.4 AC", "6.4", "6.4V", "6400mV AC"} {
+		if v, err := ParseReading(s, heater, hb); err != nil || math.Abs(v-6.4) > 1e-9 {
+			t.Errorf("%q on an AC volts step: %v, %v", s, v, err)
+		}
+	}
+	if _, err := ParseReading("6.4 VDC", heater, hb); err == nil || !strings.Contains(err.Error(), "AC V") {
+		t.Errorf("6.4 VDC on an AC step: %v, want the meter set to AC V", err)
+	}
+	dc := &Measure{Point: point.MustParse("B1 dc_volts"), Unit: "V", Function: FuncDCV}
+	band := &Band{Nominal: 300, Low: 280, High: 320}
+	for _, s := range []string{"289", "289V", "289 VDC", "289 V DC", "289VDC"} {
+		if v, err := ParseReading(s, dc, band); err != nil || v != 289 {
+			t.Errorf("%q on a DC volts step: %v, %v", s, v, err)
+		}
+	}
+	if _, err := ParseReading("289 VAC", dc, band); err == nil || !strings.Contains(err.Error(), "DC V") {
+		t.Errorf("289 VAC on a DC step: %v, want the meter set to DC V", err)
+	}
+	for _, bad := range []string{"abc", "hum", "3..1", "289 volts please", "6.4 VX"} {
+		_, err := ParseReading(bad, dc, band)
+		if err == nil {
+			t.Errorf("%q accepted", bad)
+			continue
+		}
+		msg := err.Error()
+		for _, want := range []string{"289", "289V"} {
+			if !strings.Contains(msg, want) {
+				t.Errorf("%q: the error %q does not suggest %s", bad, msg, want)
+			}
+		}
+		for _, rkm := range []string{"4K7", "470R", "100n"} {
+			if strings.Contains(msg, rkm) {
+				t.Errorf("%q on a voltage step: the error %q suggests a resistor code %s", bad, msg, rkm)
+			}
+		}
+	}
+	// A resistance step still shows resistance forms; 4K7 is no AC reading.
+	ohm := &Measure{Point: point.MustParse("cold:B1 ohms"), Unit: "Ω", Function: FuncOhms}
+	if v, err := ParseReading("4K7", ohm, nil); err != nil || v != 4700 {
+		t.Errorf("4K7 on an ohms step: %v, %v", v, err)
+	}
+	if _, err := ParseReading("abc", ohm, nil); err == nil || !strings.Contains(err.Error(), "4K7") {
+		t.Errorf("abc on an ohms step: %v, want resistance forms", err)
 	}
 }

@@ -207,8 +207,9 @@ func FormatBand(b Band, unit string) string {
 }
 
 // Summary returns the summary of a session, one line each: every
-// skipped safety step with its reason first, then every reading against
-// its band, out-of-band readings marked, notes and the outcome.
+// skipped safety step with its reason first, then everything that needs
+// a look (Exceptions), then every reading by its label against its band,
+// out-of-band readings marked, notes and the outcome.
 func Summary(r *Runner) []string {
 	var out []string
 	s := r.Sess
@@ -223,10 +224,10 @@ func Summary(r *Runner) []string {
 			out = append(out, fmt.Sprintf("  ! %s: skipped, reason: %s", title, k.Reason))
 		}
 	}
-	for _, k := range s.Skips {
-		if !k.Safety {
-			out = append(out, fmt.Sprintf("  skipped %s: %s", k.Step, k.Reason))
-		}
+	ex := Exceptions(r)
+	out = append(out, fmt.Sprintf("Needs a look (%d): every stop, reading out of band, override and skipped step", len(ex)))
+	for _, e := range ex {
+		out = append(out, fmt.Sprintf("  %s: %s (step %s)", e.Kind, e.Text, e.Step))
 	}
 	out = append(out, fmt.Sprintf("Readings (%d):", len(s.Readings)))
 	bad := 0
@@ -245,7 +246,7 @@ func Summary(r *Runner) []string {
 		if rd.Variac > 0 && rd.Variac < 1 {
 			variac = fmt.Sprintf(" at %.0f %% mains", 100*rd.Variac)
 		}
-		out = append(out, fmt.Sprintf("  %s%s: %s [%s]%s%s", mark, rd.Point, fmtBand(rd.Value, rd.Unit), rd.Status, band, variac))
+		out = append(out, fmt.Sprintf("  %s%s: %s [%s]%s%s", mark, r.LabelOf(rd.Point), fmtBand(rd.Value, rd.Unit), rd.Status, band, variac))
 	}
 	out = append(out, fmt.Sprintf("Out of band: %d", bad))
 	if len(s.Guesses) > 0 {

@@ -50,6 +50,12 @@ type Start struct {
 	Readings int
 	// Design is the DESIGN argument of pinwalk walk ("" takes "DESIGN").
 	Design string
+	// Mode is the --mode of the session ("" or bringup: none in the
+	// commands shown).
+	Mode procedures.Mode
+	// Fresh is a session file that does not exist yet, for the command
+	// that starts a fresh session instead of this one ("" takes NEWFILE).
+	Fresh string
 }
 
 // View indexes.
@@ -123,6 +129,8 @@ func New(cfg Config) Model {
 		path = r.Path
 	}
 	r.Path = ""
+	cfg.Path = path
+	cfg.Start = cfg.Start.fill(r.Sess)
 	rend := cfg.Renderer
 	if rend == nil {
 		rend = lipgloss.DefaultRenderer()

@@ -7,16 +7,18 @@ import (
 	"github.com/muesli/termenv"
 )
 
-// inputCharLimit is the longest line the field takes (a reading is a few
-// characters; a note or a skip reason a sentence or two).
-const inputCharLimit = 120
+// inputCharLimit is the longest line the field takes: a reading is a few
+// characters, but a complaint in the customer's words, a note or a skip
+// reason may be a paragraph, and nothing typed may be cut; the field
+// scrolls sideways.
+const inputCharLimit = 2000
 
 // newInput returns the one-line field for readings, predictions, notes
 // and skip reasons: a bubbles text input, focused, with a steady cursor
 // (a blinking one would need a timer command for nothing) and with its
 // editing keys taken from the key map, so that the keys the program uses
-// for commands (ctrl+k skip, ctrl+e full text, ctrl+n/ctrl+p steps, tab,
-// the arrows up and down) never edit the text. Letters, digits, µ and Ω
+// for commands (the function keys, Page Up/Down, Tab, the arrows up and
+// down) never edit the text. Letters, digits, µ and Ω
 // arrive as runes and are typed as they are.
 //
 // When the renderer draws no colour (NO_COLOR, not a terminal, the test

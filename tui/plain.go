@@ -25,6 +25,14 @@ func PlainHelp(mode procedures.Mode) string {
 // quit, end of input or a finished procedure; the session is saved after
 // every change.
 func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
+	return RunPlainFrom(w, Start{}, in, out)
+}
+
+// RunPlainFrom is RunPlain with the word on how the session began (new
+// or resumed, the design as the command line named it) for its first
+// lines and the commands it prints at the end.
+func RunPlainFrom(w *procedures.Walk, start Start, in io.Reader, out io.Writer) error {
+	start = start.fill(w.R.Sess)
 	sc := bufio.NewScanner(in)
 	sc.Buffer(make([]byte, 64<<10), 1<<20)
 	p := func(format string, a ...any) { fmt.Fprintf(out, format+"\n", a...) }
@@ -43,8 +51,8 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 	}
 	r := c.Runner()
 	p("pinwalk: %s", r.Proc.Title)
-	if r.Path != "" {
-		p("Session file: %s (saved after every entry)", r.Path)
+	for _, l := range StartText(start, r.Path, true) {
+		p("%s", l)
 	}
 	shown := ""
 	for {
@@ -56,6 +64,9 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 		if state.Finished {
 			printSummary(p, r)
 			p("Procedure finished. Session saved to %s.", r.Path)
+			for _, l := range CommandLines(start, r.Path, true) {
+				p("%s", l)
+			}
 			return nil
 		}
 		if st.ID != shown {
@@ -69,7 +80,7 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 			p("Predict first: what do you expect %s to read? (Enter to pass)", state.Measure.Label)
 			line, ok := read("prediction> ")
 			if !ok || line == "q" {
-				return quit(p, r)
+				return quit(p, r, start)
 			}
 			if line == "s" {
 				line = ""
@@ -88,12 +99,12 @@ func RunPlain(w *procedures.Walk, in io.Reader, out io.Writer) error {
 		}
 		line, ok := read("> ")
 		if !ok {
-			return quit(p, r)
+			return quit(p, r, start)
 		}
 		a := procedures.ParseCommand(line)
 		switch a.Kind {
 		case procedures.ActQuit:
-			return quit(p, r)
+			return quit(p, r, start)
 		case procedures.ActHelp:
 			p("%s", PlainHelp(r.Sess.Mode))
 			continue
@@ -145,14 +156,16 @@ func say(p func(string, ...any), s procedures.State, err error) {
 
 func formatVal(v float64, unit string) string { return procedures.FormatValue(v, unit) }
 
-func quit(p func(string, ...any), r *procedures.Runner) error {
+func quit(p func(string, ...any), r *procedures.Runner, start Start) error {
 	if err := r.SaveNow(); err != nil {
 		p("error: could not save the session: %v", err)
 		return err
 	}
 	if r.Path != "" {
-		p("Saved. Resume with: pinwalk walk %s --session %s --plain", designArg(r), r.Path)
-		p("Job sheet: pinwalk report %s", r.Path)
+		p("Saved.")
+		for _, l := range CommandLines(start, r.Path, true) {
+			p("%s", l)
+		}
 	}
 	return nil
 }
@@ -223,12 +236,4 @@ func printSummary(p func(string, ...any), r *procedures.Runner) {
 	for _, l := range procedures.Summary(r) {
 		p("%s", l)
 	}
-}
-
-// designArg is how the design is named on the command line.
-func designArg(r *procedures.Runner) string {
-	if f := r.Sess.Design.File; f != "" {
-		return f
-	}
-	return "DESIGN"
 }

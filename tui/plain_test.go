@@ -114,10 +114,17 @@ func TestPlainBringUp(t *testing.T) {
 		t.Fatalf("did not finish:\n%s", tr[max(0, len(tr)-2000):])
 	}
 	sum := tr[strings.LastIndex(tr, "== Summary =="):]
-	for _, k := range []string{"discharge:C1 dc_volts", "cold:B1 ohms", "V2.3 dc_volts", "B1 dc_volts", "Out of band: 0"} {
+	for _, k := range []string{"C1 volts after discharge", "Needs a look (0)", "Out of band: 0"} {
 		if !strings.Contains(sum, k) {
 			t.Errorf("summary lacks %q", k)
 		}
+	}
+	// Every reading is listed, by its label, never by its point key.
+	if n := strings.Count(sum, " [in-band]"); n != len(w.R.Sess.Readings) {
+		t.Errorf("summary lists %d readings in band, the session has %d", n, len(w.R.Sess.Readings))
+	}
+	if k := point.InText.FindString(sum); k != "" {
+		t.Errorf("summary shows a point key (%q):\n%s", k, sum)
 	}
 	if w.R.Sess.Outcome == nil && len(w.R.Sess.Readings) == 0 {
 		t.Error("no readings saved")

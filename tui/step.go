@@ -37,6 +37,10 @@ type stepView struct {
 	msg    string // verdict or error from the last action
 	msgBad bool
 	last   *procedures.Verdict // verdict of the last reading on this step
+	// sent is the line the last Enter sent: the field is cleared at once
+	// (what is typed while the walk works is kept), and a refused reading
+	// comes back into an empty field for editing.
+	sent string
 }
 
 func newStepView(e *env) stepView {
@@ -95,10 +99,18 @@ func (v *stepView) bandCmds() tea.Cmd {
 	return tea.Batch(cmds...)
 }
 
-// moved resets the per-step state after the runner moved.
+// moved resets the per-step state after the runner moved. Text already
+// in the reading field stays: it was typed for the step now showing.
 func (v *stepView) moved() {
 	v.last = nil
+	keep := ""
+	if v.mode == modeReading {
+		keep = v.in.Value()
+	}
 	v.setMode(modeReading)
+	if keep != "" {
+		v.in.SetValue(keep)
+	}
 }
 
 func (v stepView) Update(msg tea.Msg) (stepView, tea.Cmd) {
@@ -186,6 +198,8 @@ func (v stepView) enter() (stepView, tea.Cmd) {
 	if v.mode != modeReading {
 		v.setMode(modeReading)
 	}
+	v.sent = v.in.Value()
+	v.in.Reset()
 	return v, func() tea.Msg { return actionMsg{a} }
 }
 
@@ -196,11 +210,18 @@ type overlayMsg struct{ o overlay }
 // reading stays in the field for editing; anything else clears it.
 func (v *stepView) acted(a procedures.Action, s procedures.State, err error) {
 	typed := a.Kind == procedures.ActRead || a.Kind == procedures.ActPredict || a.Kind == procedures.ActRetake || a.Kind == procedures.ActCorrect
-	if err == nil || !typed {
-		v.in.Reset()
-	} else if a.Kind == procedures.ActRead || a.Kind == procedures.ActPredict {
-		err = errors.New(readingError(a.Text, err))
+	if err != nil && typed {
+		// A refused reading comes back for editing, unless something
+		// new has been typed since (the message quotes it either way).
+		if v.in.Value() == "" && v.sent != "" {
+			v.in.SetValue(v.sent)
+			v.in.CursorEnd()
+		}
+		if a.Kind == procedures.ActRead || a.Kind == procedures.ActPredict {
+			err = errors.New(readingError(a.Text, err))
+		}
 	}
+	v.sent = ""
 	var parts []string
 	bad := err != nil
 	if vd := s.Last; vd != nil {
@@ -294,7 +315,19 @@ func (v stepView) View() string {
 		shown = &st.Measures[len(st.Measures)-1]
 	}
 	var note []string
-	if shown != nil {
+	ask := r.NextAsk()
+	if ask != nil {
+		n := 0
+		for i := range st.Asks {
+			if &st.Asks[i] == ask {
+				n = i + 1
+			}
+		}
+		head := fmt.Sprintf("Question %d of %d: ", n, len(st.Asks))
+		ql := wrapHanging(head+ask.Prompt, w, 2)
+		mid = append(mid, s.Label.Render(head)+strings.TrimPrefix(ql[0], head))
+		mid = append(mid, ql[1:]...)
+	} else if shown != nil {
 		n := 0
 		for i := range st.Measures {
 			if &st.Measures[i] == shown || st.Measures[i].Point == shown.Point {
@@ -322,6 +355,10 @@ func (v stepView) View() string {
 		switch {
 		case halt:
 			v.in.Placeholder = " y (or Enter) once it is off and unplugged"
+		case ask != nil && ask.Required:
+			v.in.Placeholder = " your answer, then Enter (needed here)"
+		case ask != nil:
+			v.in.Placeholder = " your answer, then Enter (an empty Enter passes)"
 		case m == nil:
 			v.in.Placeholder = " Enter confirms the step"
 		case v.predicting(m):
@@ -373,7 +410,13 @@ func (v stepView) View() string {
 		note = nil // the band's note gives way first (F4 has the step in full)
 	}
 	left -= len(note)
-	hist := v.history(w, left-1)
+	var hist []string
+	histHead := "Recent readings:"
+	if st.Kind == procedures.KindSummary {
+		histHead, hist = v.exceptionLines(w, left-1)
+	} else {
+		hist = v.history(w, left-1)
+	}
 
 	out := append([]string{}, top...)
 	out = append(out, haz...)
@@ -383,8 +426,8 @@ func (v stepView) View() string {
 	out = append(out, note...)
 	out = append(out, input...)
 	out = append(out, msg...)
-	if len(hist) > 0 {
-		out = append(out, s.Dim.Render("Recent readings:"))
+	if len(hist) > 0 || st.Kind == procedures.KindSummary {
+		out = append(out, s.Dim.Render(histHead))
 		out = append(out, hist...)
 	}
 	if len(out) > v.h && v.h > 0 {
@@ -612,17 +655,54 @@ func (v stepView) history(w, n int) []string {
 	return out
 }
 
-// finishLines is the end-of-procedure summary: skipped safety steps and,
-// in training and practice, the score of the predictions.
+// exceptionLines is the summary step's list: every stop, reading out of
+// band, override and skipped step, at most n lines (the rest counted,
+// and whole in the full text); the heading counts them.
+func (v stepView) exceptionLines(w, n int) (head string, lines []string) {
+	s, g := v.e.st, v.e.g
+	ex := procedures.Exceptions(v.e.run)
+	head = fmt.Sprintf("Needs a look: %d (stops, readings out of band, overrides, skipped steps)", len(ex))
+	if len(ex) == 0 {
+		head = "Needs a look: nothing (no stop, no reading out of band, no override, no step skipped)"
+	}
+	all := exceptionText(ex, w, g)
+	if n <= 0 {
+		return head, nil
+	}
+	if len(all) > n {
+		more := fmt.Sprintf("  and %d more lines: %s shows them all", len(all)-n+1, v.e.keys.Detail.Help().Key)
+		all = append(all[:n-1:n-1], more)
+	}
+	for _, l := range all {
+		lines = append(lines, s.Bad.Render(l))
+	}
+	return head, lines
+}
+
+// exceptionText words the exceptions, wrapped to w cells.
+func exceptionText(ex []procedures.Exception, w int, g Glyphs) []string {
+	var out []string
+	for _, e := range ex {
+		out = append(out, wrapHanging(" "+g.OutOfBand+" "+strings.ToUpper(e.Kind)+": "+e.Text+" ("+e.Step+")", w, 4)...)
+	}
+	return out
+}
+
+// finishLines is the end of the procedure: skipped safety steps, in
+// training and practice the score of the predictions, and the exact
+// commands to resume the session and to write its job sheets.
 func (v stepView) finishLines(w int) []string {
 	s, g := v.e.st, v.e.g
 	r := v.e.run
-	out := []string{s.Good.Render(g.Done + " Every step is done. The session is saved; the job sheet comes from it.")}
+	out := []string{s.Good.Render(g.Done + " Every step is done and saved. Next:")}
 	for _, sk := range r.SkippedSafety() {
 		out = append(out, s.Bad.Render(v.e.g.cut(g.OutOfBand+" safety step skipped: "+sk.Step+" ("+sk.Reason+")", w)))
 	}
 	if r.Training {
 		out = append(out, practiceScore(r.Sess, g)...)
+	}
+	for _, c := range CommandLines(v.e.cfg.Start, v.e.cfg.Path, false) {
+		out = append(out, wrapHanging(c, w, 2)...)
 	}
 	return out
 }

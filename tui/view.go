@@ -268,60 +268,27 @@ func splitCommandHelp(line string) (word, desc string) {
 	return strings.Join(f[:n], " "), ""
 }
 
-// designArg is the design as the command line names it.
-func (m Model) designArg() string {
-	if d := m.cfg.Start.Design; d != "" {
-		return shellWord(d)
-	}
-	return "DESIGN"
-}
-
-// shellWord quotes a word for a POSIX shell when it needs it.
-func shellWord(s string) string {
-	if s != "" && strings.IndexFunc(s, func(r rune) bool {
-		return !(r == '/' || r == '.' || r == '-' || r == '_' || r == ':' || r == '+' || r == '=' || r == '@' || r == ',' ||
-			(r >= '0' && r <= '9') || (r >= 'a' && r <= 'z') || (r >= 'A' && r <= 'Z'))
-	}) < 0 {
-		return s
-	}
-	return "'" + strings.ReplaceAll(s, "'", `'\''`) + "'"
-}
-
-// resumeLines are the exact commands to carry on with this session and
-// to write its job sheets, each wrapped to w cells (never cut).
-func (m Model) resumeLines(w int) []string {
-	f := shellWord(m.path)
-	var out []string
-	for _, c := range []string{
-		"resume:        pinwalk walk " + m.designArg() + " --session " + f,
-		"job sheet:     pinwalk report " + f,
-		"for the owner: pinwalk report " + f + " --for customer",
-	} {
-		out = append(out, wrapHanging(c, w, 15)...)
-	}
-	return out
-}
-
 // startLines is the first screen's word on the session: new or resumed,
 // its file, and how to start a fresh one instead.
 func (m Model) startLines(w int) []string {
 	if m.path == "" {
 		return wrap("This session has no file: its readings go when you quit.", w)
 	}
-	st := m.cfg.Start
-	f := shellWord(m.path)
-	var head string
-	if st.Resumed {
-		head = fmt.Sprintf("RESUMED session (%d readings so far) from %s", st.Readings, m.path)
-	} else {
-		head = "NEW session, saved after every entry to " + m.path
+	var out []string
+	for _, l := range StartText(m.cfg.Start, m.path, false) {
+		out = append(out, wrapHanging(l, w, 2)...)
 	}
-	out := wrap(head, w)
-	fresh := "a fresh session instead: quit, then pinwalk walk " + m.designArg() + " --session NEWFILE"
-	if !st.Resumed {
-		fresh = "resume later: pinwalk walk " + m.designArg() + " --session " + f
+	return out
+}
+
+// resumeLines are the exact commands to carry on with this session and
+// to write its job sheets, each wrapped to w cells (never cut).
+func (m Model) resumeLines(w int) []string {
+	var out []string
+	for _, c := range CommandLines(m.cfg.Start, m.path, false) {
+		out = append(out, wrapHanging(c, w, 2)...)
 	}
-	return append(out, wrapHanging(fresh, w, 2)...)
+	return out
 }
 
 // wrapHanging wraps text to w cells with every line after the first
@@ -450,6 +417,12 @@ func (m Model) detail(h int) string {
 	}
 	for _, ms := range st.Measures {
 		lines = append(lines, wrap(fmt.Sprintf("Reading: %s %s %s %s %s probes: %s", ms.Label, m.e.g.Dot, ms.Function, ms.Range, m.e.g.Dot, ms.Probes), w)...)
+	}
+	if st.Kind == procedures.KindSummary {
+		lines = append(lines, "", s.Title.Render("Needs a look"))
+		lines = append(lines, exceptionText(procedures.Exceptions(r), w, m.e.g)...)
+		lines = append(lines, "", s.Title.Render("Commands"))
+		lines = append(lines, m.resumeLines(w)...)
 	}
 	return m.scrolled(lines, h)
 }

@@ -57,12 +57,14 @@ DESIGN is a design file (YAML); "demo" or no file means the embedded demo
 design (demo:NAME picks another: %s).
 
 Run "pinwalk <command> --help" for a command's options. With no arguments
-on a terminal, pinwalk opens the demo design's bring-up full-screen.
+on a terminal, pinwalk opens the demo design's bring-up full-screen,
+resuming (or starting) the session in
+%s.
 
 Valve amplifiers hold lethal voltages, and filter capacitors keep them after
 power-off. pinwalk's expectations do not replace training, local codes or
 licensed practice.
-`, strings.Join(demoNames(), ", "))
+`, strings.Join(demoNames(), ", "), demoSessionHint())
 }
 
 func main() {
@@ -118,6 +120,16 @@ func demoSessionPath() string {
 		dir = os.TempDir()
 	}
 	return filepath.Join(dir, "demo-bringup.pinwalk.yaml")
+}
+
+// demoSessionHint names the file a bare "pinwalk" resumes, for help
+// texts, without creating its directory.
+func demoSessionHint() string {
+	dir, err := os.UserCacheDir()
+	if err != nil {
+		return filepath.Join(os.TempDir(), "demo-bringup.pinwalk.yaml")
+	}
+	return filepath.Join(dir, "pinwalk", "demo-bringup.pinwalk.yaml")
 }
 
 // parseInterspersed parses flags that may come before or after the

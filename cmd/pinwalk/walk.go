@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
 	"strings"
 	"time"
 
@@ -29,7 +30,7 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 	plain := fs.Bool("plain", false, "line-by-line prompts on stdin/stdout (no screen control, no colour): for scripts, logs and screen readers")
 	mode := fs.String("mode", "bringup", "procedure: bringup, faultfind, training, practice or signal (signal tracing with a test tone)")
 	tone := fs.String("tone", "", "signal mode: the test tone FREQ:LEVEL at the input grid (default 1kHz:100mV)")
-	sessPath := fs.String("session", "", "session file: resumed when it exists, created otherwise (default: DESIGN-MODE-DATE.pinwalk.yaml here)")
+	sessPath := fs.String("session", "", "session file: resumed when it exists, created otherwise (default: DESIGN-MODE-DATE.pinwalk.yaml in the current directory, e.g. se-6v6-stereo-bringup-2025-03-01.pinwalk.yaml; pinwalk with no arguments resumes "+demoSessionHint()+")")
 	seed := fs.Uint64("seed", 1, "seed of the bands and of a practice session's hidden fault")
 	samples := fs.Int("samples", 0, "Monte Carlo samples per variac setting (default 300)")
 	accept := fs.Bool("accept-changed-design", false, "continue a session whose design file changed since it started")
@@ -42,7 +43,7 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 	meterName := fs.String("bench-meter", "", "the meter used: make, model and accuracy as on its data sheet")
 	benchMains := fs.String("bench-mains", "", "bench mains as measured at the wall, volts rms (e.g. 232)")
 	fs.Usage = func() {
-		fmt.Fprintf(stderr, "Usage: pinwalk walk [DESIGN] --plain [--mode bringup|faultfind|training|practice|signal] [--session FILE] [--seed N]\n\n")
+		fmt.Fprintf(stderr, "Usage: pinwalk walk [DESIGN] [--plain] [--mode bringup|faultfind|training|practice|signal] [--session FILE] [--seed N]\n\n")
 		fs.PrintDefaults()
 	}
 	pos, code, done := parseInterspersed(fs, args)
@@ -76,17 +77,21 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 		path = procedures.DefaultSessionPath(d, m, now)
 	}
 	var sess *procedures.Session
+	start := tui.Start{Design: arg, Fresh: freshPath(path)}
+	if arg == "" {
+		start.Design = "demo"
+	}
 	if _, err := os.Stat(path); err == nil {
 		sess, err = procedures.LoadSession(path)
 		if err != nil {
 			fmt.Fprintf(stderr, "pinwalk walk: %v\n", err)
 			return exitProblems
 		}
-		fmt.Fprintf(stdout, "Resuming session %s (%s, %d readings)\n", path, sess.Mode, len(sess.Readings))
+		start.Resumed, start.Readings = true, len(sess.Readings)
 	} else {
 		sess = procedures.NewSession(d, m, *seed, now)
-		fmt.Fprintf(stdout, "New session: %s\n", path)
 	}
+	start.Mode = sess.Mode
 	if err := fillIntake(sess, *customer, *ampName, *serial, *complaint, *technician, *meterName, *benchMains); err != nil {
 		fmt.Fprintf(stderr, "pinwalk walk: %v\n", err)
 		return exitUsage
@@ -109,7 +114,7 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 		return exitFailure
 	}
 	if !*plain && isTerminal(stdout) && walkInput == os.Stdin && isTerminal(os.Stdin) {
-		if err := tui.Run(context.Background(), tui.Config{Walk: w}); err != nil {
+		if err := tui.Run(context.Background(), tui.Config{Walk: w, Start: start}); err != nil {
 			fmt.Fprintf(stderr, "pinwalk walk: %v (the session file keeps every reading saved before this)\n", err)
 			return exitFailure
 		}
@@ -118,11 +123,30 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 	if !*plain {
 		fmt.Fprintln(stderr, "pinwalk walk: not a terminal; running in --plain mode")
 	}
-	if err := tui.RunPlain(w, walkInput, stdout); err != nil {
+	if err := tui.RunPlainFrom(w, start, walkInput, stdout); err != nil {
 		fmt.Fprintf(stderr, "pinwalk walk: %v\n", err)
 		return exitFailure
 	}
 	return exitOK
+}
+
+// freshPath is a session file beside path that does not exist yet, for
+// the command that starts a fresh session instead of resuming path:
+// NAME-2.pinwalk.yaml, NAME-3.pinwalk.yaml and so on.
+func freshPath(path string) string {
+	dir, file := filepath.Split(path)
+	ext := ".pinwalk.yaml"
+	if !strings.HasSuffix(file, ext) {
+		ext = filepath.Ext(file)
+	}
+	base := strings.TrimSuffix(file, ext)
+	for n := 2; n < 1000; n++ {
+		p := filepath.Join(dir, fmt.Sprintf("%s-%d%s", base, n, ext))
+		if _, err := os.Stat(p); errors.Is(err, os.ErrNotExist) {
+			return p
+		}
+	}
+	return ""
 }
 
 // isTerminal reports whether w is a terminal (the full-screen view needs

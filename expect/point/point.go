@@ -21,6 +21,7 @@ package point
 import (
 	"errors"
 	"fmt"
+	"regexp"
 	"strings"
 )
 
@@ -260,3 +261,13 @@ func ParseShort(s string) (Key, error) {
 	}
 	return Parse(s + " " + DCVolts)
 }
+
+// InText matches the text form of a key, or a telling piece of one,
+// anywhere in a text meant for a person (a screen, a job sheet), for the
+// tests that no key reaches one: a prefixed id (cold:B1), a quantity word
+// (dc_volts), ohms after an id (B1 ohms, earth ohms) and a socket pin in
+// key form (V3.8).
+var InText = regexp.MustCompile(`\b(?:cold|part|bias|discharge):[A-Za-z0-9]` +
+	`|\b(?:dc_volts|dc_amps|ac_volts|ac_amps|ripple_volts|tone_volts)\b` +
+	`|\b(?:[A-Z][A-Za-z0-9_+.-]*[0-9][A-Za-z0-9_.]*|earth|mains) ohms\b` +
+	`|\bV[0-9]+\.[0-9]+\b`)

@@ -102,3 +102,23 @@ func TestParseShort(t *testing.T) {
 		}
 	}
 }
+
+// InText finds every text form of String in prose and leaves ordinary
+// words alone.
+func TestInText(t *testing.T) {
+	for _, k := range []Key{
+		{Domain: Live, ID: "V2.3", Quantity: DCVolts}, {Domain: Live, ID: "B1", Quantity: DCVolts},
+		{Domain: Cold, ID: "B1", Quantity: Ohms}, {Domain: Part, ID: "R7", Quantity: Ohms},
+		{Domain: Bias, ID: "V3", Quantity: DCVolts}, {Domain: Discharge, ID: "C1", Quantity: DCVolts},
+		{Domain: Earth, Quantity: Ohms}, {Domain: Mains, Quantity: ACVolts},
+	} {
+		if s := "the reading " + k.String() + " was high"; !InText.MatchString(s) {
+			t.Errorf("InText misses %q", s)
+		}
+	}
+	for _, s := range []string{"V3 pin 8 cathode reads 19 V", "470 ohms", "C1 volts after discharge: 0 V", "hum when cold: yes", "6.3 V heater", "B1 to chassis, 4.7 kΩ"} {
+		if InText.MatchString(s) {
+			t.Errorf("InText matches plain words %q: %q", s, InText.FindString(s))
+		}
+	}
+}

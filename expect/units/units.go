@@ -128,6 +128,15 @@ func (e *SyntaxError) Error() string {
 	return fmt.Sprintf("%q: %s", e.Input, e.Msg)
 }
 
+// NotAValue reports whether the input is no value at all (empty, not a
+// number, an unknown unit), as opposed to a value written wrongly (a
+// comma, an RKM code with a prefix, out of range), whose message says
+// what to change. A caller that knows what is being read can then say
+// what such a value looks like there.
+func (e *SyntaxError) NotAValue() bool {
+	return strings.HasSuffix(e.Msg, msgExpected) || strings.HasPrefix(e.Msg, "unknown unit")
+}
+
 const msgExpected = "expected a number with an optional SI prefix or RKM code (4K7, 470R, 100n)"
 
 // prefixExp maps the accepted SI prefixes to their power of ten. Prefixes are

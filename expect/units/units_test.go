@@ -406,3 +406,19 @@ func BenchmarkFormat(b *testing.B) {
 		_ = Format(float64(i%1000+1)*4.7e-9, Farads)
 	}
 }
+
+// NotAValue tells text that is no value from a value written wrongly,
+// whose own message says what to change.
+func TestSyntaxErrorNotAValue(t *testing.T) {
+	for s, want := range map[string]bool{"abc": true, "": true, "4.7 X": true, "3..1": true, "4,7": false, "4K7k": false, "4.7K7": false} {
+		_, err := Parse(s, Volts)
+		var se *SyntaxError
+		if !errors.As(err, &se) {
+			t.Errorf("%q: %v is no syntax error", s, err)
+			continue
+		}
+		if se.NotAValue() != want {
+			t.Errorf("%q (%s): NotAValue %v, want %v", s, se.Msg, se.NotAValue(), want)
+		}
+	}
+}
