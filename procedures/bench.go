@@ -12,7 +12,6 @@ import (
 	"pinwalk/expect/design"
 	"pinwalk/expect/point"
 	"pinwalk/expect/units"
-	"pinwalk/expect/valves"
 )
 
 // EarthKey and MainsKey are the two fixed points outside the amplifier
@@ -358,7 +357,6 @@ func (b *BenchModel) Expect(k point.Key, variac float64, readings []Reading) (Ba
 	if bb.PP != nil {
 		out.PP = &Band{Nominal: bb.PP.Nominal, Low: bb.PP.Low, High: bb.PP.High, Why: bb.PP.Why}
 	}
-	b.capCathode(k, &out)
 	if v := variac; v > 0 && v < 0.9 && b.M.HT != nil {
 		if b.valveRectifier() != nil {
 			out.Note = join(out.Note, fmt.Sprintf("at %.0f %% mains every heater runs cool, the rectifier's too: its emission limits B+, which stays low until the filament warms (emission-limited estimate)", 100*v))
@@ -378,45 +376,6 @@ func (b *BenchModel) coldBand(c cold.Check) Band {
 	}
 	bb := bands.FromSpread(point.Ohms, c.Ohms, c.Tol[0], c.Tol[1], b.opt.Meter, "tolerance corners of the parts in the path")
 	return Band{Nominal: bb.Nominal, Low: bb.Low, High: bb.High, Note: c.Note, Why: bb.Why}
-}
-
-// capCathode caps the band of a cathode pin whose current returns through
-// resistors to chassis at the volts the rated plate dissipation allows
-// (a wider band would accept a red-plating valve as in band), and never
-// lets it go below 0 V.
-func (b *BenchModel) capCathode(k point.Key, out *Band) {
-	ref, pin, ok := k.Valve()
-	if !ok || k.Quantity != point.DCVolts {
-		return
-	}
-	sec, electrode := b.sectionOfPin(ref, pin)
-	if sec < 0 || electrode != valves.Cathode {
-		return
-	}
-	rk, n := b.cathodeLoad(sec)
-	op := b.nominalOP()
-	rated := b.M.Sections[sec].Type.Limits.PlateWatts
-	if rk <= 0 || op == nil || sec >= len(op.Sections) || rated <= 0 {
-		return
-	}
-	so := op.Sections[sec]
-	va := so.Va - so.Vk
-	if va <= 0 {
-		return
-	}
-	share := 1.0
-	if so.Ia > 0 {
-		share = (so.Ia + so.Ig2) / so.Ia
-	}
-	vmax := rated / va * share * rk * float64(n)
-	out.Low = math.Max(0, out.Low)
-	if out.High > vmax {
-		out.High = vmax
-		out.Why = append(out.Why, fmt.Sprintf("capped at %s: the cathode volts of the rated %s plate dissipation", FormatValue(vmax, "V"), units.Format(rated, units.Watts)))
-		if out.Nominal > vmax {
-			out.Nominal = vmax
-		}
-	}
 }
 
 func dischargeNote(dr cold.Discharge) string {

@@ -5,8 +5,8 @@ import (
 	"math"
 
 	"pinwalk/expect/amp"
+	"pinwalk/expect/bands"
 	"pinwalk/expect/cold"
-	"pinwalk/expect/design"
 	"pinwalk/expect/point"
 	"pinwalk/expect/units"
 	"pinwalk/expect/valves"
@@ -175,45 +175,10 @@ func (b *BenchModel) pinKey(sec int, electrode string) (point.Key, bool) {
 }
 
 // cathodeLoad is the resistance from a section's cathode net straight to
-// chassis and how many valve cathodes share that net, or 0 when the
-// cathode does not return to chassis through resistors alone.
+// chassis and how many valve cathodes share that net (bands.CathodeLoad).
 func (b *BenchModel) cathodeLoad(sec int) (ohms float64, sharing int) {
 	s := b.M.Sections[sec]
-	d := b.D
-	net := d.ByRef[s.Ref].Valve.Sections[s.Section][valves.Cathode]
-	if net == "" || net == d.Ground {
-		return 0, 0
-	}
-	g := 0.0
-	for _, u := range d.Nets[net] {
-		p := d.ByRef[u.Ref]
-		if p == nil {
-			continue
-		}
-		switch p.Kind {
-		case design.Resistor:
-			a, c := p.Terminals[0].Net, p.Terminals[1].Net
-			if (a == net && c == d.Ground) || (c == net && a == d.Ground) {
-				if p.Value > 0 {
-					g += 1 / p.Value
-				}
-			} else if a != c {
-				return 0, 0 // a cathode fed from elsewhere too: the volts do not give the current
-			}
-		case design.Capacitor, design.Valve:
-		default:
-			return 0, 0
-		}
-	}
-	for _, o := range b.M.Sections {
-		if d.ByRef[o.Ref].Valve.Sections[o.Section][valves.Cathode] == net {
-			sharing++
-		}
-	}
-	if g == 0 || sharing == 0 {
-		return 0, 0
-	}
-	return 1 / g, sharing
+	return bands.CathodeLoad(b.D, s.Ref, s.Section)
 }
 
 // dissipation estimates a section's plate dissipation from its cathode

@@ -348,6 +348,20 @@ func readingBand(quantity string, nominal, lo, hi float64, me ModelError, mt Met
 
 func sq(x float64) float64 { return x * x }
 
+// readingSigma is the standard deviation of a reading x's error against
+// the model: the model error me (a 95 % limit, σ = limit/1.96) and the
+// meter's error limit on the quantity's function and the range x is read
+// on (uniform, σ = limit/√3, GUM 4.3.7), in quadrature. readingBand adds
+// the same two errors, at 95 %, to the model's spread; Sigma and
+// Set.SigmaOf weigh readings with it.
+func readingSigma(quantity string, x float64, me ModelError, mt Meter) float64 {
+	if mt.isZero() {
+		mt = DefaultMeter()
+	}
+	lim, _ := mt.ErrorLimit(quantity, x)
+	return math.Sqrt(sq(me.Limit(x)/1.96) + sq(lim/math.Sqrt(3)))
+}
+
 // nonNegative: quantities whose healthy reading has one sign.
 func nonNegative(q string) bool {
 	switch q {

@@ -20,40 +20,35 @@ type Reading struct {
 // called degenerate.
 const MinESS = 20
 
-// Model error (our choice): the solver's own error against a real
-// amplifier — device models fitted to datasheet rows, the linearised
-// supply, the heater model — taken as 2 % of the value plus a small
-// absolute floor per quantity, combined with the meter's accuracy.
-const modelErrFrac = 0.02
-
-func modelErrFloor(q string) float64 {
-	switch q {
-	case amp.DCVolts, amp.ACVolts:
-		return 0.1 // volts
-	case amp.RippleVolts:
-		return 5e-3 // volts
-	case amp.DCAmps, amp.ACAmps:
-		return 10e-6 // amps
-	}
-	return 0
+// Sigma returns the standard deviation of a reading's error against the
+// model, for its likelihood: the same two errors the reading band adds to
+// the model's spread (readingBand), as standard deviations — the model
+// error of the quantity (ModelErrorOf with no electrode: a stated 95 %
+// limit, so σ = limit/1.96) and the meter's error on the function and
+// range in use (uniform within ± its limit, GUM 4.3.7: σ = limit/√3) — in
+// quadrature. Set.SigmaOf gives the σ of a reading at a point, with the
+// model error of the electrode on its net.
+func Sigma(r Reading, quantity string) float64 {
+	return readingSigma(quantity, r.Value, ModelErrorOf(amp.PointDef{Quantity: quantity}, ""), r.Meter)
 }
 
-// Sigma returns the standard deviation used for a reading's likelihood:
-// σ² = (meter accuracy)² + (model error)², the meter's error limit taken as
-// one σ (conservative) and the model error as above.
-func Sigma(r Reading, quantity string) float64 {
-	mt := r.Meter
-	if mt.isZero() {
-		mt = DefaultMeter()
+// SigmaOf is Sigma for a reading at one of the set's points: the model
+// error of the point's kind (ModelErrorOf with the valve electrode on its
+// net), the meter's error on the reading's function and range. An
+// unknown key gives the σ of its quantity alone.
+func (s *Set) SigmaOf(r Reading) float64 {
+	i, ok := s.Index(r.Key)
+	if !ok {
+		_, q, _ := strings.Cut(r.Key, " ")
+		return Sigma(r, q)
 	}
-	acc := mt.Accuracy(r.Value)
-	model := modelErrFrac*math.Abs(r.Value) + modelErrFloor(quantity)
-	return math.Sqrt(acc*acc + model*model)
+	pd := s.Points[i]
+	return readingSigma(pd.Quantity, r.Value, ModelErrorOf(pd, s.netElectrode[pd.Net]), r.Meter)
 }
 
 // Condition returns a copy of the set whose sample weights are multiplied
 // by the likelihood of the readings (Bayes' rule with a flat prior over
-// the samples): a Gaussian in (reading − prediction) with σ from Sigma.
+// the samples): a Gaussian in (reading − prediction) with σ from SigmaOf.
 // A DC-volts prediction is first moved by the meter's loading of that net
 // at nominal (the loaded/unloaded ratio, or the difference where the
 // nominal is near zero), so a grid read through a 10 MΩ meter is compared
@@ -83,7 +78,7 @@ func (s *Set) Condition(rs []Reading) (*Set, error) {
 			return nil, fmt.Errorf("bands: reading of %q is %v", r.Key, r.Value)
 		}
 		pd := s.Points[i]
-		e := readingFit{i: i, value: r.Value, sigma: Sigma(r, pd.Quantity), ratio: 1}
+		e := readingFit{i: i, value: r.Value, sigma: s.SigmaOf(r), ratio: 1}
 		if pd.Quantity == amp.DCVolts {
 			ls, err := s.loadingOf(r.Meter, []string{r.Key})
 			if err == nil && len(ls) == 1 {

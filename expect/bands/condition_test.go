@@ -69,14 +69,35 @@ func TestConditionDegenerate(t *testing.T) {
 	}
 }
 
-// σ² = meter² + model²: a typical handheld at 250 V is ±(0.5 % + 2 digits)
-// = 1.25 V + 2 × 0.1 V = 1.45 V on its 400 V range (4000 counts); the model
-// error is 2 % + 0.1 V = 5.1 V; together √(1.45² + 5.1²).
+// σ² = (model/1.96)² + (meter/√3)²: the model error of a plate or supply
+// net is a 95 % limit of 3 % + 0.2 V = 7.7 V at 250 V (ModelPlate); a
+// typical handheld (6000 counts) reads 250 V on its 600 V range, ±(0.5 % +
+// 2 digits) = 1.25 V + 2 × 0.1 V = 1.45 V, uniform within that limit (GUM
+// 4.3.7). A 40 mA current is read on DC current, 1 % + 3 digits on the
+// 60 mA range (10 µA): 0.43 mA, with the current model error 5 % + 0.1 µA.
+// A cathode net at 10 V takes the cathode model error (5 % + 2 mV), read on
+// the 60 V range (10 mV a count).
 func TestSigma(t *testing.T) {
 	got := Sigma(Reading{Value: 250}, "dc_volts")
-	want := math.Hypot(1.45, 5.1)
+	want := math.Hypot(7.7/1.96, 1.45/math.Sqrt(3))
 	if math.Abs(got-want) > 1e-9 {
 		t.Errorf("Sigma(250 V) = %g, want %g", got, want)
+	}
+	got = Sigma(Reading{Value: 0.040}, "dc_amps")
+	want = math.Hypot((0.05*0.040+1e-7)/1.96, (0.01*0.040+3*10e-6)/math.Sqrt(3))
+	if math.Abs(got-want) > 1e-12 {
+		t.Errorf("Sigma(40 mA) = %g, want %g", got, want)
+	}
+	s := run(t, load(t, demoA), Options{Samples: 0})
+	for _, pd := range s.Points {
+		if pd.Electrode == "cathode" && pd.Quantity == "dc_volts" {
+			got := s.SigmaOf(Reading{Key: pd.Key(), Value: 10})
+			want := math.Hypot((0.05*10+2e-3)/1.96, (0.005*10+2*10e-3)/math.Sqrt(3)) // 60 V range, 10 mV
+			if math.Abs(got-want) > 1e-12 {
+				t.Errorf("SigmaOf(%s at 10 V) = %g, want %g", pd.Key(), got, want)
+			}
+			break
+		}
 	}
 	// Analogue: ±3 % of the 500 V range = 15 V, whatever the reading.
 	mt, err := ParseMeter("20k/V:500V")
@@ -240,3 +261,4 @@ func TestConditionAppliesMeterLoading(t *testing.T) {
 		t.Errorf("%g V on PIG1 through 10 MΩ (nominal %g V) not flagged", loaded, ls[0].Unloaded)
 	}
 }
+

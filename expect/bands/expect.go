@@ -5,6 +5,9 @@ import (
 	"math"
 
 	"pinwalk/expect/amp"
+	"pinwalk/expect/design"
+	"pinwalk/expect/units"
+	"pinwalk/expect/valves"
 )
 
 // Expect returns the band a reading of the point key ("V3.3 dc_volts")
@@ -22,7 +25,9 @@ import (
 //  4. the low end of a current, an AC reading or a resistance held at 0,
 //     the ends rounded outwards to the display's resolution, a nominal
 //     below one count flagged BelowResolution;
-//  5. for ripple, the peak-to-peak band (PP) beside the rms one.
+//  5. for ripple, the peak-to-peak band (PP) beside the rms one;
+//  6. a cathode pin whose current returns through resistors to chassis
+//     capped at the volts of the valve's rated plate dissipation (capCathode).
 //
 // Band.Why says each of these in words. It is safe for concurrent use.
 func (s *Set) Expect(key string, mt Meter) (Band, error) {
@@ -87,7 +92,146 @@ func (s *Set) Expect(key string, mt Meter) (Band, error) {
 	if pd.Quantity == amp.RippleVolts {
 		s.addPP(&b, pd)
 	}
+	s.capCathode(pd, &b)
 	return b, nil
+}
+
+// holdToReadings keeps a conditioned DC-volts band on the right side of
+// the readings it was conditioned on: when point i lies below a read
+// point in every sample (and at nominal) — a screen fed from B3 through a
+// resistor, a plate below its supply net — its band ends at that reading
+// at most, and when it lies above in every sample, it starts at the
+// reading at least. The same meter on the same function reads both
+// points, so its gain error moves them alike: a point the circuit holds
+// below a net reads below it (the counts' last digit aside). Without the
+// hold, the model error and the meter's, added in quadrature to a spread
+// already narrowed by the reading, would reach past the reading itself.
+func (s *Set) holdToReadings(i int, b *Band) {
+	pd := s.Points[i]
+	if pd.Quantity != amp.DCVolts {
+		return
+	}
+	for _, r := range s.Readings {
+		j, ok := s.Index(r.Key)
+		if !ok || j == i || s.Points[j].Quantity != amp.DCVolts {
+			continue
+		}
+		below, above := s.Nominal[i] <= s.Nominal[j], s.Nominal[i] >= s.Nominal[j]
+		for k, row := range s.Values {
+			if s.Weights[k] <= 0 {
+				continue
+			}
+			below = below && row[i] <= row[j]
+			above = above && row[i] >= row[j]
+		}
+		if below == above { // neither, or the same net
+			continue
+		}
+		q := s.Points[j].Quantity
+		v := FormatReading(r.Value, q, b.Range.Res)
+		switch {
+		case below && b.High > r.Value:
+			b.High = math.Max(b.Low, math.Floor(r.Value/b.Range.Res+1e-9)*b.Range.Res)
+			b.Nominal = math.Min(b.Nominal, b.High)
+			b.Why = append(b.Why, fmt.Sprintf("held at or below your %s reading, %s: the circuit keeps %s below %s", s.Points[j].ID, v, pd.ID, s.Points[j].ID))
+		case above && b.Low < r.Value:
+			b.Low = math.Min(b.High, math.Ceil(r.Value/b.Range.Res-1e-9)*b.Range.Res)
+			b.Nominal = math.Max(b.Nominal, b.Low)
+			b.Why = append(b.Why, fmt.Sprintf("held at or above your %s reading, %s: the circuit keeps %s above %s", s.Points[j].ID, v, pd.ID, s.Points[j].ID))
+		}
+	}
+}
+
+// capCathode caps the band of a cathode pin whose current returns through
+// resistors to chassis at the volts the rated plate dissipation allows at
+// the set's operating point (a wider band would accept a red-plating
+// valve as in band), and never lets it go below 0 V.
+func (s *Set) capCathode(pd amp.PointDef, b *Band) {
+	if pd.Quantity != amp.DCVolts || pd.Electrode != valves.Cathode || pd.Section < 0 || s.d == nil || s.NominalOP == nil || pd.Section >= len(s.NominalOP.Sections) {
+		return
+	}
+	p := s.d.ByRef[pd.Valve]
+	if p == nil || p.Valve == nil {
+		return
+	}
+	sec := ""
+	for _, vp := range p.Valve.Type.Pins {
+		if vp.Number == pd.Pin {
+			sec = vp.Section
+		}
+	}
+	rk, n := CathodeLoad(s.d, pd.Valve, sec)
+	st := p.Valve.Type
+	if u := st.SectionType(sec, s.d.SideValves); u != nil {
+		st = u
+	}
+	rated := st.Limits.PlateWatts
+	so := s.NominalOP.Sections[pd.Section]
+	va := so.Va - so.Vk
+	if rk <= 0 || rated <= 0 || va <= 0 {
+		return
+	}
+	share := 1.0
+	if so.Ia > 0 {
+		share = (so.Ia + so.Ig2) / so.Ia
+	}
+	vmax := rated / va * share * rk * float64(n)
+	b.Low = math.Max(0, b.Low)
+	if b.High > vmax {
+		b.High = vmax
+		b.Why = append(b.Why, fmt.Sprintf("capped at %s: the cathode volts of the rated %s plate dissipation",
+			amp.FormatValue(vmax, amp.DCVolts), units.Format(rated, units.Watts)))
+		if b.Nominal > vmax {
+			b.Nominal = vmax
+		}
+	}
+}
+
+// CathodeLoad is the resistance from a valve section's cathode net
+// straight to chassis and how many valve cathodes share that net, or 0
+// when the cathode does not return to chassis through resistors alone
+// (then its volts do not give its current).
+func CathodeLoad(d *design.Design, ref, section string) (ohms float64, sharing int) {
+	p := d.ByRef[ref]
+	if p == nil || p.Valve == nil {
+		return 0, 0
+	}
+	net := p.Valve.Sections[section][valves.Cathode]
+	if net == "" || net == d.Ground {
+		return 0, 0
+	}
+	g := 0.0
+	for _, u := range d.Nets[net] {
+		q := d.ByRef[u.Ref]
+		if q == nil {
+			continue
+		}
+		switch q.Kind {
+		case design.Resistor:
+			a, c := q.Terminals[0].Net, q.Terminals[1].Net
+			if (a == net && c == d.Ground) || (c == net && a == d.Ground) {
+				if q.Value > 0 {
+					g += 1 / q.Value
+				}
+			} else if a != c {
+				return 0, 0 // a cathode fed from elsewhere too
+			}
+		case design.Capacitor, design.Valve:
+		default:
+			return 0, 0
+		}
+	}
+	for _, v := range d.Valves() {
+		for _, secNets := range v.Valve.Sections {
+			if secNets[valves.Cathode] == net {
+				sharing++
+			}
+		}
+	}
+	if g == 0 || sharing == 0 {
+		return 0, 0
+	}
+	return 1 / g, sharing
 }
 
 // conditionWords describe the bench conditions of the set.

@@ -363,11 +363,13 @@ func (e *Engine) sigma(q string, x float64) float64 {
 func (e *Engine) accuracy(q string, x float64) float64 {
 	switch {
 	case q == amp.Ohms:
-		return bands.DigitalMeter.Accuracy(x)
+		lim, _ := bands.DigitalMeter.ErrorLimit(q, x)
+		return lim
 	case q == ac.ToneVolts, q == amp.RippleVolts && e.opt.ACMeter.set():
 		return acAccuracy(x)
 	}
-	return e.opt.Meter.Accuracy(x)
+	lim, _ := e.opt.Meter.ErrorLimit(q, x) // on the quantity's own function and range
+	return lim
 }
 
 // toneSetup says how to take a tone reading.

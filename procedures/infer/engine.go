@@ -165,6 +165,9 @@ type Engine struct {
 
 	hNom []float64 // the healthy nominal per DC point, as read through the meter
 
+	healthy *bands.Set         // the healthy cloud as solved, for its reading bands
+	hBand   map[int]bands.Band // HealthyBand by point, filled on first need (under mu)
+
 	mu    sync.Mutex // guards cache, pairs and the upgrade of coarse clouds
 	cache *llCache
 	pairs map[string]*hyp
@@ -203,6 +206,7 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 	if err != nil {
 		return nil, fmt.Errorf("infer: the healthy amplifier does not solve: %w", err)
 	}
+	e.healthy, e.hBand = healthy, map[int]bands.Band{}
 	e.roles = partRoles(m, healthy.NominalOP)
 	loading, _ := healthy.Loading(opt.Meter)
 	load := map[string]bands.Loading{}
@@ -618,7 +622,6 @@ func (e *Engine) coldAll(base []cold.Check) error {
 // V/I (common practice: the resistance of tungsten rises several times
 // from room temperature to working temperature).
 const (
-	ohmsFloor    = 0.2
 	heaterColdLo = 0.08
 	heaterColdHi = 0.25
 )
@@ -658,13 +661,14 @@ func (e *Engine) widths() {
 	}
 }
 
-// sigmaOf is the σ of a reading of x (bands.Sigma: meter accuracy and model
-// error combined).
+// sigmaOf is the σ of a reading of x (bands.Sigma: the model error of the
+// quantity and the meter's error on its function and range, the same two
+// errors every reading band carries). Resistance is read on a digital
+// meter's ohms ranges (the probe contact after nulling the leads is in
+// the ohms model error).
 func sigmaOf(q string, x float64, mt bands.Meter) float64 {
 	if q == amp.Ohms {
-		// A digital meter's resistance ranges, and the leads' own
-		// resistance as a floor (common practice: about 0.1–0.3 Ω).
-		return max(bands.Sigma(bands.Reading{Value: x, Meter: bands.DigitalMeter}, q), ohmsFloor)
+		mt = bands.DigitalMeter
 	}
 	return bands.Sigma(bands.Reading{Value: x, Meter: mt}, q)
 }
@@ -773,6 +777,42 @@ func (e *Engine) Band(fault, key string) (lo, nominal, hi float64, ok bool) {
 		return 0, 0, 0, false
 	}
 	return h.bandLo[k], h.mean[k], h.bandHi[k], true
+}
+
+// HealthyBand returns the band a reading of key should fall in on a
+// healthy amplifier: bands.Set.Expect on the healthy cloud with the
+// engine's meter (a cold point: bands.FromSpread on its tolerance
+// corners), the band `expect`, the walk and the job sheet give under the
+// same conditions and samples. diagnose shows it ("healthy predicts …").
+func (e *Engine) HealthyBand(key string) (bands.Band, bool) {
+	k, ok := e.index[key]
+	if !ok {
+		return bands.Band{}, false
+	}
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	return e.healthyBand(k)
+}
+
+// healthyBand is HealthyBand by point index; e.mu must be held.
+func (e *Engine) healthyBand(k int) (bands.Band, bool) {
+	if b, ok := e.hBand[k]; ok {
+		return b, b.Quantity != ""
+	}
+	p := &e.points[k]
+	var b bands.Band
+	switch {
+	case p.cold:
+		if c := e.hyps[0].cold[k-e.nDC]; !c.open && !p.pulled {
+			b = bands.FromSpread(amp.Ohms, c.nom, c.lo, c.hi, e.opt.Meter, "tolerance corners of the parts in the path")
+		}
+	case k < e.nDC && e.healthy != nil:
+		if bb, err := e.healthy.Expect(p.key, e.opt.Meter); err == nil {
+			b = bb
+		}
+	}
+	e.hBand[k] = b
+	return b, b.Quantity != ""
 }
 
 // Simulate returns what a real amplifier with the given fault (or

@@ -502,6 +502,12 @@ func (e *Engine) distance(h *hyp, k int, r, sg float64) (float64, string, bool) 
 	if !h.valid[k] {
 		return 0, "", false
 	}
+	if h == e.hyps[0] {
+		// The healthy band as every command shows it (HealthyBand).
+		if b, ok := e.healthyBand(k); ok {
+			return max(b.Low-r, r-b.High, 0) / sg, b.Format(), true
+		}
+	}
 	lo, hi := h.bandLo[k], h.bandHi[k]
 	return max(lo-r, r-hi, 0) / sg, fmtRange(lo, hi, p.quantity), true
 }
