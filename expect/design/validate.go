@@ -199,6 +199,7 @@ func (d *Design) DCGroups() map[string]string {
 func (l *loader) checkDCPaths(d *Design) {
 	g := d.DCGroups()
 	ground := g[d.Ground]
+	through := newValvePaths(d, g)
 	for _, p := range d.Valves() {
 		vt := p.Valve.Type
 		if vt.Kind == valves.Rectifier {
@@ -216,7 +217,7 @@ func (l *loader) checkDCPaths(d *Design) {
 			m := p.Valve.Sections[s]
 			for _, e := range []string{valves.Grid, valves.Cathode, valves.Screen, valves.Plate} {
 				net, ok := m[e]
-				if !ok || net == "" || g[net] == ground {
+				if !ok || net == "" || g[net] == ground || through.reaches(net, d.Ground, p.Ref, s) {
 					continue
 				}
 				field := join(join(p.Ref, s), e)
