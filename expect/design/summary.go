@@ -428,7 +428,7 @@ func findings(d *Design, s *Summary) []SummaryFinding {
 	}
 	for _, net := range d.NetNames() {
 		uses := d.Nets[net]
-		if net == d.Ground || len(uses) != 1 {
+		if net == d.Ground || len(uses) != 1 || speakerOnly(d, uses[0]) {
 			continue
 		}
 		u := uses[0]

@@ -22,7 +22,7 @@ func (l *loader) validate(d *Design) {
 	names := d.NetNames()
 	for _, net := range names {
 		uses := d.Nets[net]
-		if len(uses) != 1 || net == d.Ground {
+		if len(uses) != 1 || net == d.Ground || speakerOnly(d, uses[0]) {
 			continue
 		}
 		u := uses[0]
@@ -141,11 +141,7 @@ func dcJoins(p *Part) [][]string {
 		}
 		return g
 	case OutputTransformer:
-		grp := []string{p.OT.Ends[0], p.OT.Ends[1]}
-		if p.OT.Centre != "" {
-			grp = append(grp, p.OT.Centre)
-		}
-		return [][]string{grp}
+		return otJoins(p.OT)
 	case Rectifier:
 		return [][]string{nets()}
 	case Valve:
