@@ -40,9 +40,10 @@ func TestColdResistanceHand(t *testing.T) {
 		lo, hi  float64
 		comment string
 	}{
-		// NB: R4 10k + VR1 25k track, in parallel with R5 10k + VR2 25k
-		// (the grid leaks end on cold grids): 35k ∥ 35k.
-		{"NB", 17.5e3, 0.5 * (9.5e3 + 20e3), 0.5 * (10.5e3 + 30e3), "hand: two dividers in parallel"},
+		// NB: R4 10k + VR1 10k track + R6 15k limiter, in parallel with
+		// R5 + VR2 + R7 (the grid leaks end on cold grids): 35k ∥ 35k;
+		// 5 % resistors, 20 % pot track.
+		{"NB", 17.5e3, 0.5 * (9.5e3 + 8e3 + 14.25e3), 0.5 * (10.5e3 + 12e3 + 15.75e3), "hand: two dividers in parallel"},
 		// PIG1: R20 1M to the tail, R23 10k to chassis (the tail's other
 		// branches end on a cold cathode and an open capacitor).
 		{"PIG1", 1.01e6, 0.95 * 1.01e6, 1.05 * 1.01e6, "hand: series"},

@@ -1632,6 +1632,7 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 				vt.Name, cat, vp.HeaterNets[0], vp.HeaterNets[1])
 		}
 	}
+	l.rectifierHeaterPins(p, vp)
 	nums := make([]int, 0, len(vp.PinNets))
 	for n := range vp.PinNets {
 		nums = append(nums, n)

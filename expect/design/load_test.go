@@ -19,7 +19,7 @@ func TestDemosLoad(t *testing.T) {
 	}{
 		{"bench-12ax7.yaml", 8, 7, 1, []string{"HT", "P1", "G1", "K1", "H1", "H2"}, true},
 		{"se-6v6-stereo.yaml", 35, 26, 3, []string{"B1", "B4", "OPL", "OPR", "KR2", "L1"}, true},
-		{"pp-el34-fixed.yaml", 43, 35, 5, []string{"PIK", "TAIL", "NB", "WA", "WB", "RF"}, true},
+		{"pp-el34-fixed.yaml", 45, 37, 5, []string{"PIK", "TAIL", "NB", "WA", "WB", "RF"}, true},
 	}
 	for _, c := range cases {
 		t.Run(c.file, func(t *testing.T) {

@@ -48,6 +48,9 @@ func (l *loader) validate(d *Design) {
 	l.checkDCPaths(d)
 	l.checkHeaters(d)
 	l.checkFilamentCathodes(d)
+	l.checkRectifierHeaters(d)
+	l.checkSwappedElectrodes(d)
+	l.checkBiasPots(d)
 	for _, p := range d.Parts {
 		for _, f := range p.Placeholder {
 			l.add(p.FieldPos(strings.TrimPrefix(f, p.Ref+".")), Note, f, "", "placeholder value: replace it with the value on your amp's schematic or part (then drop the ?)")

@@ -12,8 +12,8 @@ import (
 
 func TestNamesAndLookup(t *testing.T) {
 	want := []string{"0D3", "12AT7", "12AU7", "12AV6", "12AX7", "12AY7", "2A3", "300B", "35W4", "50C5", "5751", "5AR4", "5R4GY", "5U4GB", "5V4G", "5Y3GT",
-		"6550", "6AQ5", "6AU6", "6AV6", "6BA6", "6BE6", "6C4", "6CG7", "6DJ8", "6J5", "6L6GC", "6SL7GT", "6SN7GTB", "6V6GT", "6X4",
-		"ECL82", "EF86", "EL34", "EL84", "EZ81", "GZ37", "KT66", "KT88", "OA2", "OB2"}
+		"6550", "6973", "6AQ5", "6AU6", "6AV6", "6BA6", "6BE6", "6C4", "6CG7", "6DJ8", "6J5", "6L6GC", "6SL7GT", "6SN7GTB", "6V6GT", "6X4", "7591",
+		"ECL82", "ECL86", "EF86", "EL34", "EL84", "EZ81", "GZ37", "KT66", "KT88", "OA2", "OB2"}
 	if got := Names(); !reflect.DeepEqual(got, want) {
 		t.Errorf("Names() = %v, want %v", got, want)
 	}
@@ -24,6 +24,7 @@ func TestNamesAndLookup(t *testing.T) {
 		"ecc83": "12AX7", "ECC82": "12AU7", "Ecc81": "12AT7", "6sn7": "6SN7GTB", "6BQ5": "EL84",
 		"6V6": "6V6GT", "6l6": "6L6GC", "6CA7": "EL34", "gz34": "5AR4", "6CA4": "EZ81", " 12ax7 ": "12AX7",
 		"6BM8": "ECL82", "VR150": "0D3", "EBC91": "6AV6", "EK90": "6BE6", "EC90": "6C4", "ECC88": "6DJ8", "6922": "6DJ8", "EF94": "6AU6", "EZ90": "6X4", "6SL7": "6SL7GT", "EL90": "6AQ5", "6267": "EF86",
+		"6GW8": "ECL86", "7591A": "7591",
 	} {
 		ty, ok := Lookup(alias)
 		if !ok || ty.Name != canon {
@@ -295,6 +296,47 @@ func TestRegulatorsAndDirectlyHeatedTriodes(t *testing.T) {
 		if ty.Base != UX4 || !ty.Heater.DirectlyHeated || [2]float64{ty.Heater.Volts, ty.Heater.Amps} != h ||
 			!reflect.DeepEqual(ty.PinsOf("", Cathode), []int{1, 4}) || !reflect.DeepEqual(ty.PinsOf("", Plate), []int{2}) {
 			t.Errorf("%s: %+v", name, ty)
+		}
+	}
+}
+
+// The 7591 is an octal beam valve whose socket is not wired like a 6L6
+// (RCA 7591A base diagram, from memory): cathode on 5, grid on 6. The 6973
+// is a noval beam valve (GE 6973, from memory); the ECL86 a triode-pentode
+// (Mullard ECL86, from memory).
+func TestBeamAndTriodePentodeAdditions(t *testing.T) {
+	type pm = map[string][]int
+	for name, c := range map[string]struct {
+		base Base
+		pins pm
+		hv   [2]float64
+		sv   map[string]float64 // section → screen_v
+	}{
+		"7591":  {Octal, pm{"/heater": {2, 7}, "/plate": {3}, "/screen": {4}, "/cathode": {5}, "/grid": {6}}, [2]float64{6.3, 0.8}, map[string]float64{"": 440}},
+		"6973":  {Noval, pm{"/grid": {1}, "/cathode": {3}, "/heater": {4, 5}, "/plate": {7}, "/screen": {9}}, [2]float64{6.3, 0.45}, map[string]float64{"": 330}},
+		"ECL86": {Noval, pm{"T/grid": {1}, "T/cathode": {2}, "P/screen": {3}, "/heater": {4, 5}, "P/plate": {6}, "P/grid": {7}, "P/cathode": {8}, "T/plate": {9}}, [2]float64{6.3, 0.7}, map[string]float64{"P": 300}},
+	} {
+		ty, ok := Lookup(name)
+		if !ok {
+			t.Fatalf("%s missing", name)
+		}
+		if ty.Base != c.base || ty.Heater.Volts != c.hv[0] || ty.Heater.Amps != c.hv[1] {
+			t.Errorf("%s: base %s heater %g V %g A", name, ty.Base, ty.Heater.Volts, ty.Heater.Amps)
+		}
+		for key, pins := range c.pins {
+			sec, el, _ := strings.Cut(key, "/")
+			if got := ty.PinsOf(sec, el); !reflect.DeepEqual(got, pins) {
+				t.Errorf("%s PinsOf(%q, %q) = %v, want %v", name, sec, el, got, pins)
+			}
+		}
+		for sec, v := range c.sv {
+			st := ty
+			if sec != "" {
+				st = ty.SectionType(sec, nil)
+			}
+			if st == nil || st.Limits.ScreenVolts != v {
+				t.Errorf("%s section %q: screen_v %v, want %g", name, sec, st, v)
+			}
 		}
 	}
 }
