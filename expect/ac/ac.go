@@ -149,6 +149,7 @@ type seElem struct {
 	slot           int
 	ohms, henrys   float64
 	ratio          float64 // secondary/primary volts
+	sec            speakerNets
 }
 
 // ppElem is a push-pull output transformer: ends ea, eb through the half
@@ -159,8 +160,10 @@ type ppElem struct {
 	ea, eb, c      int
 	xa, xb, j      int
 	slotA, slotB   int
+	slotA2, slotB2 int // tap-to-plate segments of halves with a screen tap, -1 when none
 	ohms, henrys   float64
 	ratio          float64
+	sec            speakerNets
 }
 
 type secElem struct {
@@ -193,11 +196,13 @@ type Analyzer struct {
 	nNodes int
 	n      int // unknowns: nodes, then push-pull common-mode currents
 
-	res  []resElem
-	caps []capElem
-	ses  []seElem
-	pps  []ppElem
-	secs []secElem
+	res     []resElem
+	caps    []capElem
+	ses     []seElem
+	pps     []ppElem
+	secs    []secElem
+	winds   []windElem // screen taps and wired secondaries (windings.go)
+	windRes []windRes
 
 	reservoir int // node of the first HT filter net, -1 when none
 	filter    []int
@@ -318,11 +323,15 @@ func New(m *amp.Model) (*Analyzer, error) {
 						e.slot = s
 					}
 				}
+				e.sec = an.otWindings(p, [2]int{e.x, e.b}, -1, ratio, idx, internal)
+				if e.sec.wired {
+					e.ohms = 0 // the load is on the secondary itself
+				}
 				an.ses = append(an.ses, e)
 				continue
 			}
 			e := ppElem{ref: p.Ref, id: p.Ref + SpeakerSuffix, label: speakerLabel(d, p.Ref), ea: idx(ot.Ends[0]), eb: idx(ot.Ends[1]), c: idx(ot.Centre),
-				xa: internal(), xb: internal(), j: len(an.pps), slotA: -1, slotB: -1,
+				xa: internal(), xb: internal(), j: len(an.pps), slotA: -1, slotB: -1, slotA2: -1, slotB2: -1,
 				ohms: ot.Impedance, henrys: PPPrimaryHenries, ratio: ratio}
 			for _, s := range m.SlotsOf(p.Ref) {
 				switch m.Slots[s].Role {
@@ -330,7 +339,15 @@ func New(m *amp.Model) (*Analyzer, error) {
 					e.slotA = s
 				case "half-b":
 					e.slotB = s
+				case "half-a.outer":
+					e.slotA2 = s
+				case "half-b.outer":
+					e.slotB2 = s
 				}
+			}
+			e.sec = an.otWindings(p, [2]int{e.xa, e.xb}, e.c, ratio, idx, internal)
+			if e.sec.wired {
+				e.ohms = 0 // the load is on the secondary itself
 			}
 			an.pps = append(an.pps, e)
 		}
@@ -364,9 +381,12 @@ func New(m *amp.Model) (*Analyzer, error) {
 	}
 	an.input = findInput(m)
 	an.inputs = findInputs(m)
-	an.n = an.nNodes + len(an.pps)
+	an.n = an.nNodes + len(an.pps) + len(an.winds)
 	for i := range an.pps {
 		an.pps[i].j += an.nNodes
+	}
+	for i := range an.winds {
+		an.winds[i].j = an.nNodes + len(an.pps) + i
 	}
 	an.a = make([]complex128, an.n*an.n)
 	an.b = make([]complex128, an.n)
@@ -474,9 +494,15 @@ func (an *Analyzer) read(pr probe, x []complex128) complex128 {
 	switch {
 	case pr.se >= 0:
 		e := an.ses[pr.se]
+		if e.sec.wired {
+			return volt(x, e.sec.hot) - volt(x, e.sec.cold)
+		}
 		return (volt(x, e.x) - volt(x, e.b)) * complex(e.ratio, 0)
 	case pr.pp >= 0:
 		e := an.pps[pr.pp]
+		if e.sec.wired {
+			return volt(x, e.sec.hot) - volt(x, e.sec.cold)
+		}
 		return (volt(x, e.xa) - volt(x, e.xb)) * complex(e.ratio, 0)
 	}
 	return volt(x, pr.node)
@@ -565,12 +591,12 @@ func (an *Analyzer) stamp(op *amp.OP, v *amp.Values, w float64, opt *Options) {
 			continue
 		}
 		if e.slotA >= 0 {
-			if r := v.Slot[e.slotA]; !math.IsInf(r, 1) {
+			if r := v.Slot[e.slotA] + slotOhms(v, e.slotA2); !math.IsInf(r, 1) {
 				add(e.ea, e.xa, complex(1/max(r, minOhms), 0))
 			}
 		}
 		if e.slotB >= 0 {
-			if r := v.Slot[e.slotB]; !math.IsInf(r, 1) {
+			if r := v.Slot[e.slotB] + slotOhms(v, e.slotB2); !math.IsInf(r, 1) {
 				add(e.eb, e.xb, complex(1/max(r, minOhms), 0))
 			}
 		}
@@ -587,6 +613,7 @@ func (an *Analyzer) stamp(op *amp.OP, v *amp.Values, w float64, opt *Options) {
 			a[j*n+e.c] -= 2
 		}
 	}
+	an.stampWindings(v.Slot, add, open)
 	for _, e := range an.secs {
 		if open[e.ref] {
 			continue

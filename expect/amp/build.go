@@ -208,13 +208,7 @@ func Build(d *design.Design) (*Model, error) {
 			m.slotByRef[p.Ref] = append(m.slotByRef[p.Ref], len(m.Slots)-1)
 			m.addR(p.Ref, "dcr", inner, out, p.DCR)
 		case design.OutputTransformer:
-			ot := p.OT
-			if ot.Centre == "" {
-				m.addR(p.Ref, "primary", ot.Ends[0], ot.Ends[1], ot.DCR[0])
-			} else {
-				m.addR(p.Ref, "half-a", ot.Centre, ot.Ends[0], ot.DCR[0])
-				m.addR(p.Ref, "half-b", ot.Centre, ot.Ends[1], ot.DCR[1])
-			}
+			m.addOutputTransformer(p)
 		case design.PowerTransformer:
 			for _, w := range p.PT.Windings {
 				if ht != nil && w == ht.Winding {
@@ -255,6 +249,15 @@ func Build(d *design.Design) (*Model, error) {
 		return nil, fmt.Errorf("%s: nothing to solve: no amplifying valves and no HT supply", d.File)
 	}
 	return m, nil
+}
+
+// addOutputTransformer puts an output transformer's windings in the
+// network as their DC resistances: the primary (halves, split at screen
+// taps) and, when wired, the secondary.
+func (m *Model) addOutputTransformer(p *design.Part) {
+	for _, sg := range p.OT.Segments() {
+		m.addR(p.Ref, sg.Role, sg.A, sg.B, sg.Ohms)
+	}
 }
 
 func (m *Model) addValve(p *design.Part) {

@@ -19,7 +19,8 @@ import (
 // discharged, valves out of their sockets, meter on its resistance range.
 type Check struct {
 	// ID is the net name for a reading to chassis, or the winding's name
-	// ("OT1 primary", "OT1 half a", "L1", "T1 HT", "T1 HT half a",
+	// ("OT1 primary", "OT1 half a", "OT1 tap a", "OT1 tap a to plate",
+	// "OT1 secondary", "L1", "T1 HT", "T1 HT half a",
 	// "T1 primary", "J1 live–neutral").
 	ID       string
 	From, To string  // the meter's positive and common leads
@@ -43,7 +44,8 @@ const climbSeconds = 0.5
 // B+ net (HT filter nets from the rectifier outwards, then supply outputs),
 // then each valve's plate, screen, grid and cathode nets, then every other
 // net carrying DC, each to chassis; then the windings: output transformer
-// (whole primary and each half), chokes, power transformer secondaries
+// (whole primary, each half, each screen tap from the centre and to its
+// plate, a wired secondary), chokes, power transformer secondaries
 // (whole and each half) and primary, and the mains inlet live to neutral.
 // Readings are in-circuit: every parallel path of the cold network counts.
 func Checks(d *design.Design) ([]Check, error) {
@@ -120,6 +122,21 @@ func Checks(d *design.Design) ([]Check, error) {
 			if err == nil && ot.Centre != "" {
 				if err = wind(p.Ref+" half a", ot.Centre, ot.Ends[0]); err == nil {
 					err = wind(p.Ref+" half b", ot.Centre, ot.Ends[1])
+				}
+			}
+			for i, h := range []string{"a", "b"} {
+				if err != nil || ot.Taps[i] == "" {
+					break
+				}
+				if err = wind(p.Ref+" tap "+h, ot.Centre, ot.Taps[i]); err == nil {
+					err = wind(p.Ref+" tap "+h+" to plate", ot.Taps[i], ot.Ends[i])
+				}
+			}
+			if err == nil && ot.SecHot != "" {
+				err = wind(p.Ref+" secondary", ot.SecHot, ot.SecCold)
+				if err == nil {
+					c := &out[len(out)-1]
+					c.Note = join(c.Note, "at the speaker jack with the speaker unplugged")
 				}
 			}
 		case design.Choke:

@@ -2,6 +2,7 @@ package cold
 
 import (
 	"math"
+	"strings"
 
 	"pinwalk/expect/amp"
 	"pinwalk/expect/design"
@@ -25,7 +26,8 @@ const shortOhms = 1e-3
 // open loses both halves; a shorted capacitor is 1 mΩ across it, a leaky
 // one its leakage resistance (faults.LeakyElectrolyticOhms or
 // faults.LeakyFilmOhms); a choke open loses its winding; an output
-// transformer "OT1.a"/"OT1.b" loses one half, a push-pull "OT1" open (the
+// transformer "OT1.a"/"OT1.b" loses one half (both segments of a half
+// with a screen tap), "OT1.sec" its wired secondary, a push-pull "OT1" open (the
 // centre-tap lead) parts the centre tap from both halves, a single-ended
 // one loses its primary; a power transformer open loses the HT winding,
 // heater-open the heater windings feeding amplifying valves; a fuse open
@@ -150,9 +152,9 @@ func alterNetwork(n *network, m *amp.Model, f faults.Fault) bool {
 	d := n.d
 	ref, half := f.Ref, ""
 	if d.ByRef[ref] == nil {
-		for _, h := range []string{"a", "b"} {
-			if len(ref) > 2 && ref[len(ref)-2:] == "."+h && d.ByRef[ref[:len(ref)-2]] != nil {
-				ref, half = ref[:len(ref)-2], h
+		for _, h := range []string{"a", "b", faults.SecondaryWinding} {
+			if base, ok := strings.CutSuffix(ref, "."+h); ok && d.ByRef[base] != nil {
+				ref, half = base, h
 			}
 		}
 	}
@@ -217,12 +219,12 @@ func alterNetwork(n *network, m *amp.Model, f faults.Fault) bool {
 	case design.OutputTransformer:
 		ot := p.OT
 		switch {
-		case half == "a":
-			drop(between(ot.Centre, ot.Ends[0]))
-		case half == "b":
-			drop(between(ot.Centre, ot.Ends[1]))
+		case half == "a" || half == "b":
+			drop(otSegments(p, design.HalfRoles(half)...))
+		case half == faults.SecondaryWinding:
+			drop(otSegments(p, "secondary"))
 		case ot.Centre == "":
-			drop(mine)
+			drop(otSegments(p, "primary"))
 		default:
 			// The centre-tap lead open: both halves stay joined end to
 			// end, parted from the centre-tap net.

@@ -66,12 +66,8 @@ func buildNetwork(d *design.Design) *network {
 		case design.Fuse:
 			add(p.Ref, p.Terminals[0].Net, p.Terminals[1].Net, 0, design.Tolerance{})
 		case design.OutputTransformer:
-			ot := p.OT
-			if ot.Centre == "" {
-				add(p.Ref, ot.Ends[0], ot.Ends[1], ot.DCR[0], wtol)
-			} else {
-				add(p.Ref, ot.Centre, ot.Ends[0], ot.DCR[0], wtol)
-				add(p.Ref, ot.Centre, ot.Ends[1], ot.DCR[1], wtol)
+			for _, sg := range p.OT.Segments() {
+				add(p.Ref, sg.A, sg.B, sg.Ohms, wtol)
 			}
 		case design.PowerTransformer:
 			pt := p.PT

@@ -189,6 +189,17 @@ type OutputTransformerPart struct {
 	Impedance float64 // primary impedance, plate to plate for push-pull
 	Load      float64 // speaker load the impedance is quoted for
 	SecDCR    float64
+	// Taps are screen (ultralinear) taps on a push-pull primary: Taps[i]
+	// is the net of the tap on the half to Ends[i], TapFrac the fraction
+	// of each half's turns from the centre tap to the tap ("" and 0 when
+	// the primary has none). See otwinding.go.
+	Taps    [2]string
+	TapFrac float64
+	// SecHot and SecCold are the secondary's speaker-side nets when the
+	// file wires them (secondary: {hot: SPK}); SecHot is "" when the
+	// secondary is not wired to anything. The hot end is in phase with
+	// the first primary end (Ends[0]).
+	SecHot, SecCold string
 }
 
 // RectifierPart is a silicon rectifier (diodes or a bridge). Valve

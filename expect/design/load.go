@@ -759,6 +759,7 @@ func (l *loader) design(d *Design, root *yaml.Node) {
 			d.ByRef[ref] = p // still reserve the reference for duplicate detection
 		}
 	}
+	resolveGroundPending(d)
 	for _, p := range d.Parts {
 		for _, t := range p.Terminals {
 			d.Nets[t.Net] = append(d.Nets[t.Net], NetUse{Ref: p.Ref, Terminal: t.Name, Pos: t.Pos})
@@ -1269,8 +1270,9 @@ func (l *loader) outputTransformer(p *Part, n *yaml.Node) {
 	ot := &OutputTransformerPart{}
 	p.OT = ot
 	got := map[string]*yaml.Node{}
-	for _, kv := range l.pairs(n, f, []string{"primary", "secondary"}) {
+	for _, kv := range l.pairs(n, f, []string{"primary", "secondary", "taps"}) {
 		got[kv[0].Value] = kv[1]
+		p.markField(f+"."+kv[0].Value, posOf(kv[0]))
 	}
 	if n.Kind != yaml.MappingNode {
 		return
@@ -1348,8 +1350,10 @@ func (l *loader) outputTransformer(p *Part, n *yaml.Node) {
 	}
 	ot.Load = 8
 	if sn, ok := got["secondary"]; ok {
-		for _, kv := range l.pairs(sn, f+".secondary", []string{"load", "dcr"}) {
+		for _, kv := range l.pairs(sn, f+".secondary", []string{"load", "dcr", "hot", "cold"}) {
 			switch kv[0].Value {
+			case "hot", "cold":
+				l.otSecondaryNet(p, kv[0].Value, kv[1], f+".secondary."+kv[0].Value)
 			case "load":
 				if v, ok := l.value(kv[1], f+".secondary.load", units.Ohms, p); ok {
 					if v <= 0 || v > 1000 {
@@ -1364,6 +1368,7 @@ func (l *loader) outputTransformer(p *Part, n *yaml.Node) {
 			}
 		}
 	}
+	l.otFinish(p, got["taps"], got["secondary"], f)
 }
 
 func (l *loader) rectifier(p *Part, kv *yaml.Node, fields map[string]*yaml.Node) {

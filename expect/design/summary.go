@@ -428,7 +428,7 @@ func findings(d *Design, s *Summary) []SummaryFinding {
 	}
 	for _, net := range d.NetNames() {
 		uses := d.Nets[net]
-		if net == d.Ground || len(uses) != 1 {
+		if net == d.Ground || len(uses) != 1 || speakerOnly(d, uses[0]) {
 			continue
 		}
 		u := uses[0]
@@ -438,6 +438,7 @@ func findings(d *Design, s *Summary) []SummaryFinding {
 	}
 	groups := d.DCGroups()
 	ground := groups[d.Ground]
+	through := newValvePaths(d, groups)
 	supplyNets := map[string]bool{}
 	for _, ch := range s.Supplies {
 		if ch.Name == "bias" {
@@ -458,12 +459,12 @@ func findings(d *Design, s *Summary) []SummaryFinding {
 			}
 			m := vp.Sections[sec]
 			name := p.Ref + sec
-			if g := m[valves.Grid]; g != "" && groups[g] != ground {
+			if g := m[valves.Grid]; g != "" && groups[g] != ground && !through.reaches(g, d.Ground, p.Ref, sec) {
 				add(FindGridNoDC, Error, p.Ref, g, p.FieldPos(gridField(sec)),
 					"%s grid net %s has no DC path to ground: the grid floats and the bias is undefined; add a grid leak to ground or to the bias supply",
 					name, g)
 			}
-			if k := m[valves.Cathode]; k != "" && groups[k] != ground {
+			if k := m[valves.Cathode]; k != "" && groups[k] != ground && !through.reaches(k, d.Ground, p.Ref, sec) {
 				add(FindCathodeNoDC, Error, p.Ref, k, p.FieldPos(cathodeField(sec)),
 					"%s cathode net %s has no DC path to ground: the valve cannot conduct; add the cathode resistor or tie it to ground",
 					name, k)

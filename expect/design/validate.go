@@ -22,7 +22,7 @@ func (l *loader) validate(d *Design) {
 	names := d.NetNames()
 	for _, net := range names {
 		uses := d.Nets[net]
-		if len(uses) != 1 || net == d.Ground {
+		if len(uses) != 1 || net == d.Ground || speakerOnly(d, uses[0]) {
 			continue
 		}
 		u := uses[0]
@@ -144,11 +144,7 @@ func dcJoins(p *Part) [][]string {
 		}
 		return g
 	case OutputTransformer:
-		grp := []string{p.OT.Ends[0], p.OT.Ends[1]}
-		if p.OT.Centre != "" {
-			grp = append(grp, p.OT.Centre)
-		}
-		return [][]string{grp}
+		return otJoins(p.OT)
 	case Rectifier:
 		return [][]string{nets()}
 	case Valve:
@@ -202,6 +198,7 @@ func (d *Design) DCGroups() map[string]string {
 func (l *loader) checkDCPaths(d *Design) {
 	g := d.DCGroups()
 	ground := g[d.Ground]
+	through := newValvePaths(d, g)
 	for _, p := range d.Valves() {
 		vt := p.Valve.Type
 		if vt.Kind == valves.Rectifier {
@@ -219,7 +216,7 @@ func (l *loader) checkDCPaths(d *Design) {
 			m := p.Valve.Sections[s]
 			for _, e := range []string{valves.Grid, valves.Cathode, valves.Screen, valves.Plate} {
 				net, ok := m[e]
-				if !ok || net == "" || g[net] == ground {
+				if !ok || net == "" || g[net] == ground || through.reaches(net, d.Ground, p.Ref, s) {
 					continue
 				}
 				field := join(join(p.Ref, s), e)

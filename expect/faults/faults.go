@@ -13,6 +13,8 @@
 //	output-transformer  open (single-ended: the primary; push-pull: the
 //	                    centre-tap lead, both halves); "OT1.a"/"OT1.b": the
 //	                    half to the first / second end of a push-pull primary
+//	                    (with its screen-tap segments); "OT1.sec": a wired
+//	                    secondary (secondary: {hot: SPK}) open
 //	power-transformer   open (the HT winding), heater-open (the heater
 //	                    windings feeding amplifying valves)
 //	rectifier (silicon) open (every diode), half-open (one diode of a
@@ -140,20 +142,25 @@ func modeList(ms []Mode) string {
 	return strings.Join(s, ", ")
 }
 
-// splitRef splits "OT1.a" into the part and its half ("a", "b" or "").
+// splitRef splits "OT1.a" into the part and its winding ("a", "b", "sec"
+// or "").
 func splitRef(m *amp.Model, ref string) (*design.Part, string) {
 	if p := m.D.ByRef[ref]; p != nil {
 		return p, ""
 	}
 	if i := strings.LastIndex(ref, "."); i > 0 {
 		half := ref[i+1:]
-		if p := m.D.ByRef[ref[:i]]; p != nil && p.Kind == design.OutputTransformer && p.OT.Centre != "" &&
-			(half == "a" || half == "b") {
+		if p := m.D.ByRef[ref[:i]]; p != nil && p.Kind == design.OutputTransformer &&
+			(p.OT.Centre != "" && (half == "a" || half == "b") || p.OT.SecHot != "" && half == SecondaryWinding) {
 			return p, half
 		}
 	}
 	return nil, ""
 }
+
+// SecondaryWinding is the suffix of an output transformer's wired
+// secondary in a fault reference ("OT1.sec").
+const SecondaryWinding = "sec"
 
 // Modes returns the modes that apply to a part (or a push-pull output
 // transformer half, "OT1.a"), in a fixed order; nil for an unknown
@@ -280,6 +287,9 @@ func refs(m *amp.Model) []string {
 		out = append(out, p.Ref)
 		if p.Kind == design.OutputTransformer && p.OT.Centre != "" {
 			out = append(out, p.Ref+".a", p.Ref+".b")
+		}
+		if p.Kind == design.OutputTransformer && p.OT.SecHot != "" {
+			out = append(out, p.Ref+"."+SecondaryWinding)
 		}
 	}
 	return out
@@ -426,12 +436,12 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 		setSlots(ix, open)
 	case design.OutputTransformer:
 		switch half {
-		case "a":
-			setSlots(slotsWithRole(m, p.Ref, "half-a"), math.Inf(1))
-		case "b":
-			setSlots(slotsWithRole(m, p.Ref, "half-b"), math.Inf(1))
+		case "a", "b":
+			setSlots(slotsWithRole(m, p.Ref, design.HalfRoles(half)...), math.Inf(1))
+		case SecondaryWinding:
+			setSlots(slotsWithRole(m, p.Ref, "secondary"), math.Inf(1))
 		default:
-			setSlots(slotsWithRole(m, p.Ref, "primary", "half-a", "half-b"), math.Inf(1))
+			setSlots(slotsWithRole(m, p.Ref, append(append([]string{"primary"}, design.HalfRoles("a")...), design.HalfRoles("b")...)...), math.Inf(1))
 		}
 	case design.PowerTransformer:
 		switch f.Mode {
@@ -587,6 +597,8 @@ func Describe(f Fault, m *amp.Model) string {
 			return fmt.Sprintf("%s primary half %s–%s open", p.Ref, p.OT.Centre, p.OT.Ends[0])
 		case "b":
 			return fmt.Sprintf("%s primary half %s–%s open", p.Ref, p.OT.Centre, p.OT.Ends[1])
+		case SecondaryWinding:
+			return fmt.Sprintf("%s secondary %s–%s open (no sound; feedback taken from the speaker is lost)", p.Ref, p.OT.SecHot, p.OT.SecCold)
 		}
 		if p.OT.Centre != "" {
 			return name + " primary centre-tap lead open (both halves)"

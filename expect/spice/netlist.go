@@ -446,17 +446,7 @@ func (n *Netlist) parts(m *amp.Model, v *amp.Values, mainsFactor float64) {
 			n.line("%s %s %s dc %s", n.elem("V", p.Ref), mid, t(1), num(volts))
 			n.resistor(p.Ref+"_dcr", mid, t(0), r, fmt.Sprintf("%s %s %s V behind its DCR", p.Ref, p.Kind, num(volts)))
 		case design.OutputTransformer:
-			ot := p.OT
-			if ot.Centre == "" {
-				r, _ := slot(p.Ref, "primary")
-				n.resistor(p.Ref+"_pri", n.node(ot.Ends[0]), n.node(ot.Ends[1]), r, p.Ref+" output transformer primary, its DCR (DC model)")
-			} else {
-				ra, _ := slot(p.Ref, "half-a")
-				rb, _ := slot(p.Ref, "half-b")
-				ct := n.node(ot.Centre)
-				n.resistor(p.Ref+"_a", ct, n.node(ot.Ends[0]), ra, p.Ref+" push-pull primary, half to "+ot.Ends[0]+", its DCR")
-				n.resistor(p.Ref+"_b", ct, n.node(ot.Ends[1]), rb, p.Ref+" half to "+ot.Ends[1]+", its DCR")
-			}
+			n.outputTransformer(p, slot)
 		case design.Fuse:
 			// pinwalk's network leaves fuses out (they sit on the mains
 			// side); one joining two nets of the network would be a
