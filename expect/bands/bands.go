@@ -49,6 +49,16 @@ type Options struct {
 	// Extra, when set, adds points computed from each solved operating
 	// point (AC tone levels, hum) to the set, sampled like the DC ones.
 	Extra *Extra
+	// LoadNets: Run also solves the nominal with Meter's input resistance
+	// from each of these nets to chassis, one net at a time, and stores
+	// the net's volts as read in Set.Loaded (nets outside the DC network
+	// are left out).
+	LoadNets []string
+	// ReadThroughMeter: every sample's DC-volts points are the readings
+	// Meter would give, each net solved again with the meter's input
+	// resistance on it (one more solve per net); the nominal stays
+	// unloaded. For simulating a bench reading, not for bands.
+	ReadThroughMeter bool
 }
 
 // Extra describes points beyond the model's DC points. New is called once
@@ -88,6 +98,9 @@ type Set struct {
 	Cond       amp.Conditions
 	NominalOP  *amp.OP
 	Readings   []Reading // readings the set is conditioned on
+	// Loaded: per net of Options.LoadNets, the nominal volts as read
+	// through Options.Meter.
+	Loaded map[string]float64
 
 	d            *design.Design
 	opt          Options
@@ -163,6 +176,14 @@ func Run(d *design.Design, opt Options) (*Set, error) {
 		set.Nominal = append(set.Nominal, xs...)
 	}
 	set.buildIndex()
+	if len(opt.LoadNets) > 0 {
+		set.Loaded = map[string]float64{}
+		for _, net := range opt.LoadNets {
+			if x, ok := nomRun.loaded(opt, nomRun.base, nom, net); ok {
+				set.Loaded[net] = x
+			}
+		}
+	}
 
 	n := opt.Samples
 	type result struct {
@@ -257,6 +278,32 @@ func solveNominal(d *design.Design, opt Options) (*nominalRun, error) {
 	return &nominalRun{m: m, s: s, base: base, op: op}, nil
 }
 
+// loaded solves the operating point op (values v) again with the meter of
+// opt on net and returns the net's volts; ok is false when the net has no
+// meter slot or the loaded solve fails.
+func (r *nominalRun) loaded(opt Options, v *amp.Values, op *amp.OP, net string) (float64, bool) {
+	return loadedVolts(r.m, r.s, opt, opt.Cond, v, op, net)
+}
+
+func loadedVolts(m *amp.Model, s *amp.Solver, opt Options, c amp.Conditions, v *amp.Values, op *amp.OP, net string) (float64, bool) {
+	slot, ok := m.MeterSlot(net)
+	if !ok {
+		return 0, false
+	}
+	mt := opt.Meter
+	if mt.isZero() {
+		mt = DefaultMeter()
+	}
+	w := v.Clone()
+	w.Slot[slot] = mt.Ohms()
+	s.SetWarm(op.V)
+	var lop amp.OP
+	if err := s.Solve(c, w, true, &lop); err != nil {
+		return 0, false
+	}
+	return m.NetVolts(&lop, net)
+}
+
 // blockSolver solves samples on its own model, starting every sample from
 // the nominal solution and the nominal supply line.
 type blockSolver struct {
@@ -325,6 +372,25 @@ func (w *blockSolver) sample(k int, pl *plan, points []amp.PointDef, total int) 
 			return nil, fmt.Errorf("%s is not finite", pd.Key())
 		}
 		out[i] = x
+	}
+	if w.opt.ReadThroughMeter {
+		byNet := map[string]float64{}
+		op := w.op
+		for i, pd := range points {
+			if pd.Quantity != amp.DCVolts {
+				continue
+			}
+			x, done := byNet[pd.Net]
+			if !done {
+				var ok bool
+				if x, ok = loadedVolts(w.m, w.s, w.opt, c, v, &op, pd.Net); !ok {
+					x = out[i]
+				}
+				byNet[pd.Net] = x
+			}
+			out[i] = x
+		}
+		w.op = op
 	}
 	if w.xev != nil {
 		if err := w.xev(&w.op, v, out[len(points):]); err != nil {

@@ -144,6 +144,84 @@ type hyp struct {
 	// is exact (the fault changes no DC value), so it is never solved.
 	coarse, shared bool
 	ca, cb         []float64
+	// load: the meter's loading at the DC-volts points on the fault's own
+	// nets, as this hypothesis sees it (point index → prediction·ratio +
+	// offset); elsewhere the healthy amplifier's loading stands (see
+	// meterMap).
+	load map[int]meterLoad
+}
+
+// meterLoad is the meter's effect on one DC-volts point: the reading is
+// the unloaded volts times ratio plus offset.
+type meterLoad struct{ ratio, offset float64 }
+
+// loadOf turns a point's unloaded and loaded nominal into a meterLoad: a
+// ratio where the point is well away from 0 V, an offset near it.
+func loadOf(unloaded, loaded float64) meterLoad {
+	if math.Abs(unloaded) > 0.5 {
+		return meterLoad{ratio: loaded / unloaded}
+	}
+	return meterLoad{ratio: 1, offset: loaded - unloaded}
+}
+
+// meterMap returns how the meter reads DC point k under a hypothesis:
+// reading = unloaded·ratio + offset. A fault changes the source resistance
+// of the nets its part touches (a grid return drifted high is exactly what
+// a 10 MΩ meter shows up), so there the hypothesis's own loaded solve
+// counts; elsewhere the healthy amplifier's.
+func (e *Engine) meterMap(h *hyp, k int) (ratio, offset float64) {
+	if l, ok := h.load[k]; ok {
+		return l.ratio, l.offset
+	}
+	return e.points[k].ratio, e.points[k].offset
+}
+
+// setLoad records a hypothesis's own meter loading from a set run with
+// LoadNets (the nets of its fault's part).
+func (e *Engine) setLoad(h *hyp, set *bands.Set) {
+	if len(set.Loaded) == 0 {
+		return
+	}
+	h.load = map[int]meterLoad{}
+	for k := 0; k < e.nDC; k++ {
+		p := &e.points[k]
+		if p.quantity != amp.DCVolts {
+			continue
+		}
+		x, ok := set.Loaded[p.pd.Net]
+		if !ok {
+			continue
+		}
+		i, ok := set.Index(p.key)
+		if !ok {
+			continue
+		}
+		h.load[k] = loadOf(set.Nominal[i], x)
+	}
+}
+
+// faultNets returns the nets the parts of some faults connect to.
+func (e *Engine) faultNets(fs []faults.Fault) []string {
+	seen := map[string]bool{}
+	var out []string
+	for _, f := range fs {
+		p := e.d.ByRef[f.Ref]
+		if p == nil {
+			if i := strings.LastIndex(f.Ref, "."); i > 0 {
+				p = e.d.ByRef[f.Ref[:i]]
+			}
+		}
+		if p == nil {
+			continue
+		}
+		for _, t := range p.Terminals {
+			if !seen[t.Net] {
+				seen[t.Net] = true
+				out = append(out, t.Net)
+			}
+		}
+	}
+	return out
 }
 
 // Engine holds the hypotheses and their predictions for one design, meter
@@ -216,11 +294,8 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 	for _, pd := range m.Points() {
 		p := point{key: pd.Key(), label: pd.Label, quantity: pd.Quantity, pd: pd, ratio: 1}
 		if l, ok := load[p.key]; ok {
-			if math.Abs(l.Unloaded) > 0.5 {
-				p.ratio = l.Loaded / l.Unloaded
-			} else {
-				p.offset = l.Loaded - l.Unloaded
-			}
+			ml := loadOf(l.Unloaded, l.Loaded)
+			p.ratio, p.offset = ml.ratio, ml.offset
 		}
 		e.addPoint(p)
 	}
@@ -286,6 +361,7 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 					h.err = err
 					continue
 				}
+				e.setLoad(h, set)
 				if opt.Eager {
 					e.fill(h, set)
 				} else {
@@ -317,7 +393,8 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 
 // bandsOptions are the tolerance-sampling options for a set of faults.
 func (e *Engine) bandsOptions(fs []faults.Fault, samples int, seed uint64, workers int) bands.Options {
-	o := bands.Options{Samples: samples, Seed: seed, Workers: workers, Cond: e.opt.Cond, FixedMains: e.opt.Cond.MainsVolts > 0, Extra: e.tone}
+	o := bands.Options{Samples: samples, Seed: seed, Workers: workers, Cond: e.opt.Cond, FixedMains: e.opt.Cond.MainsVolts > 0, Extra: e.tone,
+		Meter: e.opt.Meter, LoadNets: e.faultNets(fs)}
 	if len(fs) > 0 {
 		o.Values = func(m *amp.Model, v *amp.Values) error {
 			for _, f := range fs {
@@ -375,9 +452,10 @@ func (e *Engine) fill(h *hyp, set *bands.Set) {
 			continue
 		}
 		h.valid[k] = true
+		ratio, offset := e.meterMap(h, k)
 		var sx, sxx float64
 		for s := range n {
-			v := rows[s][i]*p.ratio + p.offset
+			v := rows[s][i]*ratio + offset
 			h.x[k*n+s] = v
 			col[s] = v
 			sx += v
@@ -418,7 +496,8 @@ func (e *Engine) coarseFill(h *hyp, set *bands.Set) {
 		if !ok {
 			continue
 		}
-		xf := set.Nominal[i]*p.ratio + p.offset
+		ratio, offset := e.meterMap(h, k)
+		xf := set.Nominal[i]*ratio + offset
 		h.valid[k] = true
 		var a, b float64
 		switch x0 := e.hNom[k]; {
@@ -485,6 +564,7 @@ func (e *Engine) upgrade(idx []int) {
 					h.err = err
 					continue
 				}
+				e.setLoad(h, set)
 				e.fill(h, set)
 			}
 		}()
@@ -839,7 +919,9 @@ func (e *Engine) Simulate(fault string, seed uint64) (map[string]float64, error)
 	if s2 == e.opt.Seed {
 		s2++
 	}
-	set, err := bands.Run(e.d, e.bandsOptions(fs, 1, s2, 1))
+	bo := e.bandsOptions(fs, 1, s2, 1)
+	bo.LoadNets, bo.ReadThroughMeter = nil, true
+	set, err := bands.Run(e.d, bo)
 	if err != nil {
 		return nil, err
 	}
@@ -862,7 +944,7 @@ func (e *Engine) Simulate(fault string, seed uint64) (map[string]float64, error)
 		if !ok {
 			continue
 		}
-		out[p.key] = noise(set.Values[0][j]*p.ratio+p.offset, p.quantity)
+		out[p.key] = noise(set.Values[0][j], p.quantity) // read through the meter already
 	}
 	for j, c := range h.cold {
 		p := &e.points[e.nDC+j]

@@ -794,6 +794,7 @@ func (e *Engine) pair(a, b *hyp) *hyp {
 	if err != nil {
 		h.err = err
 	} else {
+		e.setLoad(h, set)
 		e.fill(h, set)
 		base := e.hyps[0].cold
 		h.cold = make([]coldPred, len(base))
