@@ -67,7 +67,7 @@ func (s *Set) Condition(rs []Reading) (*Set, error) {
 	c := *s
 	c.Weights = append([]float64(nil), s.Weights...)
 	c.Readings = append(append([]Reading(nil), s.Readings...), rs...)
-	c.Degenerate, c.Reason, c.Tempered = false, "", 1
+	c.Degenerate, c.Misfit, c.Reason, c.Tempered = false, false, "", 1
 	var list []readingFit
 	for _, r := range rs {
 		i, ok := s.Index(r.Key)
@@ -136,7 +136,7 @@ func (s *Set) Condition(rs []Reading) (*Set, error) {
 		return &c, nil
 	}
 	c.Degenerate = true
-	c.Reason = s.outsideReason(list)
+	c.Reason, c.Misfit = s.outsideReason(list)
 	// Temper: the largest λ with ESS(λ) ≥ MinESS, by bisection (ESS falls
 	// as λ grows).
 	lo, hi := 0.0, 1.0
@@ -163,8 +163,12 @@ type readingFit struct {
 }
 
 // outsideReason names the readings that lie outside what the samples
-// predict (beyond the band by more than 3σ of the reading).
-func (s *Set) outsideReason(rs []readingFit) string {
+// predict (beyond the band by more than 3σ of the reading); misfit is
+// true when there is one. Readings that are each within reach of the
+// model but together leave few samples are not a misfit: with dozens of
+// readings the likelihood always rests on a few of a few hundred samples,
+// healthy amp or not, so that alone is no evidence of a fault.
+func (s *Set) outsideReason(rs []readingFit) (reason string, misfit bool) {
 	var bad []string
 	for _, r := range rs {
 		i, v, sg := r.i, r.value, r.sigma
@@ -177,7 +181,7 @@ func (s *Set) outsideReason(rs []readingFit) string {
 		}
 	}
 	if len(bad) == 0 {
-		return "the readings together are unlikely for a healthy amplifier built to this design: a fault or a design mismatch"
+		return fmt.Sprintf("the readings together leave few of the %d samples (each reading lies within reach of a healthy amplifier)", len(s.Values)), false
 	}
-	return strings.Join(bad, "; ") + ": outside what the model predicts for a healthy amplifier built to this design (a fault or a design mismatch)"
+	return strings.Join(bad, "; ") + ": outside what the model predicts for a healthy amplifier built to this design (a fault or a design mismatch)", true
 }
