@@ -191,6 +191,9 @@ func (s *Set) capCathode(pd amp.PointDef, b *Band) {
 		share = (so.Ia + so.Ig2) / so.Ia
 	}
 	vmax := rated / va * share * rk * float64(n)
+	if r := b.Range.Res; r > 0 {
+		vmax = math.Floor(vmax/r+1e-9) * r // a whole count: the meter shows no finer
+	}
 	b.Low = math.Max(0, b.Low)
 	if b.High > vmax {
 		b.High = vmax
