@@ -221,7 +221,7 @@ func printMeasure(p func(string, ...any), r *procedures.Runner, st *procedures.S
 			p("  note: %s", s.Band.Note)
 		}
 		for _, w := range s.Band.Why {
-			if strings.HasPrefix(w, "narrowed by") || strings.HasPrefix(w, "meter ") || strings.HasPrefix(w, "the readings do not fit") || strings.HasPrefix(w, "capped at") {
+			if bandWhyShown(w) {
 				p("  %s", w)
 			}
 		}

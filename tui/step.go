@@ -625,6 +625,15 @@ func (v stepView) gaugeLines(st *procedures.Step, m *procedures.Measure, w int) 
 		mk.Guess = &val
 	}
 	lines = gauge(s, v.e.g, w, be.Band, m.Unit, mk)
+	// What narrowed the band, held it or capped it, and the meter it
+	// allows for: the lines a technician needs to trust a tight band.
+	for _, y := range be.Band.Why {
+		if bandWhyShown(y) {
+			for _, l := range wrapHanging(v.e.words(y), w, 2) {
+				note = append(note, s.Dim.Render(l))
+			}
+		}
+	}
 	if be.Band.Note != "" {
 		for _, l := range wrapHanging("note: "+v.e.words(be.Band.Note), w, 6) {
 			note = append(note, s.Dim.Render(l))
@@ -741,4 +750,15 @@ func joinEnds(a, b string, w int) string {
 		return a + " " + b
 	}
 	return a + strings.Repeat(" ", gap) + b
+}
+
+// bandWhyShown picks the lines of a band's why that the step screen and
+// the plain mode show under the expected band.
+func bandWhyShown(w string) bool {
+	for _, p := range []string{"narrowed by", "held at or", "the readings do not fit", "capped at", "meter "} {
+		if strings.HasPrefix(w, p) {
+			return true
+		}
+	}
+	return false
 }

@@ -497,3 +497,30 @@ func TestFaultFindLoop(t *testing.T) {
 		t.Errorf("suspects view has no ranking:\n%s", screen(m))
 	}
 }
+
+// TestStepShowsWhatNarrowedTheBand: after the technician reads B2, the
+// step screen's band for the next supply net says which reading narrowed
+// it, in the words of the band itself (bands.Set.Expect's why), so that a
+// band tighter than a service sheet's ±10–20 % is explained on the screen.
+func TestStepShowsWhatNarrowedTheBand(t *testing.T) {
+	walk, _ := openWalk(t, "se-6v6-stereo", procedures.BringUp)
+	m := newModel(t, walk, 120, 40)
+	m = walkTo(t, m, procedures.StepSupply)
+	r := walk.R
+	for i := 0; i < 4; i++ {
+		ms := r.NextMeasure()
+		if ms == nil {
+			t.Fatal("the supply step has no B2 reading")
+		}
+		if ms.Point.ID == "B2" {
+			break
+		}
+		b, _ := r.Expected(r.Current(), ms)
+		m = drive(t, m, typeText(typed(b.Nominal, ms.Unit))...)
+	}
+	m = drive(t, m, typeText("289")...)
+	s := screen(m)
+	if !strings.Contains(s, "narrowed by your B2 reading, 289 V") {
+		t.Errorf("the step screen does not say what narrowed the band:\n%s", s)
+	}
+}

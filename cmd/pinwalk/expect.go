@@ -231,7 +231,7 @@ with what the meter will show.`)
 		return exitProblems
 	}
 	if *cold {
-		return runColdExpect(d, *asJSON, stdout, stderr)
+		return runColdExpect(d, meter, *asJSON, stdout, stderr)
 	}
 	m, err := amp.Build(d)
 	if err != nil {

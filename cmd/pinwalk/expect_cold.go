@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"pinwalk/expect/amp"
+	"pinwalk/expect/bands"
 	"pinwalk/expect/cold"
 	"pinwalk/expect/design"
 	"pinwalk/expect/units"
@@ -39,10 +40,25 @@ type jsonCold struct {
 	From string   `json:"from"`
 	To   string   `json:"to"`
 	Ohms jsonOhms `json:"ohms"` // null: open
-	Low  jsonOhms `json:"low"`
-	High jsonOhms `json:"high"`
-	Open bool     `json:"open"`
-	Note string   `json:"note,omitempty"`
+	// Low and High are the reading band (bands.FromSpread: the parts'
+	// tolerance corners, TolLow and TolHigh, widened by the meter's
+	// accuracy and resolution on the range in use and the probe contact);
+	// BelowResolution: the meter shows 0 for the nominal.
+	Low             jsonOhms `json:"low"`
+	High            jsonOhms `json:"high"`
+	TolLow          jsonOhms `json:"tol_low"`
+	TolHigh         jsonOhms `json:"tol_high"`
+	Resolution      float64  `json:"resolution,omitempty"`
+	BelowResolution bool     `json:"below_resolution,omitempty"`
+	Open            bool     `json:"open"`
+	Note            string   `json:"note,omitempty"`
+	Why             []string `json:"why,omitempty"`
+}
+
+// coldReadingBand is a cold check's reading band, the one the walk shows
+// (bands.FromSpread on the tolerance corners, read with meter mt).
+func coldReadingBand(c cold.Check, mt bands.Meter) bands.Band {
+	return bands.FromSpread(amp.Ohms, c.Ohms, c.Tol[0], c.Tol[1], mt, "tolerance corners of the parts in the path")
 }
 
 type jsonDischarge struct {
@@ -68,7 +84,7 @@ type jsonColdReport struct {
 // ({"cautions": [...], "cold": [...], "discharge": [...]}; open readings
 // and missing bleed paths are null). It returns exitOK, or exitFailure
 // when a computation fails.
-func runColdExpect(d *design.Design, asJSON bool, stdout, stderr io.Writer) int {
+func runColdExpect(d *design.Design, meter bands.Meter, asJSON bool, stdout, stderr io.Writer) int {
 	checks, err := cold.Checks(d)
 	if err != nil {
 		fmt.Fprintf(stderr, "pinwalk: cold checks: %v\n", err)
@@ -87,8 +103,14 @@ func runColdExpect(d *design.Design, asJSON bool, stdout, stderr io.Writer) int 
 	if asJSON {
 		rep := jsonColdReport{Cautions: coldCautions, Cold: []jsonCold{}, Discharge: []jsonDischarge{}}
 		for _, c := range checks {
-			rep.Cold = append(rep.Cold, jsonCold{ID: c.ID, Kind: c.Kind, From: c.From, To: c.To,
-				Ohms: ohmsJSON(c.Ohms), Low: ohmsJSON(c.Tol[0]), High: ohmsJSON(c.Tol[1]), Open: c.Open, Note: c.Note})
+			jc := jsonCold{ID: c.ID, Kind: c.Kind, From: c.From, To: c.To,
+				Ohms: ohmsJSON(c.Ohms), Low: ohmsJSON(c.Tol[0]), High: ohmsJSON(c.Tol[1]),
+				TolLow: ohmsJSON(c.Tol[0]), TolHigh: ohmsJSON(c.Tol[1]), Open: c.Open, Note: c.Note}
+			if !c.Open {
+				b := coldReadingBand(c, meter)
+				jc.Low, jc.High, jc.Resolution, jc.BelowResolution, jc.Why = ohmsJSON(b.Low), ohmsJSON(b.High), b.Range.Res, b.BelowResolution, b.Why
+			}
+			rep.Cold = append(rep.Cold, jc)
 		}
 		for _, x := range dis {
 			rep.Discharge = append(rep.Discharge, jsonDischarge{Ref: x.Ref, Net: x.Net, Farads: x.Farads, PeakVolts: x.PeakVolts,
@@ -123,7 +145,7 @@ func runColdExpect(d *design.Design, asJSON bool, stdout, stderr io.Writer) int 
 	}
 	fmt.Fprintf(w, "\nResistance to chassis (%s), valves out of their sockets, meter + on the net:\n", d.Ground)
 	printCold := func(win bool) {
-		fmt.Fprintf(w, "  %-18s %-8s %-12s %-25s %s\n", "reading", "kind", "expect", "band (tolerances)", "note")
+		fmt.Fprintf(w, "  %-18s %-8s %-12s %-25s %s\n", "reading", "kind", "expect", "reading band", "note")
 		for _, c := range checks {
 			if (c.Kind == "winding") != win {
 				continue
@@ -132,13 +154,16 @@ func runColdExpect(d *design.Design, asJSON bool, stdout, stderr io.Writer) int 
 			if win {
 				id = fmt.Sprintf("%s (%s–%s)", c.ID, c.From, c.To)
 			}
-			band := "—"
+			band, nom := "—", fmtOhms(c.Ohms)
 			if !c.Open {
-				band = fmtOhms(c.Tol[0]) + " … " + fmtOhms(c.Tol[1])
+				b := coldReadingBand(c, meter)
+				band, nom = b.Format(), b.FormatNominal()
 			}
-			fmt.Fprintf(w, "  %-18s %-8s %-12s %-25s %s\n", id, c.Kind, fmtOhms(c.Ohms), band, c.Note)
+			fmt.Fprintf(w, "  %-18s %-8s %-12s %-25s %s\n", id, c.Kind, nom, band, c.Note)
 		}
 	}
+	fmt.Fprintf(w, "  (reading bands: the parts' tolerance corners, the meter's ohms accuracy %s on the range in use and its resolution, and the probe contact)\n",
+		meter.SpecFor(amp.Ohms))
 	printCold(false)
 	fmt.Fprintf(w, "\nAcross windings (in circuit; valves out, rectifier diodes read as open):\n")
 	printCold(true)

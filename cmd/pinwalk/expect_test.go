@@ -2,9 +2,13 @@ package main
 
 import (
 	"encoding/json"
+	"path/filepath"
 	"regexp"
 	"strings"
 	"testing"
+
+	"pinwalk/expect/amp"
+	"pinwalk/expect/design"
 )
 
 type expectDoc struct {
@@ -286,6 +290,75 @@ func TestExpectVariacStepsEveryPin(t *testing.T) {
 		for _, id := range []string{"V3.3", "V3.4", "V3.5", "V3.8", "V1.6", "V2.2", "V9.2"} {
 			if !pins[id] {
 				t.Errorf("variac %g: no DC volts for %s", st.Variac, id)
+			}
+		}
+	}
+}
+
+// Every demo: every socket pin the model gives DC volts for (amp.Model
+// Points with a valve) is in the steps table by its label, and in the
+// JSON at every one of the four steps — not only the supply nets.
+func TestExpectVariacStepsListEveryPinOfEveryDemo(t *testing.T) {
+	files, err := filepath.Glob("../../testdata/designs/*.yaml")
+	if err != nil || len(files) == 0 {
+		t.Fatalf("no demo designs: %v", err)
+	}
+	for _, path := range files {
+		d, probs := design.Load(path)
+		if d == nil || len(probs.Errors()) > 0 {
+			t.Fatalf("%s: %v", path, probs.Errors())
+		}
+		m, err := amp.Build(d)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var pins []amp.PointDef
+		for _, pd := range m.Points() {
+			if pd.Valve != "" && pd.Quantity == amp.DCVolts {
+				pins = append(pins, pd)
+			}
+		}
+		code, out, errOut := runCLI("expect", "--variac", "steps", "--samples", "20", path)
+		if code != exitOK {
+			t.Fatalf("%s: exit %d: %s", path, code, errOut)
+		}
+		for _, pd := range pins {
+			if !strings.Contains(out, pd.Label) {
+				t.Errorf("%s: the steps table lacks %s (%s)", path, pd.Label, pd.Key())
+			}
+		}
+		code, js, errOut := runCLI("expect", "--json", "--variac", "steps", "--samples", "20", path)
+		if code != exitOK {
+			t.Fatalf("%s json: exit %d: %s", path, code, errOut)
+		}
+		var doc struct {
+			Steps []struct {
+				Variac float64
+				Points []struct{ ID, Quantity string }
+			} `json:"variac_steps"`
+		}
+		if err := json.Unmarshal([]byte(js), &doc); err != nil {
+			t.Fatal(err)
+		}
+		if len(doc.Steps) != 4 {
+			t.Fatalf("%s: %d steps, want 25/50/75/100 %%", path, len(doc.Steps))
+		}
+		for _, st := range doc.Steps {
+			have := map[string]bool{}
+			for _, p := range st.Points {
+				have[p.ID+" "+p.Quantity] = true
+			}
+			missing := 0
+			for _, pd := range pins {
+				if !have[pd.Key()] {
+					missing++
+					if missing <= 3 {
+						t.Errorf("%s at %g: no %s", path, st.Variac, pd.Key())
+					}
+				}
+			}
+			if missing > 0 {
+				t.Errorf("%s at %g: %d of %d pins missing", path, st.Variac, missing, len(pins))
 			}
 		}
 	}

@@ -93,11 +93,15 @@ type Set struct {
 	// Reason says why and Tempered the fraction of the readings'
 	// log-likelihood kept to reach MinESS (1 when not degenerate).
 	Degenerate bool
-	Reason     string
-	Tempered   float64
-	Cond       amp.Conditions
-	NominalOP  *amp.OP
-	Readings   []Reading // readings the set is conditioned on
+	// Misfit: a reading lies outside what a healthy amplifier can read
+	// (beyond its band by more than 3σ of the reading): the "does not fit
+	// a healthy amplifier" alarm. A set can be Degenerate without it.
+	Misfit    bool
+	Reason    string
+	Tempered  float64
+	Cond      amp.Conditions
+	NominalOP *amp.OP
+	Readings  []Reading // readings the set is conditioned on
 	// Loaded: per net of Options.LoadNets, the nominal volts as read
 	// through Options.Meter.
 	Loaded map[string]float64

@@ -46,6 +46,23 @@ func (s *Set) SigmaOf(r Reading) float64 {
 	return readingSigma(pd.Quantity, r.Value, ModelErrorOf(pd, s.netElectrode[pd.Net]), r.Meter)
 }
 
+// MisfitAlarmRate is the share of healthy amplifiers on which the "does
+// not fit a healthy amplifier" alarm may fire, whatever the number of
+// readings (our choice: 1 %, under the 5 % a technician will put up with
+// before ignoring the alarm).
+const MisfitAlarmRate = 0.01
+
+// MisfitSigmas is how far, in σ of the reading (SigmaOf), a reading must
+// lie beyond the samples' 95 % band to count as outside what a healthy
+// amplifier reads, when n readings are checked together: the two-sided
+// normal quantile of MisfitAlarmRate/n (Bonferroni's bound on the
+// family-wise rate: each reading's model and meter error is a chance to
+// go wide, so 60 readings need a wider margin than one), and at least 3.
+func MisfitSigmas(n int) float64 {
+	n = max(n, 1)
+	return max(3, math.Sqrt2*math.Erfinv(1-MisfitAlarmRate/float64(n)))
+}
+
 // Condition returns a copy of the set whose sample weights are multiplied
 // by the likelihood of the readings (Bayes' rule with a flat prior over
 // the samples): a Gaussian in (reading − prediction) with σ from SigmaOf.
@@ -67,7 +84,7 @@ func (s *Set) Condition(rs []Reading) (*Set, error) {
 	c := *s
 	c.Weights = append([]float64(nil), s.Weights...)
 	c.Readings = append(append([]Reading(nil), s.Readings...), rs...)
-	c.Degenerate, c.Reason, c.Tempered = false, "", 1
+	c.Degenerate, c.Misfit, c.Reason, c.Tempered = false, false, "", 1
 	var list []readingFit
 	for _, r := range rs {
 		i, ok := s.Index(r.Key)
@@ -136,7 +153,7 @@ func (s *Set) Condition(rs []Reading) (*Set, error) {
 		return &c, nil
 	}
 	c.Degenerate = true
-	c.Reason = s.outsideReason(list)
+	c.Reason, c.Misfit = s.outsideReason(list)
 	// Temper: the largest λ with ESS(λ) ≥ MinESS, by bisection (ESS falls
 	// as λ grows).
 	lo, hi := 0.0, 1.0
@@ -163,21 +180,26 @@ type readingFit struct {
 }
 
 // outsideReason names the readings that lie outside what the samples
-// predict (beyond the band by more than 3σ of the reading).
-func (s *Set) outsideReason(rs []readingFit) string {
+// predict (beyond the samples' 95 % band by more than MisfitSigmas σ of
+// the reading); misfit is true when there is one. Readings that are each within reach of the
+// model but together leave few samples are not a misfit: with dozens of
+// readings the likelihood always rests on a few of a few hundred samples,
+// healthy amp or not, so that alone is no evidence of a fault.
+func (s *Set) outsideReason(rs []readingFit) (reason string, misfit bool) {
 	var bad []string
+	k := MisfitSigmas(len(rs))
 	for _, r := range rs {
 		i, v, sg := r.i, r.value, r.sigma
 		b := s.Band(i)
 		b.Low, b.High = b.Low*r.ratio+r.offset, b.High*r.ratio+r.offset
-		if v < b.Low-3*sg || v > b.High+3*sg {
+		if v < b.Low-k*sg || v > b.High+k*sg {
 			q := s.Points[i].Quantity
 			bad = append(bad, fmt.Sprintf("%s read %s against an expected %s – %s", s.Points[i].Key(),
 				amp.FormatValue(v, q), amp.FormatValue(b.Low, q), amp.FormatValue(b.High, q)))
 		}
 	}
 	if len(bad) == 0 {
-		return "the readings together are unlikely for a healthy amplifier built to this design: a fault or a design mismatch"
+		return fmt.Sprintf("the readings together leave few of the %d samples (each reading lies within reach of a healthy amplifier)", len(s.Values)), false
 	}
-	return strings.Join(bad, "; ") + ": outside what the model predicts for a healthy amplifier built to this design (a fault or a design mismatch)"
+	return strings.Join(bad, "; ") + ": outside what the model predicts for a healthy amplifier built to this design (a fault or a design mismatch)", true
 }

@@ -52,7 +52,7 @@ func TestConditionDegenerate(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !c.Degenerate || !strings.Contains(c.Reason, "B2 dc_volts") || !strings.Contains(c.Reason, "fault") {
+	if !c.Degenerate || !c.Misfit || !strings.Contains(c.Reason, "B2 dc_volts") || !strings.Contains(c.Reason, "fault") {
 		t.Errorf("degenerate %v, reason %q", c.Degenerate, c.Reason)
 	}
 	if c.ESS < MinESS-1e-6 || !(c.Tempered > 0 && c.Tempered < 1) {
@@ -262,3 +262,44 @@ func TestConditionAppliesMeterLoading(t *testing.T) {
 	}
 }
 
+// A screen fed from its supply net through a stopper (V3's screen, pin 4,
+// from B3 through R24, 470 Ω, in the stereo demo) carries the screen
+// current's drop below B3 in every healthy amp (Ohm's law: a few volts at
+// a few mA): once B3 is read, the screen is never expected above that
+// reading, and B2 (feeding B3 through R2) never below it. Readings at the
+// nominal B3 and 1.5 % either side of it.
+func TestConditionRespectsTheCircuit(t *testing.T) {
+	d := load(t, demoA)
+	s := run(t, d, Options{Samples: 300, Seed: 3})
+	ib, _ := s.Index("B3 dc_volts")
+	nom := s.Nominal[ib]
+	for _, f := range []float64{0.985, 1, 1.015} {
+		v := math.Round(nom*f*10) / 10
+		c, err := s.Condition([]Reading{{Key: "B3 dc_volts", Value: v}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		scr, err := c.Expect("V3.4 dc_volts", Meter{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		up, err := c.Expect("B2 dc_volts", Meter{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		t.Logf("B3 read %.1f V: V3 screen %s (%.1f – %.1f V), B2 %s (%.1f – %.1f V); %s", v, scr.Format(), scr.Low, scr.High, up.Format(), up.Low, up.High, scr.Why[len(scr.Why)-1])
+		if scr.High > v {
+			t.Errorf("B3 read %.1f V: screen expected up to %g V, above its own feed", v, scr.High)
+		}
+		if up.Low < v {
+			t.Errorf("B3 read %.1f V: B2 expected down to %g V, below the net it feeds", v, up.Low)
+		}
+		if !(scr.Low < scr.High) {
+			t.Errorf("B3 read %.1f V: screen band %s is empty", v, scr.Format())
+		}
+		why := strings.Join(scr.Why, "; ")
+		if !strings.Contains(why, "narrowed by your B3 reading") {
+			t.Errorf("screen why %q lacks the reading it was narrowed by", why)
+		}
+	}
+}

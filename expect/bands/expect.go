@@ -59,17 +59,24 @@ func (s *Set) Expect(key string, mt Meter) (Band, error) {
 	lo, hi = math.Min(lo, nom), math.Max(hi, nom)
 	why = append(why, s.conditionWords()...)
 	if conditioned {
-		for _, r := range s.Readings {
+		last := map[string]int{} // each point once, at its latest reading
+		for n, r := range s.Readings {
+			last[r.Key] = n
+		}
+		for n, r := range s.Readings {
 			j, ok := s.Index(r.Key)
-			if !ok {
+			if !ok || last[r.Key] != n {
 				continue
 			}
 			q := s.Points[j].Quantity
 			rr := mt.RangeFor(q, r.Value)
 			why = append(why, fmt.Sprintf("narrowed by your %s reading, %s", s.Points[j].ID, FormatReading(r.Value, q, rr.Res)))
 		}
-		if s.Degenerate {
+		switch {
+		case s.Misfit:
 			why = append(why, "the readings do not fit a healthy amplifier: "+s.Reason)
+		case s.Degenerate:
+			why = append(why, fmt.Sprintf("%s: the readings' weight is eased so that about %d samples still carry the band", s.Reason, MinESS))
 		}
 	}
 	if pd.Quantity == amp.DCVolts {
@@ -93,15 +100,20 @@ func (s *Set) Expect(key string, mt Meter) (Band, error) {
 		s.addPP(&b, pd)
 	}
 	s.capCathode(pd, &b)
+	if conditioned {
+		s.holdToReadings(i, &b)
+	}
 	return b, nil
 }
 
 // holdToReadings keeps a conditioned DC-volts band on the right side of
-// the readings it was conditioned on: when point i lies below a read
-// point in every sample (and at nominal) — a screen fed from B3 through a
-// resistor, a plate below its supply net — its band ends at that reading
-// at most, and when it lies above in every sample, it starts at the
-// reading at least. The same meter on the same function reads both
+// the readings it was conditioned on: when point i's net is fed from a
+// read net through a resistor or a choke (seriesFed) and lies below it in
+// every sample (and at nominal) — a screen fed from B3 through its
+// stopper — its band ends at that reading at most, and when it lies above
+// in every sample (the net that feeds B3), it starts at the reading at
+// least. A reading outside the band it would hold (a fault's) holds
+// nothing: the misfit says so instead. The same meter on the same function reads both
 // points, so its gain error moves them alike: a point the circuit holds
 // below a net reads below it (the counts' last digit aside). Without the
 // hold, the model error and the meter's, added in quadrature to a spread
@@ -114,6 +126,9 @@ func (s *Set) holdToReadings(i int, b *Band) {
 	for _, r := range s.Readings {
 		j, ok := s.Index(r.Key)
 		if !ok || j == i || s.Points[j].Quantity != amp.DCVolts {
+			continue
+		}
+		if !s.seriesFed(pd.Net, s.Points[j].Net) {
 			continue
 		}
 		below, above := s.Nominal[i] <= s.Nominal[j], s.Nominal[i] >= s.Nominal[j]
@@ -130,11 +145,11 @@ func (s *Set) holdToReadings(i int, b *Band) {
 		q := s.Points[j].Quantity
 		v := FormatReading(r.Value, q, b.Range.Res)
 		switch {
-		case below && b.High > r.Value:
+		case below && b.High > r.Value && r.Value > b.Low:
 			b.High = math.Max(b.Low, math.Floor(r.Value/b.Range.Res+1e-9)*b.Range.Res)
 			b.Nominal = math.Min(b.Nominal, b.High)
 			b.Why = append(b.Why, fmt.Sprintf("held at or below your %s reading, %s: the circuit keeps %s below %s", s.Points[j].ID, v, pd.ID, s.Points[j].ID))
-		case above && b.Low < r.Value:
+		case above && b.Low < r.Value && r.Value < b.High:
 			b.Low = math.Min(b.High, math.Ceil(r.Value/b.Range.Res-1e-9)*b.Range.Res)
 			b.Nominal = math.Max(b.Nominal, b.Low)
 			b.Why = append(b.Why, fmt.Sprintf("held at or above your %s reading, %s: the circuit keeps %s above %s", s.Points[j].ID, v, pd.ID, s.Points[j].ID))
@@ -176,6 +191,9 @@ func (s *Set) capCathode(pd amp.PointDef, b *Band) {
 		share = (so.Ia + so.Ig2) / so.Ia
 	}
 	vmax := rated / va * share * rk * float64(n)
+	if r := b.Range.Res; r > 0 {
+		vmax = math.Floor(vmax/r+1e-9) * r // a whole count: the meter shows no finer
+	}
 	b.Low = math.Max(0, b.Low)
 	if b.High > vmax {
 		b.High = vmax
@@ -185,6 +203,25 @@ func (s *Set) capCathode(pd amp.PointDef, b *Band) {
 			b.Nominal = vmax
 		}
 	}
+}
+
+// seriesFed reports whether nets a and b are different nets joined by a
+// resistor or a choke.
+func (s *Set) seriesFed(a, b string) bool {
+	if s.d == nil || a == "" || b == "" || a == b {
+		return false
+	}
+	for _, u := range s.d.Nets[a] {
+		p := s.d.ByRef[u.Ref]
+		if p == nil || (p.Kind != design.Resistor && p.Kind != design.Choke) || len(p.Terminals) < 2 {
+			continue
+		}
+		x, y := p.Terminals[0].Net, p.Terminals[1].Net
+		if (x == a && y == b) || (x == b && y == a) {
+			return true
+		}
+	}
+	return false
 }
 
 // CathodeLoad is the resistance from a valve section's cathode net

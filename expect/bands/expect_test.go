@@ -197,8 +197,55 @@ func TestFormatReadingTiny(t *testing.T) {
 	if got := FormatReading(-0.00004, amp.DCVolts, 1e-4); got != "0 V" {
 		t.Errorf("-40 µV shows %q", got)
 	}
-	if got := FormatReading(441.23, amp.DCVolts, 0.1); got != "441 V" {
+	// A 6000-count meter on its 600 V range shows tenths of a volt.
+	if got := FormatReading(441.23, amp.DCVolts, 0.1); got != "441.2 V" {
 		t.Errorf("441.23 V shows %q", got)
+	}
+	// Small values keep SI prefixes at the meter's resolution: 1.2 mA on
+	// the 6 mA range (1 µA a count), 37.3 mV on the 60 mV AC range.
+	if got := FormatReading(1.2345e-3, amp.DCAmps, 1e-6); got != "1.235 mA" {
+		t.Errorf("1.2345 mA shows %q", got)
+	}
+	if got := FormatReading(0.03731, amp.RippleVolts, 1e-5); got != "37.31 mV" {
+		t.Errorf("37.31 mV shows %q", got)
+	}
+}
+
+// Honest widths on the demos' own points, at full mains and at 25 %
+// variac (where valves barely conduct and currents are near zero): no
+// current, AC or ripple band goes below 0; every ripple band is read on
+// the AC function (true rms) and carries its peak-to-peak band, also not
+// below 0; no band end prints with an exponent ("81.4e-15 V") and every
+// end is a whole number of counts of the range it is read on.
+func TestHonestWidthsOnDemos(t *testing.T) {
+	for _, path := range []string{demoA, demoB} {
+		d := load(t, path)
+		for _, v := range []float64{1, 0.25} {
+			s := run(t, d, Options{Samples: 100, Seed: 5, Cond: amp.Conditions{Variac: v}})
+			for _, pd := range s.Points {
+				b, err := s.Expect(pd.Key(), Meter{})
+				if err != nil {
+					t.Fatal(err)
+				}
+				if nonNegative(pd.Quantity) && b.Low < 0 {
+					t.Errorf("%s at %g: %s band starts at %g", path, v, pd.Key(), b.Low)
+				}
+				if pd.Quantity == amp.RippleVolts {
+					if b.Function != "AC volts (true rms)" || b.PP == nil || b.PP.Low < 0 || !(b.PP.High >= b.High) {
+						t.Errorf("%s at %g: %s ripple band %+v", path, v, pd.Key(), b)
+					}
+				}
+				f := b.Format()
+				if strings.Contains(f, "e-") || strings.Contains(f, "e+") {
+					t.Errorf("%s at %g: %s prints %q", path, v, pd.Key(), f)
+				}
+				for _, x := range []float64{b.Low, b.High} {
+					if c := x / b.Range.Res; math.Abs(c-math.Round(c)) > 1e-6 {
+						t.Errorf("%s at %g: %s end %g is not a whole count of %g", path, v, pd.Key(), x, b.Range.Res)
+					}
+				}
+			}
+		}
 	}
 }
 

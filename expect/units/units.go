@@ -456,11 +456,15 @@ func ParseAny(s string) (float64, Quantity, error) {
 // returns the three digits and the decimal exponent of the first one, so
 // that |v| ≈ 0.d1d2d3 × 10^(e+1). A result that would round past the
 // largest float64 is truncated instead, so that it still parses.
-func sig3(v float64) (digits string, e int) {
-	t := strconv.FormatFloat(math.Abs(v), 'e', 2, 64) // "4.70e+03"
-	digits = t[0:1] + t[2:4]
-	e, _ = strconv.Atoi(t[5:])
-	if e == 308 && digits > "179" {
+func sig3(v float64) (digits string, e int) { return sigN(v, 3) }
+
+// sigN is sig3 with n (1 to 15) significant figures.
+func sigN(v float64, n int) (digits string, e int) {
+	t := strconv.FormatFloat(math.Abs(v), 'e', n-1, 64) // "4.70e+03"
+	mant, exp, _ := strings.Cut(t, "e")
+	digits = strings.Replace(mant, ".", "", 1)
+	e, _ = strconv.Atoi(exp)
+	if e == 308 && digits[:min(3, len(digits))] > "179" {
 		digits = "179" // 1.79e308 is within 0.5 % of anything up to MaxFloat64
 	}
 	return digits, e
@@ -491,7 +495,11 @@ func floorDiv3(e int) int {
 // prefix ("0.05 %", "120 %"). Magnitudes outside the prefix range use an
 // exponent ("4.7e-15 F"). None prints the number with its prefix and no
 // space ("4.7k"). Parse reads every finite result back to within 0.5 %.
-func Format(v float64, q Quantity) string {
+func Format(v float64, q Quantity) string { return formatSig(v, q, 3) }
+
+// formatSig is Format with n significant figures (trailing fractional
+// zeros dropped).
+func formatSig(v float64, q Quantity, n int) string {
 	sym := q.Symbol()
 	join := func(num, prefix string) string {
 		if sym == "" {
@@ -513,7 +521,7 @@ func Format(v float64, q Quantity) string {
 	if v < 0 {
 		sign = "-"
 	}
-	digits, e := sig3(v)
+	digits, e := sigN(v, n)
 	e3 := floorDiv3(e)
 	if q == Percent {
 		if e >= -3 && e < 6 {
@@ -722,13 +730,18 @@ func scanPercent(s string) (sign int, x float64, pct, ok bool) {
 
 // FormatMeasured prints v as a display with resolution res shows it:
 // rounded to a whole number of res, and 0 when |v| is below half of res
-// ("0 V" rather than "81.4e-15 V"), then as Format. res ≤ 0 is Format.
+// ("0 V" rather than "81.4e-15 V"), then in engineering notation with as
+// many significant figures as the display has down to res (at least 3,
+// at most 5: 271.5 V on a 0.1 V resolution, not 272 V), trailing
+// fractional zeros dropped. res ≤ 0 is Format.
 func FormatMeasured(v float64, q Quantity, res float64) string {
-	if res > 0 && !math.IsInf(v, 0) && !math.IsNaN(v) {
-		v = math.Round(v/res) * res
-		if math.Abs(v) < res/2 {
-			v = 0
-		}
+	if !(res > 0) || math.IsInf(v, 0) || math.IsNaN(v) {
+		return Format(v, q)
 	}
-	return Format(v, q)
+	v = math.Round(v/res) * res
+	if math.Abs(v) < res/2 {
+		return Format(0, q)
+	}
+	n := int(math.Floor(math.Log10(math.Abs(v))+1e-9)) - int(math.Round(math.Log10(res))) + 1
+	return formatSig(v, q, max(3, min(5, n)))
 }
