@@ -246,7 +246,8 @@ with what the meter will show.`)
 			return exitUsage
 		}
 	}
-	opt := bands.Options{Samples: *samples, Seed: *seed, Cond: cond, FixedMains: fixed, Meter: meter}
+	opt := bands.Options{Samples: *samples, Seed: *seed, Cond: cond, FixedMains: fixed, Meter: meter,
+		Progress: progressPrinter(stderr, m.NumNodes())}
 	if len(flts) > 0 {
 		opt.Values = func(m *amp.Model, v *amp.Values) error {
 			for _, f := range flts {
