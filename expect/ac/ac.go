@@ -215,7 +215,7 @@ type Analyzer struct {
 
 	clips      []Clip // of the last Tone (clip.go)
 	clipPlan   *clipPlan
-	clipInputs string
+	clipInputs []int
 }
 
 // New builds the AC network of a model.

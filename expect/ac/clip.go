@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+	"slices"
 
 	"pinwalk/expect/amp"
 	"pinwalk/expect/design"
@@ -62,6 +63,36 @@ type Clip struct {
 func (c Clip) String() string {
 	return fmt.Sprintf("stage %s clips at about %s peak at its %s (%s; the linear prediction is %s peak): the signal beyond it is limited",
 		c.Section, units.Format(c.Peak, units.Volts), c.At, c.Why, units.Format(c.Wanted, units.Volts))
+}
+
+// clipWhy is the reason for a limit, put in words only for a stage that
+// clips (the limits are worked out on every Monte Carlo sample).
+type clipWhy struct {
+	kind  uint8
+	volts float64
+}
+
+const (
+	whyGridCurrent uint8 = iota
+	whyCutoff
+	whyCathode
+	whyKnee
+	whySupply
+)
+
+func (w clipWhy) String() string {
+	v := units.Format(w.volts, units.Volts)
+	switch w.kind {
+	case whyGridCurrent:
+		return "grid current as it passes its " + v + " bias"
+	case whyCutoff:
+		return "cutoff at about " + v + " on its grid"
+	case whyCathode:
+		return "its plate reaches its cathode at " + v
+	case whyKnee:
+		return "its plate reaches its knee at about " + v
+	}
+	return "its plate reaches its supply at " + v
 }
 
 // clipStage is one amplifying section in signal order.
@@ -276,9 +307,9 @@ func passiveNeighbours(d *design.Design, net string) []string {
 // its limits allow, and records the clipped stages in an.clips.
 func (an *Analyzer) limit(op *amp.OP, v *amp.Values, x []complex128, inputs []int) {
 	an.clips = an.clips[:0]
-	if an.clipPlan == nil || an.clipInputs != fmt.Sprint(inputs) {
+	if an.clipPlan == nil || !slices.Equal(an.clipInputs, inputs) {
 		an.clipPlan = an.plan(inputs)
-		an.clipInputs = fmt.Sprint(inputs)
+		an.clipInputs = append(an.clipInputs[:0], inputs...)
 	}
 	pl := an.clipPlan
 	m := an.m
@@ -299,6 +330,7 @@ func (an *Analyzer) limit(op *amp.OP, v *amp.Values, x []complex128, inputs []in
 		mu := v.Koren[st.sec].Mu
 		k := 1.0
 		var clip Clip
+		var clipBy clipWhy
 		// The grid against its cathode.
 		vgk := so.Vg - so.Vk
 		vmax := so.Va
@@ -310,19 +342,19 @@ func (an *Analyzer) limit(op *amp.OP, v *amp.Values, x []complex128, inputs []in
 		if st.ot {
 			vmax = 2*so.Va - so.Vk
 		}
-		gridLim, why := math.Max(-vgk, minGridSwing), fmt.Sprintf("grid current as it passes its %s bias", units.Format(vgk, units.Volts))
+		gridLim, why := math.Max(-vgk, minGridSwing), clipWhy{whyGridCurrent, vgk}
 		if mu > 0 && !st.pp {
 			cut := -(vmax - so.Vk) / mu
 			if m.Sections[st.sec].Pentode {
 				cut = -(so.Vg2 - so.Vk) / mu
 			}
 			if c := vgk - cut; c < gridLim {
-				gridLim, why = math.Max(c, minGridSwing), fmt.Sprintf("cutoff at about %s on its grid", units.Format(cut, units.Volts))
+				gridLim, why = math.Max(c, minGridSwing), clipWhy{whyCutoff, cut}
 			}
 		}
 		if peak := math.Sqrt2 * sin * cmplx.Abs(volt(x, st.g)-volt(x, st.k)); peak > gridLim && gridLim/peak < k {
 			k = gridLim / peak
-			clip = Clip{At: "grid", Peak: gridLim, Wanted: peak, Why: why}
+			clip, clipBy = Clip{At: "grid", Peak: gridLim, Wanted: peak}, why
 		}
 		// The plate.
 		if st.p >= 0 {
@@ -331,22 +363,22 @@ func (an *Analyzer) limit(op *amp.OP, v *amp.Values, x []complex128, inputs []in
 				knee = kneeFraction * (so.Vg2 - so.Vk)
 			}
 			down := so.Va - so.Vk - knee
-			lim, why := down, fmt.Sprintf("its plate reaches its cathode at %s", units.Format(so.Vk, units.Volts))
+			lim, why := down, clipWhy{whyCathode, so.Vk}
 			if knee > 0 {
-				why = fmt.Sprintf("its plate reaches its knee at about %s", units.Format(so.Vk+knee, units.Volts))
+				why = clipWhy{whyKnee, so.Vk + knee}
 			}
 			if !st.ot && vmax-so.Va < lim {
-				lim, why = vmax-so.Va, fmt.Sprintf("its plate reaches its supply at %s", units.Format(vmax, units.Volts))
+				lim, why = vmax-so.Va, clipWhy{whySupply, vmax}
 			}
 			lim = math.Max(lim, 0)
 			if peak := math.Sqrt2 * sin * cmplx.Abs(x[st.p]); peak > lim && lim/peak < k {
 				k = lim / peak
-				clip = Clip{At: "plate", Peak: lim, Wanted: peak, Why: why}
+				clip, clipBy = Clip{At: "plate", Peak: lim, Wanted: peak}, why
 			}
 		}
 		pl.sout[si] = sin * k
 		if k < 1/clipReportRatio {
-			clip.Section, clip.Ref = st.name, m.Sections[st.sec].Ref
+			clip.Section, clip.Ref, clip.Why = st.name, m.Sections[st.sec].Ref, clipBy.String()
 			an.clips = append(an.clips, clip)
 		}
 	}
