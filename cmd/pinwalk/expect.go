@@ -117,6 +117,8 @@ type jsonReport struct {
 	Supply        []jsonNet      `json:"supply,omitempty"`
 	Windings      []jsonWinding  `json:"heater_windings"`
 	Findings      []string       `json:"findings"`
+	// ToneClips: the stages that cannot pass the test tone (--tone).
+	ToneClips []string `json:"tone_clips,omitempty"`
 }
 
 // faultFlags collects repeated --fault REF:MODE options.
@@ -244,7 +246,8 @@ with what the meter will show.`)
 			return exitUsage
 		}
 	}
-	opt := bands.Options{Samples: *samples, Seed: *seed, Cond: cond, FixedMains: fixed, Meter: meter}
+	opt := bands.Options{Samples: *samples, Seed: *seed, Cond: cond, FixedMains: fixed, Meter: meter,
+		Progress: progressPrinter(stderr, m.NumNodes())}
 	if len(flts) > 0 {
 		opt.Values = func(m *amp.Model, v *amp.Values) error {
 			for _, f := range flts {
@@ -258,13 +261,15 @@ with what the meter will show.`)
 	if steps {
 		return runVariacSteps(d, opt, *asJSON, stdout, stderr)
 	}
+	var toneClips []string
 	if *tone != "" {
 		topt, err := parseTone(*tone)
 		if err != nil {
 			fmt.Fprintf(stderr, "pinwalk: --tone: %v\n", err)
 			return exitUsage
 		}
-		extra, err := toneExtra(m, opt, topt)
+		extra, clips, err := toneExtra(m, opt, topt)
+		toneClips = clips
 		if err != nil {
 			fmt.Fprintf(stderr, "pinwalk: --tone: %v\n", err)
 			return exitFailure
@@ -291,6 +296,7 @@ with what the meter will show.`)
 	rep := buildReport(d, m, op, coldPtr, cond)
 	fillBands(rep, set, loading, meter, opt, flts)
 	addTonePoints(rep, set)
+	rep.ToneClips = toneClips
 	if *asJSON {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")

@@ -35,19 +35,32 @@ func parseTone(s string) (ac.Options, error) {
 }
 
 // toneExtra solves the nominal point (with any faults) and returns the
-// tone points as extra Monte Carlo points.
-func toneExtra(m *amp.Model, opt bands.Options, topt ac.Options) (*bands.Extra, error) {
+// tone points as extra Monte Carlo points, and the notes of the stages
+// that clip at the nominal point.
+func toneExtra(m *amp.Model, opt bands.Options, topt ac.Options) (*bands.Extra, []string, error) {
 	v := m.NominalValues()
 	if opt.Values != nil {
 		if err := opt.Values(m, v); err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 	}
 	var op amp.OP
 	if err := amp.NewSolver(m).Solve(opt.Cond, v, false, &op); err != nil {
-		return nil, err
+		return nil, nil, err
 	}
-	return ac.ToneExtra(m, &op, v, topt)
+	an, err := ac.New(m)
+	if err != nil {
+		return nil, nil, err
+	}
+	if _, err := an.Tone(&op, v, topt, nil); err != nil {
+		return nil, nil, err
+	}
+	var notes []string
+	for _, c := range an.Clips() {
+		notes = append(notes, c.String())
+	}
+	x, err := ac.ToneExtra(m, &op, v, topt)
+	return x, notes, err
 }
 
 // addTonePoints appends the tone points of a set to the report.
@@ -79,6 +92,9 @@ func printTone(w io.Writer, rep *jsonReport) {
 			first = false
 		}
 		fmt.Fprintf(w, "  %-40s %12s  %s – %s\n", p.Label, units.Format(p.Nominal, units.Volts), units.Format(p.Low, units.Volts), units.Format(p.High, units.Volts))
+	}
+	for _, c := range rep.ToneClips {
+		fmt.Fprintf(w, "  note: %s\n", c)
 	}
 	if !first {
 		fmt.Fprintln(w)

@@ -109,6 +109,9 @@ type Options struct {
 	// Hum (rms volts); 0 takes it from the operating point, which only a
 	// full (not fast) solve fills in.
 	RippleVolts float64
+	// Linear turns off the large-signal limits of Tone (clip.go): the
+	// small-signal prediction at any level.
+	Linear bool
 }
 
 // Point is one predicted AC reading.
@@ -214,6 +217,10 @@ type Analyzer struct {
 	a, b []complex128
 	jac  [16]float64
 	cur  [4]float64
+
+	clips      []Clip // of the last Tone (clip.go)
+	clipPlan   *clipPlan
+	clipInputs []int
 }
 
 // New builds the AC network of a model.
@@ -712,10 +719,12 @@ func (an *Analyzer) Tone(op *amp.OP, v *amp.Values, opt Options, dst []Point) ([
 		an.fix(an.reservoir, 0)
 	}
 	an.fix(src.node, complex(volts, 0))
+	injected := []int{src.node}
 	if opt.AllInputs && opt.InputNet == "" {
 		for _, other := range an.inputs[1:] {
 			if pr, err := an.resolve(other); err == nil && pr.node >= 0 {
 				an.fix(pr.node, complex(volts, 0))
+				injected = append(injected, pr.node)
 			}
 		}
 	}
@@ -723,6 +732,11 @@ func (an *Analyzer) Tone(op *amp.OP, v *amp.Values, opt Options, dst []Point) ([
 		return nil, err
 	}
 	x := an.b
+	if opt.Linear {
+		an.clips = an.clips[:0]
+	} else {
+		an.limit(op, v, x, injected)
+	}
 	dst = dst[:0]
 	for _, p := range an.pins {
 		dst = append(dst, point(p.id, p.net, ToneVolts, p.label, an.read(p.pr, x)))

@@ -29,8 +29,9 @@ func (s *Solver) ColdStart(mains float64, op *OP) error {
 // switch-on peak at high mains (cold) with every part's ratings:
 // resistor dissipation over half its rating (common practice), capacitor
 // voltage ratings against the highest voltage across them, valve plate and
-// screen dissipation, grid-1 resistance against the datasheet maximum, and
-// heater windings and heater volts (±10 %, common practice).
+// screen dissipation, grid-1 resistance against the datasheet maximum, a
+// control grid positive of its cathode, screen volts over the datasheet
+// maximum, and heater windings and heater volts (±10 %, common practice).
 func (m *Model) RatingChecks(op, cold *OP) []Finding {
 	var out []Finding
 	add := func(p *design.Part, sev design.Severity, format string, args ...any) {
@@ -108,6 +109,7 @@ func (m *Model) RatingChecks(op, cold *OP) []Finding {
 				sec.Name(), units.Format(rg, units.Ohms), units.Format(limit, units.Ohms), kind)
 		}
 	}
+	m.electrodeChecks(op, add)
 	for _, w := range op.Windings {
 		if w.RatedAmps > 0 && w.Amps > w.RatedAmps*1.0001 {
 			add(nil, design.Error, "heater winding %s carries %s (%v), over its %s rating",

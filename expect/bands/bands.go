@@ -59,6 +59,30 @@ type Options struct {
 	// resistance on it (one more solve per net); the nominal stays
 	// unloaded. For simulating a bench reading, not for bands.
 	ReadThroughMeter bool
+	// Progress, when set, is told how far a long computation has got:
+	// stage "samples" (the Monte Carlo samples of Run) or "meter loading"
+	// (Set.Loading, one solve per net), done of total. Calls are never
+	// concurrent; done rises by one each time.
+	Progress func(stage string, done, total int)
+}
+
+// progress serialises Options.Progress calls from several goroutines.
+type progress struct {
+	mu    sync.Mutex
+	done  int
+	total int
+	stage string
+	f     func(stage string, done, total int)
+}
+
+func (p *progress) step() {
+	if p == nil || p.f == nil {
+		return
+	}
+	p.mu.Lock()
+	p.done++
+	p.f(p.stage, p.done, p.total)
+	p.mu.Unlock()
 }
 
 // Extra describes points beyond the model's DC points. New is called once
@@ -110,6 +134,7 @@ type Set struct {
 	opt          Options
 	index        map[string]int
 	netElectrode map[string]string // a valve electrode on each net
+	meters       *meterCache       // the meter's loading, per input resistance (meter.go)
 }
 
 // MaxFailErrs bounds the distinct failure messages kept.
@@ -157,7 +182,7 @@ func Run(d *design.Design, opt Options) (*Set, error) {
 		return nil, err
 	}
 	m, nom := nomRun.m, nomRun.op
-	set := &Set{Samples: opt.Samples, Cond: opt.Cond, NominalOP: nom, d: d, opt: opt, Tempered: 1}
+	set := &Set{Samples: opt.Samples, Cond: opt.Cond, NominalOP: nom, d: d, opt: opt, Tempered: 1, meters: &meterCache{}}
 	for _, pd := range m.Points() {
 		x := m.Value(nom, pd)
 		if math.IsNaN(x) || math.IsInf(x, 0) {
@@ -206,6 +231,7 @@ func Run(d *design.Design, opt Options) (*Set, error) {
 	var buildErr error
 	var once sync.Once
 	pl := newPlan(m)
+	prog := &progress{total: n, stage: "samples", f: opt.Progress}
 	for range workers {
 		wg.Add(1)
 		go func() {
@@ -223,6 +249,7 @@ func Run(d *design.Design, opt Options) (*Set, error) {
 				for k := b * blockSize; k < min(n, (b+1)*blockSize); k++ {
 					vals, err := w.sample(k, pl, set.Points[:nDC], len(set.Points))
 					results[k] = result{vals, err}
+					prog.step()
 				}
 			}
 		}()

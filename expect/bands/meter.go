@@ -4,9 +4,9 @@ import (
 	"fmt"
 	"math"
 	"strings"
+	"sync"
 
 	"pinwalk/expect/amp"
-	"pinwalk/expect/design"
 	"pinwalk/expect/units"
 )
 
@@ -124,52 +124,46 @@ func (s *Set) Loading(mt Meter) ([]Loading, error) {
 	return s.loadingOf(mt, keys)
 }
 
-// loadingOf computes the loading for the given DC-volts point keys.
+// loadingOf computes the loading for the given DC-volts point keys. The
+// loaded volts of each net are solved once per meter input resistance and
+// kept (meterCache): a report asks for every point's band, each of which
+// wants its net's loading.
 func (s *Set) loadingOf(mt Meter, keys []string) ([]Loading, error) {
-	return meterLoading(s.d, s.opt, s.NominalOP, s.Points, s.index, mt, keys)
-}
-
-func meterLoading(d *design.Design, opt Options, nom *amp.OP, points []amp.PointDef, index map[string]int, mt Meter, keys []string) ([]Loading, error) {
 	if mt.isZero() {
 		mt = DefaultMeter()
 	}
-	w, err := newBlockSolver(d, opt, nom)
+	c := s.meters
+	if c == nil {
+		c = &meterCache{}
+	}
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	ml, err := c.get(s, mt.Ohms())
 	if err != nil {
 		return nil, err
 	}
-	base := w.pris.Clone()
-	if opt.Values != nil {
-		if err := opt.Values(w.m, base); err != nil {
-			return nil, err
-		}
-	}
-	byNet := map[string]float64{}
 	var out []Loading
+	var prog *progress
+	if len(keys) > 1 {
+		prog = &progress{total: len(keys), stage: "meter loading", f: s.opt.Progress}
+	}
 	for _, key := range keys {
-		i, ok := index[key]
+		prog.step()
+		i, ok := s.index[key]
 		if !ok {
 			return nil, fmt.Errorf("bands: no point %q", key)
 		}
-		pd := points[i]
+		pd := s.Points[i]
 		if pd.Quantity != amp.DCVolts {
 			continue
 		}
-		unloaded := w.m.Value(nom, pd)
-		loaded, done := byNet[pd.Net]
-		if !done {
-			slot, ok := w.m.MeterSlot(pd.Net)
-			if !ok {
-				continue
-			}
-			v := base.Clone()
-			v.Slot[slot] = mt.Ohms()
-			w.s.SetWarm(nom.V)
-			var op amp.OP
-			if err := w.s.Solve(opt.Cond, v, true, &op); err != nil {
-				return nil, fmt.Errorf("meter on %s: %w", pd.Net, err)
-			}
-			loaded, _ = w.m.NetVolts(&op, pd.Net)
-			byNet[pd.Net] = loaded
+		unloaded := ml.w.m.Value(s.NominalOP, pd)
+		loaded, ok, err := ml.loaded(s, pd.Net)
+		if err != nil {
+			return nil, err
+		}
+		if !ok {
+			continue
 		}
 		l := Loading{Key: key, Net: pd.Net, Unloaded: unloaded, Loaded: loaded}
 		if unloaded != 0 {
@@ -179,4 +173,66 @@ func meterLoading(d *design.Design, opt Options, nom *amp.OP, points []amp.Point
 		out = append(out, l)
 	}
 	return out, nil
+}
+
+// meterCache keeps, per meter input resistance, one solver for the
+// nominal amplifier and the loaded volts of every net solved so far. A
+// conditioned copy of a Set shares it: the loading depends only on the
+// design, the options and the nominal point, which conditioning keeps.
+type meterCache struct {
+	mu     sync.Mutex
+	byOhms map[float64]*meterLoads
+}
+
+type meterLoads struct {
+	ohms  float64
+	w     *blockSolver
+	base  *amp.Values
+	byNet map[string]float64
+}
+
+func (c *meterCache) get(s *Set, ohms float64) (*meterLoads, error) {
+	if ml, ok := c.byOhms[ohms]; ok {
+		return ml, nil
+	}
+	w, err := newBlockSolver(s.d, s.opt, s.NominalOP)
+	if err != nil {
+		return nil, err
+	}
+	base := w.pris.Clone()
+	if s.opt.Values != nil {
+		if err := s.opt.Values(w.m, base); err != nil {
+			return nil, err
+		}
+	}
+	ml := &meterLoads{ohms: ohms, w: w, base: base, byNet: map[string]float64{}}
+	if c.byOhms == nil {
+		c.byOhms = map[float64]*meterLoads{}
+	}
+	c.byOhms[ohms] = ml
+	return ml, nil
+}
+
+// loaded solves the nominal amplifier with the meter from net to chassis
+// (its meter slot, amp.Model.MeterSlot); ok is false for a net with no
+// meter slot.
+func (ml *meterLoads) loaded(s *Set, net string) (v float64, ok bool, err error) {
+	if v, ok := ml.byNet[net]; ok {
+		return v, true, nil
+	}
+	slot, ok := ml.w.m.MeterSlot(net)
+	if !ok {
+		return 0, false, nil
+	}
+	old := ml.base.Slot[slot]
+	ml.base.Slot[slot] = ml.ohms
+	defer func() { ml.base.Slot[slot] = old }()
+	ml.w.s.SetWarm(s.NominalOP.V)
+	var op amp.OP
+	if err := ml.w.s.Solve(s.opt.Cond, ml.base, true, &op); err != nil {
+		return 0, false, fmt.Errorf("meter on %s: %w", net, err)
+	}
+	v, _ = ml.w.m.NetVolts(&op, net)
+	ml.byNet[net] = v
+	return v, true, nil
 }

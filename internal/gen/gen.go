@@ -103,3 +103,35 @@ func Design(n int) *design.Design {
 	}
 	return d
 }
+
+// Chain returns the YAML of the two-channel design of Channels(2) with a
+// chain of n resistors (1 kΩ each, n ≥ 1) from B1 to chassis added, a
+// long bleeder divider: n more parts and n−1 more nets, for measuring how
+// the solvers scale with the size of the network.
+func Chain(n int) []byte {
+	if n < 1 {
+		n = 1
+	}
+	var b strings.Builder
+	b.Write(Channels(2))
+	prev := "B1"
+	for i := 1; i <= n; i++ {
+		next := fmt.Sprintf("D%d", i)
+		if i == n {
+			next = "0V"
+		}
+		fmt.Fprintf(&b, "  RC%d: {resistor: 1k, watts: 0.5, between: [%s, %s], note: bleeder chain}\n", i, prev, next)
+		prev = next
+	}
+	return []byte(b.String())
+}
+
+// ChainDesign parses Chain(n); it panics if the generated design does not
+// load, which is a bug in this package.
+func ChainDesign(n int) *design.Design {
+	d, probs := design.Parse(fmt.Sprintf("generated-chain-%d.yaml", n), Chain(n))
+	if errs := probs.Errors(); len(errs) > 0 {
+		panic(fmt.Sprintf("gen: %d-resistor chain: %v", n, errs))
+	}
+	return d
+}
