@@ -185,7 +185,11 @@ type OutputTransformerPart struct {
 	// DCRWhole: a push-pull primary's dcr was given as one figure, the
 	// whole primary end to end (as schematics give it); DCR holds half of
 	// it for each half. False when the file gave one figure per half.
+	// DCRSaid: the file said which explicitly (dcr: {whole: 200R} or
+	// dcr: {halves: [95R, 105R]}) rather than by the bare form (one
+	// figure, taken as the whole; a list, per half).
 	DCRWhole  bool
+	DCRSaid   bool
 	Impedance float64 // primary impedance, plate to plate for push-pull
 	Load      float64 // speaker load the impedance is quoted for
 	SecDCR    float64

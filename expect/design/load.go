@@ -1307,36 +1307,9 @@ func (l *loader) outputTransformer(p *Part, n *yaml.Node) {
 		}
 	}
 	if dn, ok := pg["dcr"]; ok {
-		df := pf + ".dcr"
-		if dn.Kind == yaml.SequenceNode {
-			if ot.Centre == "" {
-				l.errf(dn, df, "two DCRs given but the primary has no centre: expected one DCR for a single-ended primary")
-			} else if len(dn.Content) != 2 {
-				l.errf(dn, df, "%d DCRs given: expected one per half, [95R, 105R], or one figure for the whole primary end to end, 200R", len(dn.Content))
-			} else {
-				for i := range 2 {
-					if v, ok := l.value(dn.Content[i], df, units.Ohms, p); ok {
-						ot.DCR[i] = v
-					}
-				}
-			}
-		} else if v, ok := l.value(dn, df, units.Ohms, p); ok {
-			if v <= 0 || v > 1e4 {
-				l.errf(dn, df, "%s is out of range: expected a primary DCR of tens to hundreds of ohms", units.Format(v, units.Ohms))
-			}
-			if ot.Centre != "" {
-				// One figure for a push-pull primary is the whole winding,
-				// plate to plate, as schematics and meters give it.
-				ot.DCR = [2]float64{v / 2, v / 2}
-				ot.DCRWhole = true
-				l.add(posOf(dn), Note, df, "", "%s taken as the whole primary, plate to plate: %s per half (for figures per half write [%s, %s])",
-					units.Format(v, units.Ohms), units.Format(v/2, units.Ohms), units.FormatRKM(v/2, units.Ohms), units.FormatRKM(v/2, units.Ohms))
-			} else {
-				ot.DCR = [2]float64{v, 0}
-			}
-		}
+		l.otDCR(p, dn, pf+".dcr")
 	} else if pn.Kind == yaml.MappingNode {
-		l.errf(pn, pf+".dcr", "missing dcr: the primary's DC resistance sets the plate voltage; measure it cold (dcr: 230R, or per half for push-pull: [95R, 105R])")
+		l.errf(pn, pf+".dcr", "missing dcr: the primary's DC resistance sets the plate voltage; measure it cold (dcr: 230R; push-pull: the whole primary, dcr: {whole: 200R}, or per half, dcr: {halves: [95R, 105R]})")
 	}
 	if in, ok := pg["impedance"]; ok {
 		if v, ok := l.value(in, pf+".impedance", units.Ohms, p); ok {

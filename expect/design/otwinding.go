@@ -1,6 +1,8 @@
 package design
 
 import (
+	"fmt"
+
 	"gopkg.in/yaml.v3"
 
 	"pinwalk/expect/units"
@@ -186,4 +188,120 @@ func otJoins(ot *OutputTransformerPart) [][]string {
 func speakerOnly(d *Design, u NetUse) bool {
 	p := d.ByRef[u.Ref]
 	return p != nil && p.Kind == OutputTransformer && u.Terminal == "secondary.hot"
+}
+
+// otDCR reads an output transformer primary's dcr. Three spellings:
+//
+//	dcr: {whole: 200R}          the whole primary, end to end (plate to
+//	                            plate on a push-pull primary: split equally)
+//	dcr: {halves: [95R, 105R]}  push-pull, centre to the first end and
+//	                            centre to the second
+//	dcr: 200R / [95R, 105R]     the bare forms: one figure is the whole
+//	                            primary (a note says so on a push-pull
+//	                            one), a list is per half
+func (l *loader) otDCR(p *Part, dn *yaml.Node, df string) {
+	ot := p.OT
+	pp := ot.Centre != ""
+	ohms := func(n *yaml.Node, field string) (float64, bool) {
+		v, ok := l.value(n, field, units.Ohms, p)
+		if ok && (v <= 0 || v > 1e4) {
+			l.errf(n, field, "%s is out of range: expected a primary DCR of tens to hundreds of ohms", units.Format(v, units.Ohms))
+			return 0, false
+		}
+		return v, ok
+	}
+	whole := func(n *yaml.Node, field string, said bool) {
+		v, ok := ohms(n, field)
+		if !ok {
+			return
+		}
+		if !pp {
+			ot.DCR = [2]float64{v, 0}
+			return
+		}
+		ot.DCR = [2]float64{v / 2, v / 2}
+		ot.DCRWhole, ot.DCRSaid = true, said
+		if !said {
+			h := units.FormatRKM(v/2, units.Ohms)
+			l.add(posOf(n), Note, field, "", "%s taken as the whole primary, plate to plate: %s per half (say so with dcr: {whole: %s}; for figures per half write dcr: {halves: [%s, %s]})",
+				units.Format(v, units.Ohms), units.Format(v/2, units.Ohms), units.FormatRKM(v, units.Ohms), h, h)
+		}
+	}
+	halves := func(n *yaml.Node, field string, said bool) {
+		if !pp {
+			l.errf(n, field, "DCRs per half given but the primary has no centre: expected one DCR for a single-ended primary (dcr: 230R)")
+			return
+		}
+		if n.Kind != yaml.SequenceNode || len(n.Content) != 2 {
+			l.errf(n, field, "expected two DCRs, one per half: centre to %s, then centre to %s ([95R, 105R]); for the whole primary write dcr: {whole: 200R}", ot.Ends[0], ot.Ends[1])
+			return
+		}
+		var h [2]float64
+		for i := range 2 {
+			v, ok := ohms(n.Content[i], field)
+			if !ok {
+				return
+			}
+			h[i] = v
+		}
+		ot.DCR, ot.DCRSaid = h, said
+	}
+	switch dn.Kind {
+	case yaml.MappingNode:
+		got := map[string]*yaml.Node{}
+		for _, kv := range l.pairs(dn, df, []string{"whole", "halves"}) {
+			got[kv[0].Value] = kv[1]
+		}
+		w, hasW := got["whole"]
+		hv, hasH := got["halves"]
+		switch {
+		case hasW && hasH:
+			l.errf(dn, df, "both whole and halves given: expected one of them (dcr: {whole: 200R} or dcr: {halves: [95R, 105R]})")
+		case hasW:
+			whole(w, df+".whole", true)
+		case hasH:
+			halves(hv, df+".halves", true)
+		default:
+			l.errf(dn, df, "expected whole or halves: dcr: {whole: 200R} for the primary end to end, dcr: {halves: [95R, 105R]} per half")
+		}
+	case yaml.SequenceNode:
+		if !pp {
+			l.errf(dn, df, "two DCRs given but the primary has no centre: expected one DCR for a single-ended primary")
+			return
+		}
+		if len(dn.Content) != 2 {
+			l.errf(dn, df, "%d DCRs given: expected one per half, [95R, 105R], or one figure for the whole primary end to end, 200R", len(dn.Content))
+			return
+		}
+		halves(dn, df, false)
+	default:
+		whole(dn, df, false)
+	}
+}
+
+// TransformerSummary is one output transformer in a design summary.
+type TransformerSummary struct {
+	Ref, Part string
+	Windings  string // "primary PA–PB, centre B1; screen taps …; secondary …"
+}
+
+// otWindingWords names an output transformer's windings by their nets.
+func otWindingWords(ot *OutputTransformerPart) string {
+	w := "primary " + ot.Ends[0] + "–" + ot.Ends[1]
+	if ot.Centre != "" {
+		w += ", centre " + ot.Centre
+	}
+	if ot.Taps[0] != "" {
+		w += fmt.Sprintf("; screen taps %s (half to %s), %s (half to %s) at %s of each half from the centre",
+			ot.Taps[0], ot.Ends[0], ot.Taps[1], ot.Ends[1], units.Format(100*ot.TapFrac, units.Percent))
+	}
+	if ot.SecHot != "" {
+		w += fmt.Sprintf("; secondary %s–%s, %s load", ot.SecHot, ot.SecCold, units.Format(ot.Load, units.Ohms))
+	} else {
+		w += fmt.Sprintf("; secondary not wired in the design (%s load)", units.Format(ot.Load, units.Ohms))
+	}
+	if ot.SecDCR > 0 {
+		w += ", DCR " + units.Format(ot.SecDCR, units.Ohms)
+	}
+	return w
 }

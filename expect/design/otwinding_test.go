@@ -16,7 +16,7 @@ func ultralinearText(t *testing.T) string {
 }
 
 // otLine is the template's output transformer, the lines the cases edit.
-const otLine = `      primary: {ends: [PB, PA], centre: B1, dcr: [125R?, 135R?], impedance: 8k?}
+const otLine = `      primary: {ends: [PB, PA], centre: B1, dcr: {halves: [125R?, 135R?]}, impedance: 8k?}
       taps: {ul: [UB, UA], percent: 40?}
       secondary: {load: 8R?, dcr: 0R4?, hot: SPK}`
 
@@ -92,6 +92,35 @@ func TestOutputTransformerWindings(t *testing.T) {
 		}
 		if !found {
 			t.Errorf("%s: no error at %s containing %q; got %v", c.name, c.field, c.msg, ps.Errors())
+		}
+	}
+}
+
+// TestShowOutputTransformer: `show` lists each output transformer with
+// its primary DCR and which way the file gave it, and its windings' nets.
+func TestShowOutputTransformer(t *testing.T) {
+	base := ultralinearText(t)
+	for _, c := range []struct{ dcr, want string }{
+		{"{halves: [125R?, 135R?]}", "primary DCR 125 Ω + 135 Ω per half (given per half; 260 Ω plate to plate)"},
+		{"[125R, 135R]", "primary DCR 125 Ω + 135 Ω per half (a list, taken per half; 260 Ω plate to plate)"},
+		{"260R", "primary DCR 260 Ω plate to plate (one figure, taken as the whole primary; 130 Ω per half)"},
+		{"{whole: 260R}", "primary DCR 260 Ω plate to plate (given as the whole primary; 130 Ω per half)"},
+	} {
+		src := strings.Replace(base, "dcr: {halves: [125R?, 135R?]}", "dcr: "+c.dcr, 1)
+		d, ps := Parse("ul.yaml", []byte(src))
+		if len(ps.Errors()) > 0 {
+			t.Fatalf("%s: %v", c.dcr, ps.Errors())
+		}
+		var b strings.Builder
+		if err := Summarize(d).WriteText(&b); err != nil {
+			t.Fatal(err)
+		}
+		out := b.String()
+		for _, w := range []string{"Output transformers\n  OT1 output-transformer 8 kΩ " + c.want,
+			"primary PB–PA, centre B1; screen taps UB (half to PB), UA (half to PA) at 40 % of each half from the centre; secondary SPK–0V, 8 Ω load, DCR 400 mΩ"} {
+			if !strings.Contains(out, w) {
+				t.Errorf("dcr %s: show lacks %q:\n%s", c.dcr, w, out)
+			}
 		}
 	}
 }

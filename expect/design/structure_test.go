@@ -74,20 +74,25 @@ func TestSecondDocument(t *testing.T) {
 }
 
 // TestPushPullDCR: one DCR figure for a push-pull primary is the whole
-// primary (split equally, and a note says so); a list gives each half.
+// primary (split equally, and a note says so); a list gives each half;
+// dcr: {whole: …} and dcr: {halves: […]} say which explicitly (no note),
+// and the part's description says which the figure was.
 func TestPushPullDCR(t *testing.T) {
 	data, err := os.ReadFile(filepath.Join("..", "..", "testdata", "bad", "ot-dcr-three-values.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}
 	for _, c := range []struct {
-		dcr    string
-		halves [2]float64
-		whole  bool
+		dcr         string
+		halves      [2]float64
+		whole, said bool
+		desc        string
 	}{
-		{"260R", [2]float64{130, 130}, true},
-		{"[130R, 130R]", [2]float64{130, 130}, false},
-		{"[95R, 105R]", [2]float64{95, 105}, false},
+		{"260R", [2]float64{130, 130}, true, false, "260 Ω plate to plate (one figure, taken as the whole primary; 130 Ω per half)"},
+		{"[130R, 130R]", [2]float64{130, 130}, false, false, "130 Ω + 130 Ω per half"},
+		{"[95R, 105R]", [2]float64{95, 105}, false, false, "95 Ω + 105 Ω per half"},
+		{"{whole: 260R}", [2]float64{130, 130}, true, true, "260 Ω plate to plate (given as the whole primary; 130 Ω per half)"},
+		{"{halves: [125R, 135R]}", [2]float64{125, 135}, false, true, "125 Ω + 135 Ω per half"},
 	} {
 		src := strings.Replace(string(data), "dcr: [95R, 105R, 100R]", "dcr: "+c.dcr, 1)
 		d, ps := Parse("pp.yaml", []byte(src))
@@ -95,18 +100,45 @@ func TestPushPullDCR(t *testing.T) {
 			t.Fatalf("dcr %s: %v", c.dcr, errs)
 		}
 		ot := d.ByRef["OT1"].OT
-		if ot.DCR != c.halves || ot.DCRWhole != c.whole {
-			t.Errorf("dcr %s: halves %v whole %v, want %v whole %v", c.dcr, ot.DCR, ot.DCRWhole, c.halves, c.whole)
+		if ot.DCR != c.halves || ot.DCRWhole != c.whole || ot.DCRSaid != c.said {
+			t.Errorf("dcr %s: halves %v whole %v said %v, want %v whole %v said %v", c.dcr, ot.DCR, ot.DCRWhole, ot.DCRSaid, c.halves, c.whole, c.said)
 		}
 		noted := false
 		for _, p := range ps {
-			noted = noted || (p.Severity == Note && strings.Contains(p.Msg, "taken as the whole primary"))
+			noted = noted || (p.Severity == Note && strings.Contains(p.Msg, "taken as the whole primary") && strings.Contains(p.Msg, "dcr: {whole: 260R}"))
 		}
-		if noted != c.whole {
-			t.Errorf("dcr %s: note that the figure is the whole primary: %v, want %v", c.dcr, noted, c.whole)
+		if noted != (c.whole && !c.said) {
+			t.Errorf("dcr %s: note that the figure is taken as the whole primary: %v, want %v", c.dcr, noted, c.whole && !c.said)
 		}
-		if desc := DescribePart(d.ByRef["OT1"]); c.whole && !strings.Contains(desc, "260 Ω plate to plate (130 Ω per half)") {
-			t.Errorf("dcr %s: part described as %q, want the whole figure and the halves", c.dcr, desc)
+		if desc := DescribePart(d.ByRef["OT1"]); !strings.Contains(desc, "primary DCR "+c.desc) {
+			t.Errorf("dcr %s: part described as %q, want %q", c.dcr, desc, c.desc)
 		}
+	}
+	// Bad explicit spellings, each an error at its field.
+	for _, c := range []struct{ dcr, field, msg string }{
+		{"{whole: 260R, halves: [125R, 135R]}", "OT1.output-transformer.primary.dcr", "both whole and halves"},
+		{"{}", "OT1.output-transformer.primary.dcr", "expected whole or halves"},
+		{"{halves: 260R}", "OT1.output-transformer.primary.dcr.halves", "one per half"},
+		{"{halves: [125R, 0R]}", "OT1.output-transformer.primary.dcr.halves", "out of range"},
+		{"{total: 260R}", "OT1.output-transformer.primary.dcr.total", ""},
+	} {
+		src := strings.Replace(string(data), "dcr: [95R, 105R, 100R]", "dcr: "+c.dcr, 1)
+		_, ps := Parse("pp.yaml", []byte(src))
+		found := false
+		for _, p := range ps.Errors() {
+			found = found || (p.Field == c.field && strings.Contains(p.Msg, c.msg) && p.Pos.Line == 20)
+		}
+		if !found {
+			t.Errorf("dcr %s: want an error at line 20, %s, saying %q; got %v", c.dcr, c.field, c.msg, ps.Errors())
+		}
+	}
+	// A single-ended primary takes {whole: …} and refuses halves.
+	se := strings.Replace(string(data), "{ends: [PA, PB], centre: B1, dcr: [95R, 105R, 100R]", "{ends: [B1, PA], dcr: {whole: 250R}", 1)
+	if d, ps := Parse("se.yaml", []byte(se)); d == nil || d.ByRef["OT1"].OT.DCR != [2]float64{250, 0} {
+		t.Errorf("single-ended {whole: 250R}: %v", ps.Errors())
+	}
+	se = strings.Replace(se, "{whole: 250R}", "{halves: [125R, 125R]}", 1)
+	if _, ps := Parse("se.yaml", []byte(se)); !strings.Contains(ps.Error(), "no centre") {
+		t.Errorf("single-ended halves accepted: %v", ps.Errors())
 	}
 }

@@ -97,9 +97,12 @@ type Summary struct {
 	Title, File string
 	Supplies    []SupplyChain
 	Valves      []ValveSummary
-	Nets        []NetSummary
-	Findings    []SummaryFinding
-	ground      string
+	// Transformers are the output transformers: the part described (the
+	// primary DCR and which way the file gave it) and its windings' nets.
+	Transformers []TransformerSummary
+	Nets         []NetSummary
+	Findings     []SummaryFinding
+	ground       string
 }
 
 // DescribePart says what a part is in a few words with its main values:
@@ -145,11 +148,19 @@ func DescribePart(p *Part) string {
 		case ot.Centre == "":
 			b = append(b, "primary DCR "+units.Format(ot.DCR[0], units.Ohms))
 		case ot.DCRWhole:
-			b = append(b, fmt.Sprintf("primary DCR %s plate to plate (%s per half)",
-				units.Format(ot.DCR[0]+ot.DCR[1], units.Ohms), units.Format(ot.DCR[0], units.Ohms)))
+			given := "given as the whole primary"
+			if !ot.DCRSaid {
+				given = "one figure, taken as the whole primary"
+			}
+			b = append(b, fmt.Sprintf("primary DCR %s plate to plate (%s; %s per half)",
+				units.Format(ot.DCR[0]+ot.DCR[1], units.Ohms), given, units.Format(ot.DCR[0], units.Ohms)))
 		default:
-			b = append(b, fmt.Sprintf("primary DCR %s + %s per half",
-				units.Format(ot.DCR[0], units.Ohms), units.Format(ot.DCR[1], units.Ohms)))
+			given := "given per half"
+			if !ot.DCRSaid {
+				given = "a list, taken per half"
+			}
+			b = append(b, fmt.Sprintf("primary DCR %s + %s per half (%s; %s plate to plate)",
+				units.Format(ot.DCR[0], units.Ohms), units.Format(ot.DCR[1], units.Ohms), given, units.Format(ot.DCR[0]+ot.DCR[1], units.Ohms)))
 		}
 	}
 	if p.Note != "" {
@@ -216,6 +227,9 @@ func Summarize(d *Design) *Summary {
 	s.Supplies = supplyChains(d)
 	for _, p := range d.Valves() {
 		s.Valves = append(s.Valves, valveSummary(d, p))
+	}
+	for _, p := range d.PartsOfKind(OutputTransformer) {
+		s.Transformers = append(s.Transformers, TransformerSummary{Ref: p.Ref, Part: DescribePart(p), Windings: otWindingWords(p.OT)})
 	}
 	for _, net := range d.NetNames() {
 		ns := NetSummary{Net: net}
@@ -607,6 +621,12 @@ func (s *Summary) WriteText(w io.Writer) error {
 			}
 			fmt.Fprintf(&b, "  pin %-2d %-18s %-6s %s\n", p.Pin, e, p.Net, o)
 		}
+	}
+	if len(s.Transformers) > 0 {
+		b.WriteString("\nOutput transformers\n")
+	}
+	for _, t := range s.Transformers {
+		fmt.Fprintf(&b, "  %s %s\n      %s\n", t.Ref, t.Part, t.Windings)
 	}
 	b.WriteString("\nParts by net\n")
 	for _, n := range s.Nets {

@@ -282,9 +282,9 @@ func TestMultiFunctionSections(t *testing.T) {
 // Western Electric 300B data, from memory; REFERENCES.md).
 func TestRegulatorsAndDirectlyHeatedTriodes(t *testing.T) {
 	for name, g := range map[string]GasRating{
-		"OA2": {StrikeVolts: 185, MaintainVolts: 150, MinAmps: 0.005, MaxAmps: 0.030},
-		"OB2": {StrikeVolts: 133, MaintainVolts: 108, MinAmps: 0.005, MaxAmps: 0.030},
-		"0D3": {StrikeVolts: 185, MaintainVolts: 150, MinAmps: 0.005, MaxAmps: 0.040},
+		"OA2": {StrikeVolts: 185, MaintainVolts: 150, MinAmps: 0.005, MaxAmps: 0.030, RegulationVolts: 2},
+		"OB2": {StrikeVolts: 133, MaintainVolts: 108, MinAmps: 0.005, MaxAmps: 0.030, RegulationVolts: 1},
+		"0D3": {StrikeVolts: 185, MaintainVolts: 150, MinAmps: 0.005, MaxAmps: 0.040, RegulationVolts: 4},
 	} {
 		ty, _ := Lookup(name)
 		if ty.Kind != Regulator || ty.Gas != g || ty.Kind.Modelled() || len(ty.PinsOf("", Anode)) != 1 {

@@ -19,7 +19,8 @@ const (
 	// device; a design must leave it unused.
 	Diode Kind = "diode"
 	// Regulator is a cold-cathode gas voltage regulator (OA2, OB2, 0D3):
-	// library data (Type.Gas) only, not yet a network device.
+	// library data (Type.Gas) and its DC law (GasLaw, gas.go); not yet a
+	// part a design can wire.
 	Regulator Kind = "regulator"
 	// Heptode is a pentagrid converter (6BE6): library data only, not yet a
 	// network device.
@@ -171,4 +172,7 @@ type GasRating struct {
 	MaintainVolts float64 `yaml:"maintain_v"` // operating (burning) voltage across it
 	MinAmps       float64 `yaml:"min_a"`      // smallest current for a stable discharge
 	MaxAmps       float64 `yaml:"max_a"`      // largest continuous current
+	// RegulationVolts is the rise of the burning voltage from MinAmps to
+	// MaxAmps (the datasheet's "regulation"); 0 when not given.
+	RegulationVolts float64 `yaml:"regulation_v"`
 }
