@@ -56,7 +56,7 @@ func Exceptions(r *Runner) []Exception {
 		}
 		text := fmt.Sprintf("%s read %s", r.LabelOf(rd.Point), fmtBand(rd.Value, rd.Unit))
 		if rd.High > rd.Low {
-			text += fmt.Sprintf(", expected %s – %s", fmtBand(rd.Low, rd.Unit), fmtBand(rd.High, rd.Unit))
+			text += fmt.Sprintf(", expected %s to %s", fmtBand(rd.Low, rd.Unit), fmtBand(rd.High, rd.Unit))
 		}
 		if rd.Variac > 0 && rd.Variac < 1 {
 			text += fmt.Sprintf(" at %.0f %% mains", 100*rd.Variac)

@@ -57,8 +57,27 @@ func FaultFindProcedure(b *BenchModel, mode Mode) (*Procedure, error) {
 	if mode == Practise {
 		sym.Instruction = "Practice: the tool has picked a fault and answers your measurements from a simulated amp. Confirm to start. After the safety steps each best next measurement follows by itself: m to take the (simulated) reading, measure KEY to choose your own, power to power up, name REF:MODE when you know."
 	}
-	if ch := channels(b.D); len(ch) > 1 && mode != Practise {
-		sym.Asks = []Ask{{Field: FieldChannel, Prompt: fmt.Sprintf("Which channel is affected (%s, or both)?", strings.Join(ch, ", "))}}
+	if chs := ChannelsOf(b); len(chs) > 1 && mode != Practise {
+		var names []string
+		for _, c := range chs {
+			names = append(names, c.Title())
+		}
+		sym.Asks = []Ask{{Field: FieldChannel, Prompt: fmt.Sprintf("Which channel has the complaint: %s, or both?", strings.Join(names, ", "))}}
+		if pairs, shared := swapPairs(b.D, chs); len(pairs) > 0 {
+			var ps, vs []string
+			for _, pr := range pairs {
+				ps = append(ps, pr[0]+" with "+pr[1])
+				vs = append(vs, pr[0]+"/"+pr[1])
+			}
+			note := ""
+			if len(shared) > 0 {
+				note = " " + strings.Join(shared, ", ") + " serves both channels: a swap cannot tell it."
+			}
+			sym.Instruction += fmt.Sprintf(" The swap test, with the amp closed and used as the customer does, a speaker or dummy load on every output: switch off and unplug, "+
+				"let the valves cool (they burn), swap %s, power up and listen.%s Does the fault move to the other channel with the valve?", strings.Join(ps, " and "), note)
+			sym.Asks = append(sym.Asks, Ask{Field: FieldSwap + ":" + strings.Join(vs, ","),
+				Prompt: fmt.Sprintf("Swap test (%s): follows (the fault moved with the valve), stays, or Enter: not tried", strings.Join(ps, ", "))})
+		}
 	}
 	if mode != Practise {
 		p.Steps = append([]*Step{intakeStep()}, p.Steps...)
@@ -76,6 +95,34 @@ func FaultFindProcedure(b *BenchModel, mode Mode) (*Procedure, error) {
 	}
 	p.Steps = append(p.Steps, summaryStep())
 	return p, nil
+}
+
+// swapPairs pairs the valves of the first two channels stage by stage
+// where they are different valves of one type (V2 with V3); a valve
+// whose sections serve both channels is listed as shared.
+func swapPairs(d *design.Design, chs []Channel) (pairs [][2]string, shared []string) {
+	if len(chs) < 2 {
+		return nil, nil
+	}
+	a, b := chs[0].stages, chs[1].stages
+	seen := map[string]bool{}
+	for i := 0; i < len(a) && i < len(b); i++ {
+		ra, rb := a[i].ref, b[i].ref
+		if ra == rb {
+			if !seen[ra] {
+				shared = append(shared, ra)
+				seen[ra] = true
+			}
+			continue
+		}
+		va, vb := d.ByRef[ra], d.ByRef[rb]
+		if va == nil || vb == nil || va.Valve == nil || vb.Valve == nil || va.Valve.Type.Name != vb.Valve.Type.Name || seen[ra+"/"+rb] {
+			continue
+		}
+		seen[ra+"/"+rb] = true
+		pairs = append(pairs, [2]string{ra, rb})
+	}
+	return pairs, shared
 }
 
 // faultLoop is the measuring loop of fault-finding and practice.

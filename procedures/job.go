@@ -6,6 +6,7 @@ import (
 	"math"
 	"strings"
 	"time"
+	"unicode"
 
 	"pinwalk/expect/design"
 	"pinwalk/expect/point"
@@ -139,7 +140,15 @@ func (s *Session) answer(field, text string, at time.Time) error {
 		if !isNothing(text) {
 			j.Visual = append(j.Visual, text)
 		}
-	case field == FieldChannel, field == FieldSwap, field == FieldNoteAnswer, field == FieldDummyLoad:
+	case field == FieldChannel:
+		j.Channel = text
+	case field == FieldSwap || strings.HasPrefix(field, FieldSwap+":"):
+		res, err := parseSwap(text)
+		if err != nil {
+			return err
+		}
+		j.Swap = &SwapTest{Valves: strings.TrimPrefix(strings.TrimPrefix(field, FieldSwap), ":"), Result: res, Said: text, At: at}
+	case field == FieldNoteAnswer, field == FieldDummyLoad:
 		s.Notes = append(s.Notes, Note{Text: field + ": " + text, At: at})
 	case field == FieldPart:
 		f := strings.Fields(text)
@@ -195,6 +204,26 @@ func isNothing(s string) bool {
 		return true
 	}
 	return false
+}
+
+// parseSwap reads the answer of the swap test: follows (moves, yes:
+// the fault went to the other channel with the valve), stays (no: it
+// stayed on its channel) or not tried.
+func parseSwap(text string) (string, error) {
+	w := strings.ToLower(strings.TrimSpace(text))
+	first := ""
+	if f := strings.FieldsFunc(w, func(r rune) bool { return !unicode.IsLetter(r) }); len(f) > 0 {
+		first = f[0]
+	}
+	switch {
+	case first == "follows" || first == "followed" || first == "follow" || first == "moves" || first == "moved" || first == "yes" || first == "y":
+		return SwapFollows, nil
+	case first == "stays" || first == "stayed" || first == "stay" || first == "no" || first == "n":
+		return SwapStays, nil
+	case w == "not tried" || first == "untried" || first == "skipped" || w == "-" || strings.HasPrefix(w, "not tried"):
+		return SwapNotTried, nil
+	}
+	return "", fmt.Errorf("%q: expected follows (the fault moved with the valve), stays (it stayed on its channel) or not tried", text)
 }
 
 // parseSoak reads a soak time: minutes as a bare number, or a Go duration

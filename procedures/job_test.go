@@ -53,6 +53,15 @@ func TestJobAnswers(t *testing.T) {
 			t.Errorf("%s %q accepted", bad.field, bad.text)
 		}
 	}
+	// The swap test's answer in a technician's words.
+	for text, want := range map[string]string{"follows": SwapFollows, "Moved with the valve": SwapFollows, "stays, hum still right": SwapStays, "no": SwapStays, "not tried": SwapNotTried} {
+		if err := s.answer(FieldSwap+":V2/V3", text, at); err != nil || s.Job.Swap.Result != want || s.Job.Swap.Valves != "V2/V3" {
+			t.Errorf("swap %q: %v %+v, want %s", text, err, s.Job.Swap, want)
+		}
+	}
+	if err := s.answer(FieldSwap+":V2/V3", "perhaps", at); err == nil {
+		t.Error("swap answer perhaps accepted")
+	}
 	// A multimeter reading is recorded as one: the sheet calls it an
 	// indication only.
 	if err := s.answer(FieldEarthBond, "0.3 meter", at); err != nil || s.Job.After.EarthBond.Instrument != Multimeter {

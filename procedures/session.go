@@ -87,13 +87,37 @@ type Bench struct {
 // the checks after the repair, the sign-off). Every field is optional;
 // sessions from before these fields load with them empty.
 type Job struct {
-	Customer  string       `yaml:"customer,omitempty"`
-	Complaint string       `yaml:"complaint,omitempty"` // in the customer's words
-	Visual    []string     `yaml:"visual-inspection,omitempty"`
-	Parts     []PartChange `yaml:"parts-replaced,omitempty"`
-	After     AfterRepair  `yaml:"after-repair,omitempty"`
-	SignOff   *SignOff     `yaml:"sign-off,omitempty"`
+	Customer  string `yaml:"customer,omitempty"`
+	Complaint string `yaml:"complaint,omitempty"` // in the customer's words
+	// Channel is the channel with the complaint on a multi-channel amp,
+	// as answered ("right", "both").
+	Channel string `yaml:"channel,omitempty"`
+	// Swap is the swap test: the matching valves of two channels
+	// swapped, and whether the fault followed the valve.
+	Swap    *SwapTest    `yaml:"swap-test,omitempty"`
+	Visual  []string     `yaml:"visual-inspection,omitempty"`
+	Parts   []PartChange `yaml:"parts-replaced,omitempty"`
+	After   AfterRepair  `yaml:"after-repair,omitempty"`
+	SignOff *SignOff     `yaml:"sign-off,omitempty"`
 }
+
+// SwapTest is the result of swapping the matching valves of two
+// channels and listening: the fault followed the valve (the valve is
+// bad), stayed with its channel (the valve is cleared; the fault is in
+// the channel's parts), or the test was not tried.
+type SwapTest struct {
+	Valves string    `yaml:"valves"` // "V2/V3"
+	Result string    `yaml:"result"` // SwapFollows, SwapStays or SwapNotTried
+	Said   string    `yaml:"said,omitempty"`
+	At     time.Time `yaml:"at"`
+}
+
+// Swap test results.
+const (
+	SwapFollows  = "follows the valve"
+	SwapStays    = "stays with the channel"
+	SwapNotTried = "not tried"
+)
 
 // PartChange is one part replaced: its schematic reference, the new
 // part's value and rating as written on it, and why it was replaced.

@@ -49,6 +49,10 @@ type ToneBench struct {
 	set   *bands.Set
 	op    *amp.OP
 	phase map[string]complex128 // nominal tone phasor per point ID
+	// Channels: the signal paths the tone follows, one per channel of a
+	// multi-channel amp (each input to its own output transformer), else
+	// one.
+	Channels []Channel
 }
 
 // NewToneBench solves the tone bands of a bench model's design.
@@ -67,18 +71,33 @@ func NewToneBench(b *BenchModel, tone ac.Options) (*ToneBench, error) {
 	if err != nil {
 		return nil, err
 	}
+	var chans []Channel
 	if tone.InputNet == "" {
 		tone.InputNet = an.InputNet()
 		if tone.InputNet == "" {
 			return nil, fmt.Errorf("signal tracing: %s: no input grid found (a grid with only a grid leak to chassis): name the input net", b.D.File)
 		}
+		// Several channels: one generator on a Y lead into every input,
+		// each channel traced in turn.
+		if chans = ChannelsOf(b); len(chans) > 1 {
+			tone.AllInputs = true
+		}
+	}
+	if len(chans) < 2 {
+		chans = []Channel{{Input: tone.InputNet, stages: signalChain(b, tone.InputNet)}}
+		chans[0].OTs = speakersOf(b.D, chans[0].stages)
 	}
 	v := m.NominalValues()
 	var op amp.OP
 	if err := amp.NewSolver(m).Solve(amp.Conditions{}, v, false, &op); err != nil {
 		return nil, fmt.Errorf("signal tracing: %w", err)
 	}
-	x, err := ac.ToneExtra(m, &op, v, tone)
+	// The ac package drives every input only when it picks them itself.
+	acOpt := tone
+	if acOpt.AllInputs {
+		acOpt.InputNet = ""
+	}
+	x, err := ac.ToneExtra(m, &op, v, acOpt)
 	if err != nil {
 		return nil, fmt.Errorf("signal tracing: %w", err)
 	}
@@ -86,7 +105,7 @@ func NewToneBench(b *BenchModel, tone ac.Options) (*ToneBench, error) {
 	if err != nil {
 		return nil, fmt.Errorf("signal tracing: %w", err)
 	}
-	pts, err := an.Tone(&op, v, tone, nil)
+	pts, err := an.Tone(&op, v, acOpt, nil)
 	if err != nil {
 		return nil, fmt.Errorf("signal tracing: %w", err)
 	}
@@ -94,7 +113,7 @@ func NewToneBench(b *BenchModel, tone ac.Options) (*ToneBench, error) {
 	for _, p := range pts {
 		ph[p.ID] = cmplx.Rect(p.Volts, p.Phase*math.Pi/180)
 	}
-	return &ToneBench{BenchModel: b, Tone: tone, set: set, op: &op, phase: ph}, nil
+	return &ToneBench{BenchModel: b, Tone: tone, set: set, op: &op, phase: ph, Channels: chans}, nil
 }
 
 // Expect implements Expecter: tone points from the tone set, widened by
@@ -152,21 +171,30 @@ type stage struct {
 	grid, plate, cathode amp.PointDef
 }
 
-// chain returns the sections the tone passes through, in signal order:
-// a breadth-first walk over the nets from the input net, through
+// chain returns the sections the tone passes through, every channel's in
+// turn.
+func (t *ToneBench) chain() []stage {
+	var out []stage
+	for _, c := range t.Channels {
+		out = append(out, c.stages...)
+	}
+	return out
+}
+
+// signalChain returns the sections a tone at the input net passes
+// through, in signal order: a breadth-first walk over the nets from it, through
 // resistors, pots and capacitors (either way) and through each valve
 // section from its grid to its plate and cathode (one way), never through
 // chassis or a supply net (both AC ground). Sections are ordered by the
 // distance of their grid from the input, then in design order.
-func (t *ToneBench) chain() []stage {
-	b := t.BenchModel
+func signalChain(b *BenchModel, input string) []stage {
 	d := b.D
 	ground := map[string]bool{d.Ground: true}
 	for _, n := range supplyNets(b) {
 		ground[n] = true
 	}
-	dist := map[string]int{t.Tone.InputNet: 0}
-	if id, ok := t.netOf(t.Tone.InputNet); ok {
+	dist := map[string]int{input: 0}
+	if id, ok := netOfPin(d, input); ok {
 		dist = map[string]int{id: 0}
 	}
 	q := []string{}
@@ -239,13 +267,13 @@ func (t *ToneBench) chain() []stage {
 	return out
 }
 
-// netOf resolves a pin id ("V1.7") to its net.
-func (t *ToneBench) netOf(id string) (string, bool) {
+// netOfPin resolves a pin id ("V1.7") to its net.
+func netOfPin(d *design.Design, id string) (string, bool) {
 	ref, pin, ok := amp.ParseID(id)
 	if !ok {
 		return "", false
 	}
-	p := t.D.ByRef[ref]
+	p := d.ByRef[ref]
 	if p == nil || p.Valve == nil {
 		return "", false
 	}
@@ -253,13 +281,13 @@ func (t *ToneBench) netOf(id string) (string, bool) {
 	return n, ok
 }
 
-// speakers returns the output transformers whose primary carries the
+// speakersOf returns the output transformers whose primary carries the
 // signal (a primary end on a plate of the chain), in chain order.
-func (t *ToneBench) speakers(ch []stage) []*design.Part {
+func speakersOf(d *design.Design, ch []stage) []*design.Part {
 	var out []*design.Part
 	seen := map[string]bool{}
 	for _, s := range ch {
-		for _, p := range t.D.PartsOfKind(design.OutputTransformer) {
+		for _, p := range d.PartsOfKind(design.OutputTransformer) {
 			if seen[p.Ref] {
 				continue
 			}
@@ -317,11 +345,13 @@ func acRange(v float64) string {
 }
 
 // SignalProcedure generates the signal-tracing procedure of a design: the
-// safety steps, then with a dummy load on the output and a sine tone
+// safety steps, then with a dummy load on every output and a sine tone
 // (tone: level and frequency; the input net defaults to the first stage's
-// input grid, ac.Analyzer.InputNet) the tone's AC level at each grid,
-// plate and cathode of every stage on the signal path in signal order,
-// then at the speaker terminals, each against its band (bands.Run with
+// input grid, ac.Analyzer.InputNet, and on a multi-channel amp to every
+// channel's input through a Y lead, ChannelsOf) the tone's AC level at
+// each grid, plate and cathode of every stage on the signal path in
+// signal order, then at the speaker terminals, channel by channel (each
+// step's title names its channel), each against its band (bands.Run with
 // ac.ToneExtra, widened by the AC meter's accuracy and the model's
 // error), then the summary. Run it with the ToneBench it returns as the
 // Expecter (NewToneBench), or call SignalProcedureWith.
@@ -343,9 +373,22 @@ func SignalProcedureWith(tb *ToneBench) (*Procedure, error) {
 	if len(ch) == 0 {
 		return nil, fmt.Errorf("signal tracing: %s: no stage is reached from the input net %s", b.D.File, tb.Tone.InputNet)
 	}
+	multi := len(tb.Channels) > 1
 	cautions := []string{LiveCaution, DummyLoadCaution, GeneratorCaution}
 	clip, who := tb.clipLevel(ch)
-	level := fmt.Sprintf("Set the generator to a sine of %s rms at %s into %s (chassis as its ground).", units.Format(tb.Tone.Volts, units.Volts), fmtHz(tb.Tone.Hz), inputWhere(tb, ch[0]))
+	into := inputWhere(tb.Tone.InputNet, ch[0])
+	if multi {
+		var ins []string
+		for _, c := range tb.Channels {
+			if len(c.stages) > 0 {
+				ins = append(ins, c.Title()+" into "+inputWhere(c.Input, c.stages[0]))
+			}
+		}
+		into = "every input at once through a Y lead, chassis as its ground (" + strings.Join(ins, "; ") + ")"
+	} else {
+		into += " (chassis as its ground)"
+	}
+	level := fmt.Sprintf("Set the generator to a sine of %s rms at %s into %s.", units.Format(tb.Tone.Volts, units.Volts), fmtHz(tb.Tone.Hz), into)
 	if !math.IsInf(clip, 1) {
 		if tb.Tone.Volts > 0.7*clip {
 			level += fmt.Sprintf(" WARNING: at this level %s's grid swings past (or close to) its bias: the amp clips above about %s at the input. Use %s or less.",
@@ -354,78 +397,106 @@ func SignalProcedureWith(tb *ToneBench) (*Procedure, error) {
 			level += fmt.Sprintf(" The amp clips above about %s at the input (%s's grid reaches its bias): stay well below.", units.Format(clip, units.Volts), who)
 		}
 	}
+	inputWord := "input"
+	if multi {
+		inputWord = "inputs"
+	}
 	var loads []string
-	for _, ot := range tb.speakers(ch) {
-		if ot.OT.Load > 0 {
-			loads = append(loads, fmt.Sprintf("%s: %s", ot.Ref, units.Format(ot.OT.Load, units.Ohms)))
+	for _, c := range tb.Channels {
+		for _, ot := range c.OTs {
+			if ot.OT.Load > 0 {
+				loads = append(loads, fmt.Sprintf("%s: %s", ot.Ref, units.Format(ot.OT.Load, units.Ohms)))
+			}
 		}
 	}
 	setup := &Step{ID: StepSignalSetup, Kind: KindTone, Live: true, Variac: 1, Gate: gate, Cautions: cautions,
 		Title: "Set up: dummy load, signal generator, power up",
-		Instruction: fmt.Sprintf("Unplugged: connect a dummy load of the rated impedance to every output (%s) and the signal generator to the input. %s "+
+		Instruction: fmt.Sprintf("Unplugged: connect a dummy load of the rated impedance to every output (%s) and the signal generator to the %s. %s "+
 			"Plug in through the variac and series lamp and bring it up to 100 %%; wait a minute for the heaters. Use the meter's AC volts function (or a scope) for every reading in this procedure.",
-			strings.Join(loads, ", "), level),
+			strings.Join(loads, ", "), inputWord, level),
 		Why:    "A test tone of known level at the input shows, stage by stage, where the signal stops or shrinks: an open coupling capacitor, an open cathode bypass or a weak valve leaves the DC volts normal but not the tone.",
 		StopIf: []string{"the series lamp glows bright and stays bright", "a plate glows red", "smoke, arcing, or a smell of hot varnish"}}
+	if multi {
+		setup.Why += " Each channel is traced in turn from its own input; the channels' readings should match each other as well as their bands."
+	}
 	p.Steps = append(p.Steps, setup)
-	prev := setup.ID
-	for n, s := range ch {
-		v := b.D.ByRef[s.ref]
-		name := s.ref
-		if s.section != "" {
-			name += " section " + s.section
+	done := map[string]bool{}
+	for _, c := range tb.Channels {
+		prefix := ""
+		if multi {
+			t := c.Title()
+			prefix = strings.ToUpper(t[:1]) + t[1:] + ": "
 		}
-		st := &Step{ID: "signal-" + s.ref + s.section, Kind: KindTone, Live: true, Variac: 1, Gate: append(append([]string(nil), gate...), prev), Cautions: cautions,
-			Title: fmt.Sprintf("Tone through %s (%s)", name, v.Valve.Type.Name),
-			Instruction: fmt.Sprintf("With the tone on, measure AC volts from %s's grid, plate and cathode to chassis (socket viewed from below). The plate carries hundreds of volts DC: the AC volts function blocks it on most meters (else a 0.1 µF capacitor rated for the HT in series).",
-				name),
-			Why:    "The grid shows what reaches the stage, the plate what it makes of it; a bypassed cathode sits near zero, and reads near the grid's level when its bypass capacitor is open (the stage's gain falls).",
-			StopIf: []string{"a plate glows red", "smoke, arcing, or a smell of hot varnish"}}
-		if n == 0 {
-			st.Why = "The first reading checks the generator's level at the input grid: every later band assumes it."
-		}
-		for _, pd := range []amp.PointDef{s.grid, s.plate, s.cathode} {
-			if pd.ID == "" || pd.Net == b.D.Ground {
+		// Each channel's steps follow the set-up and each other; one
+		// channel does not wait on another (the complaint's side first).
+		prev := setup.ID
+		for n, s := range c.stages {
+			id := "signal-" + s.ref + s.section
+			if done[id] {
 				continue
 			}
-			probes := fmt.Sprintf("red on %s pin %d (socket viewed from below), black on chassis", pd.Valve, pd.Pin)
-			if m, ok := tb.toneMeasure(pd.ID, pd.Label+" (from below)", probes); ok {
-				st.Measures = append(st.Measures, m)
+			v := b.D.ByRef[s.ref]
+			name := s.ref
+			if s.section != "" {
+				name += " section " + s.section
+			}
+			st := &Step{ID: id, Kind: KindTone, Live: true, Variac: 1, Gate: append(append([]string(nil), gate...), prev), Cautions: cautions,
+				Title: fmt.Sprintf("%sTone through %s (%s)", prefix, name, v.Valve.Type.Name),
+				Instruction: fmt.Sprintf("With the tone on, measure AC volts from %s's grid, plate and cathode to chassis (socket viewed from below). The plate carries hundreds of volts DC: the AC volts function blocks it on most meters (else a 0.1 µF capacitor rated for the HT in series).",
+					name),
+				Why:    "The grid shows what reaches the stage, the plate what it makes of it; a bypassed cathode sits near zero, and reads near the grid's level when its bypass capacitor is open (the stage's gain falls).",
+				StopIf: []string{"a plate glows red", "smoke, arcing, or a smell of hot varnish"}}
+			if n == 0 {
+				st.Why = "The first reading checks the generator's level at the input grid: every later band assumes it."
+			}
+			for _, pd := range []amp.PointDef{s.grid, s.plate, s.cathode} {
+				if pd.ID == "" || pd.Net == b.D.Ground {
+					continue
+				}
+				probes := fmt.Sprintf("red on %s pin %d (socket viewed from below), black on chassis", pd.Valve, pd.Pin)
+				if m, ok := tb.toneMeasure(pd.ID, pd.Label+" (from below)", probes); ok {
+					st.Measures = append(st.Measures, m)
+				}
+			}
+			if len(st.Measures) > 0 {
+				p.Steps = append(p.Steps, st)
+				done[id] = true
+				prev = st.ID
 			}
 		}
-		if len(st.Measures) > 0 {
-			p.Steps = append(p.Steps, st)
-			prev = st.ID
+		for _, ot := range c.OTs {
+			id := "signal-" + ot.Ref
+			if done[id] {
+				continue
+			}
+			m, ok := tb.toneMeasure(ot.Ref+ac.SpeakerSuffix, fmt.Sprintf("%s speaker terminals", ot.Ref), "across the dummy load (the speaker terminals), either lead")
+			if !ok {
+				continue
+			}
+			bd, _ := tb.Expect(m.Point, 1, nil)
+			watts := 0.0
+			if ot.OT.Load > 0 {
+				watts = bd.Nominal * bd.Nominal / ot.OT.Load
+			}
+			p.Steps = append(p.Steps, &Step{ID: id, Kind: KindTone, Live: true, Variac: 1, Gate: append(append([]string(nil), gate...), prev), Cautions: cautions,
+				Title:       fmt.Sprintf("%sTone at the %s speaker terminals", prefix, ot.Ref),
+				Instruction: fmt.Sprintf("Measure AC volts across the dummy load on %s's secondary: about %s into %s (%s W).", ot.Ref, units.Format(bd.Nominal, units.Volts), units.Format(ot.OT.Load, units.Ohms), fmt.Sprintf("%.2g", watts)),
+				Measures:    []Measure{m},
+				Why:         "The output is the product of every stage's gain and the transformer's ratio; if every earlier reading is in band and this one is not, suspect the output transformer or its wiring.",
+				StopIf:      []string{"the dummy load runs hot beyond its rating", "smoke, arcing, or a smell of hot varnish"}})
+			done[id] = true
+			prev = id
 		}
-	}
-	for _, ot := range tb.speakers(ch) {
-		id := ot.Ref + ac.SpeakerSuffix
-		m, ok := tb.toneMeasure(id, fmt.Sprintf("%s speaker terminals", ot.Ref), "across the dummy load (the speaker terminals), either lead")
-		if !ok {
-			continue
-		}
-		bd, _ := tb.Expect(m.Point, 1, nil)
-		watts := 0.0
-		if ot.OT.Load > 0 {
-			watts = bd.Nominal * bd.Nominal / ot.OT.Load
-		}
-		p.Steps = append(p.Steps, &Step{ID: "signal-" + ot.Ref, Kind: KindTone, Live: true, Variac: 1, Gate: append(append([]string(nil), gate...), prev), Cautions: cautions,
-			Title:       fmt.Sprintf("Tone at the %s speaker terminals", ot.Ref),
-			Instruction: fmt.Sprintf("Measure AC volts across the dummy load on %s's secondary: about %s into %s (%s W).", ot.Ref, units.Format(bd.Nominal, units.Volts), units.Format(ot.OT.Load, units.Ohms), fmt.Sprintf("%.2g", watts)),
-			Measures:    []Measure{m},
-			Why:         "The output is the product of every stage's gain and the transformer's ratio; if every earlier reading is in band and this one is not, suspect the output transformer or its wiring.",
-			StopIf:      []string{"the dummy load runs hot beyond its rating", "smoke, arcing, or a smell of hot varnish"}})
-		prev = "signal-" + ot.Ref
 	}
 	p.Steps = append(p.Steps, summaryStep())
 	return p, nil
 }
 
-func inputWhere(tb *ToneBench, first stage) string {
-	if first.grid.ID != "" && first.grid.Net == tb.Tone.InputNet {
+func inputWhere(input string, first stage) string {
+	if first.grid.ID != "" && (first.grid.Net == input || first.grid.ID == input) {
 		return fmt.Sprintf("%s's grid (pin %d, net %s)", first.ref, first.grid.Pin, first.grid.Net)
 	}
-	return "net " + tb.Tone.InputNet
+	return "net " + input
 }
 
 func fmtHz(hz float64) string {

@@ -10,9 +10,9 @@ import (
 	"pinwalk/expect/amp"
 )
 
-// TestSignalProcedureDemoA: the signal-tracing procedure of demo (a)
-// follows the tone in signal order — input grid, first plate, output grid,
-// output plate, speaker — every tone step is live with LiveCaution and
+// TestSignalProcedureDemoA: the signal-tracing procedure of demo (a), a
+// stereo amp, follows the tone through each channel in signal order —
+// input grid, first plate, output grid, output plate, speaker — every tone step is live with LiveCaution and
 // the dummy-load caution, every band contains its nominal, and the levels
 // agree with the ac package's nominal tone (the same model, solved
 // directly) and with gain arithmetic.
@@ -58,11 +58,12 @@ func TestSignalProcedureDemoA(t *testing.T) {
 	if toneSteps < 4 {
 		t.Fatalf("%d tone steps, want set-up, V1A, V2, speaker", toneSteps)
 	}
-	// Signal order on demo (a), left channel: V1 section A grid (pin 7),
-	// plate (pin 6), then V2 (6V6GT) grid (pin 5), plate (pin 3), then
-	// OT1's speaker terminals. Pins from the standard 9-pin double triode
-	// and octal beam tetrode base diagrams (REFERENCES.md, from memory).
-	order := []string{"V1.7", "V1.6", "V2.5", "V2.3", "OT1.speaker"}
+	// Signal order on demo (a), each channel in turn. Left: V1 section A
+	// grid (pin 7), plate (pin 6), then V2 (6V6GT) grid (pin 5), plate
+	// (pin 3), then OT1's speaker terminals. Right: V1 section B grid
+	// (pin 2), plate (pin 1), V3 grid (pin 5), plate (pin 3), OT2. Pins
+	// from the standard 9-pin double triode and octal beam tetrode base
+	// diagrams (REFERENCES.md, from memory).
 	pos := func(id string) int {
 		for i, k := range keys {
 			if k == id+" "+ac.ToneVolts {
@@ -71,19 +72,49 @@ func TestSignalProcedureDemoA(t *testing.T) {
 		}
 		return -1
 	}
-	last := -1
-	for _, id := range order {
-		i := pos(id)
-		if i < 0 || i <= last {
-			t.Errorf("%s at position %d (after %d): want signal order %v; got %v", id, i, last, order, keys)
+	for _, order := range [][]string{{"V1.7", "V1.6", "V2.5", "V2.3", "OT1.speaker"}, {"V1.2", "V1.1", "V3.5", "V3.3", "OT2.speaker"}} {
+		last := -1
+		for _, id := range order {
+			i := pos(id)
+			if i < 0 || i <= last {
+				t.Errorf("%s at position %d (after %d): want signal order %v; got %v", id, i, last, order, keys)
+			}
+			last = max(last, i)
 		}
-		last = max(last, i)
 	}
-	// The right channel (V1B, V3) carries no tone: not in the procedure.
-	for _, k := range keys {
-		if strings.HasPrefix(k, "V3.") || strings.HasPrefix(k, "V1.1 ") || strings.HasPrefix(k, "V1.2 ") {
-			t.Errorf("%s: the right channel has no tone", k)
+	// Each channel's steps say which channel, by the design's own words
+	// (the grid leaks' notes say left and right); the right channel's
+	// steps do not wait on the left's.
+	if len(tb.Channels) != 2 || tb.Channels[0].Title() != "left channel (OT1)" || tb.Channels[1].Title() != "right channel (OT2)" {
+		t.Errorf("channels %+v: want left (OT1) and right (OT2)", tb.Channels)
+	}
+	for id, want := range map[string]string{"signal-V1A": "Left channel (OT1): ", "signal-V2": "Left channel (OT1): ", "signal-OT1": "Left channel (OT1): ",
+		"signal-V1B": "Right channel (OT2): ", "signal-V3": "Right channel (OT2): ", "signal-OT2": "Right channel (OT2): "} {
+		st := p.Step(id)
+		if st == nil || !strings.HasPrefix(st.Title, want) {
+			t.Errorf("step %s: %+v, want a title starting %q", id, st, want)
+			continue
 		}
+		if want[0] == 'R' {
+			for _, g := range st.Gate {
+				if strings.HasPrefix(g, "signal-V1A") || strings.HasPrefix(g, "signal-V2") || g == "signal-OT1" {
+					t.Errorf("step %s waits on the left channel's %s", id, g)
+				}
+			}
+		}
+	}
+	// One generator on a Y lead: both input grids read its level.
+	for _, id := range []string{"V1.7", "V1.2"} {
+		if b, _ := tb.Expect(point.LiveKey(id, point.ToneVolts), 1, nil); math.Abs(b.Nominal-0.1) > 1e-9 {
+			t.Errorf("input grid %s nominal %g V, want 0.1 V (the generator)", id, b.Nominal)
+		}
+	}
+	// The channels are alike: the right speaker's nominal within 1 % of
+	// the left's (the same values on both sides of the demo).
+	l, _ := tb.Expect(point.LiveKey("OT1.speaker", point.ToneVolts), 1, nil)
+	r, _ := tb.Expect(point.LiveKey("OT2.speaker", point.ToneVolts), 1, nil)
+	if math.Abs(l.Nominal-r.Nominal) > 0.01*l.Nominal {
+		t.Errorf("speakers: left %g V, right %g V: want alike", l.Nominal, r.Nominal)
 	}
 	// The input grid reads the generator's level exactly (an ideal
 	// source; band within the meter and model widening).
@@ -127,7 +158,7 @@ func TestSignalProcedureDemoA(t *testing.T) {
 		t.Errorf("speaker nominal %.4g V, ac.Gain gives %.4g V", sp.Nominal, x)
 	}
 	setup := p.Step(StepSignalSetup)
-	if setup == nil || !strings.Contains(setup.Instruction, "dummy load") || !strings.Contains(setup.Instruction, "100 mV") {
+	if setup == nil || !strings.Contains(setup.Instruction, "dummy load") || !strings.Contains(setup.Instruction, "100 mV") || !strings.Contains(setup.Instruction, "Y lead") {
 		t.Errorf("set-up step: %+v", setup)
 	}
 	t.Logf("demo a: %d steps (%d tone steps), keys %v; set-up: %s", len(p.Steps), toneSteps, keys, setup.Instruction)

@@ -41,7 +41,7 @@ type gaugeMarks struct {
 
 // gauge draws a band as a horizontal scale, three lines:
 //
-//	expected 285 V   band 262 V … 301 V
+//	expected 285 V   band 262 V to 301 V
 //	200 V ├──────[════┼════]───────┤ 370 V
 //	                    ▲ 290 V ✓ in band
 //
@@ -49,7 +49,7 @@ type gaugeMarks struct {
 // the cross in it, the reading a mark underneath with its value and
 // verdict in words, so it reads without colour.
 func gauge(s *Styles, g Glyphs, width int, b procedures.Band, unit string, mk gaugeMarks) []string {
-	head := "expected " + g.value(b.Nominal, unit) + "   band " + g.value(b.Low, unit) + " " + g.Ellipsis + " " + g.value(b.High, unit)
+	head := "expected " + g.value(b.Nominal, unit) + "   band " + g.value(b.Low, unit) + " to " + g.value(b.High, unit)
 	lines := []string{g.cut(head, width)}
 
 	pad := 0.6 * (b.High - b.Low)

@@ -118,11 +118,21 @@ func screen(m Model) string {
 	return strings.Join(lines, "\n") + "\n"
 }
 
+// goldenDir is where the golden screens live, resolved at start (a test
+// may change its working directory).
+var goldenDir = func() string {
+	d, err := filepath.Abs(filepath.Join("..", "testdata", "golden", "tui"))
+	if err != nil {
+		panic(err)
+	}
+	return d
+}()
+
 // golden compares a screen with testdata/golden/tui/NAME.txt (rewritten
 // with -update).
 func golden(t *testing.T, name, got string) {
 	t.Helper()
-	path := filepath.Join("..", "testdata", "golden", "tui", name+".txt")
+	path := filepath.Join(goldenDir, name+".txt")
 	if *update {
 		if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
 			t.Fatal(err)

@@ -2,11 +2,14 @@ package tui
 
 import (
 	"fmt"
+	"os"
+	"regexp"
 	"strings"
 	"testing"
 
 	tea "github.com/charmbracelet/bubbletea"
 
+	"pinwalk/expect/point"
 	"pinwalk/procedures"
 )
 
@@ -244,5 +247,78 @@ func TestBurstsReachEveryField(t *testing.T) {
 				t.Errorf("the reading 4k7 was not recorded as 4.7 kΩ: %+v", walk.R.Sess.Readings[n:])
 			}
 		})
+	}
+}
+
+// keyInText is what no screen a technician reads may show: a point key
+// in its text form (point.InText) or as the sheet's regex spells it, an
+// internal prefix.
+var keyInText = regexp.MustCompile(`\b[A-Z]+[0-9]+(\.[0-9]+)? (dc_volts|ohms|ac_volts)\b|\b(cold|discharge|bias):`)
+
+// instructionFaults lists the lines of a screen that carry an ellipsis
+// (a cut instruction, a cut caution) or an internal key.
+func instructionFaults(s string) []string {
+	var out []string
+	for i, l := range strings.Split(s, "\n") {
+		if strings.Contains(l, "…") || strings.Contains(l, "...") || keyInText.MatchString(l) || point.InText.MatchString(l) {
+			out = append(out, fmt.Sprintf("line %d: %s", i+1, l))
+		}
+	}
+	return out
+}
+
+// The views a technician meets on every job, at 80×24, each golden: the
+// briefing, a live reading, a stop, the summary and the end. No line of
+// them is cut with an ellipsis or shows an internal key.
+func TestGoldenViews80x24(t *testing.T) {
+	walk, _ := openWalk(t, "se-6v6-stereo", procedures.BringUp)
+	// A path that reads the same on every run: the session saved in the
+	// test's own directory, by a relative name, as a bench would.
+	t.Chdir(t.TempDir())
+	cfg := Config{Walk: walk, Renderer: asciiRenderer(), Path: "job-1042.pinwalk.yaml", Start: Start{Design: "se-6v6-stereo.yaml"}}
+	m := drive(t, New(cfg), tea.WindowSizeMsg{Width: 80, Height: 24})
+	m = drive(t, m, initMsg{})
+	shot := func(name string) {
+		t.Helper()
+		s := screen(m)
+		checkFrame(t, name, strings.TrimSuffix(s, "\n"), 80, 24)
+		for _, f := range instructionFaults(s) {
+			t.Errorf("%s: %s", name, f)
+		}
+		golden(t, "view-"+name+"-80x24", s)
+	}
+	shot("briefing")
+	m = walkTo(t, m, "discharge-C3")
+	m = drive(t, m, typeText("120")...) // a charged capacitor: stop
+	shot("stop")
+	m = drive(t, m, typeText("again 0")...)
+	m = walkTo(t, m, "valve-V2")
+	st := walk.R.Current()
+	b, _ := walk.R.Expected(st, walk.R.NextMeasure())
+	m = drive(t, m, typeText(typed(b.Nominal, "V"))...) // the plate, in band
+	shot("live")
+	m = walkTo(t, m, procedures.StepSummary)
+	shot("summary")
+	m = drive(t, m, keyMsg(tea.KeyEnter))
+	if !walk.R.Finished() {
+		t.Fatalf("not finished:\n%s", screen(m))
+	}
+	shot("end")
+	if _, err := os.Stat("job-1042.pinwalk.yaml"); err != nil {
+		t.Errorf("the session was not saved where the screens say: %v", err)
+	}
+}
+
+// The check catches what it is for.
+func TestInstructionFaultsCatches(t *testing.T) {
+	for _, s := range []string{"wait a minute for the heat… (F4: all)", "B1 dc_volts read 290 V", "V3.8 reads 19 V", "cold:GR1 ohms", "discharge:C2 dc_volts", "bias:V3 dc_volts", "GR1 ohms"} {
+		if len(instructionFaults(s)) == 0 {
+			t.Errorf("%q passes the check", s)
+		}
+	}
+	for _, s := range []string{"V3 pin 8 cathode reads 19 V", "band 262 V to 282 V", "C1 volts after discharge"} {
+		if f := instructionFaults(s); len(f) > 0 {
+			t.Errorf("%q fails the check: %v", s, f)
+		}
 	}
 }

@@ -406,6 +406,10 @@ func New(m *amp.Model) (*Analyzer, error) {
 // or "" when there is none.
 func (an *Analyzer) InputNet() string { return an.input }
 
+// InputNets returns every input grid net found the same way, in design
+// order: one per channel of a stereo amp (AllInputs drives them all).
+func (an *Analyzer) InputNets() []string { return append([]string(nil), an.inputs...) }
+
 func findInput(m *amp.Model) string {
 	if in := findInputs(m); len(in) > 0 {
 		return in[0]

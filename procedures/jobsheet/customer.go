@@ -269,6 +269,12 @@ func (sh *Sheet) customerDocument() *document {
 	} else {
 		job.para("Not recorded.")
 	}
+	if c := strings.TrimSpace(j.Channel); c != "" {
+		job.para("Channel with the fault: %s.", c)
+	}
+	if sw := swapWords(j.Swap); sw != "" {
+		job.para("%s", sw)
+	}
 	doc.Sections = append(doc.Sections, job)
 
 	// Safety verdict first, so nobody misses it.
@@ -595,3 +601,19 @@ tr.strong td { font-weight: bold; }
   #job table, #parts table, #before-after table, #safety table, #checks table { break-inside: avoid; page-break-inside: avoid; }
 }
 `
+
+// swapWords says the swap test's result in plain words, "" when it was
+// not recorded.
+func swapWords(sw *procedures.SwapTest) string {
+	if sw == nil {
+		return ""
+	}
+	valves := strings.ReplaceAll(strings.ReplaceAll(sw.Valves, "/", " and "), ",", "; ")
+	switch sw.Result {
+	case procedures.SwapFollows:
+		return fmt.Sprintf("Swap test (%s exchanged between the channels): the fault moved with the valve, so the valve is the cause.", valves)
+	case procedures.SwapStays:
+		return fmt.Sprintf("Swap test (%s exchanged between the channels): the fault stayed on its channel, so those valves are not the cause.", valves)
+	}
+	return fmt.Sprintf("Swap test (%s exchanged between the channels): not tried.", valves)
+}

@@ -120,7 +120,7 @@ func (sh *Sheet) document() *document {
 	}})
 	// Job intake, when the session has it.
 	var intake [][]string
-	for _, r := range [][2]string{{"Customer", s.Job.Customer}, {"Serial", s.Bench.Serial}, {"Complaint", s.Job.Complaint}} {
+	for _, r := range [][2]string{{"Customer", s.Job.Customer}, {"Serial", s.Bench.Serial}, {"Complaint", s.Job.Complaint}, {"Channel", s.Job.Channel}, {"Swap test", swapWords(s.Job.Swap)}} {
 		if strings.TrimSpace(r[1]) != "" {
 			intake = append(intake, []string{r[0], r[1]})
 		}
