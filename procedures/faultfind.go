@@ -132,11 +132,24 @@ func (l *faultLoop) practice() error {
 		return err
 	}
 	if s.Practice.Fault == "" {
-		f, complaint, err := l.drawPractice(e, s.Practice.Seed)
+		f, c, err := l.drawPractice(e, s.Practice.Seed)
 		if err != nil {
 			return err
 		}
-		s.Practice.Fault, s.Practice.Complaint = f, complaint
+		s.Practice.Fault, s.Practice.Complaint, s.Practice.Symptom = f, c.Words, c.Symptom
+		// The complaint is on the job card: its symptom sets the starting
+		// odds, as a technician would enter it (symptoms LIST changes it).
+		if len(s.Symptoms) == 0 && c.Symptom != "" {
+			s.Symptoms = []string{c.Symptom}
+		}
+	} else if s.Practice.Complaint == "" {
+		// A fault set by hand (a trainer's choice): the complaint it gives.
+		if c, ok := complaintOf(l.w.B, e, s.Practice.Fault); ok {
+			s.Practice.Complaint, s.Practice.Symptom = c.Words, c.Symptom
+			if len(s.Symptoms) == 0 && c.Symptom != "" {
+				s.Symptoms = []string{c.Symptom}
+			}
+		}
 	}
 	sim, err := e.Simulate(s.Practice.Fault, s.Practice.Seed)
 	if err != nil {
@@ -147,90 +160,178 @@ func (l *faultLoop) practice() error {
 }
 
 // drawPractice picks a practice session's hidden fault: among the faults
-// a customer would notice (they move a supply net or an output valve's
-// current by more than 10 %), weighted by their priors (common-practice
-// failure rates), and words the complaint the way a customer brings it
-// in.
-func (l *faultLoop) drawPractice(e *infer.Engine, seed uint64) (string, string, error) {
-	m := l.w.B.M
-	all := faults.All(m)
+// a customer would notice (complaintOf), weighted by their priors
+// (common-practice failure rates), with the complaint in the customer's
+// words and the symptom it reports.
+func (l *faultLoop) drawPractice(e *infer.Engine, seed uint64) (fault string, c Complaint, err error) {
+	all := faults.All(l.w.B.M)
 	if len(all) == 0 {
-		return "", "", fmt.Errorf("practice: the design has no modelled faults")
-	}
-	var keys []string
-	if m.HT != nil {
-		for _, n := range m.HT.Nets {
-			keys = append(keys, point.LiveKey(n, point.DCVolts).String())
-		}
-	}
-	outs := map[string]string{} // plate current key -> valve
-	for _, pd := range m.Points() {
-		if pd.Quantity == amp.DCAmps && pd.Electrode == valves.Plate && pd.Section >= 0 && m.Sections[pd.Section].Pentode {
-			keys = append(keys, pd.Key())
-			outs[pd.Key()] = pd.Valve
-		}
-	}
-	healthy := map[string]float64{}
-	for _, k := range keys {
-		if _, nom, _, ok := e.Band(infer.Healthy, k); ok {
-			healthy[k] = nom
-		}
+		return "", Complaint{}, fmt.Errorf("practice: the design has no modelled faults")
 	}
 	type cand struct {
-		name, complaint string
-		w               float64
+		name string
+		c    Complaint
+		w    float64
 	}
 	var cs []cand
 	total := 0.0
 	for _, f := range all {
 		name := f.String()
-		complaint := ""
-		for _, k := range keys {
-			_, nom, _, ok := e.Band(name, k)
-			h, okh := healthy[k]
-			if !ok || !okh || h == 0 {
-				continue
-			}
-			ch := (nom - h) / math.Abs(h)
-			if math.Abs(ch) < 0.1 {
-				continue
-			}
-			switch v, out := outs[k]; {
-			case out && ch > 0.25:
-				complaint = "One of the big valves (" + v + ") glows red inside after a few minutes, and it sounds rough."
-			case out && ch < -0.6:
-				complaint = "No sound from one channel (or very faint), the other is fine."
-			case out:
-				complaint = "It sounds weak and distorts early."
-			case ch < -0.6:
-				complaint = "It is dead: no sound at all, the valves may light but nothing comes out."
-			default:
-				complaint = "It hums and sounds weak."
-			}
-			break
-		}
-		if complaint == "" {
-			continue
-		}
+		c, ok := complaintOf(l.w.B, e, name)
 		w := e.Prior(name)
-		if !(w > 0) {
+		if !ok || !(w > 0) {
 			continue
 		}
-		cs = append(cs, cand{name, complaint, w})
+		cs = append(cs, cand{name, c, w})
 		total += w
 	}
-	r := rand.New(rand.NewPCG(seed, 0x70726163))
 	if len(cs) == 0 {
-		return all[r.IntN(len(all))].String(), "It does not sound right.", nil
+		return "", Complaint{}, fmt.Errorf("practice: no modelled fault of this design would be noticed by its owner")
 	}
+	r := rand.New(rand.NewPCG(seed, 0x70726163))
 	x := r.Float64() * total
 	for _, c := range cs {
 		if x -= c.w; x <= 0 {
-			return c.name, c.complaint, nil
+			return c.name, c.c, nil
 		}
 	}
-	c := cs[len(cs)-1]
-	return c.name, c.complaint, nil
+	last := cs[len(cs)-1]
+	return last.name, last.c, nil
+}
+
+// Complaint is what an owner says about a fault, and the symptom (one of
+// infer.Symptoms, or "") it reports.
+type Complaint struct {
+	Words, Symptom string
+}
+
+// Thresholds of what an owner notices (common practice).
+const (
+	// darkShare: heater volts under this share of healthy: no glow.
+	darkShare = 0.3
+	// deadShare: the first HT net under this share of healthy: no sound.
+	deadShare = 0.4
+	// redShare: an output valve's plate current this much above healthy
+	// shows a red plate within minutes; lostShare below healthy, one
+	// channel (or the amp) goes quiet; weakShare, it sounds weak.
+	redShare, lostShare, weakShare = 0.25, 0.6, 0.25
+	// humFactor: ripple on a B+ net this many times its healthy top is a
+	// hum the owner hears.
+	humFactor = 2.0
+)
+
+// complaintOf says what an owner would notice with a fault, from the
+// fault's predicted readings against the healthy bands: no lights at all,
+// a fuse that blows, valves lit but no sound, a red plate, one channel
+// quiet, hum, a weak or distorted sound. A fault that moves no reading an
+// owner would notice by more than the healthy band's width is not
+// noticed (ok false): nobody brings such an amplifier in.
+func complaintOf(b *BenchModel, e *infer.Engine, fault string) (Complaint, bool) {
+	m := b.M
+	shift := func(key string) (rel float64, beyond bool, ok bool) {
+		x, lo, hi, ok := e.Predicted(fault, key)
+		_, h, _, okh := e.Predicted(infer.Healthy, key)
+		if !ok || !okh || h == 0 {
+			return 0, false, false
+		}
+		w := hi - lo
+		return (x - h) / math.Abs(h), x < lo-w || x > hi+w, true
+	}
+	var heaters, outPlates, signal []string
+	outValve := map[string]string{}
+	for _, pd := range m.Points() {
+		switch {
+		case pd.Quantity == amp.ACVolts && pd.Electrode == valves.Heater && pd.Section >= 0:
+			// Amplifying valves' heaters (a valve rectifier's filament
+			// is judged by the HT it gives).
+			heaters = append(heaters, pd.Key())
+		case pd.Quantity == amp.DCAmps && pd.Electrode == valves.Plate && pd.Section >= 0 && m.Sections[pd.Section].Pentode:
+			outPlates = append(outPlates, pd.Key())
+			outValve[pd.Key()] = pd.Valve
+		case pd.Quantity == amp.DCVolts && pd.Valve != "" && pd.Section >= 0:
+			signal = append(signal, pd.Key())
+		}
+	}
+	dark := 0
+	var darkValve string
+	for _, k := range heaters {
+		if rel, _, ok := shift(k); ok && rel < darkShare-1 {
+			dark++
+			darkValve = strings.SplitN(k, ".", 2)[0]
+		}
+	}
+	if len(heaters) > 0 && dark == len(heaters) {
+		return Complaint{"Nothing at all: the valves don't light up and there is no sound, not even a hum.", "no-lights"}, true
+	}
+	if e.NearShort(fault) {
+		return Complaint{"It blew its fuse. I put a new one in and that blew too, as soon as I switched on.", "fuse-blows"}, true
+	}
+	stereo := len(channels(b.D)) > 1
+	if dark == 1 {
+		if p := b.D.ByRef[darkValve]; p != nil && p.Valve.Type.Kind == valves.Rectifier {
+			return Complaint{"The valves light up except one, and there is no sound at all.", "no-sound"}, true
+		}
+		for _, v := range outValve {
+			if v == darkValve {
+				if stereo {
+					return Complaint{"One channel has gone silent, and one of the big valves does not light up.", "no-sound-one-channel"}, true
+				}
+				return Complaint{"It has gone weak and distorted, and one of the big valves does not light up.", "low-volume"}, true
+			}
+		}
+		return Complaint{"One of the small valves does not light up, and the sound has gone.", "no-sound"}, true
+	}
+	if m.HT != nil && len(m.HT.Nets) > 0 {
+		if rel, _, ok := shift(point.LiveKey(m.HT.Nets[0], point.DCVolts).String()); ok && rel < deadShare-1 {
+			return Complaint{"The valves light up but there is no sound at all.", "no-sound"}, true
+		}
+	}
+	var lost, weak []string
+	for _, k := range outPlates {
+		rel, beyond, ok := shift(k)
+		if !ok {
+			continue
+		}
+		switch {
+		case rel > redShare && beyond:
+			return Complaint{"After a few minutes one of the big valves glows red inside, and it starts to sound rough.", "red-plate"}, true
+		case rel < -lostShare:
+			lost = append(lost, outValve[k])
+		case rel < -weakShare && beyond:
+			weak = append(weak, outValve[k])
+		}
+	}
+	if len(lost) > 0 && len(lost) < len(outPlates) && stereo {
+		return Complaint{"One channel has gone silent (or very faint); the other is fine.", "no-sound-one-channel"}, true
+	}
+	if len(lost) > 0 {
+		return Complaint{"It has gone very quiet and distorted.", "low-volume"}, true
+	}
+	if m.HT != nil {
+		for _, n := range m.HT.Nets {
+			k := point.LiveKey(n, point.RippleVolts).String()
+			x, _, hi, ok := e.Predicted(fault, k)
+			if ok && hi > 0 && x > humFactor*hi {
+				return Complaint{"It hums loudly, even with the volume right down.", "hum"}, true
+			}
+		}
+	}
+	if len(weak) > 0 {
+		return Complaint{"It has lost its punch: it sounds weak and distorts early.", "low-volume"}, true
+	}
+	if m.HT != nil {
+		for _, n := range m.HT.Nets {
+			if _, beyond, ok := shift(point.LiveKey(n, point.DCVolts).String()); ok && beyond {
+				return Complaint{"It sounds weaker than it used to, and there's a bit more hum.", "low-volume"}, true
+			}
+		}
+	}
+	for _, k := range signal {
+		if _, beyond, ok := shift(k); ok && beyond {
+			return Complaint{"It sounds thin and a bit distorted, and quieter than it used to.", "low-volume"}, true
+		}
+	}
+	return Complaint{}, false
 }
 
 // baseDone: symptoms and every safety step done.
@@ -699,8 +800,8 @@ func (l *faultLoop) addProbe(p infer.Probe, rk *infer.Ranking) *Step {
 		st.Instruction = "Unplugged and discharged: " + p.Setup
 	}
 	st.Gate = g
-	if p.GainBits > 0 {
-		st.Why = fmt.Sprintf("Expected to tell the suspects apart by about %.2f bits (the most of any measurement allowed now)", p.GainBits)
+	if p.Reason != "" {
+		st.Why = "Best next for the effort: " + p.Reason
 	} else {
 		st.Why = "Your choice of measurement"
 	}
@@ -895,7 +996,8 @@ func shortRanking(rk *infer.Ranking, n int) string {
 }
 
 // Hint implements Loop: on a suggested measurement, why it was chosen
-// (its expected gain in bits); in fault-finding the leading suspects.
+// (what it does for the suspects, in words); in fault-finding the leading
+// suspects.
 // Practice shows the reason after the trainee's prediction instead.
 func (l *faultLoop) Hint() []string {
 	r := l.w.R
@@ -909,7 +1011,7 @@ func (l *faultLoop) Hint() []string {
 			out = append(out, "The customer says: \""+p.Complaint+"\"")
 		}
 		if st != nil && st.ID == StepPowerUp && l.rank != nil && l.rank.Next != nil {
-			out = append(out, fmt.Sprintf("best cold measurement left: %s, about %.2f bits", l.rank.Next.Label, l.rank.Next.GainBits))
+			out = append(out, fmt.Sprintf("best cold measurement left: %s (%s)", l.rank.Next.Label, l.rank.Next.Reason))
 		}
 		return out
 	}
@@ -1027,6 +1129,7 @@ func (l *faultLoop) Command(line string) (bool, []string, error) {
 		}
 		out, err := l.name(rest)
 		return true, out, err
+
 	}
 	return false, nil, nil
 }
