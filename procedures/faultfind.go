@@ -1129,6 +1129,12 @@ func (l *faultLoop) Command(line string) (bool, []string, error) {
 		}
 		out, err := l.name(rest)
 		return true, out, err
+	case "reveal":
+		if !practice {
+			return false, nil, nil
+		}
+		out, err := l.reveal()
+		return true, out, err
 
 	}
 	return false, nil, nil
@@ -1244,10 +1250,12 @@ func (l *faultLoop) answer() error {
 	return err
 }
 
-// name records the trainee's answer, reveals the fault and scores.
+// name records the trainee's answer. The right fault (or one no reading
+// tells from it) ends the practice: the fault is revealed and the path
+// scored. A wrong name is kept and costs points, and the practice goes
+// on: more readings (measure POINT), another name, or reveal.
 func (l *faultLoop) name(fault string) ([]string, error) {
-	r := l.w.R
-	s := r.Sess
+	s := l.w.R.Sess
 	if fault == "" {
 		return nil, fmt.Errorf("name the fault as REF:MODE, like R7:open")
 	}
@@ -1257,6 +1265,48 @@ func (l *faultLoop) name(fault string) ([]string, error) {
 	if _, err := faults.Parse(fault); err != nil && fault != infer.Healthy {
 		return nil, err
 	}
+	e, err := l.engine()
+	if err != nil {
+		return nil, err
+	}
+	p := s.Practice
+	if p.Revealed {
+		return []string{"the fault is already revealed: " + p.Fault}, nil
+	}
+	if fault != p.Fault && !e.SameGroup(fault, p.Fault, true) {
+		p.Guesses = append(p.Guesses, fault)
+		return []string{fmt.Sprintf("Not %s. The practice goes on: take more readings (measure POINT), name again, or type reveal to end it and see the fault (each wrong name costs %d points).",
+			e.Describe(fault), wrongNameCost)}, l.w.R.SaveNow()
+	}
+	return l.finish(fault)
+}
+
+// Practice scoring (our scale, out of 100): safe order 30 (10 off per
+// out-of-order attempt), the fault 50 (35 for one no reading tells from
+// it; wrongNameCost off per wrong name), readings 20 (2 off per reading
+// beyond the best path's, and none unless the fault was found).
+const (
+	scoreSafe, scoreFault, scoreReadings = 30, 50, 20
+	wrongNameCost                        = 15
+)
+
+// reveal ends the practice at the trainee's request: the fault is shown
+// and the path scored as not found.
+func (l *faultLoop) reveal() ([]string, error) {
+	if err := l.practice(); err != nil {
+		return nil, err
+	}
+	if l.w.R.Sess.Practice.Revealed {
+		return []string{"the fault is already revealed: " + l.w.R.Sess.Practice.Fault}, nil
+	}
+	return l.finish("")
+}
+
+// finish reveals the fault and scores the trainee's path against the
+// best one, in readings and in safety.
+func (l *faultLoop) finish(named string) ([]string, error) {
+	r := l.w.R
+	s := r.Sess
 	best, err := l.BestPath()
 	if err != nil {
 		return nil, err
@@ -1266,37 +1316,69 @@ func (l *faultLoop) name(fault string) ([]string, error) {
 		return nil, err
 	}
 	p := s.Practice
-	p.Named, p.Revealed = fault, true
-	probes := 0
+	p.Named, p.Revealed = named, true
 	var path []string
 	for _, st := range r.Proc.Steps {
-		if strings.HasPrefix(st.ID, "probe-") && r.Done(st.ID) && len(st.Measures) > 0 {
-			probes++
+		if strings.HasPrefix(st.ID, "probe-") && len(st.Measures) > 0 && l.hasReading(st.ID) {
 			path = append(path, st.Measures[0].Label)
 		}
 	}
-	safe := max(0, 30-10*len(s.Attempts))
+	var bestWords []string
+	for _, k := range best {
+		bestWords = append(bestWords, e.Label(k))
+	}
+	safe := max(0, scoreSafe-10*len(s.Attempts))
 	correct := 0
-	if fault == p.Fault {
-		correct = 50
-	} else if e.SameGroup(fault, p.Fault, true) {
+	switch {
+	case named == "":
+	case named == p.Fault:
+		correct = scoreFault
+	default:
 		correct = 35 // indistinguishable by measurement
 	}
-	fewer := max(0, 20-2*max(0, probes-len(best)))
-	p.Score = safe + correct + fewer
-	s.Outcome = &Outcome{Found: p.Fault, At: r.Now(), Summary: fmt.Sprintf("Practice: named %s, the fault was %s", fault, p.Fault)}
-	out := []string{
-		fmt.Sprintf("The fault was %s. You named %s.", p.Fault, fault),
-		fmt.Sprintf("Your path (%d readings): %s", probes, strings.Join(path, ", ")),
-		fmt.Sprintf("Best path (%d readings): %s", len(best), strings.Join(best, ", ")),
-		fmt.Sprintf("Score %d of 100: safe order %d/30 (%d out-of-order attempts), fault %d/50, readings %d/20", p.Score, safe, len(s.Attempts), correct, fewer),
+	if correct > 0 {
+		correct = max(0, correct-wrongNameCost*len(p.Guesses))
 	}
+	fewer := 0
+	if named != "" {
+		fewer = max(0, scoreReadings-2*max(0, len(path)-len(best)))
+	}
+	p.Score = safe + correct + fewer
+	desc := e.Describe(p.Fault)
+	out := []string{fmt.Sprintf("The fault was %s (%s).", p.Fault, desc)}
+	switch {
+	case named == "":
+		out = append(out, "You asked to see it without naming it.")
+	default:
+		out = append(out, fmt.Sprintf("You named %s.", named))
+	}
+	if len(p.Guesses) > 0 {
+		out = append(out, fmt.Sprintf("Wrong names first (%d): %s.", len(p.Guesses), strings.Join(p.Guesses, ", ")))
+	}
+	out = append(out,
+		fmt.Sprintf("Your path (%d readings): %s", len(path), listOrNone(path)),
+		fmt.Sprintf("Best path (%d readings): %s", len(best), listOrNone(bestWords)))
+	if n := len(s.Attempts); n > 0 {
+		var what []string
+		for _, a := range s.Attempts {
+			what = append(what, a.Step+" before "+a.Blocked)
+		}
+		out = append(out, fmt.Sprintf("Safety: %d out-of-order attempts (%s); the best path has none.", n, strings.Join(what, "; ")))
+	} else {
+		out = append(out, "Safety: every step in a safe order, as on the best path.")
+	}
+	out = append(out, fmt.Sprintf("Score %d of 100: safe order %d/%d, fault %d/%d, readings %d/%d", p.Score, safe, scoreSafe, correct, scoreFault, fewer, scoreReadings))
+	s.Outcome = &Outcome{Found: p.Fault, At: r.Now(), Summary: fmt.Sprintf("Practice: named %s, the fault was %s", orNothing(named), p.Fault)}
 	st := r.Proc.Step(StepName)
 	if st == nil {
 		st = &Step{ID: StepName, Kind: KindConfirm, Why: "Compare your path with the best one: each reading should split the suspects as evenly as possible, cold first."}
 		l.w.AddStep(st)
 	}
-	st.Title, st.Instruction, st.Gate = "Fault named: "+fault, strings.Join(out, "\n"), nil
+	title := "Fault named: " + named
+	if named == "" {
+		title = "Fault revealed: " + p.Fault
+	}
+	st.Title, st.Instruction, st.Gate = title, strings.Join(out, "\n"), nil
 	for _, a := range s.Added {
 		if a.ID == StepName {
 			a.Title, a.Instruction, a.Gate = st.Title, st.Instruction, nil
@@ -1307,6 +1389,20 @@ func (l *faultLoop) name(fault string) ([]string, error) {
 	r.Sess.Passes = append(r.Sess.Passes, Pass{Step: StepName, At: r.Now()})
 	r.Goto(StepSummary)
 	return out, r.SaveNow()
+}
+
+func listOrNone(xs []string) string {
+	if len(xs) == 0 {
+		return "none"
+	}
+	return strings.Join(xs, ", ")
+}
+
+func orNothing(s string) string {
+	if s == "" {
+		return "nothing"
+	}
+	return s
 }
 
 // BestPath is the sequence of measurements the inference itself would

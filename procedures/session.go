@@ -281,10 +281,13 @@ type Practice struct {
 	Complaint string `yaml:"complaint,omitempty"`
 	// Symptom is the complaint's symptom (one of infer.Symptoms), which
 	// the session starts with.
-	Symptom  string `yaml:"symptom,omitempty"`
-	Named    string `yaml:"named,omitempty"`
-	Revealed bool   `yaml:"revealed,omitempty"`
-	Score    int    `yaml:"score,omitempty"`
+	Symptom string `yaml:"symptom,omitempty"`
+	Named   string `yaml:"named,omitempty"`
+	// Guesses are the wrong names given before the right one (or before
+	// the trainee asked to see the fault).
+	Guesses  []string `yaml:"guesses,omitempty"`
+	Revealed bool     `yaml:"revealed,omitempty"`
+	Score    int      `yaml:"score,omitempty"`
 }
 
 // Outcome is how a session ended.
