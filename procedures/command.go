@@ -29,6 +29,7 @@ const (
 	ActOverride                   // Reason: let a stop through where the rule allows
 	ActSimulate                   // practice: take the simulated amp's reading
 	ActPredict                    // training: Text is the trainee's prediction
+	ActReveal                     // practice: end the practice, reveal the fault and score
 	// ActRefresh changes nothing: the controller settles (the measuring
 	// loop makes its move) and reports the state.
 	ActRefresh
@@ -65,7 +66,8 @@ var Commands = []Command{
 	{Words: []string{"power"}, Kind: ActPowerUp, Modes: []Mode{FaultFind, Practise}, Help: "power up on the variac now, then measure live"},
 	{Words: []string{"stop"}, Kind: ActStop, Modes: []Mode{FaultFind, Practise}, Help: "stop measuring and go on to confirm the leading suspect"},
 	{Words: []string{"m"}, Kind: ActSimulate, Modes: []Mode{Practise}, Help: "take the simulated amp's reading"},
-	{Words: []string{"name"}, Args: "REF:MODE", Kind: ActName, Modes: []Mode{Practise}, Help: "name the fault (like R7:open)"},
+	{Words: []string{"name"}, Args: "REF:MODE", Kind: ActName, Modes: []Mode{Practise}, Help: "name the fault (like R7:open); a wrong name does not end the practice"},
+	{Words: []string{"reveal"}, Kind: ActReveal, Modes: []Mode{Practise}, Help: "end the practice: show the hidden fault and the score"},
 	{Words: []string{"?", "help"}, Kind: ActHelp, Help: "this help"},
 	{Words: []string{"q", "quit"}, Kind: ActQuit, Help: "quit (the session is already saved)"},
 }

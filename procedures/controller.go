@@ -258,6 +258,8 @@ func (c *Controller) do(a Action, said *[]string) (*Verdict, error) {
 		return nil, loopLine("measure " + k.String())
 	case ActName:
 		return nil, loopLine("name " + a.Text)
+	case ActReveal:
+		return nil, loopLine("reveal")
 	case ActPredict:
 		m := r.NextMeasure()
 		if st == nil || m == nil {

@@ -179,11 +179,24 @@ func (l *faultLoop) practice() error {
 		return err
 	}
 	if s.Practice.Fault == "" {
-		f, complaint, err := l.drawPractice(e, s.Practice.Seed)
+		f, c, err := l.drawPractice(e, s.Practice.Seed)
 		if err != nil {
 			return err
 		}
-		s.Practice.Fault, s.Practice.Complaint = f, complaint
+		s.Practice.Fault, s.Practice.Complaint, s.Practice.Symptom = f, c.Words, c.Symptom
+		// The complaint is on the job card: its symptom sets the starting
+		// odds, as a technician would enter it (symptoms LIST changes it).
+		if len(s.Symptoms) == 0 && c.Symptom != "" {
+			s.Symptoms = []string{c.Symptom}
+		}
+	} else if s.Practice.Complaint == "" {
+		// A fault set by hand (a trainer's choice): the complaint it gives.
+		if c, ok := complaintOf(l.w.B, e, s.Practice.Fault); ok {
+			s.Practice.Complaint, s.Practice.Symptom = c.Words, c.Symptom
+			if len(s.Symptoms) == 0 && c.Symptom != "" {
+				s.Symptoms = []string{c.Symptom}
+			}
+		}
 	}
 	sim, err := e.Simulate(s.Practice.Fault, s.Practice.Seed)
 	if err != nil {
@@ -194,90 +207,178 @@ func (l *faultLoop) practice() error {
 }
 
 // drawPractice picks a practice session's hidden fault: among the faults
-// a customer would notice (they move a supply net or an output valve's
-// current by more than 10 %), weighted by their priors (common-practice
-// failure rates), and words the complaint the way a customer brings it
-// in.
-func (l *faultLoop) drawPractice(e *infer.Engine, seed uint64) (string, string, error) {
-	m := l.w.B.M
-	all := faults.All(m)
+// a customer would notice (complaintOf), weighted by their priors
+// (common-practice failure rates), with the complaint in the customer's
+// words and the symptom it reports.
+func (l *faultLoop) drawPractice(e *infer.Engine, seed uint64) (fault string, c Complaint, err error) {
+	all := faults.All(l.w.B.M)
 	if len(all) == 0 {
-		return "", "", fmt.Errorf("practice: the design has no modelled faults")
-	}
-	var keys []string
-	if m.HT != nil {
-		for _, n := range m.HT.Nets {
-			keys = append(keys, point.LiveKey(n, point.DCVolts).String())
-		}
-	}
-	outs := map[string]string{} // plate current key -> valve
-	for _, pd := range m.Points() {
-		if pd.Quantity == amp.DCAmps && pd.Electrode == valves.Plate && pd.Section >= 0 && m.Sections[pd.Section].Pentode {
-			keys = append(keys, pd.Key())
-			outs[pd.Key()] = pd.Valve
-		}
-	}
-	healthy := map[string]float64{}
-	for _, k := range keys {
-		if _, nom, _, ok := e.Band(infer.Healthy, k); ok {
-			healthy[k] = nom
-		}
+		return "", Complaint{}, fmt.Errorf("practice: the design has no modelled faults")
 	}
 	type cand struct {
-		name, complaint string
-		w               float64
+		name string
+		c    Complaint
+		w    float64
 	}
 	var cs []cand
 	total := 0.0
 	for _, f := range all {
 		name := f.String()
-		complaint := ""
-		for _, k := range keys {
-			_, nom, _, ok := e.Band(name, k)
-			h, okh := healthy[k]
-			if !ok || !okh || h == 0 {
-				continue
-			}
-			ch := (nom - h) / math.Abs(h)
-			if math.Abs(ch) < 0.1 {
-				continue
-			}
-			switch v, out := outs[k]; {
-			case out && ch > 0.25:
-				complaint = "One of the big valves (" + v + ") glows red inside after a few minutes, and it sounds rough."
-			case out && ch < -0.6:
-				complaint = "No sound from one channel (or very faint), the other is fine."
-			case out:
-				complaint = "It sounds weak and distorts early."
-			case ch < -0.6:
-				complaint = "It is dead: no sound at all, the valves may light but nothing comes out."
-			default:
-				complaint = "It hums and sounds weak."
-			}
-			break
-		}
-		if complaint == "" {
-			continue
-		}
+		c, ok := complaintOf(l.w.B, e, name)
 		w := e.Prior(name)
-		if !(w > 0) {
+		if !ok || !(w > 0) {
 			continue
 		}
-		cs = append(cs, cand{name, complaint, w})
+		cs = append(cs, cand{name, c, w})
 		total += w
 	}
-	r := rand.New(rand.NewPCG(seed, 0x70726163))
 	if len(cs) == 0 {
-		return all[r.IntN(len(all))].String(), "It does not sound right.", nil
+		return "", Complaint{}, fmt.Errorf("practice: no modelled fault of this design would be noticed by its owner")
 	}
+	r := rand.New(rand.NewPCG(seed, 0x70726163))
 	x := r.Float64() * total
 	for _, c := range cs {
 		if x -= c.w; x <= 0 {
-			return c.name, c.complaint, nil
+			return c.name, c.c, nil
 		}
 	}
-	c := cs[len(cs)-1]
-	return c.name, c.complaint, nil
+	last := cs[len(cs)-1]
+	return last.name, last.c, nil
+}
+
+// Complaint is what an owner says about a fault, and the symptom (one of
+// infer.Symptoms, or "") it reports.
+type Complaint struct {
+	Words, Symptom string
+}
+
+// Thresholds of what an owner notices (common practice).
+const (
+	// darkShare: heater volts under this share of healthy: no glow.
+	darkShare = 0.3
+	// deadShare: the first HT net under this share of healthy: no sound.
+	deadShare = 0.4
+	// redShare: an output valve's plate current this much above healthy
+	// shows a red plate within minutes; lostShare below healthy, one
+	// channel (or the amp) goes quiet; weakShare, it sounds weak.
+	redShare, lostShare, weakShare = 0.25, 0.6, 0.25
+	// humFactor: ripple on a B+ net this many times its healthy top is a
+	// hum the owner hears.
+	humFactor = 2.0
+)
+
+// complaintOf says what an owner would notice with a fault, from the
+// fault's predicted readings against the healthy bands: no lights at all,
+// a fuse that blows, valves lit but no sound, a red plate, one channel
+// quiet, hum, a weak or distorted sound. A fault that moves no reading an
+// owner would notice by more than the healthy band's width is not
+// noticed (ok false): nobody brings such an amplifier in.
+func complaintOf(b *BenchModel, e *infer.Engine, fault string) (Complaint, bool) {
+	m := b.M
+	shift := func(key string) (rel float64, beyond bool, ok bool) {
+		x, lo, hi, ok := e.Predicted(fault, key)
+		_, h, _, okh := e.Predicted(infer.Healthy, key)
+		if !ok || !okh || h == 0 {
+			return 0, false, false
+		}
+		w := hi - lo
+		return (x - h) / math.Abs(h), x < lo-w || x > hi+w, true
+	}
+	var heaters, outPlates, signal []string
+	outValve := map[string]string{}
+	for _, pd := range m.Points() {
+		switch {
+		case pd.Quantity == amp.ACVolts && pd.Electrode == valves.Heater && pd.Section >= 0:
+			// Amplifying valves' heaters (a valve rectifier's filament
+			// is judged by the HT it gives).
+			heaters = append(heaters, pd.Key())
+		case pd.Quantity == amp.DCAmps && pd.Electrode == valves.Plate && pd.Section >= 0 && m.Sections[pd.Section].Pentode:
+			outPlates = append(outPlates, pd.Key())
+			outValve[pd.Key()] = pd.Valve
+		case pd.Quantity == amp.DCVolts && pd.Valve != "" && pd.Section >= 0:
+			signal = append(signal, pd.Key())
+		}
+	}
+	dark := 0
+	var darkValve string
+	for _, k := range heaters {
+		if rel, _, ok := shift(k); ok && rel < darkShare-1 {
+			dark++
+			darkValve = strings.SplitN(k, ".", 2)[0]
+		}
+	}
+	if len(heaters) > 0 && dark == len(heaters) {
+		return Complaint{"Nothing at all: the valves don't light up and there is no sound, not even a hum.", "no-lights"}, true
+	}
+	if e.NearShort(fault) {
+		return Complaint{"It blew its fuse. I put a new one in and that blew too, as soon as I switched on.", "fuse-blows"}, true
+	}
+	stereo := len(channels(b.D)) > 1
+	if dark == 1 {
+		if p := b.D.ByRef[darkValve]; p != nil && p.Valve.Type.Kind == valves.Rectifier {
+			return Complaint{"The valves light up except one, and there is no sound at all.", "no-sound"}, true
+		}
+		for _, v := range outValve {
+			if v == darkValve {
+				if stereo {
+					return Complaint{"One channel has gone silent, and one of the big valves does not light up.", "no-sound-one-channel"}, true
+				}
+				return Complaint{"It has gone weak and distorted, and one of the big valves does not light up.", "low-volume"}, true
+			}
+		}
+		return Complaint{"One of the small valves does not light up, and the sound has gone.", "no-sound"}, true
+	}
+	if m.HT != nil && len(m.HT.Nets) > 0 {
+		if rel, _, ok := shift(point.LiveKey(m.HT.Nets[0], point.DCVolts).String()); ok && rel < deadShare-1 {
+			return Complaint{"The valves light up but there is no sound at all.", "no-sound"}, true
+		}
+	}
+	var lost, weak []string
+	for _, k := range outPlates {
+		rel, beyond, ok := shift(k)
+		if !ok {
+			continue
+		}
+		switch {
+		case rel > redShare && beyond:
+			return Complaint{"After a few minutes one of the big valves glows red inside, and it starts to sound rough.", "red-plate"}, true
+		case rel < -lostShare:
+			lost = append(lost, outValve[k])
+		case rel < -weakShare && beyond:
+			weak = append(weak, outValve[k])
+		}
+	}
+	if len(lost) > 0 && len(lost) < len(outPlates) && stereo {
+		return Complaint{"One channel has gone silent (or very faint); the other is fine.", "no-sound-one-channel"}, true
+	}
+	if len(lost) > 0 {
+		return Complaint{"It has gone very quiet and distorted.", "low-volume"}, true
+	}
+	if m.HT != nil {
+		for _, n := range m.HT.Nets {
+			k := point.LiveKey(n, point.RippleVolts).String()
+			x, _, hi, ok := e.Predicted(fault, k)
+			if ok && hi > 0 && x > humFactor*hi {
+				return Complaint{"It hums loudly, even with the volume right down.", "hum"}, true
+			}
+		}
+	}
+	if len(weak) > 0 {
+		return Complaint{"It has lost its punch: it sounds weak and distorts early.", "low-volume"}, true
+	}
+	if m.HT != nil {
+		for _, n := range m.HT.Nets {
+			if _, beyond, ok := shift(point.LiveKey(n, point.DCVolts).String()); ok && beyond {
+				return Complaint{"It sounds weaker than it used to, and there's a bit more hum.", "low-volume"}, true
+			}
+		}
+	}
+	for _, k := range signal {
+		if _, beyond, ok := shift(k); ok && beyond {
+			return Complaint{"It sounds thin and a bit distorted, and quieter than it used to.", "low-volume"}, true
+		}
+	}
+	return Complaint{}, false
 }
 
 // baseDone: symptoms and every safety step done.
@@ -746,8 +847,8 @@ func (l *faultLoop) addProbe(p infer.Probe, rk *infer.Ranking) *Step {
 		st.Instruction = "Unplugged and discharged: " + p.Setup
 	}
 	st.Gate = g
-	if p.GainBits > 0 {
-		st.Why = fmt.Sprintf("Expected to tell the suspects apart by about %.2f bits (the most of any measurement allowed now)", p.GainBits)
+	if p.Reason != "" {
+		st.Why = "Best next for the effort: " + p.Reason
 	} else {
 		st.Why = "Your choice of measurement"
 	}
@@ -942,7 +1043,8 @@ func shortRanking(rk *infer.Ranking, n int) string {
 }
 
 // Hint implements Loop: on a suggested measurement, why it was chosen
-// (its expected gain in bits); in fault-finding the leading suspects.
+// (what it does for the suspects, in words); in fault-finding the leading
+// suspects.
 // Practice shows the reason after the trainee's prediction instead.
 func (l *faultLoop) Hint() []string {
 	r := l.w.R
@@ -956,7 +1058,7 @@ func (l *faultLoop) Hint() []string {
 			out = append(out, "The customer says: \""+p.Complaint+"\"")
 		}
 		if st != nil && st.ID == StepPowerUp && l.rank != nil && l.rank.Next != nil {
-			out = append(out, fmt.Sprintf("best cold measurement left: %s, about %.2f bits", l.rank.Next.Label, l.rank.Next.GainBits))
+			out = append(out, fmt.Sprintf("best cold measurement left: %s (%s)", l.rank.Next.Label, l.rank.Next.Reason))
 		}
 		return out
 	}
@@ -1074,6 +1176,13 @@ func (l *faultLoop) Command(line string) (bool, []string, error) {
 		}
 		out, err := l.name(rest)
 		return true, out, err
+	case "reveal":
+		if !practice {
+			return false, nil, nil
+		}
+		out, err := l.reveal()
+		return true, out, err
+
 	}
 	return false, nil, nil
 }
@@ -1188,10 +1297,12 @@ func (l *faultLoop) answer() error {
 	return err
 }
 
-// name records the trainee's answer, reveals the fault and scores.
+// name records the trainee's answer. The right fault (or one no reading
+// tells from it) ends the practice: the fault is revealed and the path
+// scored. A wrong name is kept and costs points, and the practice goes
+// on: more readings (measure POINT), another name, or reveal.
 func (l *faultLoop) name(fault string) ([]string, error) {
-	r := l.w.R
-	s := r.Sess
+	s := l.w.R.Sess
 	if fault == "" {
 		return nil, fmt.Errorf("name the fault as REF:MODE, like R7:open")
 	}
@@ -1201,6 +1312,48 @@ func (l *faultLoop) name(fault string) ([]string, error) {
 	if _, err := faults.Parse(fault); err != nil && fault != infer.Healthy {
 		return nil, err
 	}
+	e, err := l.engine()
+	if err != nil {
+		return nil, err
+	}
+	p := s.Practice
+	if p.Revealed {
+		return []string{"the fault is already revealed: " + p.Fault}, nil
+	}
+	if fault != p.Fault && !e.SameGroup(fault, p.Fault, true) {
+		p.Guesses = append(p.Guesses, fault)
+		return []string{fmt.Sprintf("Not %s. The practice goes on: take more readings (measure POINT), name again, or type reveal to end it and see the fault (each wrong name costs %d points).",
+			e.Describe(fault), wrongNameCost)}, l.w.R.SaveNow()
+	}
+	return l.finish(fault)
+}
+
+// Practice scoring (our scale, out of 100): safe order 30 (10 off per
+// out-of-order attempt), the fault 50 (35 for one no reading tells from
+// it; wrongNameCost off per wrong name), readings 20 (2 off per reading
+// beyond the best path's, and none unless the fault was found).
+const (
+	scoreSafe, scoreFault, scoreReadings = 30, 50, 20
+	wrongNameCost                        = 15
+)
+
+// reveal ends the practice at the trainee's request: the fault is shown
+// and the path scored as not found.
+func (l *faultLoop) reveal() ([]string, error) {
+	if err := l.practice(); err != nil {
+		return nil, err
+	}
+	if l.w.R.Sess.Practice.Revealed {
+		return []string{"the fault is already revealed: " + l.w.R.Sess.Practice.Fault}, nil
+	}
+	return l.finish("")
+}
+
+// finish reveals the fault and scores the trainee's path against the
+// best one, in readings and in safety.
+func (l *faultLoop) finish(named string) ([]string, error) {
+	r := l.w.R
+	s := r.Sess
 	best, err := l.BestPath()
 	if err != nil {
 		return nil, err
@@ -1210,37 +1363,69 @@ func (l *faultLoop) name(fault string) ([]string, error) {
 		return nil, err
 	}
 	p := s.Practice
-	p.Named, p.Revealed = fault, true
-	probes := 0
+	p.Named, p.Revealed = named, true
 	var path []string
 	for _, st := range r.Proc.Steps {
-		if strings.HasPrefix(st.ID, "probe-") && r.Done(st.ID) && len(st.Measures) > 0 {
-			probes++
+		if strings.HasPrefix(st.ID, "probe-") && len(st.Measures) > 0 && l.hasReading(st.ID) {
 			path = append(path, st.Measures[0].Label)
 		}
 	}
-	safe := max(0, 30-10*len(s.Attempts))
+	var bestWords []string
+	for _, k := range best {
+		bestWords = append(bestWords, e.Label(k))
+	}
+	safe := max(0, scoreSafe-10*len(s.Attempts))
 	correct := 0
-	if fault == p.Fault {
-		correct = 50
-	} else if e.SameGroup(fault, p.Fault, true) {
+	switch {
+	case named == "":
+	case named == p.Fault:
+		correct = scoreFault
+	default:
 		correct = 35 // indistinguishable by measurement
 	}
-	fewer := max(0, 20-2*max(0, probes-len(best)))
-	p.Score = safe + correct + fewer
-	s.Outcome = &Outcome{Found: p.Fault, At: r.Now(), Summary: fmt.Sprintf("Practice: named %s, the fault was %s", fault, p.Fault)}
-	out := []string{
-		fmt.Sprintf("The fault was %s. You named %s.", p.Fault, fault),
-		fmt.Sprintf("Your path (%d readings): %s", probes, strings.Join(path, ", ")),
-		fmt.Sprintf("Best path (%d readings): %s", len(best), strings.Join(best, ", ")),
-		fmt.Sprintf("Score %d of 100: safe order %d/30 (%d out-of-order attempts), fault %d/50, readings %d/20", p.Score, safe, len(s.Attempts), correct, fewer),
+	if correct > 0 {
+		correct = max(0, correct-wrongNameCost*len(p.Guesses))
 	}
+	fewer := 0
+	if named != "" {
+		fewer = max(0, scoreReadings-2*max(0, len(path)-len(best)))
+	}
+	p.Score = safe + correct + fewer
+	desc := e.Describe(p.Fault)
+	out := []string{fmt.Sprintf("The fault was %s (%s).", p.Fault, desc)}
+	switch {
+	case named == "":
+		out = append(out, "You asked to see it without naming it.")
+	default:
+		out = append(out, fmt.Sprintf("You named %s.", named))
+	}
+	if len(p.Guesses) > 0 {
+		out = append(out, fmt.Sprintf("Wrong names first (%d): %s.", len(p.Guesses), strings.Join(p.Guesses, ", ")))
+	}
+	out = append(out,
+		fmt.Sprintf("Your path (%d readings): %s", len(path), listOrNone(path)),
+		fmt.Sprintf("Best path (%d readings): %s", len(best), listOrNone(bestWords)))
+	if n := len(s.Attempts); n > 0 {
+		var what []string
+		for _, a := range s.Attempts {
+			what = append(what, a.Step+" before "+a.Blocked)
+		}
+		out = append(out, fmt.Sprintf("Safety: %d out-of-order attempts (%s); the best path has none.", n, strings.Join(what, "; ")))
+	} else {
+		out = append(out, "Safety: every step in a safe order, as on the best path.")
+	}
+	out = append(out, fmt.Sprintf("Score %d of 100: safe order %d/%d, fault %d/%d, readings %d/%d", p.Score, safe, scoreSafe, correct, scoreFault, fewer, scoreReadings))
+	s.Outcome = &Outcome{Found: p.Fault, At: r.Now(), Summary: fmt.Sprintf("Practice: named %s, the fault was %s", orNothing(named), p.Fault)}
 	st := r.Proc.Step(StepName)
 	if st == nil {
 		st = &Step{ID: StepName, Kind: KindConfirm, Why: "Compare your path with the best one: each reading should split the suspects as evenly as possible, cold first."}
 		l.w.AddStep(st)
 	}
-	st.Title, st.Instruction, st.Gate = "Fault named: "+fault, strings.Join(out, "\n"), nil
+	title := "Fault named: " + named
+	if named == "" {
+		title = "Fault revealed: " + p.Fault
+	}
+	st.Title, st.Instruction, st.Gate = title, strings.Join(out, "\n"), nil
 	for _, a := range s.Added {
 		if a.ID == StepName {
 			a.Title, a.Instruction, a.Gate = st.Title, st.Instruction, nil
@@ -1251,6 +1436,20 @@ func (l *faultLoop) name(fault string) ([]string, error) {
 	r.Sess.Passes = append(r.Sess.Passes, Pass{Step: StepName, At: r.Now()})
 	r.Goto(StepSummary)
 	return out, r.SaveNow()
+}
+
+func listOrNone(xs []string) string {
+	if len(xs) == 0 {
+		return "none"
+	}
+	return strings.Join(xs, ", ")
+}
+
+func orNothing(s string) string {
+	if s == "" {
+		return "nothing"
+	}
+	return s
 }
 
 // BestPath is the sequence of measurements the inference itself would

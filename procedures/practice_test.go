@@ -29,9 +29,19 @@ func trainee(t *testing.T, w *Walk) bool {
 	}
 	switch m := state.Measure; {
 	case st.ID == StepName:
-		found := strings.Split(r.Sess.Outcome.Found, " or ")[0]
-		if _, err := c.Do(Action{Kind: ActName, Text: found}); err != nil {
-			t.Fatalf("name %s: %v", found, err)
+		// Name what the measurements point at; after a wrong name, the
+		// next of the suspects they cannot tell apart; after two, ask to
+		// see the fault.
+		cands := strings.Split(r.Sess.Outcome.Found, " or ")
+		p := r.Sess.Practice
+		if n := len(p.Guesses); n < len(cands) && n < 2 {
+			if _, err := c.Do(Action{Kind: ActName, Text: cands[n]}); err != nil {
+				t.Fatalf("name %s: %v", cands[n], err)
+			}
+			return true
+		}
+		if _, err := c.Do(Action{Kind: ActReveal}); err != nil {
+			t.Fatalf("reveal: %v", err)
 		}
 		return true
 	case m == nil:
@@ -70,57 +80,134 @@ func practiceRun(t *testing.T, name string, seed uint64) (hidden, named string, 
 	return p.Fault, p.Named, w
 }
 
-// TestPracticeFollowingSuggestions: a practice session on demo a, with the
-// fault picked by the seed, driven by a trainee who follows every
+// TestPracticeFollowingSuggestions: practice sessions on every demo, with
+// the fault picked by the seed, driven by a trainee who follows every
 // suggested measurement: the loop adds each next measurement by itself,
 // powers up when the cold ones stop telling suspects apart, and ends at
 // the naming step; the trainee names the fault the readings point at.
-// Over 24 seeds the named fault must be the hidden one, or one no
+// Every session starts from a complaint in the owner's words with its
+// symptom; the reading count on the score is the readings taken. Over 24
+// seeds per demo the named fault must be the hidden one, or one no
 // modelled reading tells from it, in at least 80 % of the sessions (our
-// target; the hit rate is logged).
+// target); the table is logged.
 func TestPracticeFollowingSuggestions(t *testing.T) {
 	if testing.Short() {
-		t.Skip("24 practice sessions")
+		t.Skip("24 practice sessions per demo")
 	}
 	const seeds = 24
-	hits := 0
-	var misses []string
-	for seed := uint64(1); seed <= seeds; seed++ {
-		hidden, named, w := practiceRun(t, "se-6v6-stereo", seed)
-		r := w.R
-		l := w.Loop.(*faultLoop)
-		e, _ := l.engine()
-		hit := named == hidden || e.SameGroup(named, hidden, true)
-		t.Logf("seed %d: hidden %s, named %s, hit %v, %d readings: %s", seed, hidden, named, hit, len(r.Sess.Readings), readingsOf(r))
-		if hit {
-			hits++
-		} else {
-			misses = append(misses, fmt.Sprintf("seed %d: hidden %s, named %s (%s); readings: %s", seed, hidden, named, r.Sess.Outcome.Summary, readingsOf(r)))
-		}
-		if len(r.Sess.Attempts) != 0 {
-			t.Errorf("seed %d: a trainee following the suggestions made %d out-of-order attempts", seed, len(r.Sess.Attempts))
-		}
-		for _, n := range r.Sess.Notes {
-			if strings.Contains(n.Text, "next measurement") {
-				t.Errorf("seed %d: noise note %q", seed, n.Text)
+	// The fixed-bias demo is left out: a scripted trainee cannot yet
+	// answer the stop of its power-up with the output valves out (a
+	// bias fault reads no bias at an output grid).
+	for _, name := range []string{"se-6v6-stereo", "bench-12ax7"} {
+		hits, readings := 0, 0
+		var misses []string
+		complaints := map[string]int{}
+		for seed := uint64(1); seed <= seeds; seed++ {
+			hidden, named, w := practiceRun(t, name, seed)
+			r := w.R
+			l := w.Loop.(*faultLoop)
+			e, _ := l.engine()
+			p := r.Sess.Practice
+			hit := named != "" && (named == hidden || e.SameGroup(named, hidden, true))
+			n := 0
+			for _, st := range r.Proc.Steps {
+				if strings.HasPrefix(st.ID, "probe-") && l.hasReading(st.ID) {
+					n++
+				}
+			}
+			readings += n
+			complaints[p.Complaint]++
+			t.Logf("%s seed %2d | %-22s | found %-5v | %2d readings | score %3d | named %-14s | %q", name, seed, hidden, hit, n, p.Score, orNothing(named), p.Complaint)
+			if p.Complaint == "" || p.Symptom == "" || len(r.Sess.Symptoms) == 0 {
+				t.Errorf("%s seed %d: complaint %q, symptom %q, session symptoms %v", name, seed, p.Complaint, p.Symptom, r.Sess.Symptoms)
+			}
+			if st := r.Proc.Step(StepName); st == nil || !strings.Contains(st.Instruction, fmt.Sprintf("Your path (%d readings)", n)) {
+				t.Errorf("%s seed %d: the score does not count the %d readings taken", name, seed, n)
+			}
+			if hit {
+				hits++
+			} else {
+				misses = append(misses, fmt.Sprintf("seed %d: hidden %s, named %s (%s); readings: %s", seed, hidden, orNothing(named), r.Sess.Outcome.Summary, readingsOf(r)))
+			}
+			if len(r.Sess.Attempts) != 0 {
+				t.Errorf("%s seed %d: a trainee following the suggestions made %d out-of-order attempts", name, seed, len(r.Sess.Attempts))
+			}
+			for _, n := range r.Sess.Notes {
+				if strings.Contains(n.Text, "next measurement") {
+					t.Errorf("%s seed %d: noise note %q", name, seed, n.Text)
+				}
+			}
+			for _, st := range r.Proc.Steps {
+				if st.Live && !st.HasCaution(LiveCaution) {
+					t.Errorf("%s seed %d: live step %s without LiveCaution", name, seed, st.ID)
+				}
+			}
+			if !strings.Contains(strings.Join(Summary(r), "\n"), "Practice: the fault was "+hidden) {
+				t.Errorf("%s seed %d: summary does not reveal the fault", name, seed)
 			}
 		}
-		for _, st := range r.Proc.Steps {
-			if st.Live && !st.HasCaution(LiveCaution) {
-				t.Errorf("seed %d: live step %s without LiveCaution", seed, st.ID)
+		rate := float64(hits) / seeds
+		t.Logf("%s: found %d of %d (%.0f %%), mean %.1f readings, %d different complaints", name, hits, seeds, 100*rate, float64(readings)/seeds, len(complaints))
+		for _, m := range misses {
+			t.Log(m)
+		}
+		if rate < 0.8 {
+			t.Errorf("%s: hit rate %.2f, want at least 0.8", name, rate)
+		}
+	}
+}
+
+// TestPracticeWrongNameGoesOn: a wrong name does not end the practice: it
+// is kept, the fault stays hidden and the trainee may name again; the
+// right name then reveals it with the wrong name's cost taken off the
+// fault's points; reveal ends a practice without a name, with no points
+// for the fault or the readings.
+func TestPracticeWrongNameGoesOn(t *testing.T) {
+	d := loadDesign(t, "se-6v6-stereo")
+	for _, giveUp := range []bool{false, true} {
+		s := NewSession(d, Practise, 5, fixedNow)
+		s.Practice = &Practice{Seed: 5, Fault: "R15:open"}
+		w, err := Open(d, s, "", WalkOptions{Samples: 100, Seed: 5, Now: clock()})
+		if err != nil {
+			t.Fatal(err)
+		}
+		c := NewController(w)
+		for i := 0; i < 200 && w.R.Current() != nil && w.R.Current().ID != StepName; i++ {
+			trainee(t, w)
+		}
+		if w.R.Current() == nil || w.R.Current().ID != StepName {
+			t.Fatal("never reached the naming step")
+		}
+		st, err := c.Do(Action{Kind: ActName, Text: "R11:open"})
+		if err != nil {
+			t.Fatal(err)
+		}
+		p := w.R.Sess.Practice
+		if p.Revealed || len(p.Guesses) != 1 || st.Step == nil || st.Step.ID != StepName {
+			t.Fatalf("after a wrong name: revealed %v, guesses %v, step %v", p.Revealed, p.Guesses, st.Step)
+		}
+		if giveUp {
+			if _, err := c.Do(Action{Kind: ActReveal}); err != nil {
+				t.Fatal(err)
 			}
+		} else if _, err := c.Do(Action{Kind: ActName, Text: "R15:open"}); err != nil {
+			t.Fatal(err)
 		}
-		if !strings.Contains(strings.Join(Summary(r), "\n"), "Practice: the fault was "+hidden) {
-			t.Errorf("seed %d: summary does not reveal the fault", seed)
+		if !p.Revealed {
+			t.Fatalf("give up %v: not revealed", giveUp)
 		}
-	}
-	rate := float64(hits) / seeds
-	t.Logf("practice hit rate on demo a: %d of %d (%.0f %%)", hits, seeds, 100*rate)
-	for _, m := range misses {
-		t.Log(m)
-	}
-	if rate < 0.8 {
-		t.Errorf("hit rate %.2f, want at least 0.8", rate)
+		text := w.R.Proc.Step(StepName).Instruction
+		t.Logf("give up %v: score %d\n%s", giveUp, p.Score, text)
+		wantFault := scoreFault - wrongNameCost
+		if giveUp {
+			wantFault = 0
+		}
+		if !strings.Contains(text, fmt.Sprintf("fault %d/%d", wantFault, scoreFault)) || !strings.Contains(text, "R11:open") {
+			t.Errorf("give up %v: score text %q, want fault %d/%d and the wrong name", giveUp, text, wantFault, scoreFault)
+		}
+		if giveUp && !strings.Contains(text, fmt.Sprintf("readings 0/%d", scoreReadings)) {
+			t.Errorf("revealed without a name but scored readings: %q", text)
+		}
 	}
 }
 
@@ -137,7 +224,8 @@ func readingsOf(r *Runner) string {
 
 // TestPracticeAutoNext: after the safety steps the loop moves straight to
 // a suggested measurement (no "next" needed), and each reading brings the
-// next one; the suggestion says its expected gain in bits.
+// next one; the suggestion says in words what it does for the suspects
+// (never in bits).
 func TestPracticeAutoNext(t *testing.T) {
 	d := loadDesign(t, "se-6v6-stereo")
 	w := newWalk(t, d, Practise, "")
@@ -152,7 +240,7 @@ func TestPracticeAutoNext(t *testing.T) {
 	if !strings.HasPrefix(st.ID, "probe-") && st.ID != StepPowerUp {
 		t.Fatalf("after the safety steps the walk is on %s, want a suggested measurement", st.ID)
 	}
-	if strings.HasPrefix(st.ID, "probe-") && !strings.Contains(st.Why, "bits") {
+	if strings.HasPrefix(st.ID, "probe-") && (!strings.Contains(st.Why, "Best next for the effort: ") || strings.Contains(st.Why, "bits")) {
 		t.Errorf("suggestion without its gain: %q", st.Why)
 	}
 	trainee(t, w)
@@ -266,6 +354,46 @@ func TestFaultFindGated(t *testing.T) {
 		}
 		if !st.HasCaution(LiveCaution) {
 			t.Errorf("live step %s lacks LiveCaution", st.ID)
+		}
+	}
+}
+
+// TestPracticeBlownFuse: a practice amp with its mains fuse open. The
+// owner says nothing lights up; a trainee following the suggestions is
+// sent to the plug (live to neutral, which reads open) first or second,
+// never through a string of internal resistance readings first (common
+// practice: a dead amp is checked at the plug and the fuse first).
+func TestPracticeBlownFuse(t *testing.T) {
+	for _, name := range []string{"se-6v6-stereo", "pp-el34-fixed"} {
+		d := loadDesign(t, name)
+		s := NewSession(d, Practise, 2, fixedNow)
+		s.Practice = &Practice{Seed: 2, Fault: "F1:open"}
+		w, err := Open(d, s, "", WalkOptions{Samples: 100, Seed: 2, Now: clock()})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i := 0; i < 200 && trainee(t, w); i++ {
+		}
+		p := w.R.Sess.Practice
+		var probes []string
+		for _, st := range w.R.Proc.Steps {
+			if strings.HasPrefix(st.ID, "probe-") && len(st.Measures) > 0 {
+				probes = append(probes, st.Measures[0].Point.String())
+			}
+		}
+		t.Logf("%s: complaint %q, symptoms %v, probes %v, named %s", name, p.Complaint, w.R.Sess.Symptoms, probes, p.Named)
+		plug := -1
+		for i, k := range probes {
+			if strings.Contains(k, "live–neutral") {
+				plug = i
+				break
+			}
+		}
+		if plug < 0 || plug > 1 {
+			t.Errorf("%s: the plug's live to neutral is probe %d of %v, want the first or second", name, plug+1, probes)
+		}
+		if p.Named != "F1:open" {
+			t.Errorf("%s: named %s", name, p.Named)
 		}
 	}
 }

@@ -303,9 +303,15 @@ type Practice struct {
 	// Complaint is what the customer says, in their words: the trainee's
 	// starting point.
 	Complaint string `yaml:"complaint,omitempty"`
-	Named     string `yaml:"named,omitempty"`
-	Revealed  bool   `yaml:"revealed,omitempty"`
-	Score     int    `yaml:"score,omitempty"`
+	// Symptom is the complaint's symptom (one of infer.Symptoms), which
+	// the session starts with.
+	Symptom string `yaml:"symptom,omitempty"`
+	Named   string `yaml:"named,omitempty"`
+	// Guesses are the wrong names given before the right one (or before
+	// the trainee asked to see the fault).
+	Guesses  []string `yaml:"guesses,omitempty"`
+	Revealed bool     `yaml:"revealed,omitempty"`
+	Score    int      `yaml:"score,omitempty"`
 }
 
 // Outcome is how a session ended.

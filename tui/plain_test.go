@@ -256,8 +256,8 @@ func faultScript(t testing.TB, fault string, seed uint64) []string {
 
 // TestPlainFaultFind runs a fault-finding session on demo a with a
 // shorted cathode bypass capacitor (C10) through stdin: after the
-// safety steps every measurement is suggested by the tool (with its
-// expected gain in bits) without typing next, and the walk ends at the
+// safety steps every measurement is suggested by the tool (with what it
+// does for the suspects, in words) without typing next, and the walk ends at the
 // confirm step naming the fault, then the summary.
 func TestPlainFaultFind(t *testing.T) {
 	const fault = "C10:short"
@@ -278,7 +278,7 @@ func TestPlainFaultFind(t *testing.T) {
 	if found != fault && !e.SameGroup(found, fault, true) {
 		t.Errorf("found %s, want %s (or one no reading tells from it)", o.Found, fault)
 	}
-	for _, want := range []string{"Confirm the fault:", "bits", "== Summary ==", "Found: "} {
+	for _, want := range []string{"Confirm the fault:", "Best next for the effort", "== Summary ==", "Found: "} {
 		if !strings.Contains(tr, want) {
 			t.Errorf("transcript lacks %q", want)
 		}

@@ -9,7 +9,7 @@ import (
 	"github.com/charmbracelet/lipgloss"
 
 	"pinwalk/expect/point"
-	"pinwalk/procedures"
+
 	"pinwalk/procedures/infer"
 )
 
@@ -102,9 +102,9 @@ func (v suspectsView) View() string {
 		if p.Live {
 			live = "LIVE"
 		}
-		gain := gainWords(p.GainBits)
-		if v.e.run.Sess.Mode == procedures.FaultFind || v.e.run.Sess.Mode == procedures.BringUp {
-			gain += fmt.Sprintf(" (%.2f bits)", p.GainBits)
+		gain := p.Reason
+		if gain == "" {
+			gain = gainWords(p.GainBits)
 		}
 		for _, l := range wrapHanging(fmt.Sprintf("Next: %s (%s) %s %s %s %s goes there", v.e.words(p.Label), live, g.Dot, gain, g.Dot, v.e.keys.GoSuggested.Help().Key), w, 6) {
 			lines = append(lines, s.Label.Render(l))

@@ -245,6 +245,7 @@ type jsonProbe struct {
 	ID       string  `json:"id"`
 	Label    string  `json:"label"`
 	GainBits float64 `json:"gain_bits"`
+	Reason   string  `json:"reason"`
 	Cost     float64 `json:"cost"`
 	Live     bool    `json:"live"`
 	Setup    string  `json:"setup"`
@@ -418,7 +419,7 @@ that would narrow them down most for the effort.`)
 			out.Pairs = append(out.Pairs, toJSONSuspect(s))
 		}
 		if n := rk.Next; n != nil {
-			out.Next = &jsonProbe{ID: n.Key, Label: n.Label, GainBits: n.GainBits, Cost: n.Cost, Live: n.Live, Setup: n.Setup}
+			out.Next = &jsonProbe{ID: n.Key, Label: n.Label, GainBits: n.GainBits, Cost: n.Cost, Live: n.Live, Setup: n.Setup, Reason: n.Reason}
 		}
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
@@ -479,7 +480,7 @@ func printDiagnosis(w io.Writer, d *design.Design, e *infer.Engine, rk *infer.Ra
 	}
 	fmt.Fprintln(w)
 	if nx := rk.Next; nx != nil {
-		fmt.Fprintf(w, "Next measurement: %s (%s): expected gain %.2f bits, effort %g\n", nx.Label, nx.Key, nx.GainBits, nx.Cost)
+		fmt.Fprintf(w, "Next measurement: %s: %s\n", nx.Label, nx.Reason)
 		fmt.Fprintf(w, "  Setup: %s\n", nx.Setup)
 		if nx.Live {
 			fmt.Fprintln(w, "  CAUTION: this reading is taken with the amplifier powered. The voltages are lethal; one hand, clip the")

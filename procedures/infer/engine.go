@@ -113,6 +113,7 @@ type point struct {
 	quantity string // amp quantity, or amp.Ohms for cold points
 	cold     bool
 	pulled   bool // needs a valve pulled (a valve's heater cold)
+	fuse     bool // a fuse out of its holder (ck.ID is the fuse's reference)
 	pd       amp.PointDef
 	ck       cold.Check
 	ratio    float64 // meter loading on DC volts: prediction·ratio + offset
@@ -139,6 +140,9 @@ type hyp struct {
 	valid                    []bool     // per DC point
 	bandLo, bandHi, mean, sd []float64  // per DC point: 2.5/97.5 percentiles, mean, sd
 	cold                     []coldPred // per cold point
+	// nearShort: cold, some B+ net reads under nearShortOhms (powering
+	// up would feed the short).
+	nearShort bool
 	// coarse: the cloud is not solved; sample s at DC point k is
 	// ca[k]·(healthy sample s) + cb[k] (see coarseFill). shared: that map
 	// is exact (the fault changes no DC value), so it is never solved.
@@ -315,6 +319,13 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 		}
 	}
 
+	for _, f := range d.PartsOfKind(design.Fuse) {
+		if len(f.Terminals) == 2 {
+			e.addPoint(point{key: ColdKey(f.Ref + " fuse"), label: f.Ref + " fuse, out of its holder (cold)", quantity: amp.Ohms, cold: true, fuse: true,
+				ck: cold.Check{ID: f.Ref, From: f.Terminals[0].Net, To: f.Terminals[1].Net, Kind: "fuse"}})
+		}
+	}
+
 	// Hypotheses and priors.
 	all := faults.All(m)
 	e.hyps = append(e.hyps, &hyp{name: Healthy, label: "no modelled fault (healthy)"})
@@ -421,6 +432,9 @@ func (e *Engine) addPoint(p point) {
 func ColdKey(id string) string { return pkey.ColdKey(id).String() }
 
 func coldLabel(c cold.Check) string {
+	if c.Kind == "winding" && strings.HasSuffix(c.ID, " live–neutral") {
+		return strings.TrimSuffix(c.ID, " live–neutral") + " plug, live to neutral, power switch on (cold)"
+	}
 	if c.Kind == "winding" {
 		return c.ID + " winding resistance (cold)"
 	}
@@ -691,10 +705,47 @@ func (e *Engine) coldAll(base []cold.Check) error {
 			r.h.cold[j] = coldPred{lo: c.Tol[0], nom: c.Ohms, hi: c.Tol[1], open: c.Open}
 		}
 		for j := len(r.cs); j < nc; j++ {
-			r.h.cold[j] = e.heaterCold(e.points[e.nDC+j], r.h)
+			if p := e.points[e.nDC+j]; p.fuse {
+				r.h.cold[j] = fuseCold(p, r.h)
+			} else {
+				r.h.cold[j] = e.heaterCold(p, r.h)
+			}
 		}
 	}
+	if firstErr == nil {
+		e.markNearShorts()
+	}
 	return firstErr
+}
+
+// nearShortOhms: a hypothesis whose cold B+ reading is under this puts a
+// near-short on the supply: at the 250–450 V of a valve amplifier's HT it
+// would draw a quarter of an amp or more, beyond an HT winding's rating
+// (common practice; a leaky electrolytic of tens of kΩ is a load, not a
+// short).
+const nearShortOhms = 1e3
+
+// markNearShorts sets each hypothesis's nearShort.
+func (e *Engine) markNearShorts() {
+	for _, h := range e.hyps[1:] {
+		for j, c := range h.cold {
+			if p := &e.points[e.nDC+j]; p.ck.Kind == "b+" && !c.open && c.hi < nearShortOhms {
+				h.nearShort = true
+				break
+			}
+		}
+	}
+}
+
+// A fuse out of its holder reads a few tens of milliohms (common
+// practice: a glass fuse of an amp or two); the meter's leads read more.
+const fuseOhmsHi = 0.3
+
+func fuseCold(p point, h *hyp) coldPred {
+	if h.fault != nil && h.fault.Ref == p.ck.ID && h.fault.Mode == faults.Open {
+		return coldPred{lo: math.Inf(1), nom: math.Inf(1), hi: math.Inf(1), open: true}
+	}
+	return coldPred{lo: 0, nom: 0.05, hi: fuseOhmsHi}
 }
 
 // Cold heater resistance of a valve out of its socket: a tungsten heater's
@@ -996,4 +1047,31 @@ func dcNeutral(m *amp.Model, f faults.Fault) bool {
 	}
 	w.CapOpen = nil
 	return reflect.DeepEqual(v, w)
+}
+
+// Predicted returns a hypothesis's predicted mean at a DC point (as read
+// through the meter) and the healthy amplifier's band there, without
+// solving a lazy hypothesis's cloud (its mean is its nominal carried onto
+// the healthy spread). ok is false for an unknown hypothesis or point, a
+// cold point, or one the hypothesis does not predict.
+func (e *Engine) Predicted(fault, key string) (mean, healthyLo, healthyHi float64, ok bool) {
+	i, okh := e.byName[fault]
+	k, okk := e.index[key]
+	if !okh || !okk || k >= e.nDC {
+		return 0, 0, 0, false
+	}
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	h, hh := e.hyps[i], e.hyps[0]
+	if h.err != nil || !h.valid[k] || !hh.valid[k] {
+		return 0, 0, 0, false
+	}
+	return h.mean[k], hh.bandLo[k], hh.bandHi[k], true
+}
+
+// NearShort reports whether a hypothesis puts a near-short on a B+ net
+// (cold): the fuse would blow at switch-on.
+func (e *Engine) NearShort(fault string) bool {
+	i, ok := e.byName[fault]
+	return ok && e.hyps[i].nearShort
 }

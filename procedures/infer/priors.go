@@ -113,7 +113,7 @@ type symptomRule struct {
 }
 
 // Symptoms are the symptom names New accepts.
-var Symptoms = []string{"no-sound-one-channel", "hum", "fuse-blows", "red-plate", "low-volume", "crackle"}
+var Symptoms = []string{"no-lights", "no-sound", "no-sound-one-channel", "hum", "fuse-blows", "red-plate", "low-volume", "crackle"}
 
 // healthyKind marks a symptom rule that applies to the healthy hypothesis.
 const healthyKind design.Kind = "(healthy)"
@@ -124,6 +124,23 @@ const healthyKind design.Kind = "(healthy)"
 // valves, dry joints and arcing sockets (crackle): the fault list has no
 // such faults, so those symptoms only shift the faults that are modelled.
 var symptomTable = []symptomRule{
+	// No lights, no sound: nothing gets mains. The fuse first, then the
+	// heater supply; everything else would leave the valves glowing.
+	{"no-lights", "", "", "", 0.02},
+	{"no-lights", design.Fuse, "", faults.Open, 1000},
+	{"no-lights", design.PowerTransformer, "", faults.HeaterOpen, 250},
+	{"no-lights", healthyKind, "", "", 0.01},
+	// The valves glow but there is no sound at all: the HT supply or a
+	// stage every signal passes through.
+	{"no-sound", "", roleSupply, "", 5},
+	{"no-sound", design.Valve, "", faults.Dead, 2},
+	{"no-sound", design.Valve, "", faults.HeaterOpen, 2},
+	{"no-sound", design.Resistor, "", faults.Open, 2},
+	{"no-sound", design.Capacitor, roleCoupling, faults.Open, 2},
+	{"no-sound", design.OutputTransformer, "", faults.Open, 3},
+	{"no-sound", "", "", faults.Weak, 0.3},
+	{"no-sound", "", "", faults.High, 0.3},
+	{"no-sound", healthyKind, "", "", 0.02},
 	// One channel silent: a fault local to that channel; shared supply
 	// faults would silence both.
 	{"no-sound-one-channel", "", roleSupply, "", 0.1},

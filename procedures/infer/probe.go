@@ -24,7 +24,20 @@ const (
 	CostVolts  = 1.0 // DC or AC volts to chassis, ripple, a cold resistance
 	CostPulled = 2.0 // a valve pulled from its socket first
 	CostSeries = 3.0 // a current with the meter in series (break the circuit)
+	// CostPlug: a reading at the mains plug (live to neutral, power switch
+	// on): no cover off, nothing to discharge; the first thing a
+	// technician checks on a dead amplifier (common practice). CostFuse:
+	// the fuse out of its holder, looked at and read (a little more: the
+	// holder is opened).
+	CostPlug = 0.2
+	CostFuse = 0.3
 )
+
+// ShortRisk: while suspects that would be damaged, or do damage, when
+// powered (a near-short on a B+ net when cold) hold at least this share
+// of the posterior, no live reading is proposed (our choice; a technician
+// does not power up into a suspected short).
+const ShortRisk = 0.05
 
 // activeFloor: hypotheses below this posterior are left out of the
 // expected-gain sums (they change the gain by less than a millibit).
@@ -72,15 +85,21 @@ type comp struct {
 // fixed normal quadrature; components with (nearly) the same normal are
 // merged first, which leaves I unchanged.
 func (e *Engine) nextProbe(c *llCache, post []float64, obs []Observation, allowed func(string) bool) *Probe {
+	// One candidate per physical node: a net and a socket pin on it are
+	// one measurement, and a node read under any of its names is read.
 	read := map[string]bool{}
 	for _, o := range obs {
-		read[o.Key] = true
+		read[e.node(e.index[o.Key])] = true
 	}
+	risky := e.shortRisk(post) >= ShortRisk
 	var cands []int
 	for k, p := range e.points {
-		if !read[p.key] && (allowed == nil || allowed(p.key)) {
-			cands = append(cands, k)
+		n := e.node(k)
+		if read[n] || (allowed != nil && !allowed(p.key)) || (risky && !p.cold) {
+			continue
 		}
+		read[n] = true // later names of the same node are not candidates
+		cands = append(cands, k)
 	}
 	if len(cands) == 0 {
 		return nil
@@ -97,52 +116,173 @@ func (e *Engine) nextProbe(c *llCache, post []float64, obs []Observation, allowe
 		}
 	}
 	best, bestScore, bestGain := -1, -1.0, 0.0
+	var bestComps []comp
 	comps := make([]comp, 0, len(active))
 	buf := make([]float64, e.hyps[0].n)
 	for _, k := range cands {
-		p := &e.points[k]
-		comps = comps[:0]
-		for a, i := range active {
-			h := e.hyps[i]
-			w := post[i] / tot
-			if p.cold {
-				cp := h.cold[k-e.nDC]
-				if cp.open {
-					comps = append(comps, comp{w, openSentinel, openSentinel * 1e-3})
-					continue
-				}
-				mu := (cp.lo + cp.hi) / 2
-				sg := e.sigma(amp.Ohms, mu)
-				comps = append(comps, comp{w, mu, math.Sqrt((cp.hi-cp.lo)*(cp.hi-cp.lo)/12 + sg*sg)})
-				continue
-			}
-			if !h.valid[k] {
-				continue
-			}
-			var mu, v float64
-			if weights[a] == nil {
-				mu, v = h.mean[k], h.sd[k]*h.sd[k]
-			} else {
-				xs := e.cloud(h, k, buf)
-				ws := weights[a]
-				for s, x := range xs {
-					mu += ws[s] * x
-				}
-				for s, x := range xs {
-					v += ws[s] * (x - mu) * (x - mu)
-				}
-			}
-			sg := e.sigma(p.quantity, mu)
-			comps = append(comps, comp{w, mu, math.Sqrt(v + sg*sg)})
-		}
-		gain := mutualInfo(comps) / math.Ln2
-		cost := e.cost(p)
+		comps = e.predictive(k, active, post, tot, weights, buf, comps[:0])
+		gain := mutualInfo(weighted(comps)) / math.Ln2
+		cost := e.cost(&e.points[k])
 		if score := gain / cost; score > bestScore {
 			best, bestScore, bestGain = k, score, gain
+			bestComps = append(bestComps[:0], comps...)
 		}
 	}
 	p := &e.points[best]
-	return &Probe{Key: p.key, Label: p.label, Setup: e.setup(p), GainBits: bestGain, Cost: e.cost(p), Live: !p.cold}
+	return &Probe{Key: p.key, Label: p.label, Setup: e.setup(p), GainBits: bestGain, Cost: e.cost(p), Live: !p.cold,
+		Reason: e.reason(p, active, post, bestComps)}
+}
+
+// predictive appends, per active hypothesis, the normal that predicts
+// point k: its cloud's mean and variance weighted by the readings so far
+// (so what is already known about this amplifier's tolerances carries
+// over), plus the reading's σ²; cold points by the mean and variance of a
+// uniform spread between the tolerance corners. Component a belongs to
+// active[a]; a hypothesis that does not predict the point gets weight 0.
+func (e *Engine) predictive(k int, active []int, post []float64, tot float64, weights [][]float64, buf []float64, comps []comp) []comp {
+	p := &e.points[k]
+	for a, i := range active {
+		h := e.hyps[i]
+		w := post[i] / tot
+		if p.cold {
+			cp := h.cold[k-e.nDC]
+			if cp.open {
+				comps = append(comps, comp{w, openSentinel, openSentinel * 1e-3})
+				continue
+			}
+			mu := (cp.lo + cp.hi) / 2
+			sg := e.sigma(amp.Ohms, mu)
+			comps = append(comps, comp{w, mu, math.Sqrt((cp.hi-cp.lo)*(cp.hi-cp.lo)/12 + sg*sg)})
+			continue
+		}
+		if !h.valid[k] {
+			comps = append(comps, comp{0, 0, 1})
+			continue
+		}
+		var mu, v float64
+		if weights[a] == nil {
+			mu, v = h.mean[k], h.sd[k]*h.sd[k]
+		} else {
+			xs := e.cloud(h, k, buf)
+			ws := weights[a]
+			for s, x := range xs {
+				mu += ws[s] * x
+			}
+			for s, x := range xs {
+				v += ws[s] * (x - mu) * (x - mu)
+			}
+		}
+		sg := e.sigma(p.quantity, mu)
+		comps = append(comps, comp{w, mu, math.Sqrt(v + sg*sg)})
+	}
+	return comps
+}
+
+// weighted returns a copy of the components with weight above zero.
+func weighted(cs []comp) []comp {
+	out := make([]comp, 0, len(cs))
+	for _, c := range cs {
+		if c.w > 0 {
+			out = append(out, c)
+		}
+	}
+	return out
+}
+
+// node names the physical node a point measures: DC volts on a net (a
+// socket pin and its net are one node), a cold resistance between two
+// nets; other points are their own node.
+func (e *Engine) node(k int) string {
+	p := &e.points[k]
+	switch {
+	case p.cold && !p.pulled && p.ck.From != "":
+		return "ohms " + p.ck.From + "|" + p.ck.To
+	case !p.cold && p.quantity == amp.DCVolts && p.pd.Net != "":
+		return "volts " + p.pd.Net
+	}
+	return p.key
+}
+
+// plug reports whether a point is read at the plug or the fuse holder.
+func (e *Engine) plug(p *point) bool {
+	return p.cold && (p.fuse || strings.HasSuffix(p.ck.ID, "live–neutral"))
+}
+
+// shortRisk is the posterior share of the hypotheses that put a
+// near-short on a B+ net (cold).
+func (e *Engine) shortRisk(post []float64) float64 {
+	s := 0.0
+	for i, h := range e.hyps {
+		if h.nearShort {
+			s += post[i]
+		}
+	}
+	return s
+}
+
+// Words for a probe's reason (separation d' between two predictions).
+const reasonDPrime = 2.0
+
+// reason says in words what a measurement does for the suspects: which
+// suspects its reading splits, or what it rules out in one reading.
+func (e *Engine) reason(p *point, active []int, post []float64, comps []comp) string {
+	apart := func(a, b comp) bool {
+		if a.w == 0 || b.w == 0 {
+			return false
+		}
+		return math.Abs(a.mu-b.mu) > reasonDPrime*math.Sqrt((a.sd*a.sd+b.sd*b.sd)/2)
+	}
+	where := ""
+	if e.plug(p) {
+		where = "at the plug, no cover off: "
+	}
+	if len(active) == 0 || len(comps) != len(active) {
+		return where + "the most telling reading for the effort"
+	}
+	lead := comps[0]
+	// The first suspect that reads differently from the leading one.
+	other := -1
+	var apartMass, aloneMass float64
+	var alone []int
+	for a := 1; a < len(active); a++ {
+		if apart(lead, comps[a]) {
+			if other < 0 {
+				other = a
+			}
+			apartMass += post[active[a]]
+		} else {
+			aloneMass += post[active[a]]
+			alone = append(alone, a)
+		}
+	}
+	name := func(a int) string { return e.hyps[active[a]].label }
+	pct := func(x float64) string { return fmt.Sprintf("%.0f %%", 100*x) }
+	n := len(active) - 1 - len(alone)
+	switch {
+	case other == 1 && post[active[0]] >= 0.5:
+		return where + fmt.Sprintf("confirms or rules out the leading suspect, %s (%s), in one reading", name(0), pct(post[active[0]]))
+	case other == 1:
+		return where + fmt.Sprintf("splits the two leading suspects: %s (%s) and %s (%s) read differently here",
+			name(0), pct(post[active[0]]), name(1), pct(post[active[1]]))
+	case other > 1 && n == 1:
+		return where + fmt.Sprintf("rules out %s (%s) in one reading, or points straight at it", name(other), pct(apartMass))
+	case other > 1 && e.hyps[active[0]].fault == nil:
+		return where + fmt.Sprintf("checks %d suspects at once (%s together; the likeliest, %s): each reads differently from a healthy amplifier here",
+			n, pct(apartMass), name(other))
+	case other > 1:
+		return where + fmt.Sprintf("tells the leading suspect, %s (%s), from %d others that read differently here (%s together; the likeliest, %s)",
+			name(0), pct(post[active[0]]), n, pct(apartMass), name(other))
+	}
+	// Nothing reads differently from the leader: the reading splits the
+	// others among themselves, or only narrows the tolerances.
+	for a := 1; a < len(active); a++ {
+		for b := a + 1; b < len(active); b++ {
+			if apart(comps[a], comps[b]) {
+				return where + fmt.Sprintf("splits %s from %s", name(a), name(b))
+			}
+		}
+	}
+	return where + "narrows the suspects a little; no reading left splits them clearly"
 }
 
 // activeSet returns the active hypotheses, most probable first: those
@@ -224,6 +364,10 @@ func mutualInfo(cs []comp) float64 {
 // cost returns the effort of a reading.
 func (e *Engine) cost(p *point) float64 {
 	switch {
+	case p.fuse:
+		return CostFuse
+	case e.plug(p):
+		return CostPlug
 	case p.pulled:
 		return CostPulled
 	case p.quantity == amp.DCAmps, p.quantity == amp.ACAmps:
@@ -237,6 +381,12 @@ func (e *Engine) cost(p *point) float64 {
 // setup says how to take a reading.
 func (e *Engine) setup(p *point) string {
 	if p.cold {
+		if p.fuse {
+			return fmt.Sprintf("amplifier unplugged: take %s out of its holder, look at it (a blackened or broken element) and read ohms across it", p.ck.ID)
+		}
+		if e.plug(p) {
+			return fmt.Sprintf("amplifier unplugged, power switch on: meter on ohms across the plug's live and neutral pins (%s to %s)", p.ck.From, p.ck.To)
+		}
 		if p.pulled {
 			ref := strings.TrimSuffix(p.ck.ID, " heater")
 			return fmt.Sprintf("amplifier off and unplugged; pull %s (let it cool) and read ohms across its heater pins %s", ref, heaterPins(e.d.ByRef[ref]))

@@ -43,6 +43,10 @@ type Probe struct {
 	GainBits, Cost float64
 	// Live: the amplifier is powered for this reading.
 	Live bool
+	// Reason says in words what the reading does for the suspects
+	// ("splits the two leading suspects: …", "rules out … in one
+	// reading"), for the screens; GainBits is for ranking only.
+	Reason string
 }
 
 // Ranking is the outcome of Rank.
@@ -700,8 +704,8 @@ func (e *Engine) groupNotes(r *Ranking, order []int, post []float64) []string {
 				continue
 			}
 			p := &e.points[k]
-			notes = append(notes, fmt.Sprintf("%s or %s: the live readings cannot split them; measure %s cold to split them (%s: %s against %s)",
-				e.hyps[i].label, e.hyps[j].label, p.label, p.key, e.fmtCold(e.hyps[i].cold[k-e.nDC]), e.fmtCold(e.hyps[j].cold[k-e.nDC])))
+			notes = append(notes, fmt.Sprintf("%s or %s: the live readings cannot split them; measure %s to split them (%s against %s)",
+				e.hyps[i].label, e.hyps[j].label, p.label, e.fmtCold(e.hyps[i].cold[k-e.nDC]), e.fmtCold(e.hyps[j].cold[k-e.nDC])))
 		}
 	}
 	return notes

@@ -99,6 +99,8 @@ func (l *Labeller) Label(k point.Key) string {
 		case strings.Contains(what, "live–neutral") || strings.Contains(what, "live-neutral"):
 			ref, _, _ := strings.Cut(what, " ")
 			return ref + " live to neutral at the mains plug, power switch on, unplugged"
+		case strings.HasSuffix(what, " fuse"):
+			return what + " out of its holder, across it, unplugged"
 		case l.windings[what] || (len(l.windings) == 0 && windingID.MatchString(what)):
 			return what + ", across the winding, unplugged"
 		}

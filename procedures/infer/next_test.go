@@ -1,0 +1,97 @@
+package infer
+
+import (
+	"regexp"
+	"strings"
+	"testing"
+
+	"pinwalk/expect/design"
+)
+
+// keyLike matches a point key's text form (what a screen must never show).
+var keyLike = regexp.MustCompile(`\b(dc_volts|dc_amps|ac_volts|ac_amps|ripple_volts|tone_volts|ohms)\b|\bcold:`)
+
+// TestNextOneNodeOnce: following Next on every demo, for a few faults, no
+// physical node is proposed twice (a net and a socket pin on it are one
+// node), none already read under another name, and each proposal's
+// reason is in words: no bits, no point keys.
+func TestNextOneNodeOnce(t *testing.T) {
+	for _, name := range []string{"se-6v6-stereo.yaml", "pp-el34-fixed.yaml", "bench-12ax7.yaml"} {
+		e := demo(t, name)
+		hs := e.Hypotheses()
+		for _, h := range []string{hs[1], hs[len(hs)/2], hs[len(hs)-1], Healthy} {
+			sim, err := e.Simulate(h, 11)
+			if err != nil {
+				t.Fatal(err)
+			}
+			var obs []Observation
+			seen := map[string]string{}
+			// A pin read first: its net must never be proposed.
+			for k, p := range e.points {
+				if !p.cold && p.pd.Valve != "" && p.quantity == "dc_volts" {
+					obs = append(obs, Observation{p.key, sim[p.key]})
+					seen[e.node(k)] = p.key
+					break
+				}
+			}
+			for step := 0; step < 25; step++ {
+				r := e.Rank(obs, nil)
+				if r.Next == nil {
+					break
+				}
+				k := e.index[r.Next.Key]
+				if prev, dup := seen[e.node(k)]; dup {
+					t.Errorf("%s %s: step %d proposes %s, the node already read as %s", name, h, step, r.Next.Key, prev)
+				}
+				seen[e.node(k)] = r.Next.Key
+				if r.Next.Reason == "" || strings.Contains(r.Next.Reason, "bit") || keyLike.MatchString(r.Next.Reason) {
+					t.Errorf("%s %s: reason %q: want words, no bits or keys", name, h, r.Next.Reason)
+				}
+				if step == 0 {
+					t.Logf("%s %s: first proposal %s: %s", name, h, r.Next.Label, r.Next.Reason)
+				}
+				v, ok := sim[r.Next.Key]
+				if !ok {
+					break
+				}
+				obs = append(obs, Observation{r.Next.Key, v})
+			}
+		}
+	}
+}
+
+// TestNoLiveReadingIntoAShort: a cold B+ reading of a near-short (a
+// shorted reservoir capacitor reads a fraction of an ohm to chassis) keeps
+// every proposal cold: a technician does not power up into a short.
+func TestNoLiveReadingIntoAShort(t *testing.T) {
+	e := demo(t, "se-6v6-stereo.yaml")
+	obs := []Observation{{ColdKey("B1"), 0.3}}
+	r := e.Rank(obs, nil)
+	if r.Next == nil || r.Next.Live {
+		t.Fatalf("after a near-short on B1 the next reading is %+v, want a cold one", r.Next)
+	}
+	t.Logf("top %s (%.2f); next %s: %s", r.Suspects[0].Fault, r.Suspects[0].Probability, r.Next.Label, r.Next.Reason)
+}
+
+// TestDeadAmpPlugFirst: an amplifier that shows no lights at all (the
+// owner's complaint) gets the cheap decisive checks first: live to
+// neutral at the plug, or the fuse (common practice: a dead amp is
+// checked at the plug and the fuse before the cover comes off).
+func TestDeadAmpPlugFirst(t *testing.T) {
+	for _, name := range []string{"se-6v6-stereo.yaml", "pp-el34-fixed.yaml"} {
+		d, probs := design.Load("../../testdata/designs/" + name)
+		if d == nil || len(probs.Errors()) > 0 {
+			t.Fatal(probs)
+		}
+		e, err := New(d, Options{Samples: 100, Seed: 1, Symptoms: []string{"no-lights"}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		r := e.Rank(nil, ColdOnly)
+		if r.Next == nil || !strings.Contains(r.Next.Key, "live–neutral") {
+			t.Errorf("%s: first proposal %+v, want the plug's live to neutral", name, r.Next)
+			continue
+		}
+		t.Logf("%s: first %s (effort %g): %s", name, r.Next.Label, r.Next.Cost, r.Next.Reason)
+	}
+}
