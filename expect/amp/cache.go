@@ -12,6 +12,11 @@ func (s *Solver) CacheSupplyAt(c Conditions, v *Values, op *OP) error {
 	if s.m.HT == nil {
 		return nil
 	}
+	if op.Supply != nil && op.Supply.Dead {
+		// A dead supply has no line: every solve with these values is
+		// dead too and needs none.
+		return nil
+	}
 	if op.Supply == nil || !op.Supply.Simulated {
 		return ErrNoSupply
 	}

@@ -44,6 +44,11 @@ type Values struct {
 	// its perveance); HalfOpen: one half of a full-wave rectifier open.
 	RectScale float64
 	HalfOpen  bool
+	// RectDead: the rectifier passes no current at all (every diode open,
+	// a valve rectifier with no emission, the series path out of it
+	// open). The winding keeps its volts; the filter gets nothing. An HT
+	// volts scale of 0 (an open winding or mains fuse) is dead too.
+	RectDead bool
 	// Heater winding volts scale (ratio tolerance).
 	HeaterVolts float64
 	// CapOpen marks capacitors (by ref) that a fault hypothesis has gone
@@ -130,6 +135,10 @@ type SupplyOP struct {
 	// for a centre tap): open-circuit volts less the rms current\'s drop
 	// in the source resistance (an approximation: the drop is not in phase).
 	SecondaryRms float64
+	// Dead: the supply gives nothing (Values.RectDead or no HT volts):
+	// it was not simulated and its nets are held at 0 V through the
+	// rectifier's reverse resistance (DeadRectOhms).
+	Dead bool
 }
 
 // OP is a solved operating point.
@@ -543,6 +552,9 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	sp := &SupplyOP{Nets: make([]FilterNetOP, len(m.HT.Nets))}
 	op.Supply = sp
 	f := s.mainsFactor(c) * v.HTVolts
+	if v.RectDead || !(p.Vrms > 0) {
+		return s.solveDead(p, sp, hv, frac, op)
+	}
 	if fast {
 		if !s.haveTh {
 			return ErrNoSupply
@@ -647,6 +659,38 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 			}
 		}
 	}
+	s.extract(op, hv, frac)
+	return nil
+}
+
+// DeadRectOhms is the resistance a rectifier that conducts nothing leaves
+// between the winding and the reservoir: the reverse leakage of a silicon
+// diode at working volts is microamps (from memory: 1N4007-class
+// datasheets give 5 µA at 1000 V, about 200 MΩ); a cold valve rectifier
+// passes less. 100 MΩ keeps the first filter net defined where no
+// bleeder does and is open for every reading a meter can take.
+const DeadRectOhms = 100e6
+
+// solveDead solves with a supply that gives nothing: no rectifier
+// current flows (a rectifier only conducts forwards, and with no winding
+// volts or no conducting path there is nothing to conduct), so the
+// filter nets see only the network's own sources. The winding's volts
+// at the rectifier plates stay at their open-circuit value when only the
+// rectifier is dead.
+func (s *Solver) solveDead(p supply.Params, sp *SupplyOP, hv map[string]float64, frac []float64, op *OP) error {
+	m := s.m
+	if err := s.setSource(0, DeadRectOhms); err != nil {
+		return err
+	}
+	if err := s.network(); err != nil {
+		return err
+	}
+	s.stageLoads(&p, sp)
+	for i, net := range m.HT.Nets {
+		sp.Nets[i].Net = net
+	}
+	sp.Vth, sp.Rth, sp.Dead = 0, DeadRectOhms, true
+	sp.SecondaryRms = max(p.Vrms, 0)
 	s.extract(op, hv, frac)
 	return nil
 }

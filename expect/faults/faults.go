@@ -92,11 +92,6 @@ const (
 	// WeakRectScale is a worn valve rectifier's perveance scale (common
 	// practice: a worn rectifier drops noticeably more volts).
 	WeakRectScale = 0.3
-	// DeadHTVolts is the HT transformer volts scale that stands for a
-	// supply with no output (an open HT winding, a dead rectifier, an open
-	// mains fuse): a tiny finite scale, since zero volts would leave the
-	// supply simulation nothing to converge to.
-	DeadHTVolts = 1e-3
 	// SeriesOpenOhms and SeriesShortOhms stand for an open or shorted
 	// series element of the HT filter (a resistor or choke between two
 	// filter stages): the supply simulation needs a finite, nonzero series
@@ -360,7 +355,10 @@ func slotsWithRole(m *amp.Model, ref string, roles ...string) []int {
 // filter stage; an open capacitor of any kind is recorded in v.CapOpen
 // (see OpenCapacitors) for AC analysis. A dead supply (open HT winding,
 // open silicon rectifier, dead or heater-open valve rectifier, open
-// mains fuse) is the HT volts scale set to DeadHTVolts. An open mains fuse
+// mains fuse) conducts nothing into the filter: an open winding or fuse
+// sets the HT volts scale to 0 (no volts at the rectifier plates either),
+// a dead rectifier or an open choke-input choke sets RectDead (the
+// winding keeps its volts). An open mains fuse
 // also opens every heater and kills the bias supplies. A valve
 // rectifier's heater load stays on its winding when its heater opens.
 func Apply(m *amp.Model, v *amp.Values, f Fault) error {
@@ -430,8 +428,9 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 	case design.Choke:
 		ix := slotsWithRole(m, p.Ref, "dcr")
 		if len(ix) == 0 {
-			// A choke-input filter's choke lives in the supply model.
-			v.HTVolts = DeadHTVolts
+			// A choke-input filter's choke lives in the supply model:
+			// open, nothing leaves the rectifier.
+			v.RectDead = true
 		}
 		setSlots(ix, open)
 	case design.OutputTransformer:
@@ -446,7 +445,7 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 	case design.PowerTransformer:
 		switch f.Mode {
 		case Open:
-			v.HTVolts = DeadHTVolts
+			v.HTVolts = 0
 		case HeaterOpen:
 			for _, i := range heaterSections(m, p) {
 				v.Emission[i] = -1
@@ -455,7 +454,7 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 	case design.Rectifier:
 		switch f.Mode {
 		case Open:
-			v.HTVolts = DeadHTVolts
+			v.RectDead = true
 		case HalfOpen:
 			v.HalfOpen = true
 		}
@@ -465,7 +464,7 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 			case Weak:
 				v.RectScale *= WeakRectScale
 			case Dead, HeaterOpen:
-				v.HTVolts = DeadHTVolts
+				v.RectDead = true
 			case HalfOpen:
 				v.HalfOpen = true
 			}
@@ -485,7 +484,7 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 			}
 		}
 	case design.Fuse:
-		v.HTVolts = DeadHTVolts
+		v.HTVolts = 0
 		for i := range v.Emission {
 			v.Emission[i] = -1
 		}
