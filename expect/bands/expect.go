@@ -186,6 +186,13 @@ func (s *Set) capCathode(pd amp.PointDef, b *Band) {
 	if rk <= 0 || rated <= 0 || va <= 0 {
 		return
 	}
+	// The cap holds only where the cathode volts are the section's current
+	// through the design's cathode load (Ohm's law). Where they are not (a
+	// cathode resistor open and the cathode floating, a fault model), the
+	// cap would contradict the prediction, so it is left off.
+	if want := (so.Ia + so.Ig2) * rk * float64(n); math.Abs(so.Vk-want) > 0.2*math.Max(math.Abs(so.Vk), want)+0.1 {
+		return
+	}
 	share := 1.0
 	if so.Ia > 0 {
 		share = (so.Ia + so.Ig2) / so.Ia
@@ -195,7 +202,7 @@ func (s *Set) capCathode(pd amp.PointDef, b *Band) {
 		vmax = math.Floor(vmax/r+1e-9) * r // a whole count: the meter shows no finer
 	}
 	b.Low = math.Max(0, b.Low)
-	if b.High > vmax {
+	if b.High > vmax && b.Low <= vmax {
 		b.High = vmax
 		b.Why = append(b.Why, fmt.Sprintf("capped at %s: the cathode volts of the rated %s plate dissipation",
 			amp.FormatValue(vmax, amp.DCVolts), units.Format(rated, units.Watts)))
