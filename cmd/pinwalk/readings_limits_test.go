@@ -54,6 +54,20 @@ func TestReadingsFileLimits(t *testing.T) {
 			`r.yaml:1: conditions: meter "fluffy": expected a digital meter's input resistance like 10M, or an analogue meter like 20k/V:500V`},
 		{"meter NaN", "conditions: {meter: NaN}\n",
 			`r.yaml:1: conditions: meter "NaN": expected a digital meter's input resistance like 10M, or an analogue meter like 20k/V:500V`},
+		{"same point by two names", "B1: 300V\n\"B1 dc_volts\": 301V\n",
+			`r.yaml:2: B1 dc_volts: read twice, at line 1 and line 2: expected one reading per point (keep the one you trust)`},
+		{"cold ohms beyond a bench", "cold:B1: 20G\n",
+			`r.yaml:1: cold:B1: "20G": expected a resistance up to 10 GΩ, or open for a reading beyond the meter's range (OL)`},
+		{"negative ripple", "\"B1 ripple\": -2V\n",
+			`r.yaml:1: B1 ripple: "-2V": expected an AC reading of 0 or more (a meter's AC range shows the size of the swing, never a sign)`},
+		{"negative AC amps", "\"V3.8 ac_amps\": -5mA\n",
+			`r.yaml:1: V3.8 ac_amps: "-5mA": expected an AC reading of 0 or more (a meter's AC range shows the size of the swing, never a sign)`},
+		{"meter empty", "conditions:\n  meter:\nB1: 300V\n",
+			`r.yaml:2: conditions: meter is empty: expected the meter's input resistance, like 10M, or an analogue meter like 20k/V:500V`},
+		{"meter set twice", "conditions:\n  meter: 10M\n  mains: 230V\n  meter: 1M\n",
+			`r.yaml:4: conditions: meter set twice, at line 2 and line 4: expected it once (keep the one that was true at the bench)`},
+		{"conditions twice", "conditions: {meter: 10M}\nB1: 300V\nconditions: {mains: 230V}\n",
+			"r.yaml:3: conditions: given twice, at line 1 and line 3: expected one `conditions:` mapping (put mains, variac and meter in it together)"},
 		{"meter at the top level", "B1: 300V\nmeter: -5M\n",
 			"r.yaml:2: meter: a setting, not a point: expected it under `conditions:`, like `conditions: {meter: 10M}`"},
 	}
@@ -84,5 +98,20 @@ func TestDiagnoseRejectsBadReadings(t *testing.T) {
 		if code != exitProblems || out != "" || !strings.HasPrefix(errOut, p+":") || strings.Contains(errOut, "healthy") {
 			t.Errorf("%q: exit %d, stdout %q, stderr %q: want exit %d, nothing on stdout, an error naming %s:LINE", data, code, out, errOut, exitProblems, p)
 		}
+	}
+}
+
+// TestReadingsFileWithinLimits: the limits leave every real reading alone:
+// a short (0 Ω), an open, a negative grid bias, no ripple at all, a
+// 10 kΩ/V analogue meter on its 1 kV range, a 1 GΩ insulation reading.
+func TestReadingsFileWithinLimits(t *testing.T) {
+	data := "conditions:\n  meter: 10k/V:1000V\n  mains: 230V\n" +
+		"cold:B1: 0\ncold:PIB: open\n\"cold:V3.8\": 1G\nV3.5: -38V\n\"B1 ripple\": 0V\n\"V3.8 dc_amps\": 45mA\nB2: 9.9kV\n"
+	rf, errs := parseReadingsFile("r.yaml", []byte(data))
+	if len(errs) > 0 {
+		t.Fatalf("errors on good readings: %q", errs)
+	}
+	if len(rf.readings) != 7 || rf.meter != "10k/V:1000V" || rf.cond.MainsVolts != 230 {
+		t.Errorf("got %d readings, meter %q, mains %g: want 7, 10k/V:1000V, 230", len(rf.readings), rf.meter, rf.cond.MainsVolts)
 	}
 }
