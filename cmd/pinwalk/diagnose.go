@@ -64,7 +64,9 @@ func parseReadingsFile(name string, data []byte) (*readingsFile, []string) {
 	}
 	rf := &readingsFile{}
 	var errs []string
-	seen := map[string]int{} // point id → line of its first reading
+	seen := map[string]int{}  // point (its full key when it parses) → line of its first reading
+	setAt := map[string]int{} // condition → line it was set on
+	conditionsAt := 0         // line of the `conditions:` mapping
 	for i := 0; i+1 < len(root.Content); i += 2 {
 		k, v := root.Content[i], root.Content[i+1]
 		switch k.Value {
@@ -74,12 +76,23 @@ func parseReadingsFile(name string, data []byte) (*readingsFile, []string) {
 			continue
 		}
 		if k.Value == "conditions" {
+			// One set of conditions per file: two would leave one unread.
+			if conditionsAt > 0 {
+				errs = append(errs, fmt.Sprintf("%s:%d: conditions: given twice, at line %d and line %d: expected one `conditions:` mapping (put mains, variac and meter in it together)", name, k.Line, conditionsAt, k.Line))
+				continue
+			}
+			conditionsAt = k.Line
 			if v.Kind != yaml.MappingNode {
 				errs = append(errs, fmt.Sprintf("%s:%d: conditions: expected a mapping (mains, variac, meter)", name, v.Line))
 				continue
 			}
 			for j := 0; j+1 < len(v.Content); j += 2 {
 				ck, cv := v.Content[j], v.Content[j+1]
+				if first, dup := setAt[ck.Value]; dup {
+					errs = append(errs, fmt.Sprintf("%s:%d: conditions: %s set twice, at line %d and line %d: expected it once (keep the one that was true at the bench)", name, ck.Line, ck.Value, first, ck.Line))
+					continue
+				}
+				setAt[ck.Value] = ck.Line
 				switch ck.Value {
 				case "mains":
 					x, err := units.Parse(cv.Value, units.Volts)
@@ -97,6 +110,12 @@ func parseReadingsFile(name string, data []byte) (*readingsFile, []string) {
 					}
 					rf.cond.Variac = x / 100
 				case "meter":
+					// An empty value would quietly mean the default meter:
+					// say which meter read instead.
+					if strings.TrimSpace(cv.Value) == "" || cv.Tag == "!!null" {
+						errs = append(errs, fmt.Sprintf("%s:%d: conditions: meter is empty: expected the meter's input resistance, like 10M, or an analogue meter like 20k/V:500V", name, cv.Line))
+						continue
+					}
 					if _, err := bands.ParseMeter(cv.Value); err != nil {
 						errs = append(errs, fmt.Sprintf("%s:%d: conditions: %v", name, cv.Line, err))
 						continue
@@ -114,11 +133,17 @@ func parseReadingsFile(name string, data []byte) (*readingsFile, []string) {
 			continue
 		}
 		id := strings.TrimSpace(k.Value)
-		if first, dup := seen[id]; dup {
+		// One point has one reading (common sense): "B1" and "B1 dc_volts"
+		// are the same point, so they are compared by their full key.
+		same := id
+		if pk, err := pkey.ParseShort(id); err == nil {
+			same = pk.String()
+		}
+		if first, dup := seen[same]; dup {
 			errs = append(errs, fmt.Sprintf("%s:%d: %s: read twice, at line %d and line %d: expected one reading per point (keep the one you trust)", name, k.Line, id, first, k.Line))
 			continue
 		}
-		seen[id] = k.Line
+		seen[same] = k.Line
 		if msg := checkReadingValue(id, v.Value); msg != "" {
 			errs = append(errs, fmt.Sprintf("%s:%d: %s: %s", name, v.Line, id, msg))
 			continue
@@ -129,11 +154,12 @@ func parseReadingsFile(name string, data []byte) (*readingsFile, []string) {
 }
 
 // Largest magnitudes a bench reading can have (our limits, far above any
-// valve amplifier's: its B+ is at most a few kilovolts).
+// valve amplifier's: its B+ is at most a few kilovolts, its mains fuse a few
+// amps; a bench ohmmeter reads open (OL) long before 10 GΩ, common practice).
 const (
 	maxReadingVolts = 10e3
 	maxReadingAmps  = 100
-	maxReadingOhms  = 1e13
+	maxReadingOhms  = 10e9
 )
 
 // checkReadingValue checks a reading's value for its point id (the unit
@@ -142,22 +168,34 @@ const (
 func checkReadingValue(id, value string) string {
 	uq, what, limit := units.Volts, "volts", maxReadingVolts
 	k, _ := pkey.ParseShort(id)
+	ac := false
+	switch k.Quantity {
+	case pkey.ACVolts, pkey.RippleVolts, pkey.ToneVolts:
+		ac = true
+	}
 	switch k.Quantity {
 	case pkey.Ohms:
 		uq, what, limit = units.Ohms, "ohms", maxReadingOhms
 		if pkey.IsOpenWord(value) {
 			return ""
 		}
-	case pkey.DCAmps, pkey.ACAmps:
+	case pkey.DCAmps:
 		uq, what, limit = units.Amps, "amps", maxReadingAmps
+	case pkey.ACAmps:
+		uq, what, limit, ac = units.Amps, "amps", maxReadingAmps, true
 	}
 	x, err := units.Parse(value, uq)
 	if err != nil {
 		return fmt.Sprintf("%v", err)
 	}
 	switch {
+	case uq == units.Ohms && (math.IsNaN(x) || math.IsInf(x, 0) || x > limit):
+		return fmt.Sprintf("%q: expected a resistance up to %s, or open for a reading beyond the meter's range (OL)", value, units.Format(limit, uq))
 	case math.IsNaN(x) || math.IsInf(x, 0) || math.Abs(x) > limit:
 		return fmt.Sprintf("%q: expected a finite reading in %s within ±%s", value, what, units.Format(limit, uq))
+	case ac && x < 0:
+		// An AC reading is the size of a swing (rms), never signed.
+		return fmt.Sprintf("%q: expected an AC reading of 0 or more (a meter's AC range shows the size of the swing, never a sign)", value)
 	case uq == units.Ohms && x < 0:
 		return fmt.Sprintf("%q: expected a resistance of 0 Ω or more, or open (an ohmmeter shows a negative value when a charged capacitor or a live circuit drives it: power off, discharge, and measure again)", value)
 	}
