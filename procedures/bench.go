@@ -69,6 +69,20 @@ type BenchModel struct {
 
 type setKey struct{ variac, mains float64 }
 
+// Label is a point's description in the model's words ("V3 pin 8
+// cathode"), or "" for a point the model does not define.
+func (b *BenchModel) Label(k point.Key) string {
+	if k.Domain != point.Live {
+		return ""
+	}
+	for _, pd := range b.M.Points() {
+		if pd.ID == k.ID && pd.Quantity == k.Quantity {
+			return pd.Label
+		}
+	}
+	return ""
+}
+
 // NewBenchModel computes the cold and discharge expectations of a design
 // at once; the live bands are computed when first asked for.
 func NewBenchModel(d *design.Design, opt BenchOptions) (*BenchModel, error) {

@@ -70,14 +70,5 @@ func Exceptions(r *Runner) []Exception {
 }
 
 // LabelOf is the words for a point as the procedure's measures label it
-// (the point's own text only where no step measures it).
-func (r *Runner) LabelOf(k point.Key) string {
-	for _, st := range r.Proc.Steps {
-		for _, ms := range st.Measures {
-			if ms.Point == k && ms.Label != "" {
-				return ms.Label
-			}
-		}
-	}
-	return k.String()
-}
+// (the model's words, then the point's own text, where no step measures it).
+func (r *Runner) LabelOf(k point.Key) string { return r.labelOf("", k) }

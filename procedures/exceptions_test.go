@@ -4,6 +4,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"pinwalk/expect/point"
 )
 
 // TestExceptionsListEverything: a bring-up of the stereo demo with a
@@ -110,5 +112,27 @@ func TestExceptionsListEverything(t *testing.T) {
 	}
 	if n := len(r.Sess.Readings); n < 40 {
 		t.Errorf("only %d readings: the exceptions were not followed by a full walk", n)
+	}
+}
+
+// A point no step of the procedure measures any more (read on a
+// fault-finding step added for one suggestion) is still named in the
+// model's words, never by its key: the after-repair step and the summary
+// print it.
+func TestLabelOfPointWithoutStep(t *testing.T) {
+	d := loadDesign(t, "se-6v6-stereo")
+	w := newWalk(t, d, BringUp, "")
+	k := point.LiveKey("V3.8", "dc_volts")
+	for _, st := range w.R.Proc.Steps {
+		kept := st.Measures[:0]
+		for _, m := range st.Measures {
+			if m.Point != k {
+				kept = append(kept, m)
+			}
+		}
+		st.Measures = kept
+	}
+	if got := w.R.LabelOf(k); got != "V3 pin 8 cathode" {
+		t.Errorf("label of %v with no step measuring it: %q, want the model's \"V3 pin 8 cathode\"", k, got)
 	}
 }

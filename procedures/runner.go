@@ -266,19 +266,26 @@ func (r *Runner) Blockers(st *Step) []string {
 func (r *Runner) labelOf(step string, k point.Key) string {
 	if st := r.Proc.Step(step); st != nil {
 		for _, m := range st.Measures {
-			if m.Point == k {
+			if m.Point == k && m.Label != "" {
 				return m.Label
 			}
 		}
 	}
 	for _, st := range r.Proc.Steps {
 		for _, m := range st.Measures {
-			if m.Point == k {
+			if m.Point == k && m.Label != "" {
 				return m.Label
 			}
 		}
 	}
-	return k.ID
+	// A point read on a step that is no longer in the procedure (a
+	// fault-finding step added for one suggestion): the model's own words.
+	if l, ok := r.Expect.(interface{ Label(point.Key) string }); ok {
+		if s := l.Label(k); s != "" {
+			return s
+		}
+	}
+	return k.String()
 }
 
 // Goto moves to a step if its gate allows; in training mode a blocked

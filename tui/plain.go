@@ -90,7 +90,11 @@ func RunPlainFrom(w *procedures.Walk, start Start, in io.Reader, out io.Writer) 
 			continue
 		}
 		if state.Ask != nil {
-			p("Question: %s (Enter passes)", state.Ask.Prompt)
+			if state.Ask.Required {
+				p("Question: %s (an answer is needed here)", state.Ask.Prompt)
+			} else {
+				p("Question: %s (Enter passes)", state.Ask.Prompt)
+			}
 		} else if state.Measure != nil {
 			printMeasure(p, r, st, state)
 		}
