@@ -136,3 +136,28 @@ func TestLabelOfPointWithoutStep(t *testing.T) {
 		t.Errorf("label of %v with no step measuring it: %q, want the model's \"V3 pin 8 cathode\"", k, got)
 	}
 }
+
+// An output cathode reading three times its band switches off (the safe
+// call), and says both causes it can mean: a red-plating valve if the
+// cathode resistor is whole, or an open cathode resistor with no current
+// (the cathode floats up: Ohm's law no longer gives the current).
+func TestHighCathodeSaysBothCauses(t *testing.T) {
+	d := loadDesign(t, "se-6v6-stereo")
+	b, err := NewBenchModel(d, BenchOptions{Samples: 40, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	k := point.LiveKey("V3.8", "dc_volts")
+	band, has := b.Expect(k, 1, nil)
+	st := &Step{ID: "v3", Kind: KindLive, Live: true, Variac: 1}
+	m := &Measure{Point: k, Label: "V3 pin 8 cathode"}
+	j := b.judge(st, m, 53.1, band, has, nil)
+	if j.Consequence != SwitchOff {
+		t.Fatalf("V3 cathode 53.1 V (band %v – %v): %v, want switch off", band.Low, band.High, j.Consequence)
+	}
+	for _, want := range []string{"if its cathode resistor is whole", "open cathode resistor"} {
+		if !strings.Contains(j.Said, want) {
+			t.Errorf("the switch-off text does not say %q: %s", want, j.Said)
+		}
+	}
+}

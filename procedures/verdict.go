@@ -205,10 +205,27 @@ func (b *BenchModel) dissipation(sec int, ik, vk float64, readings []Reading) (p
 }
 
 func (b *BenchModel) overDissipation(sec int, pa float64, from string) (judgement, bool) {
+	return b.overDissipationVia(sec, pa, from, false)
+}
+
+// overDissipationVia: viaCathode when the current is inferred from the
+// cathode volts across the cathode resistor (Ohm's law). Those volts are
+// also what an open cathode resistor gives with no current at all (the
+// cathode floats up until the valve cuts itself off), and the walk
+// cannot tell the two apart powered; it switches off either way (the
+// safe call) and says both.
+func (b *BenchModel) overDissipationVia(sec int, pa float64, from string, viaCathode bool) (judgement, bool) {
 	s := b.M.Sections[sec]
 	rated := s.Type.Limits.PlateWatts
 	if rated <= 0 || pa <= rated {
 		return judgement{}, false
+	}
+	if viaCathode {
+		return judgement{Consequence: SwitchOff, Said: fmt.Sprintf(
+			"SWITCH OFF NOW: if its cathode resistor is whole, %s (%s) is dissipating about %s, %.0f %% of its %s plate rating (%s), and it is being damaged (a red-plating valve: "+
+				"a leaky coupling capacitor, a lost bias or a failing valve). An open cathode resistor reads the same with no current at all: the cold check of that resistor tells them apart. "+
+				"Variac to zero, switch off, unplug; the walk goes on unpowered.",
+			s.Ref, s.Type.Name, units.Format(pa, units.Watts), 100*pa/rated, units.Format(rated, units.Watts), from)}, true
 	}
 	return judgement{Consequence: SwitchOff, Said: fmt.Sprintf(
 		"SWITCH OFF NOW: %s (%s) is dissipating about %s, %.0f %% of its %s plate rating (%s). It is being damaged (a red-plating valve): "+
@@ -342,7 +359,7 @@ func (b *BenchModel) judgeElectrode(sec int, electrode string, k point.Key, v fl
 	case valves.Cathode:
 		if rk, n := b.cathodeLoad(sec); rk > 0 {
 			pa, src := b.dissipation(sec, v/rk/float64(n), v, readings)
-			if j, ok := b.overDissipation(sec, pa, fmt.Sprintf("cathode %s across %s, %s", FormatValue(v, "V"), FormatValue(rk, "Ω"), src)); ok {
+			if j, ok := b.overDissipationVia(sec, pa, fmt.Sprintf("cathode %s across %s, %s", FormatValue(v, "V"), FormatValue(rk, "Ω"), src), true); ok {
 				return j
 			}
 		}
@@ -354,7 +371,7 @@ func (b *BenchModel) judgeElectrode(sec int, electrode string, k point.Key, v fl
 					if so.Ia+so.Ig2 > 0 {
 						pa *= so.Ia / (so.Ia + so.Ig2)
 					}
-					if j, ok := b.overDissipation(sec, pa, fmt.Sprintf("plate %s, cathode %s across %s", FormatValue(v, "V"), FormatValue(vk, "V"), FormatValue(rk, "Ω"))); ok {
+					if j, ok := b.overDissipationVia(sec, pa, fmt.Sprintf("plate %s, cathode %s across %s", FormatValue(v, "V"), FormatValue(vk, "V"), FormatValue(rk, "Ω")), true); ok {
 						return j
 					}
 				}
