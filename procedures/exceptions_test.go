@@ -1,6 +1,7 @@
 package procedures
 
 import (
+	"math"
 	"strconv"
 	"strings"
 	"testing"
@@ -159,5 +160,29 @@ func TestHighCathodeSaysBothCauses(t *testing.T) {
 		if !strings.Contains(j.Said, want) {
 			t.Errorf("the switch-off text does not say %q: %s", want, j.Said)
 		}
+	}
+}
+
+// The confirm step: a suspect resistor that reads within its own
+// tolerance with one end lifted is not confirmed, and the walk stops
+// before the replacement; a reading of open goes on.
+func TestConfirmInToleranceStops(t *testing.T) {
+	d := loadDesign(t, "se-6v6-stereo")
+	b, err := NewBenchModel(d, BenchOptions{Samples: 40, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	k := point.PartKey("R25")
+	band, has := b.Expect(k, 0, nil)
+	if !has {
+		t.Fatal("no band for R25 out of circuit")
+	}
+	st := &Step{ID: StepConfirm, Kind: KindConfirm}
+	m := &Measure{Point: k, Label: "R25 out of circuit"}
+	if j := b.judge(st, m, 330, band, has, nil); j.Consequence != Stop || !strings.Contains(j.Said, "not confirmed") {
+		t.Errorf("R25 reads 330 Ω (band %g – %g): %v %q, want a stop: not confirmed", band.Low, band.High, j.Consequence, j.Said)
+	}
+	if j := b.judge(st, m, math.Inf(1), band, has, nil); j.Consequence == Stop {
+		t.Errorf("R25 reads open on the confirm step: %q, want it to go on", j.Said)
 	}
 }

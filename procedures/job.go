@@ -252,8 +252,19 @@ func parseSafetyTest(field, text string, at time.Time) (*SafetyTest, error) {
 	if field == FieldInsulation {
 		want = "expected the reading and the instrument, like 50M tester (an insulation tester at 500 V DC, IEC 61557-2) or 20M meter (a multimeter: an indication only)"
 	}
+	if len(f) == 3 && (f[0] == ">" || f[0] == "<") {
+		f = []string{f[0] + f[1], f[2]}
+	}
 	if len(f) != 2 {
 		return nil, fmt.Errorf("%q: %s", text, want)
+	}
+	// A tester past its range shows ">200 MΩ" (insulation) or "<0.01 Ω"
+	// (earth bond): the bound it shows is kept, which is the worse case
+	// for the verdict either way.
+	if field == FieldInsulation {
+		f[0] = strings.TrimPrefix(f[0], ">")
+	} else {
+		f[0] = strings.TrimPrefix(f[0], "<")
 	}
 	v := math.Inf(1)
 	if !point.IsOpenWord(f[0]) {

@@ -68,3 +68,31 @@ func TestJobAnswers(t *testing.T) {
 		t.Errorf("multimeter earth bond: %v %+v", err, s.Job.After.EarthBond)
 	}
 }
+
+// A tester past its range: ">200M" on the insulation tester is at least
+// 200 MΩ, "<0.01" on the earth-bond tester at most 10 mΩ; the bound is
+// kept. The reverse bounds say nothing a verdict can use and are refused.
+func TestSafetyTestOverRange(t *testing.T) {
+	at := time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC)
+	for _, c := range []struct {
+		field, text string
+		ohms        float64
+		ok          bool
+	}{
+		{FieldInsulation, ">200M tester", 200e6, true},
+		{FieldInsulation, "> 200M tester", 200e6, true},
+		{FieldInsulation, "50M tester", 50e6, true},
+		{FieldInsulation, "<1M tester", 0, false},
+		{FieldEarthBond, "<0.01 tester", 0.01, true},
+		{FieldEarthBond, ">0.5 tester", 0, false},
+	} {
+		st, err := parseSafetyTest(c.field, c.text, at)
+		if (err == nil) != c.ok {
+			t.Errorf("%s %q: error %v, want ok %v", c.field, c.text, err, c.ok)
+			continue
+		}
+		if c.ok && math.Abs(st.Ohms-c.ohms) > 1e-9*c.ohms {
+			t.Errorf("%s %q: %g Ω, want %g Ω", c.field, c.text, st.Ohms, c.ohms)
+		}
+	}
+}

@@ -84,6 +84,17 @@ func (b *BenchModel) judge(st *Step, m *Measure, v float64, band Band, has bool,
 				"STOP: the outlet gives %s; this amp is built for %s (%+.0f %%): on this mains its heaters, B+ and capacitors would be overstressed. Do not plug it in here: check the mains selector or the transformer tapping, or feed it through a step-down transformer or the variac set to %s.",
 				FormatValue(v, "V"), FormatValue(d.Volts, "V"), 100*d.Tol.Hi, FormatValue(d.Volts, "V"))}
 		}
+	case point.Part:
+		// The confirm step: the suspect part, one end lifted, reads within
+		// its own tolerance. It has not failed as ranked; replacing it on
+		// the ranking alone would leave the fault in the amp.
+		if st.ID == StepConfirm && has && band.Contains(v) {
+			return judgement{Consequence: Stop, Overridable: true, Said: fmt.Sprintf(
+				"STOP: %s reads %s out of circuit, within its tolerance (%s): it is not confirmed as the fault. Do not replace it on the ranking alone. "+
+					"Check its solder joints, the socket pin and the wiring to it (a dry joint or a broken track reads like an open part in circuit), then measure again; "+
+					"override with the reason if you replace it anyway (an intermittent part).",
+				k.ID, FormatValue(v, "Ω"), FormatBand(band, "Ω"))}
+		}
 	case point.Bias:
 		if st.Live {
 			if j, ok := b.judgeBias(k, v, readings); ok {
