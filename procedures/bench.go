@@ -10,6 +10,7 @@ import (
 	"pinwalk/expect/bands"
 	"pinwalk/expect/cold"
 	"pinwalk/expect/design"
+	"pinwalk/expect/faults"
 	"pinwalk/expect/point"
 	"pinwalk/expect/units"
 )
@@ -81,6 +82,21 @@ func (b *BenchModel) Label(k point.Key) string {
 		}
 	}
 	return ""
+}
+
+// DescribeFault says a fault (REF:MODE, or several joined by " or ") in
+// words ("R25 (330 Ω) open circuit"); an unknown one is returned as is.
+func (b *BenchModel) DescribeFault(name string) string {
+	var out []string
+	for _, one := range strings.Split(name, " or ") {
+		f, err := faults.Parse(one)
+		if err != nil {
+			out = append(out, one)
+			continue
+		}
+		out = append(out, faults.Describe(f, b.M))
+	}
+	return strings.Join(out, " or ")
 }
 
 // NewBenchModel computes the cold and discharge expectations of a design

@@ -32,6 +32,19 @@ func Exceptions(r *Runner) []Exception {
 		}
 		return id
 	}
+	// titleFor: the title of the step a reading was taken on, when that
+	// step still measures the point (a fault-finding step's id is reused
+	// for the next suggestion: its title would name the wrong point).
+	titleFor := func(id string, k point.Key) string {
+		if st := r.Proc.Step(id); st != nil {
+			for _, m := range st.Measures {
+				if m.Point == k {
+					return st.Title
+				}
+			}
+		}
+		return "a fault-finding measurement"
+	}
 	for _, k := range s.Skips {
 		kind := "skipped"
 		if k.Safety {
@@ -61,10 +74,10 @@ func Exceptions(r *Runner) []Exception {
 		if rd.Variac > 0 && rd.Variac < 1 {
 			text += fmt.Sprintf(" at %.0f %% mains", 100*rd.Variac)
 		}
-		out = append(out, Exception{Kind: kind, Step: title(rd.Step), Text: text})
+		out = append(out, Exception{Kind: kind, Step: titleFor(rd.Step, rd.Point), Text: text})
 	}
 	for _, o := range s.Overrides {
-		out = append(out, Exception{Kind: "override", Step: title(o.Step), Text: fmt.Sprintf("%s let through: %s", r.LabelOf(o.Point), o.Reason)})
+		out = append(out, Exception{Kind: "override", Step: titleFor(o.Step, o.Point), Text: fmt.Sprintf("%s let through: %s", r.LabelOf(o.Point), o.Reason)})
 	}
 	return out
 }

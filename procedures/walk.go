@@ -227,7 +227,7 @@ func Summary(r *Runner) []string {
 	ex := Exceptions(r)
 	out = append(out, fmt.Sprintf("Needs a look (%d): every stop, reading out of band, override and skipped step", len(ex)))
 	for _, e := range ex {
-		out = append(out, fmt.Sprintf("  %s: %s (step %s)", e.Kind, e.Text, e.Step))
+		out = append(out, fmt.Sprintf("  %s: %s (%s)", e.Kind, e.Text, e.Step))
 	}
 	out = append(out, fmt.Sprintf("Readings (%d):", len(s.Readings)))
 	bad := 0
@@ -268,8 +268,12 @@ func Summary(r *Runner) []string {
 		out = append(out, "Note: "+n.Text)
 	}
 	if s.Outcome != nil {
-		if s.Outcome.Found != "" {
-			out = append(out, "Found: "+s.Outcome.Found)
+		if s.Outcome.Found != "" && s.Outcome.Summary == "" {
+			found := s.Outcome.Found
+			if d, ok := r.Expect.(interface{ DescribeFault(string) string }); ok {
+				found = d.DescribeFault(found)
+			}
+			out = append(out, "Found: "+found)
 		}
 		if s.Outcome.Summary != "" {
 			out = append(out, s.Outcome.Summary)

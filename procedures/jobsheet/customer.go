@@ -289,7 +289,10 @@ func (sh *Sheet) customerDocument() *document {
 	if sh.Found != "" {
 		found = append(found, faultWords(sh.Found))
 	}
-	if sh.Summary != "" {
+	switch {
+	case sh.Summary != "" && sh.Found != "" && strings.HasPrefix(sh.Summary, "Found by measurement: "):
+		found = append(found, "Found by measurement.") // the words of the fault are already there
+	case sh.Summary != "":
 		found = append(found, sh.Summary)
 	}
 	if len(found) > 0 {
@@ -311,9 +314,21 @@ func (sh *Sheet) customerDocument() *document {
 	} else if len(found) == 0 && len(j.Visual) == 0 {
 		fd.para("Every measurement was within what this amplifier should read.")
 	}
-	var still []string
+	// A part measured out of circuit and then replaced: its readings are
+	// of the old part, a finding, not a point of the amp to read again.
+	replaced := map[string]bool{}
+	for _, p := range j.Parts {
+		replaced[p.Ref] = true
+	}
+	var again []BeforeAfter
 	for _, x := range ba {
-		if x.After.Status == procedures.OutOfBand {
+		if !(x.Key.Domain == point.Part && replaced[x.Key.ID]) {
+			again = append(again, x)
+		}
+	}
+	var still []string
+	for _, x := range again {
+		if x.Remeasured && x.After.Status == procedures.OutOfBand {
 			still = append(still, sh.Label(x.Key))
 		}
 	}
@@ -339,14 +354,14 @@ func (sh *Sheet) customerDocument() *document {
 	doc.Sections = append(doc.Sections, pr)
 
 	// Before and after.
-	if len(ba) > 0 {
+	if len(again) > 0 {
 		bs := docSection{ID: "before-after", Title: "Before and after the repair"}
 		t := &table{Head: []string{"Measurement", "Should read", "Before", "After", "Now"}, Numeric: []bool{false, false, true, true, false}}
 		if len(j.Parts) == 0 && len(sh.Replaced) == 0 {
 			bs.Title = "Readings that were out of range"
 			t.Head = []string{"Measurement", "Should read", "First reading", "Last reading", "Now"}
 		}
-		for _, x := range ba {
+		for _, x := range again {
 			after, now := "not measured again", "–"
 			if x.Remeasured {
 				after = cVal(x.After.Value, x.After.Unit)
@@ -391,7 +406,7 @@ func (sh *Sheet) customerDocument() *document {
 			if p.Hz > 0 {
 				hz = cVal(p.Hz, "Hz")
 			}
-			t.Rows = append(t.Rows, []string{orDash(p.Channel), cVal(p.Watts, "W"), cVal(p.LoadOhms, "Ω") + " dummy load", hz, orDash(p.Note)})
+			t.Rows = append(t.Rows, []string{orDash(p.Channel), cVal(p.Watts, "W"), loadWords(p.LoadOhms), hz, orDash(p.Note)})
 		}
 		ac.table(t)
 	} else {
@@ -616,4 +631,13 @@ func swapWords(sw *procedures.SwapTest) string {
 		return fmt.Sprintf("Swap test (%s exchanged between the channels): the fault stayed on its channel, so those valves are not the cause.", valves)
 	}
 	return fmt.Sprintf("Swap test (%s exchanged between the channels): not tried.", valves)
+}
+
+// loadWords names the dummy load a power figure was read into ("8 Ω
+// dummy load"; "dummy load" when its ohms were not given).
+func loadWords(ohms float64) string {
+	if ohms <= 0 {
+		return "dummy load"
+	}
+	return cVal(ohms, "Ω") + " dummy load"
 }

@@ -261,3 +261,36 @@ func TestBeforeAfter(t *testing.T) {
 		t.Errorf("beforeAfter = %+v", ba)
 	}
 }
+
+// A whole fault-finding job on the stereo demo, as a technician ran it in
+// plain mode: the right channel silent, V3's cathode at 53 V (switch-off),
+// KR2 open to chassis cold, R25 read good once (a stop: not confirmed)
+// and then open, replaced, the amp re-run, power out, soak, safety tests
+// and sign-off. The replaced part's own readings are findings, not points
+// still out; a power figure with no load given does not print "0 Ω".
+func TestCustomerSheetWholeJob(t *testing.T) {
+	s, err := procedures.LoadSession("../../testdata/sessions/se-6v6-r25-repair.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	md, html := renderCustomer(t, s, loadDesign(t, "../../testdata/designs/se-6v6-stereo.yaml"))
+	for _, want := range []string{
+		"R25 had gone open circuit.",
+		"Channel with the fault: right.",
+		"| R25 | 330R | 3W |",
+		"| V3 pin 8 cathode, DC volts |",
+		"✓ passed",
+	} {
+		if !strings.Contains(md, want) {
+			t.Errorf("customer sheet lacks %q", want)
+		}
+	}
+	for _, bad := range []string{"Still outside", "0\u00a0Ω dummy load", "0 Ω dummy load", "Found by measurement: R25"} {
+		if strings.Contains(md, bad) || strings.Contains(html, bad) {
+			t.Errorf("customer sheet says %q", bad)
+		}
+	}
+	if m := internalKey.FindAllString(md, -1); len(m) > 0 {
+		t.Errorf("internal keys on the customer sheet: %q", m)
+	}
+}
