@@ -6,6 +6,7 @@
 #
 #   scripts/tui-smoke.sh            # from the repository root
 #   SHOTS=dir scripts/tui-smoke.sh  # also keep each captured screen in dir
+#   COLS=80 ROWS=24 scripts/tui-smoke.sh  # another terminal size
 set -euo pipefail
 
 root=$(cd "$(dirname "$0")/.." && pwd)
@@ -52,7 +53,7 @@ wait_for() {
 keys() { tmux send-keys -t "$sess" "$@"; }
 typed() { tmux send-keys -t "$sess" -l "$1"; }
 
-tmux new-session -d -s "$sess" -x 100 -y 30 \
+tmux new-session -d -s "$sess" -x "${COLS:-100}" -y "${ROWS:-30}" \
 	"cd '$work' && LANG=C.UTF-8 TERM=xterm-256color '$bin' walk demo --session '$work/s.pinwalk.yaml'; echo EXITED \$?; sleep 30"
 
 wait_for "Safety briefing" 15
