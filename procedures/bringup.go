@@ -178,20 +178,8 @@ func coldSteps(b *BenchModel, gate []string) []*Step {
 	return out
 }
 
-// probeAt names where a probe goes on a net, as the technician finds it:
-// a valve socket pin on the net when there is one ("V1 pin 6, net PL1"),
-// "chassis" for the ground net, else the net.
-func (b *BenchModel) probeAt(net string) string {
-	if net == b.D.Ground {
-		return "chassis"
-	}
-	for _, pd := range b.M.Points() {
-		if pd.Net == net && pd.Valve != "" && pd.Quantity == amp.DCVolts {
-			return fmt.Sprintf("%s pin %d (net %s)", pd.Valve, pd.Pin, net)
-		}
-	}
-	return "net " + net
-}
+// probeAt names where a probe goes on a net (amp.Model.ProbeAt).
+func (b *BenchModel) probeAt(net string) string { return b.M.ProbeAt(net) }
 
 func ohmsRange(c cold.Check) string {
 	if c.Open {

@@ -278,7 +278,8 @@ func TestPlainFaultFind(t *testing.T) {
 	if found != fault && !e.SameGroup(found, fault, true) {
 		t.Errorf("found %s, want %s (or one no reading tells from it)", o.Found, fault)
 	}
-	for _, want := range []string{"Confirm the fault:", "Best next for the effort", "== Summary ==", "Found: "} {
+	// The summary names the fault in words, not as REF:MODE.
+	for _, want := range []string{"Confirm the fault:", "Best next for the effort", "== Summary ==", "Found by measurement: " + w.B.DescribeFault(found)} {
 		if !strings.Contains(tr, want) {
 			t.Errorf("transcript lacks %q", want)
 		}

@@ -317,3 +317,18 @@ func FormatValue(v float64, quantity string) string {
 
 // PointKey is the point's typed key (domain live).
 func (p PointDef) PointKey() point.Key { return point.LiveKey(p.ID, p.Quantity) }
+
+// ProbeAt names where a probe goes on a net, as the technician finds it:
+// a valve socket pin on the net when there is one ("V1 pin 6 (net PL1)"),
+// "chassis" for the ground net, else the net ("net B1").
+func (m *Model) ProbeAt(net string) string {
+	if net == m.D.Ground {
+		return "chassis"
+	}
+	for _, pd := range m.Points() {
+		if pd.Net == net && pd.Valve != "" && pd.Quantity == DCVolts {
+			return fmt.Sprintf("%s pin %d (net %s)", pd.Valve, pd.Pin, net)
+		}
+	}
+	return "net " + net
+}

@@ -391,7 +391,7 @@ func (e *Engine) setup(p *point) string {
 			ref := strings.TrimSuffix(p.ck.ID, " heater")
 			return fmt.Sprintf("amplifier off and unplugged; pull %s (let it cool) and read ohms across its heater pins %s", ref, heaterPins(e.d.ByRef[ref]))
 		}
-		return fmt.Sprintf("amplifier off, unplugged, filter capacitors discharged (check under 10 V); meter on ohms from %s to %s", p.ck.From, p.ck.To)
+		return fmt.Sprintf("amplifier off, unplugged, filter capacitors discharged (check under 10 V); meter on ohms from %s to %s", e.m.ProbeAt(p.ck.From), e.m.ProbeAt(p.ck.To))
 	}
 	if p.quantity == ac.ToneVolts {
 		return e.toneSetup(p)
