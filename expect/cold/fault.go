@@ -32,7 +32,8 @@ const shortOhms = 1e-3
 // centre-tap lead) parts the centre tap from both halves, a single-ended
 // one loses its primary; a power transformer open loses the HT winding,
 // heater-open the heater windings feeding amplifying valves; a fuse open
-// loses its 0 Ω link. The tolerance corners stay exact bounds (Rayleigh's
+// loses its 0 Ω link; a silicon rectifier with a diode shorted joins that
+// diode's ends (1 mΩ). The tolerance corners stay exact bounds (Rayleigh's
 // monotonicity, see resistance): the fault's own element has no tolerance.
 // With corners false only the nominal reading is solved and the corners
 // are the base reading's corners scaled by the new reading (the relative
@@ -256,6 +257,22 @@ func alterNetwork(n *network, m *amp.Model, f faults.Fault) bool {
 			}
 			n.edges = append(n.edges, edge{a: a, b: b, ohms: r, ref: p.Ref})
 			changed = true
+		}
+	case design.Rectifier:
+		// One diode shorted: the first diode's ends joined (a centre-tap
+		// or half-wave rectifier's first anode to its cathode, a bridge's
+		// first AC end to plus). An ohmmeter on a healthy diode is not in
+		// this network (its reading depends on the meter's polarity and
+		// volts), so only the short shows.
+		if f.Mode == faults.Short && p.Rect != nil {
+			a := p.Rect.AC[0]
+			if !p.Rect.Bridge && len(p.Rect.Anodes) > 0 {
+				a = p.Rect.Anodes[0]
+			}
+			if a != "" && p.Rect.Plus != "" {
+				n.edges = append(n.edges, edge{a: a, b: p.Rect.Plus, ohms: shortOhms, ref: p.Ref})
+				changed = true
+			}
 		}
 	case design.OutputTransformer:
 		ot := p.OT

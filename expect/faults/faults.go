@@ -18,7 +18,8 @@
 //	power-transformer   open (the HT winding), heater-open (the heater
 //	                    windings feeding amplifying valves)
 //	rectifier (silicon) open (every diode), half-open (one diode of a
-//	                    full-wave centre-tap rectifier)
+//	                    full-wave centre-tap rectifier), short (one diode
+//	                    shorted: see Apply)
 //	valve               weak, dead, heater-open; a valve rectifier also
 //	                    half-open (one plate of a full-wave rectifier)
 //	fuse                open (a mains fuse: nothing is powered)
@@ -200,9 +201,9 @@ func Modes(m *amp.Model, ref string) []Mode {
 			return nil
 		}
 		if m.HT.Topology == supply.CentreTap {
-			return []Mode{Open, HalfOpen}
+			return []Mode{Open, HalfOpen, Short}
 		}
-		return []Mode{Open}
+		return []Mode{Open, Short}
 	case design.Valve:
 		if p.Valve.Type.Kind == valves.Rectifier {
 			if m.HT == nil || m.HT.Rectifier != p {
@@ -370,6 +371,16 @@ func slotsWithRole(m *amp.Model, ref string, roles ...string) []int {
 // winding keeps its volts). An open mains fuse
 // also opens every heater and kills the bias supplies. A valve
 // rectifier's heater load stays on its winding when its heater opens.
+//
+// A shorted silicon diode (Rectifier short) puts AC across the reservoir
+// and, in a full-wave or bridge rectifier, shorts the HT winding through
+// the diode opposite it every other half-cycle: the mains fuse blows at
+// switch-on (common practice: the usual cause of a fuse that blows with
+// silicon rectifiers). The supply model has no reverse conduction, so the
+// fault is modelled as what the bench then shows: the fuse gone, nothing
+// powered (as an open mains fuse), whether or not the design draws a fuse.
+// Its cold signature is in expect/cold: the diode's anode and cathode
+// joined.
 func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 	if err := Check(m, f); err != nil {
 		return err
@@ -466,6 +477,8 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 			v.RectDead = true
 		case HalfOpen:
 			v.HalfOpen = true
+		case Short:
+			blowFuse(m, v, setSlots)
 		}
 	case design.Valve:
 		if p.Valve.Type.Kind == valves.Rectifier {
@@ -493,17 +506,22 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 			}
 		}
 	case design.Fuse:
-		v.HTVolts = 0
-		for i := range v.Emission {
-			v.Emission[i] = -1
-		}
-		for _, b := range m.D.PartsOfKind(design.BiasSupply) {
-			setSlots(slotsWithRole(m, b.Ref, "volts"), 0)
-		}
+		blowFuse(m, v, setSlots)
 	case design.BiasSupply, design.DCSupply:
 		setSlots(slotsWithRole(m, p.Ref, "volts"), 0)
 	}
 	return nil
+}
+
+// blowFuse puts an open mains fuse into v: no HT, no heaters, no bias.
+func blowFuse(m *amp.Model, v *amp.Values, setSlots func([]int, float64)) {
+	v.HTVolts = 0
+	for i := range v.Emission {
+		v.Emission[i] = -1
+	}
+	for _, b := range m.D.PartsOfKind(design.BiasSupply) {
+		setSlots(slotsWithRole(m, b.Ref, "volts"), 0)
+	}
 }
 
 // htSeries reports whether a part is a series element between HT filter
@@ -620,6 +638,9 @@ func Describe(f Fault, m *amp.Model) string {
 	case design.Rectifier:
 		if f.Mode == HalfOpen {
 			return name + " one diode open (half-wave operation, more ripple)"
+		}
+		if f.Mode == Short {
+			return name + " one diode shorted (shorts the HT winding: the mains fuse blows)"
 		}
 		return name + " open (no B+)"
 	case design.Valve:

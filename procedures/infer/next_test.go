@@ -138,3 +138,23 @@ func TestShortedCapOnB2(t *testing.T) {
 		}
 	}
 }
+
+// TestShortedDiode: B1 reads 95 Ω to chassis cold (half the 190 Ω HT
+// winding: a diode of D1 shorted joins HTA to B1). D1:short must rank in
+// the top 3 and the next reading be cold: powered, a shorted diode
+// shorts the winding and blows the fuse (common practice).
+func TestShortedDiode(t *testing.T) {
+	e := demo(t, "se-6v6-stereo.yaml")
+	r := e.Rank([]Observation{{ColdKey("B1"), 95}}, nil)
+	for i, s := range r.Suspects[:min(4, len(r.Suspects))] {
+		t.Logf("%d %s %.3f", i+1, s.Fault, s.Probability)
+	}
+	if rank := exactRank(r, "D1:short"); rank < 1 || rank > 3 {
+		t.Errorf("D1:short ranks %d, want top 3", rank)
+	}
+	if r.Next == nil || r.Next.Live {
+		t.Errorf("next reading %+v, want a cold one", r.Next)
+	} else {
+		t.Logf("next %s: %s", r.Next.Label, r.Next.Reason)
+	}
+}

@@ -86,6 +86,7 @@ var priorTable = []priorRule{
 	{design.PowerTransformer, "", faults.HeaterOpen, 0.1},
 	{design.Rectifier, "", faults.Open, 0.3},
 	{design.Rectifier, "", faults.HalfOpen, 0.5},
+	{design.Rectifier, "", faults.Short, 1}, // silicon diodes fail short more often than open
 	{design.Fuse, "", faults.Open, 0.8},
 	{design.BiasSupply, "", faults.Dead, 1.2},
 	{design.DCSupply, "", faults.Dead, 0.5},
@@ -129,6 +130,7 @@ var symptomTable = []symptomRule{
 	{"no-lights", "", "", "", 0.02},
 	{"no-lights", design.Fuse, "", faults.Open, 1000},
 	{"no-lights", design.PowerTransformer, "", faults.HeaterOpen, 250},
+	{"no-lights", design.Rectifier, "", faults.Short, 100}, // it blew the fuse
 	{"no-lights", healthyKind, "", "", 0.01},
 	// The valves glow but there is no sound at all: the HT supply or a
 	// stage every signal passes through.
@@ -163,6 +165,7 @@ var symptomTable = []symptomRule{
 	{"hum", healthyKind, "", "", 0.3},
 	// Fuse blows: something shorted or a valve running away.
 	{"fuse-blows", design.Capacitor, roleFilterCap, faults.Short, 8},
+	{"fuse-blows", design.Rectifier, "", faults.Short, 10}, // the usual cause with silicon rectifiers
 	{"fuse-blows", design.Capacitor, "", faults.Short, 3},
 	{"fuse-blows", design.Valve, roleRectValve, faults.Dead, 3},
 	{"fuse-blows", design.BiasSupply, "", faults.Dead, 8},
