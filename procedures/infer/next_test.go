@@ -158,3 +158,23 @@ func TestShortedDiode(t *testing.T) {
 		t.Logf("next %s: %s", r.Next.Label, r.Next.Reason)
 	}
 }
+
+// TestNotModelledIsTrue: every fault listed as not modelled says why, and
+// no fault mode of any demo is one of them (a heater-to-cathode short,
+// an output-transformer winding to chassis, a gassy valve have no mode).
+func TestNotModelledIsTrue(t *testing.T) {
+	for _, u := range NotModelled {
+		if u.Fault == "" || u.Why == "" || strings.Contains(u.Why, "\n") {
+			t.Errorf("%+v: want a fault and one line why", u)
+		}
+	}
+	for _, name := range []string{"se-6v6-stereo.yaml", "pp-el34-fixed.yaml"} {
+		for _, h := range demo(t, name).Hypotheses() {
+			for _, bad := range []string{"heater-cathode", "heater-short", "chassis", "gassy", "gas"} {
+				if strings.HasSuffix(h, ":"+bad) {
+					t.Errorf("%s: %s is modelled but listed as not modelled", name, h)
+				}
+			}
+		}
+	}
+}

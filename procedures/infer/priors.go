@@ -119,11 +119,30 @@ var Symptoms = []string{"no-lights", "no-sound", "no-sound-one-channel", "hum", 
 // healthyKind marks a symptom rule that applies to the healthy hypothesis.
 const healthyKind design.Kind = "(healthy)"
 
+// Unmodelled is one kind of fault the catalogue leaves out, with why.
+type Unmodelled struct {
+	Fault string // in a technician's words
+	Why   string // one line: what the model lacks
+}
+
+// NotModelled lists the faults that happen on the bench but have no
+// hypothesis, so that a ranking can say what it cannot find (common
+// practice: each is a known cause of a bench visit). Symptoms only shift
+// the faults that are modelled.
+var NotModelled = []Unmodelled{
+	{"heater-to-cathode short (a classic cause of hum)",
+		"the heaters are an AC load on their own winding with no DC path to the cathodes; the leak would join the heater circuit to a cathode"},
+	{"output-transformer primary shorted to chassis (winding to core or frame)",
+		"a winding has no insulation element to chassis; B+ or a plate would see a path to ground part-way along the primary"},
+	{"gassy valve (positive grid current, bias drifting up, blue glow inside the glass)",
+		"the valve laws have no ionic grid current; it needs a grid current that grows with plate current and volts"},
+	{"microphonic or noisy valve, dry joint, arcing socket (crackle)",
+		"intermittent and mechanical: nothing a steady DC reading predicts"},
+}
+
 // symptomTable: what each reported symptom makes more or less likely
-// (common practice). Every matching row multiplies. Not modelled: a
-// heater-to-cathode short (a classic cause of hum), microphonic or noisy
-// valves, dry joints and arcing sockets (crackle): the fault list has no
-// such faults, so those symptoms only shift the faults that are modelled.
+// (common practice). Every matching row multiplies. The faults with no
+// hypothesis are listed in NotModelled.
 var symptomTable = []symptomRule{
 	// No lights, no sound: nothing gets mains. The fuse first, then the
 	// heater supply; everything else would leave the valves glowing.
