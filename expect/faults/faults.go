@@ -104,8 +104,8 @@ const (
 	// and ShortedCapLoOhms–ShortedCapHiOhms the spread an ohmmeter finds on
 	// one: an electrolytic that has broken down reads anywhere from a
 	// fraction of an ohm to a few hundred ohms, a punctured film capacitor
-	// much the same (common practice). Powered, 10 Ω across a B+ net
-	// collapses the supply and would blow the mains fuse.
+	// much the same (common practice). Powered it is 0 Ω (see Apply): the
+	// supply collapses and would blow the mains fuse.
 	ShortedCapOhms   = 10.0
 	ShortedCapLoOhms = 0.01
 	ShortedCapHiOhms = 500.0
@@ -358,7 +358,7 @@ func slotsWithRole(m *amp.Model, ref string, roles ...string) []int {
 // fault that does not apply, and leaves v unchanged then.
 //
 // Modelling choices: an open element is an infinite resistance, a short
-// 0 Ω (the solver keeps it at 1 mΩ), a shorted capacitor ShortedCapOhms. A pot's wiper lifted off the track is
+// 0 Ω (the solver keeps it at 1 mΩ). A pot's wiper lifted off the track is
 // both of its halves open: the model has no separate end-to-end track
 // element, so the track's own path between its ends is lost too. An open
 // HT filter capacitor keeps OpenCapFraction of its capacitance in its
@@ -414,7 +414,10 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 		ix := slotsWithRole(m, p.Ref, "leak")
 		switch f.Mode {
 		case Short:
-			setSlots(ix, ShortedCapOhms)
+			// Powered, a broken-down capacitor carries amps and
+			// burns to a hard short: 0 Ω (ShortedCapOhms is its cold
+			// reading).
+			setSlots(ix, 0)
 		case Leaky:
 			r := LeakyFilmOhms
 			if p.Material == "electrolytic" {

@@ -79,9 +79,8 @@ func TestFaultDirections(t *testing.T) {
 		if ia := res[Fault{"D1", Short}].op.Sections[v2].Ia; ia > 1e-6 {
 			t.Errorf("D1 short: V2 Ia %g A, want none", ia)
 		}
-		// A shorted reservoir capacitor (10 Ω) collapses B1: under a
-		// tenth of its nominal volts (Ohm's law: the 190 Ω winding into
-		// 10 Ω).
+		// A shorted reservoir capacitor collapses B1: under a tenth of
+		// its nominal volts (Ohm's law: the 190 Ω winding into a short).
 		nb1, _ := m.NetVolts(&nom, "B1")
 		if b := b1(Fault{"C1", Short}); b > 0.1*nb1 {
 			t.Errorf("C1 short: B1 %.1f V vs nominal %.1f V: want it collapsed", b, nb1)
