@@ -928,6 +928,8 @@ func confirmText(b *BenchModel, fault string) string {
 		return fmt.Sprintf("Unplugged and discharged: lift one end of %s (%s); check its capacitance and its leakage at its working volts (an insulation tester or a leakage tester: a good film or mica part shows hundreds of MΩ). Confirm when checked.", p.Ref, p.Material)
 	case design.Valve:
 		return fmt.Sprintf("Swap %s for a known-good %s (or test it on a valve tester); the fault should follow the valve. Confirm when checked.", p.Ref, p.Valve.Type.Name)
+	case design.Rectifier:
+		return fmt.Sprintf("Unplugged and discharged: lift one end of each diode of %s and check it on the meter's diode range: a good silicon diode reads about 0.5–0.7 V one way and open the other; a shorted one reads near 0 both ways, an open one open both ways. Confirm when checked.", p.Ref)
 	}
 	return fmt.Sprintf("Unplugged and discharged: check %s (%s) out of circuit or by substitution. Confirm when checked.", p.Ref, p.Kind)
 }
@@ -1022,6 +1024,8 @@ func Replacement(b *BenchModel, fault string) string {
 			p.Ref, units.Format(v, units.Farads), p.Material, n, units.Format(need, units.Volts), units.Format(vpk, units.Volts))
 	case design.Valve:
 		return fmt.Sprintf("Fit a known-good %s in %s; for a push-pull output pair, fit a matched pair and re-set the bias.", p.Valve.Type.Name, p.Ref)
+	case design.Rectifier:
+		return fmt.Sprintf("Fit new silicon rectifier diodes in %s (all of them, not only the failed one), rated at least 1 kV reverse and 1 A (common practice: well over the twice-peak winding volts a full-wave diode blocks), then a fuse of the rated value; power up on the lamp limiter first.", p.Ref)
 	}
 	return fmt.Sprintf("Replace %s (%s) with a part of the same value and ratings; find why it failed before powering up again.", p.Ref, p.Kind)
 }

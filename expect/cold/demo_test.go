@@ -5,6 +5,7 @@ import (
 
 	"pinwalk/expect/amp"
 	"pinwalk/expect/design"
+	"pinwalk/expect/faults"
 )
 
 var demos = []string{"se-6v6-stereo", "pp-el34-fixed", "bench-12ax7"}
@@ -38,6 +39,45 @@ func TestDemoTables(t *testing.T) {
 		}
 		for _, x := range ds {
 			t.Logf("%s %s %s %g F peak %.1f bleed %.4g t60 %.3g t10 %.3g %v %s", name, x.Ref, x.Net, x.Farads, x.PeakVolts, x.BleedOhms, x.To60, x.To10, x.NoPath, x.Warning)
+		}
+	}
+}
+
+// TestShortFaultsCold: on the stereo demo a shorted diode of D1 joins its
+// anode (HTA) to B1, so B1 reads the half winding HTA–centre to chassis:
+// 95 Ω ±10 % (half the design's 190 Ω HT DCR at the winding tolerance);
+// a shorted C2 reads within 10 mΩ–500 Ω at B2 (the spread of a
+// broken-down capacitor, common practice), with or without corners.
+func TestShortFaultsCold(t *testing.T) {
+	d, m := loadDemo(t, "se-6v6-stereo")
+	base, err := Checks(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	find := func(cs []Check, from string) Check {
+		for _, c := range cs {
+			if c.From == from && c.Kind == "b+" {
+				return c
+			}
+		}
+		t.Fatalf("no b+ check from %s", from)
+		return Check{}
+	}
+	for _, corners := range []bool{false, true} {
+		out, changed, err := FaultChecks(d, m, base, faults.Fault{Ref: "D1", Mode: faults.Short}, corners)
+		if err != nil || !changed {
+			t.Fatalf("D1 short: changed %v, %v", changed, err)
+		}
+		if c := find(out, "B1"); c.Ohms < 85 || c.Ohms > 105 {
+			t.Errorf("D1 short (corners %v): B1 reads %.1f Ω, want about 95 Ω", corners, c.Ohms)
+		}
+		out, _, err = FaultChecks(d, m, base, faults.Fault{Ref: "C2", Mode: faults.Short}, corners)
+		if err != nil {
+			t.Fatal(err)
+		}
+		c := find(out, "B2")
+		if c.Tol[0] > 0.02 || c.Tol[1] < 400 || c.Tol[1] > 600 || c.Ohms < c.Tol[0] || c.Ohms > c.Tol[1] {
+			t.Errorf("C2 short (corners %v): B2 %.3g Ω in [%.3g, %.3g], want within about 10 mΩ–500 Ω", corners, c.Ohms, c.Tol[0], c.Tol[1])
 		}
 	}
 }

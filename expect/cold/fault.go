@@ -23,7 +23,8 @@ const shortOhms = 1e-3
 //
 // What a fault does cold: a resistor open loses its element, short is
 // 1 mΩ, high multiplies it by faults.HighFactor; a pot with its wiper
-// open loses both halves; a shorted capacitor is 1 mΩ across it, a leaky
+// open loses both halves; a shorted capacitor is faults.ShortedCapOhms
+// across it with corners faults.ShortedCapLoOhms–ShortedCapHiOhms, a leaky
 // one its leakage resistance (faults.LeakyElectrolyticOhms or
 // faults.LeakyFilmOhms); a choke open loses its winding; an output
 // transformer "OT1.a"/"OT1.b" loses one half (both segments of a half
@@ -31,7 +32,8 @@ const shortOhms = 1e-3
 // centre-tap lead) parts the centre tap from both halves, a single-ended
 // one loses its primary; a power transformer open loses the HT winding,
 // heater-open the heater windings feeding amplifying valves; a fuse open
-// loses its 0 Ω link. The tolerance corners stay exact bounds (Rayleigh's
+// loses its 0 Ω link; a silicon rectifier with a diode shorted joins that
+// diode's ends (1 mΩ). The tolerance corners stay exact bounds (Rayleigh's
 // monotonicity, see resistance): the fault's own element has no tolerance.
 // With corners false only the nominal reading is solved and the corners
 // are the base reading's corners scaled by the new reading (the relative
@@ -99,20 +101,53 @@ func FaultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault, c
 			byTo[c.To] = append(byTo[c.To], i)
 		}
 	}
-	nomOhms := make([]float64, len(base))
-	nomOpen := make([]bool, len(base))
-	for _, to := range tos {
-		idx := byTo[to]
-		froms := make([]string, len(idx))
-		for k, i := range idx {
-			froms[k] = base[i].From
+	solve := func(n *network) ([]float64, []bool, error) {
+		ohms := make([]float64, len(base))
+		opens := make([]bool, len(base))
+		for _, to := range tos {
+			idx := byTo[to]
+			froms := make([]string, len(idx))
+			for k, i := range idx {
+				froms[k] = base[i].From
+			}
+			rs, os, err := n.resistances(froms, to, 0)
+			if err != nil {
+				return nil, nil, err
+			}
+			for k, i := range idx {
+				ohms[i], opens[i] = rs[k], os[k]
+			}
 		}
-		rs, opens, err := n.resistances(froms, to, 0)
-		if err != nil {
-			return nil, true, err
-		}
-		for k, i := range idx {
-			nomOhms[i], nomOpen[i] = rs[k], opens[k]
+		return ohms, opens, nil
+	}
+	nomOhms, nomOpen, err := solve(n)
+	if err != nil {
+		return nil, true, err
+	}
+	// The fault's own element with a spread of its own (a shorted
+	// capacitor): without corners, its two ends are solved with the rest
+	// nominal, so the reading's spread holds the fault's.
+	var ownLo, ownHi []float64
+	if !corners {
+		for i, e := range n.edges {
+			if e.ref != f.Ref || e.tol == (design.Tolerance{}) {
+				continue
+			}
+			for _, c := range []int{-1, 1} {
+				n2 := *n
+				n2.edges = append([]edge(nil), n.edges...)
+				n2.edges[i].ohms, n2.edges[i].tol = e.scaled(c), design.Tolerance{}
+				rs, _, err := solve(&n2)
+				if err != nil {
+					return nil, true, err
+				}
+				if c < 0 {
+					ownLo = rs
+				} else {
+					ownHi = rs
+				}
+			}
+			break
 		}
 	}
 	for i, c := range base {
@@ -127,8 +162,11 @@ func FaultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault, c
 		}
 		if !corners {
 			lo, hi := r, r
+			if ownLo != nil {
+				lo, hi = ownLo[i], ownHi[i]
+			}
 			if c.Ohms > 0 && !c.Open {
-				lo, hi = r*c.Tol[0]/c.Ohms, r*c.Tol[1]/c.Ohms
+				lo, hi = lo*c.Tol[0]/c.Ohms, hi*c.Tol[1]/c.Ohms
 			}
 			out[i].Ohms, out[i].Open, out[i].Tol = r, false, [2]float64{lo, hi}
 			continue
@@ -206,7 +244,11 @@ func alterNetwork(n *network, m *amp.Model, f faults.Fault) bool {
 		a, b := p.Terminals[0].Net, p.Terminals[1].Net
 		switch f.Mode {
 		case faults.Short:
-			n.edges = append(n.edges, edge{a: a, b: b, ohms: shortOhms, ref: p.Ref})
+			// A shorted capacitor is not a clean 0 Ω: its tolerance
+			// corners span what an ohmmeter finds on one.
+			r := faults.ShortedCapOhms
+			n.edges = append(n.edges, edge{a: a, b: b, ohms: r, ref: p.Ref,
+				tol: design.Tolerance{Lo: faults.ShortedCapLoOhms/r - 1, Hi: faults.ShortedCapHiOhms/r - 1}})
 			changed = true
 		case faults.Leaky:
 			r := faults.LeakyFilmOhms
@@ -215,6 +257,22 @@ func alterNetwork(n *network, m *amp.Model, f faults.Fault) bool {
 			}
 			n.edges = append(n.edges, edge{a: a, b: b, ohms: r, ref: p.Ref})
 			changed = true
+		}
+	case design.Rectifier:
+		// One diode shorted: the first diode's ends joined (a centre-tap
+		// or half-wave rectifier's first anode to its cathode, a bridge's
+		// first AC end to plus). An ohmmeter on a healthy diode is not in
+		// this network (its reading depends on the meter's polarity and
+		// volts), so only the short shows.
+		if f.Mode == faults.Short && p.Rect != nil {
+			a := p.Rect.AC[0]
+			if !p.Rect.Bridge && len(p.Rect.Anodes) > 0 {
+				a = p.Rect.Anodes[0]
+			}
+			if a != "" && p.Rect.Plus != "" {
+				n.edges = append(n.edges, edge{a: a, b: p.Rect.Plus, ohms: shortOhms, ref: p.Ref})
+				changed = true
+			}
 		}
 	case design.OutputTransformer:
 		ot := p.OT

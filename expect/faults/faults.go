@@ -18,7 +18,8 @@
 //	power-transformer   open (the HT winding), heater-open (the heater
 //	                    windings feeding amplifying valves)
 //	rectifier (silicon) open (every diode), half-open (one diode of a
-//	                    full-wave centre-tap rectifier)
+//	                    full-wave centre-tap rectifier), short (one diode
+//	                    shorted: see Apply)
 //	valve               weak, dead, heater-open; a valve rectifier also
 //	                    half-open (one plate of a full-wave rectifier)
 //	fuse                open (a mains fuse: nothing is powered)
@@ -99,6 +100,15 @@ const (
 	// bridge.
 	SeriesOpenOhms  = 1e11
 	SeriesShortOhms = 1e-2
+	// ShortedCapOhms is what a shorted capacitor leaves across its ends,
+	// and ShortedCapLoOhms–ShortedCapHiOhms the spread an ohmmeter finds on
+	// one: an electrolytic that has broken down reads anywhere from a
+	// fraction of an ohm to a few hundred ohms, a punctured film capacitor
+	// much the same (common practice). Powered it is 0 Ω (see Apply): the
+	// supply collapses and would blow the mains fuse.
+	ShortedCapOhms   = 10.0
+	ShortedCapLoOhms = 0.01
+	ShortedCapHiOhms = 500.0
 )
 
 // Parse reads "REF:mode" (e.g. "R7:open", "OT1.a:open"). Spaces around
@@ -191,9 +201,9 @@ func Modes(m *amp.Model, ref string) []Mode {
 			return nil
 		}
 		if m.HT.Topology == supply.CentreTap {
-			return []Mode{Open, HalfOpen}
+			return []Mode{Open, HalfOpen, Short}
 		}
-		return []Mode{Open}
+		return []Mode{Open, Short}
 	case design.Valve:
 		if p.Valve.Type.Kind == valves.Rectifier {
 			if m.HT == nil || m.HT.Rectifier != p {
@@ -361,6 +371,16 @@ func slotsWithRole(m *amp.Model, ref string, roles ...string) []int {
 // winding keeps its volts). An open mains fuse
 // also opens every heater and kills the bias supplies. A valve
 // rectifier's heater load stays on its winding when its heater opens.
+//
+// A shorted silicon diode (Rectifier short) puts AC across the reservoir
+// and, in a full-wave or bridge rectifier, shorts the HT winding through
+// the diode opposite it every other half-cycle: the mains fuse blows at
+// switch-on (common practice: the usual cause of a fuse that blows with
+// silicon rectifiers). The supply model has no reverse conduction, so the
+// fault is modelled as what the bench then shows: the fuse gone, nothing
+// powered (as an open mains fuse), whether or not the design draws a fuse.
+// Its cold signature is in expect/cold: the diode's anode and cathode
+// joined.
 func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 	if err := Check(m, f); err != nil {
 		return err
@@ -394,6 +414,9 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 		ix := slotsWithRole(m, p.Ref, "leak")
 		switch f.Mode {
 		case Short:
+			// Powered, a broken-down capacitor carries amps and
+			// burns to a hard short: 0 Ω (ShortedCapOhms is its cold
+			// reading).
 			setSlots(ix, 0)
 		case Leaky:
 			r := LeakyFilmOhms
@@ -457,6 +480,8 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 			v.RectDead = true
 		case HalfOpen:
 			v.HalfOpen = true
+		case Short:
+			blowFuse(m, v, setSlots)
 		}
 	case design.Valve:
 		if p.Valve.Type.Kind == valves.Rectifier {
@@ -484,17 +509,22 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 			}
 		}
 	case design.Fuse:
-		v.HTVolts = 0
-		for i := range v.Emission {
-			v.Emission[i] = -1
-		}
-		for _, b := range m.D.PartsOfKind(design.BiasSupply) {
-			setSlots(slotsWithRole(m, b.Ref, "volts"), 0)
-		}
+		blowFuse(m, v, setSlots)
 	case design.BiasSupply, design.DCSupply:
 		setSlots(slotsWithRole(m, p.Ref, "volts"), 0)
 	}
 	return nil
+}
+
+// blowFuse puts an open mains fuse into v: no HT, no heaters, no bias.
+func blowFuse(m *amp.Model, v *amp.Values, setSlots func([]int, float64)) {
+	v.HTVolts = 0
+	for i := range v.Emission {
+		v.Emission[i] = -1
+	}
+	for _, b := range m.D.PartsOfKind(design.BiasSupply) {
+		setSlots(slotsWithRole(m, b.Ref, "volts"), 0)
+	}
 }
 
 // htSeries reports whether a part is a series element between HT filter
@@ -611,6 +641,9 @@ func Describe(f Fault, m *amp.Model) string {
 	case design.Rectifier:
 		if f.Mode == HalfOpen {
 			return name + " one diode open (half-wave operation, more ripple)"
+		}
+		if f.Mode == Short {
+			return name + " one diode shorted (shorts the HT winding: the mains fuse blows)"
 		}
 		return name + " open (no B+)"
 	case design.Valve:

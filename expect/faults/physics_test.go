@@ -71,6 +71,20 @@ func TestFaultDirections(t *testing.T) {
 		if rr := res[Fault{"D1", HalfOpen}].op.Supply.Nets[0].RippleRms; rr < 1.5*nom.Supply.Nets[0].RippleRms {
 			t.Errorf("D1 half-open: ripple %.2f V vs nominal %.2f V", rr, nom.Supply.Nets[0].RippleRms)
 		}
+		// A shorted diode blows the mains fuse at switch-on (common
+		// practice), modelled as nothing powered: no B+, no heaters.
+		if b := b1(Fault{"D1", Short}); b > 0.5 {
+			t.Errorf("D1 short: B1 %.2f V, want 0 V (the fuse blown)", b)
+		}
+		if ia := res[Fault{"D1", Short}].op.Sections[v2].Ia; ia > 1e-6 {
+			t.Errorf("D1 short: V2 Ia %g A, want none", ia)
+		}
+		// A shorted reservoir capacitor collapses B1: under a tenth of
+		// its nominal volts (Ohm's law: the 190 Ω winding into a short).
+		nb1, _ := m.NetVolts(&nom, "B1")
+		if b := b1(Fault{"C1", Short}); b > 0.1*nb1 {
+			t.Errorf("C1 short: B1 %.1f V vs nominal %.1f V: want it collapsed", b, nb1)
+		}
 	})
 	t.Run("pp-el34-fixed", func(t *testing.T) {
 		m := load(t, "pp-el34-fixed")

@@ -725,9 +725,18 @@ func (e *Engine) coldAll(base []cold.Check) error {
 // short).
 const nearShortOhms = 1e3
 
-// markNearShorts sets each hypothesis's nearShort.
+// markNearShorts sets each hypothesis's nearShort. A silicon rectifier
+// with a diode shorted is one whatever the cold readings show (a bridge's
+// shorted diode leaves B+ to chassis high): powered, it shorts the HT
+// winding.
 func (e *Engine) markNearShorts() {
 	for _, h := range e.hyps[1:] {
+		if f := h.fault; f != nil && f.Mode == faults.Short {
+			if p := partOf(e.d, f.Ref); p != nil && p.Kind == design.Rectifier {
+				h.nearShort = true
+				continue
+			}
+		}
 		for j, c := range h.cold {
 			if p := &e.points[e.nDC+j]; p.ck.Kind == "b+" && !c.open && c.hi < nearShortOhms {
 				h.nearShort = true

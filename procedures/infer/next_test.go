@@ -95,3 +95,86 @@ func TestDeadAmpPlugFirst(t *testing.T) {
 		t.Logf("%s: first %s (effort %g): %s", name, r.Next.Label, r.Next.Cost, r.Next.Reason)
 	}
 }
+
+// TestShortedCapOnB2: B2 reads 220 Ω to chassis, cold (a smoothing
+// capacitor broken down: an old electrolytic that has shorted reads tens
+// to hundreds of ohms, not zero, common practice), first alone, then with
+// every cold reading the short cannot reach (heater, winding, grid and
+// cathode returns) taken from a healthy amplifier; the B+ chain's other
+// nets are left unread, since a short on B2 pulls all of them down. The
+// capacitor on B2 (C2) must rank in the top 3, healthy not first, and the
+// next reading must be cold: a technician does not power up into a
+// near-short.
+func TestShortedCapOnB2(t *testing.T) {
+	e := demo(t, "se-6v6-stereo.yaml")
+	sim, err := e.Simulate(Healthy, 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c2 := e.hyps[e.byName["C2:short"]]
+	b2 := []Observation{{ColdKey("B2"), 220}}
+	all := append([]Observation(nil), b2...)
+	for k, p := range e.points {
+		if p.cold && p.key != ColdKey("B2") && c2.cold[k-e.nDC] == e.hyps[0].cold[k-e.nDC] {
+			all = append(all, Observation{p.key, sim[p.key]})
+		}
+	}
+	for _, obs := range [][]Observation{b2, all} {
+		r := e.Rank(obs, nil)
+		rank := exactRank(r, "C2:short")
+		for i, s := range r.Suspects[:min(4, len(r.Suspects))] {
+			t.Logf("%d readings: %d %s %.3f", len(obs), i+1, s.Fault, s.Probability)
+		}
+		if rank < 1 || rank > 3 {
+			t.Errorf("%d readings: C2:short ranks %d, want top 3", len(obs), rank)
+		}
+		if r.Suspects[0].Fault == Healthy {
+			t.Errorf("%d readings: healthy ranks first", len(obs))
+		}
+		if r.Next == nil || r.Next.Live {
+			t.Errorf("%d readings: next reading %+v, want a cold one", len(obs), r.Next)
+		} else {
+			t.Logf("%d readings: next %s: %s", len(obs), r.Next.Label, r.Next.Reason)
+		}
+	}
+}
+
+// TestShortedDiode: B1 reads 95 Ω to chassis cold (half the 190 Ω HT
+// winding: a diode of D1 shorted joins HTA to B1). D1:short must rank in
+// the top 3 and the next reading be cold: powered, a shorted diode
+// shorts the winding and blows the fuse (common practice).
+func TestShortedDiode(t *testing.T) {
+	e := demo(t, "se-6v6-stereo.yaml")
+	r := e.Rank([]Observation{{ColdKey("B1"), 95}}, nil)
+	for i, s := range r.Suspects[:min(4, len(r.Suspects))] {
+		t.Logf("%d %s %.3f", i+1, s.Fault, s.Probability)
+	}
+	if rank := exactRank(r, "D1:short"); rank < 1 || rank > 3 {
+		t.Errorf("D1:short ranks %d, want top 3", rank)
+	}
+	if r.Next == nil || r.Next.Live {
+		t.Errorf("next reading %+v, want a cold one", r.Next)
+	} else {
+		t.Logf("next %s: %s", r.Next.Label, r.Next.Reason)
+	}
+}
+
+// TestNotModelledIsTrue: every fault listed as not modelled says why, and
+// no fault mode of any demo is one of them (a heater-to-cathode short,
+// an output-transformer winding to chassis, a gassy valve have no mode).
+func TestNotModelledIsTrue(t *testing.T) {
+	for _, u := range NotModelled {
+		if u.Fault == "" || u.Why == "" || strings.Contains(u.Why, "\n") {
+			t.Errorf("%+v: want a fault and one line why", u)
+		}
+	}
+	for _, name := range []string{"se-6v6-stereo.yaml", "pp-el34-fixed.yaml"} {
+		for _, h := range demo(t, name).Hypotheses() {
+			for _, bad := range []string{"heater-cathode", "heater-short", "chassis", "gassy", "gas"} {
+				if strings.HasSuffix(h, ":"+bad) {
+					t.Errorf("%s: %s is modelled but listed as not modelled", name, h)
+				}
+			}
+		}
+	}
+}
