@@ -302,6 +302,22 @@ type jsonDiagnosis struct {
 	Next       *jsonProbe    `json:"next"`
 	Unsolved   []string      `json:"unsolved,omitempty"`
 	ACMeter    string        `json:"ac_meter,omitempty"`
+	// NotModelled: faults that happen on the bench but that the ranking
+	// cannot see, each with why; listed so that none is silently absent.
+	NotModelled []jsonUnmodelled `json:"not_modelled"`
+}
+
+type jsonUnmodelled struct {
+	Fault string `json:"fault"`
+	Why   string `json:"why"`
+}
+
+func notModelledJSON() []jsonUnmodelled {
+	var out []jsonUnmodelled
+	for _, u := range infer.NotModelled {
+		out = append(out, jsonUnmodelled{u.Fault, u.Why})
+	}
+	return out
 }
 
 func toJSONSuspect(s infer.Suspect) jsonSuspect {
@@ -448,7 +464,7 @@ that would narrow them down most for the effort.`)
 	}
 	rk := e.Rank(obs, nil)
 	if *asJSON {
-		out := jsonDiagnosis{Design: d.File, Readings: len(obs), Symptoms: append([]string{}, symptoms...), Groups: rk.Groups,
+		out := jsonDiagnosis{NotModelled: notModelledJSON(), Design: d.File, Readings: len(obs), Symptoms: append([]string{}, symptoms...), Groups: rk.Groups,
 			GroupNotes: append([]string{}, rk.GroupNotes...), Fits: rk.Fits, FitNote: rk.FitNote, Unsolved: rk.Unsolved, ACMeter: acMeterNote(acm, tone)}
 		for _, s := range rk.Suspects {
 			out.Suspects = append(out.Suspects, toJSONSuspect(s))
@@ -526,5 +542,10 @@ func printDiagnosis(w io.Writer, d *design.Design, e *infer.Engine, rk *infer.Ra
 		}
 	} else {
 		fmt.Fprintln(w, "No further reading left to suggest.")
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintln(w, "Not in this ranking (faults pinwalk does not model; check them by other means):")
+	for _, u := range infer.NotModelled {
+		fmt.Fprintf(w, "  - %s: %s\n", u.Fault, u.Why)
 	}
 }

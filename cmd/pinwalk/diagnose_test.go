@@ -43,3 +43,22 @@ func TestDiagnoseCLI(t *testing.T) {
 		t.Errorf("unknown id: exit %d, stderr %q", code, errOut)
 	}
 }
+
+// The faults no reading can rank are listed with why, in the text and in
+// the JSON (not_modelled), so none is silently absent.
+func TestDiagnoseListsNotModelled(t *testing.T) {
+	dir := t.TempDir()
+	rd := filepath.Join(dir, "r.yaml")
+	os.WriteFile(rd, []byte("B1: 300V\n"), 0o644)
+	code, out, errOut := runCLI("diagnose", "--samples", "30", "../../testdata/designs/se-6v6-stereo.yaml", "--readings", rd)
+	if code != exitOK || !strings.Contains(out, "Not in this ranking") || !strings.Contains(out, "heater-to-cathode short") {
+		t.Errorf("exit %d, text lacks the not-modelled list:\n%s\n%s", code, out, errOut)
+	}
+	code, out, _ = runCLI("diagnose", "--json", "--samples", "30", "../../testdata/designs/se-6v6-stereo.yaml", "--readings", rd)
+	var doc struct {
+		NotModelled []struct{ Fault, Why string } `json:"not_modelled"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); code != exitOK || err != nil || len(doc.NotModelled) == 0 || doc.NotModelled[0].Why == "" {
+		t.Errorf("exit %d, JSON not_modelled %+v (%v)", code, doc.NotModelled, err)
+	}
+}

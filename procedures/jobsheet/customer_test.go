@@ -294,3 +294,30 @@ func TestCustomerSheetWholeJob(t *testing.T) {
 		t.Errorf("internal keys on the customer sheet: %q", m)
 	}
 }
+
+// The bench sheet of a fault-finding job lists the faults the ranking
+// cannot see (each with why), so none is silently absent; a power figure
+// with no load given does not print "0 Ω".
+func TestBenchSheetListsNotModelled(t *testing.T) {
+	s, err := procedures.LoadSession("../../testdata/sessions/se-6v6-r25-repair.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	sh, err := Build(s, Options{Design: loadDesign(t, "../../testdata/designs/se-6v6-stereo.yaml")})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var b bytes.Buffer
+	if err := sh.Markdown(&b); err != nil {
+		t.Fatal(err)
+	}
+	md := b.String()
+	for _, want := range []string{"Not in the ranking", "heater-to-cathode short", "gassy valve"} {
+		if !strings.Contains(md, want) {
+			t.Errorf("bench sheet lacks %q", want)
+		}
+	}
+	if strings.Contains(md, "into 0\u00a0Ω") || strings.Contains(md, "into 0 Ω") {
+		t.Error("bench sheet prints a 0 Ω dummy load")
+	}
+}

@@ -5,6 +5,7 @@ import (
 	"strings"
 
 	"pinwalk/procedures"
+	"pinwalk/procedures/infer"
 )
 
 // The sheet is first laid out as a small document (sections of headings,
@@ -301,6 +302,15 @@ func (sh *Sheet) document() *document {
 		}
 		fd.table(t)
 	}
+	if sh.Ranked || sh.Mode == procedures.FaultFind || sh.Mode == procedures.Practise {
+		// None of these is silently absent from a ranking that cannot see it.
+		fd.heading("Not in the ranking (not modelled: check by other means)")
+		var items []string
+		for _, u := range infer.NotModelled {
+			items = append(items, u.Fault+": "+u.Why)
+		}
+		fd.list(items)
+	}
 	fd.heading("Outcome")
 	fd.table(&table{Head: []string{"Item", "Value"}, Rows: [][]string{
 		{"Confirmed fault", orDash(sh.Found)},
@@ -316,7 +326,7 @@ func (sh *Sheet) document() *document {
 		eb, ins := judgeEarth(j.After.EarthBond), judgeInsulation(j.After.Insulation)
 		rows = append(rows, []string{"Earth bond", eb.Result + ": " + eb.Verdict}, []string{"Insulation resistance", ins.Result + ": " + ins.Verdict})
 		for _, p := range j.After.PowerOut {
-			rows = append(rows, []string{"Power out, " + orDash(p.Channel), fmtVal(p.Watts, "W") + " into " + fmtVal(p.LoadOhms, "Ω") + " " + p.Note})
+			rows = append(rows, []string{"Power out, " + orDash(p.Channel), strings.TrimSpace(fmtVal(p.Watts, "W") + " into " + loadWords(p.LoadOhms) + " " + p.Note)})
 		}
 		if j.After.Soak != nil {
 			rows = append(rows, []string{"Soak", strings.Join(nonEmpty(durationWords(j.After.Soak.Duration), j.After.Soak.Note), ": ")})
