@@ -215,10 +215,6 @@ func (b *BenchModel) dissipation(sec int, ik, vk float64, readings []Reading) (p
 	return math.Max(0, va-vk) * ik * share, vsrc
 }
 
-func (b *BenchModel) overDissipation(sec int, pa float64, from string) (judgement, bool) {
-	return b.overDissipationVia(sec, pa, from, false)
-}
-
 // overDissipationVia: viaCathode when the current is inferred from the
 // cathode volts across the cathode resistor (Ohm's law). Those volts are
 // also what an open cathode resistor gives with no current at all (the
@@ -259,7 +255,7 @@ func (b *BenchModel) judgeBias(k point.Key, v float64, readings []Reading) (judg
 			ik = v / bs.SenseOhms
 		}
 		pa, src := b.dissipation(bs.Section, ik, v*boolF(k.Quantity == point.DCVolts), readings)
-		return b.overDissipation(bs.Section, pa, fmt.Sprintf("from %s through %s and %s", FormatValue(v, k.Unit()), senseName(bs), src))
+		return b.overDissipationVia(bs.Section, pa, fmt.Sprintf("from %s through %s and %s", FormatValue(v, k.Unit()), senseName(bs), src), false)
 	}
 	return judgement{}, false
 }

@@ -21,17 +21,7 @@ import (
 // (minimising every new input of a design-sized seed takes seconds each:
 // with the default the fuzzer spends most of its time there)
 func FuzzLoad(f *testing.F) {
-	for _, glob := range []string{"../../testdata/designs/*.yaml", "../../testdata/bad/*.yaml"} {
-		files, _ := filepath.Glob(glob)
-		for _, p := range files {
-			if data, err := os.ReadFile(p); err == nil {
-				f.Add(data)
-			}
-		}
-	}
-	for _, t := range Templates() {
-		f.Add(t.Text)
-	}
+	addDesignSeeds(f)
 	f.Add([]byte("pinwalk: 1\nvalve-files: [side.yaml]\nparts: {}\n"))
 	f.Add([]byte("pinwalk: 1\nvalve-files: [missing.yaml, side.yaml, side.yaml]\n"))
 	f.Add([]byte("{[]}"))

@@ -14,17 +14,7 @@ import (
 // name), and a design returned without errors must have every
 // part's terminals on known nets.
 func FuzzParse(f *testing.F) {
-	for _, glob := range []string{"../../testdata/designs/*.yaml", "../../testdata/bad/*.yaml"} {
-		files, _ := filepath.Glob(glob)
-		for _, p := range files {
-			if data, err := os.ReadFile(p); err == nil {
-				f.Add(data)
-			}
-		}
-	}
-	for _, t := range Templates() {
-		f.Add(t.Text)
-	}
+	addDesignSeeds(f)
 	f.Add([]byte("pinwalk: 1\nparts: {R1: {resistor: 4K7?, between: [A, A]}}\n"))
 	f.Add([]byte("{[]}"))                          // a key that is a list
 	f.Add([]byte("pinwalk: 1\n---\npinwalk: 1\n")) // two documents
@@ -54,4 +44,20 @@ func FuzzParse(f *testing.F) {
 			}
 		}
 	})
+}
+
+// addDesignSeeds adds the seed corpus both design fuzz targets start
+// from: the demo designs, the malformed catalogue and the templates.
+func addDesignSeeds(f *testing.F) {
+	for _, glob := range []string{"../../testdata/designs/*.yaml", "../../testdata/bad/*.yaml"} {
+		files, _ := filepath.Glob(glob)
+		for _, p := range files {
+			if data, err := os.ReadFile(p); err == nil {
+				f.Add(data)
+			}
+		}
+	}
+	for _, t := range Templates() {
+		f.Add(t.Text)
+	}
 }
