@@ -41,7 +41,7 @@ const openOhms = 20e6
 
 // BenchOptions configure a BenchModel.
 type BenchOptions struct {
-	Samples int    // Monte Carlo samples per variac setting (0: 300)
+	Samples int    // Monte Carlo samples per variac setting (0: bands.DefaultSamples)
 	Seed    uint64 // the same seed gives the same bands
 	Workers int
 	Meter   bands.Meter // zero: bands.DefaultMeter
@@ -103,7 +103,7 @@ func (b *BenchModel) DescribeFault(name string) string {
 // at once; the live bands are computed when first asked for.
 func NewBenchModel(d *design.Design, opt BenchOptions) (*BenchModel, error) {
 	if opt.Samples <= 0 {
-		opt.Samples = 300
+		opt.Samples = bands.DefaultSamples
 	}
 	m, err := amp.Build(d)
 	if err != nil {

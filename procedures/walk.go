@@ -42,7 +42,7 @@ type Loop interface {
 
 // WalkOptions configure Open.
 type WalkOptions struct {
-	Samples int    // bands samples per variac setting (0: 300)
+	Samples int    // bands samples per variac setting (0: bands.DefaultSamples)
 	Seed    uint64 // bands seed; a practice session's fault is picked by it
 	// AcceptChanged continues a session whose design file changed since
 	// it started.

@@ -12,7 +12,7 @@ import (
 // plate to V2's grid) open: the DC volts are those of a healthy amp, but
 // the tone stops at V1A's plate. Readings taken with a cheap
 // average-responding meter specified to 400 Hz, which reads the 1 kHz
-// tone about 8 % low (the model's single pole, see infer.ACMeter): the
+// tone about 6 % low (the model's single pole, see infer.ACMeter): the
 // generator's 100 mV reads 92 mV, V1A's plate (gain about 13 with the
 // 33 kΩ load alone) 1.19 V, V2's grid and plate and the speaker next to
 // nothing.
@@ -38,7 +38,7 @@ func TestDiagnoseTone(t *testing.T) {
 	if len(doc.Suspects) == 0 || doc.Suspects[0].Part != "C11" || doc.Suspects[0].Mode != "open" {
 		t.Fatalf("suspects %+v: want C11 open first", doc.Suspects)
 	}
-	if !strings.Contains(doc.ACMeter, "average-responding") || !strings.Contains(doc.ACMeter, "8 % low") {
+	if !strings.Contains(doc.ACMeter, "average-responding") || !strings.Contains(doc.ACMeter, "6 % low") {
 		t.Errorf("ac_meter note %q: want the response and the bandwidth correction", doc.ACMeter)
 	}
 	// A tone reading without --tone is an error naming the line.

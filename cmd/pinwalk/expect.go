@@ -151,7 +151,7 @@ func runExpect(args []string, stdout, stderr io.Writer) int {
 	accSpec := fs.String("meter-accuracy", "", "the digital meter's accuracy, % of reading + digits: 0.5%+2 for every function, or per function dcv=0.5%+2,acv=1%+3,dca=1%+3,aca=1.5%+3,ohm=0.8%+3 (default: those)")
 	counts := fs.Int("meter-counts", 6000, "the digital meter's display counts (2000, 4000, 6000 …): sets its ranges and resolution")
 	cold := fs.Bool("cold", false, "cold checks instead: resistances to measure with the amplifier off and discharged")
-	samples := fs.Int("samples", 1000, "Monte Carlo samples for the tolerance bands (0: nominal only)")
+	samples := fs.Int("samples", bands.DefaultSamples, "Monte Carlo samples for the tolerance bands (0: nominal only)")
 	seed := fs.Uint64("seed", 1, "random seed of the samples (the same seed gives the same bands)")
 	var flts faultFlags
 	tone := fs.String("tone", "", "also the AC level of a test tone at every grid, plate and cathode and the speaker, FREQ:LEVEL at the input grid (e.g. 1kHz:100mV)")

@@ -13,6 +13,7 @@ import (
 
 	"github.com/charmbracelet/x/term"
 
+	"pinwalk/expect/bands"
 	"pinwalk/expect/units"
 	"pinwalk/procedures"
 	"pinwalk/tui"
@@ -32,7 +33,7 @@ func runWalk(args []string, stdout, stderr io.Writer) int {
 	tone := fs.String("tone", "", "signal mode: the test tone FREQ:LEVEL at the input grid (default 1kHz:100mV)")
 	sessPath := fs.String("session", "", "session file: resumed when it exists, created otherwise (default: DESIGN-MODE-DATE.pinwalk.yaml in the current directory, e.g. se-6v6-stereo-bringup-2025-03-01.pinwalk.yaml; pinwalk with no arguments resumes "+demoSessionHint()+")")
 	seed := fs.Uint64("seed", 1, "seed of the bands and of a practice session's hidden fault")
-	samples := fs.Int("samples", 0, "Monte Carlo samples per variac setting (default 300)")
+	samples := fs.Int("samples", bands.DefaultSamples, "Monte Carlo samples per variac setting")
 	accept := fs.Bool("accept-changed-design", false, "continue a session whose design file changed since it started")
 	// Job intake, for scripts (the walk asks for the same on screen).
 	customer := fs.String("customer", "", "job intake: the customer's name")

@@ -271,7 +271,13 @@ var (
 	ModelHeaterV = ModelError{"heater volts", 0.03, 20e-3, "winding regulation (common practice)"}
 	ModelHeaterA = ModelError{"heater current", 0.05, 1e-3, "constant-resistance heater (common practice)"}
 	ModelRipple  = ModelError{"ripple", 0.15, 0.5e-3, "simulated ripple against the sawtooth closed form 15 %"}
-	ModelOhms    = ModelError{"ohms cold", 0.01, 0.1, "probe contact after nulling the leads (common practice)"}
+	// ModelTone: the small-signal model leaves out interelectrode and
+	// Miller capacitances, output-transformer leakage and the valves'
+	// spread of mu beyond their Koren fit (our choice: 5 % of the level
+	// as one σ, so 10 % at 95 %, plus 2 mV of hum and noise on any tone
+	// reading).
+	ModelTone = ModelError{"tone level", 0.10, 2e-3, "small-signal model, no stray capacitances (our choice)"}
+	ModelOhms = ModelError{"ohms cold", 0.01, 0.1, "probe contact after nulling the leads (common practice)"}
 )
 
 // ModelErrorOf returns the model-error limit of a point. electrode is the
@@ -348,13 +354,14 @@ func readingBand(quantity string, nominal, lo, hi float64, me ModelError, mt Met
 
 func sq(x float64) float64 { return x * x }
 
-// readingSigma is the standard deviation of a reading x's error against
+// ReadingSigma is the standard deviation of a reading x's error against
 // the model: the model error me (a 95 % limit, σ = limit/1.96) and the
 // meter's error limit on the quantity's function and the range x is read
 // on (uniform, σ = limit/√3, GUM 4.3.7), in quadrature. readingBand adds
 // the same two errors, at 95 %, to the model's spread; Sigma and
-// Set.SigmaOf weigh readings with it.
-func readingSigma(quantity string, x float64, me ModelError, mt Meter) float64 {
+// Set.SigmaOf weigh readings with it, and diagnosis every reading, DC or
+// AC (a tone level with ModelTone).
+func ReadingSigma(quantity string, x float64, me ModelError, mt Meter) float64 {
 	if mt.isZero() {
 		mt = DefaultMeter()
 	}

@@ -29,7 +29,7 @@ const MinESS = 20
 // quadrature. Set.SigmaOf gives the σ of a reading at a point, with the
 // model error of the electrode on its net.
 func Sigma(r Reading, quantity string) float64 {
-	return readingSigma(quantity, r.Value, ModelErrorOf(amp.PointDef{Quantity: quantity}, ""), r.Meter)
+	return ReadingSigma(quantity, r.Value, ModelErrorOf(amp.PointDef{Quantity: quantity}, ""), r.Meter)
 }
 
 // SigmaOf is Sigma for a reading at one of the set's points: the model
@@ -43,7 +43,7 @@ func (s *Set) SigmaOf(r Reading) float64 {
 		return Sigma(r, q)
 	}
 	pd := s.Points[i]
-	return readingSigma(pd.Quantity, r.Value, ModelErrorOf(pd, s.netElectrode[pd.Net]), r.Meter)
+	return ReadingSigma(pd.Quantity, r.Value, ModelErrorOf(pd, s.netElectrode[pd.Net]), r.Meter)
 }
 
 // MisfitAlarmRate is the share of healthy amplifiers on which the "does

@@ -57,25 +57,14 @@ type ACMeter struct {
 	// (ACAccuracyPct), |H(f)| = 1/√(1+(f/fc)²) with
 	// fc = BandwidthHz/√((1−a)⁻² − 1), and take the correction's own size
 	// as its uncertainty (the response beyond the rated range is not
-	// specified). A 400 Hz meter then reads a 1 kHz tone about 8 % low.
+	// specified). A 400 Hz meter then reads a 1 kHz tone about 6 % low.
 	BandwidthHz float64
 }
 
-// AC meter accuracy (common practice: a typical handheld meter on AC
-// volts, ±(1.5 % + 5 digits) on a 4000-count display), and the AC model's
-// own error (our choice: the small-signal model leaves out interelectrode
-// and Miller capacitances, transformer leakage and the valves' spread of
-// mu beyond their Koren fit; 5 % of the level plus 1 mV of hum and noise
-// on any tone reading).
-const (
-	ACAccuracyPct  = 1.5
-	acDigits       = 5
-	acCounts       = 4000
-	toneModelFrac  = 0.05
-	toneModelFloor = 1e-3 // volts
-	rippleFrac     = 0.02 // as bands.Sigma's model error on ripple
-	rippleFloor    = 5e-3 // volts
-)
+// ACAccuracyPct is the AC-volts accuracy the bandwidth pole is set by: the
+// typical handheld meter's (bands.TypicalSpecs, the one figure every AC
+// reading's σ and band also use).
+var ACAccuracyPct = bands.TypicalSpecs[amp.ACVolts].Pct
 
 // SineFormFactor is a sine's rms over its mean absolute value, π/(2√2):
 // the scale an average-responding meter applies to its rectified mean.
@@ -216,22 +205,6 @@ func (m ACMeter) Reading(w Waveform) float64 {
 // Ratio is the meter's reading of the waveform over its true rms.
 func (m ACMeter) Ratio(w Waveform) float64 { return m.Reading(w) / w.RMS() }
 
-// accuracy is the AC meter's error limit on a reading x.
-func acAccuracy(x float64) float64 {
-	res := math.Pow(10, math.Ceil(math.Log10(max(math.Abs(x), 1e-12)/acCounts)))
-	return ACAccuracyPct/100*math.Abs(x) + acDigits*res
-}
-
-// acSigma is a reading's σ: the meter's error limit (as one σ), the
-// model's error and the meter's unspecified response beyond its bandwidth
-// (unc, a fraction of the reading), in quadrature.
-func acSigma(x, frac, floor, unc float64) float64 {
-	acc := acAccuracy(x)
-	model := frac*math.Abs(x) + floor
-	b := unc * math.Abs(x)
-	return math.Sqrt(acc*acc + model*model + b*b)
-}
-
 // IsTone reports whether a key is a test-tone point ("V2.5 tone_volts").
 func IsTone(key string) bool { return strings.HasSuffix(key, " "+ac.ToneVolts) }
 
@@ -344,16 +317,15 @@ func rippleRatios(m *amp.Model, mt ACMeter) []float64 {
 	return out
 }
 
-// sigma is the σ of a reading of x at a point of quantity q: tone points
-// with the AC meter's accuracy, the AC model's error and the meter's
-// bandwidth uncertainty; ripple with the AC meter when one is described;
-// the rest as bands.Sigma with the DC meter.
+// sigma is the σ of a reading of x at a point of quantity q, as every band
+// builds it (bands.ReadingSigma: the model error of the point's kind and
+// the meter's error on the function and range in use): a tone point is an
+// AC-volts reading with the tone model's error (bands.ModelTone) and, in
+// quadrature, the meter's unspecified response beyond its bandwidth.
 func (e *Engine) sigma(q string, x float64) float64 {
-	switch {
-	case q == ac.ToneVolts:
-		return acSigma(x, toneModelFrac, toneModelFloor, e.toneUnc)
-	case q == amp.RippleVolts && e.opt.ACMeter.set():
-		return acSigma(x, rippleFrac, rippleFloor, 0)
+	if q == ac.ToneVolts {
+		s := bands.ReadingSigma(amp.ACVolts, x, bands.ModelTone, e.opt.Meter)
+		return math.Hypot(s, e.toneUnc*x)
 	}
 	return sigmaOf(q, x, e.opt.Meter)
 }
@@ -365,8 +337,8 @@ func (e *Engine) accuracy(q string, x float64) float64 {
 	case q == amp.Ohms:
 		lim, _ := bands.DigitalMeter.ErrorLimit(q, x)
 		return lim
-	case q == ac.ToneVolts, q == amp.RippleVolts && e.opt.ACMeter.set():
-		return acAccuracy(x)
+	case q == ac.ToneVolts:
+		q = amp.ACVolts
 	}
 	lim, _ := e.opt.Meter.ErrorLimit(q, x) // on the quantity's own function and range
 	return lim

@@ -247,7 +247,8 @@ type Engine struct {
 
 	hNom []float64 // the healthy nominal per DC point, as read through the meter
 
-	healthy *bands.Set         // the healthy cloud as solved, for its reading bands
+	healthy *bands.Set         // the healthy cloud as solved (opt.Samples), for the likelihoods
+	shown   *bands.Set         // the healthy amplifier at bands.DefaultSamples: the band every command shows
 	hBand   map[int]bands.Band // HealthyBand by point, filled on first need (under mu)
 
 	mu    sync.Mutex // guards cache, pairs and the upgrade of coarse clouds
@@ -934,6 +935,26 @@ func (e *Engine) HealthyBand(key string) (bands.Band, bool) {
 	return e.healthyBand(k)
 }
 
+// shownSet is the healthy amplifier sampled as expect and the walk sample
+// it (bands.DefaultSamples, the same seed and conditions), so the band a
+// reading is shown against is the same in every command; the likelihood
+// clouds keep opt.Samples (their size is a speed setting, not what the
+// technician reads). It is solved on first need; e.mu must be held.
+func (e *Engine) shownSet() *bands.Set {
+	if e.shown != nil {
+		return e.shown
+	}
+	e.shown = e.healthy
+	if e.opt.Samples != bands.DefaultSamples {
+		o := e.bandsOptions(nil, bands.DefaultSamples, e.opt.Seed, e.opt.Workers)
+		o.Extra = nil
+		if set, err := bands.Run(e.d, o); err == nil {
+			e.shown = set
+		}
+	}
+	return e.shown
+}
+
 // healthyBand is HealthyBand by point index; e.mu must be held.
 func (e *Engine) healthyBand(k int) (bands.Band, bool) {
 	if b, ok := e.hBand[k]; ok {
@@ -947,7 +968,7 @@ func (e *Engine) healthyBand(k int) (bands.Band, bool) {
 			b = bands.FromSpread(amp.Ohms, c.nom, c.lo, c.hi, e.opt.Meter, "tolerance corners of the parts in the path")
 		}
 	case k < e.nDC && e.healthy != nil:
-		if bb, err := e.healthy.Expect(p.key, e.opt.Meter); err == nil {
+		if bb, err := e.shownSet().Expect(p.key, e.opt.Meter); err == nil {
 			b = bb
 		}
 	}
