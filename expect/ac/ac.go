@@ -417,8 +417,54 @@ func findInput(m *amp.Model) string {
 	return ""
 }
 
-// findInputs returns every input grid net, in design order.
+// findInputs returns every input grid net, in design order: a grid net
+// whose only other parts are grid leaks to ground. An amp whose first
+// stage has its grid leak returned elsewhere (a long-tailed pair's input
+// grid returned to the tail, a bootstrapped leak) has none of those; then
+// an input grid is a grid net whose only other parts are resistors to
+// nets that no plate and no capacitor other than one to ground feed (so
+// neither a grid stopper behind a coupling capacitor nor a DC-coupled
+// grid counts).
 func findInputs(m *amp.Model) []string {
+	if out := findInputsBy(m, groundLeaks); len(out) > 0 {
+		return out
+	}
+	return findInputsBy(m, quietReturns)
+}
+
+// groundLeaks accepts a grid net's resistor when it goes to ground.
+func groundLeaks(m *amp.Model, p *design.Part, g string) bool {
+	return otherNet(p, g) == m.D.Ground
+}
+
+// quietReturns accepts a grid net's resistor to ground, or to a net fed by
+// no valve plate and no capacitor other than one to ground.
+func quietReturns(m *amp.Model, p *design.Part, g string) bool {
+	d := m.D
+	o := otherNet(p, g)
+	if o == "" {
+		return false
+	}
+	if o == d.Ground {
+		return true
+	}
+	for _, sec := range m.Sections {
+		if d.ByRef[sec.Ref].Valve.Sections[sec.Section][valves.Plate] == o {
+			return false
+		}
+	}
+	for _, u := range d.Nets[o] {
+		q := d.ByRef[u.Ref]
+		if q == nil || q.Kind == design.Capacitor && otherNet(q, o) != d.Ground {
+			return false
+		}
+	}
+	return true
+}
+
+// findInputsBy returns the grid nets whose only other parts are the
+// valve and resistors that leak accepts, at least one of them.
+func findInputsBy(m *amp.Model, leak func(*amp.Model, *design.Part, string) bool) []string {
 	d := m.D
 	var out []string
 	for _, sec := range m.Sections {
@@ -433,7 +479,7 @@ func findInputs(m *amp.Model) []string {
 			case p == nil:
 				ok = false
 			case p.Kind == design.Valve:
-			case p.Kind == design.Resistor && otherNet(p, g) == d.Ground:
+			case p.Kind == design.Resistor && leak(m, p, g):
 				leaks++
 			default:
 				ok = false
@@ -708,7 +754,10 @@ func (an *Analyzer) Tone(op *amp.OP, v *amp.Values, opt Options, dst []Point) ([
 	if in == "" {
 		in = an.input
 		if in == "" {
-			return nil, fmt.Errorf("ac: %s: no input grid found (a grid net with only a grid leak to ground): name the input net", an.m.D.File)
+			if len(an.m.Sections) == 0 {
+				return nil, fmt.Errorf("ac: %s: no amplifying valve in the design: a test tone has nowhere to go", an.m.D.File)
+			}
+			return nil, fmt.Errorf("ac: %s: no input grid found (a grid net with only grid leaks to ground, or to a net no plate or coupling capacitor feeds): name the input net", an.m.D.File)
 		}
 	}
 	src, err := an.resolve(in)

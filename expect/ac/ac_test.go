@@ -6,6 +6,7 @@ import (
 	"math/rand/v2"
 
 	"pinwalk/expect/amp"
+	"pinwalk/expect/design"
 	"strings"
 	"testing"
 )
@@ -378,6 +379,24 @@ func TestInputAndRippleHz(t *testing.T) {
 		}
 		if _, err := s.an.Tone(s.op, s.v, Options{InputNet: "NOPE"}, nil); err == nil {
 			t.Errorf("%s: unknown input net accepted", c.design)
+		}
+	}
+	// A long-tailed pair as the first stage with its input grid leak
+	// returned to the tail (R10 1M PIG1 to TAIL): the input is that grid,
+	// not PIG2 (C10 to ground: AC ground) nor the output grids (driven
+	// through C11, C12).
+	for _, c := range []struct{ template, input string }{{"pp-fixed", "PIG1"}, {"pp-cathode", ""}} {
+		tp, err := design.TemplateByName(c.template)
+		if err != nil {
+			t.Fatal(err)
+		}
+		s := solveText(t, string(tp.Text))
+		got := s.an.InputNet()
+		if c.input != "" && got != c.input {
+			t.Errorf("%s: input %q, want %q", c.template, got, c.input)
+		}
+		if got == "" {
+			t.Errorf("%s: no input grid found", c.template)
 		}
 	}
 	s := solveText(t, filterDesign)
