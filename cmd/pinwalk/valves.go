@@ -99,7 +99,10 @@ model was fitted to, with the model's figures beside each row. With
 		g := t.Gas
 		fmt.Fprintf(stdout, "gas regulator: strikes at %s, maintains %s, %s to %s\n", units.Format(g.StrikeVolts, units.Volts),
 			units.Format(g.MaintainVolts, units.Volts), units.Format(g.MinAmps, units.Amps), units.Format(g.MaxAmps, units.Amps))
-		fmt.Fprintln(stdout, "not yet modelled in a design")
+		law := valves.GasLawOf(g)
+		fmt.Fprintf(stdout, "model once struck: %s at %s, %s at %s (incremental resistance %s); wire anode and cathode, no heater\n",
+			units.Format(law.Volts(g.MinAmps), units.Volts), units.Format(g.MinAmps, units.Amps),
+			units.Format(law.Volts(g.MaxAmps), units.Volts), units.Format(g.MaxAmps, units.Amps), units.Format(law.R, units.Ohms))
 	case !t.Kind.Modelled():
 		fmt.Fprintf(stdout, "limits: plate %s, %s\nnot yet modelled in a design\n", units.Format(t.Limits.PlateWatts, units.Watts), units.Format(t.Limits.PlateVolts, units.Volts))
 	default:

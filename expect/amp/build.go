@@ -74,6 +74,8 @@ type Model struct {
 	Nominal  []float64 // nominal value per slot
 	Sections []*Section
 	Heaters  []Heater
+	// Regulators are the gas regulator valves (struck) in the network.
+	Regulators []*Regulator
 
 	// The HT supply, when the design has a rectifier.
 	HT         *HTSupply
@@ -245,7 +247,7 @@ func Build(d *design.Design) (*Model, error) {
 		}
 		m.meterSlot[net] = m.addR("meter:"+net, "meter", net, d.Ground, math.Inf(1))
 	}
-	if len(m.Sections) == 0 && ht == nil {
+	if len(m.Sections) == 0 && len(m.Regulators) == 0 && ht == nil {
 		return nil, fmt.Errorf("%s: nothing to solve: no amplifying valves and no HT supply", d.File)
 	}
 	return m, nil
@@ -276,6 +278,10 @@ func (m *Model) addValve(p *design.Part) {
 	if vt.Kind == valves.Rectifier {
 		return // in the supply model
 	}
+	if vt.Kind == valves.Regulator {
+		m.addRegulator(p)
+		return
+	}
 	secs := make([]string, 0, len(vp.Sections))
 	for s := range vp.Sections {
 		secs = append(secs, s)
@@ -304,6 +310,52 @@ func (m *Model) addValve(p *design.Part) {
 		}
 		m.Sections = append(m.Sections, sec)
 	}
+}
+
+// Regulator is a cold-cathode gas regulator in the network, struck: its
+// law (valves.GasLaw) as a resistor slot (role "gas": the incremental
+// resistance, opened when the valve will not strike or is dead) from the
+// anode to an inner node, and the offset-and-knee device from there to
+// the cathode.
+type Regulator struct {
+	Ref     string
+	Type    *valves.Type
+	Law     valves.GasLaw
+	Anode   string // nets
+	Cathode string
+	Slot    int // the "gas" resistance slot
+	dev     *valves.GasDevice
+}
+
+func (m *Model) addRegulator(p *design.Part) {
+	e := p.Valve.Sections[""]
+	law := valves.GasLawOf(p.Valve.Type.Gas)
+	inner := "~" + p.Ref + ".gas"
+	slot := m.addR(p.Ref, "gas", e[valves.Anode], inner, law.R)
+	dev := &valves.GasDevice{A: m.node(inner), K: m.node(e[valves.Cathode]), Offset: law.Offset, Diode: law.Junction}
+	m.ckt.AddDevice(dev)
+	m.Regulators = append(m.Regulators, &Regulator{Ref: p.Ref, Type: p.Valve.Type, Law: law,
+		Anode: e[valves.Anode], Cathode: e[valves.Cathode], Slot: slot, dev: dev})
+}
+
+// regulator returns the regulator of a valve reference, or nil.
+func (m *Model) regulator(ref string) *Regulator {
+	for _, rg := range m.Regulators {
+		if rg.Ref == ref {
+			return rg
+		}
+	}
+	return nil
+}
+
+// RegulatorCurrent returns a regulator's current, anode to cathode.
+func (m *Model) RegulatorCurrent(op *OP, r *Regulator) float64 {
+	for i, x := range m.Regulators {
+		if x == r && i < len(op.Regulators) {
+			return op.Regulators[i]
+		}
+	}
+	return 0
 }
 
 // Name returns "V1A" or "V2" for a section.

@@ -99,7 +99,8 @@ func (m *Model) Points() []PointDef {
 				d := def
 				d.Quantity = DCVolts
 				out = append(out, d)
-				if sec >= 0 && (pin.Electrode == valves.Plate || pin.Electrode == valves.Screen || pin.Electrode == valves.Cathode || pin.Electrode == valves.Grid) {
+				if sec >= 0 && (pin.Electrode == valves.Plate || pin.Electrode == valves.Screen || pin.Electrode == valves.Cathode || pin.Electrode == valves.Grid) ||
+					pin.Electrode == valves.Anode && m.regulator(p.Ref) != nil {
 					d.Quantity = DCAmps
 					out = append(out, d)
 				}
@@ -183,6 +184,11 @@ func (m *Model) rawValue(op *OP, pd PointDef) float64 {
 		v, _ := m.NetVolts(op, pd.Net)
 		return v
 	case DCAmps:
+		if pd.Electrode == valves.Anode {
+			if rg := m.regulator(pd.Valve); rg != nil {
+				return m.RegulatorCurrent(op, rg)
+			}
+		}
 		if pd.Section < 0 || pd.Section >= len(op.Sections) {
 			return 0
 		}

@@ -31,7 +31,9 @@ func (s *Solver) ColdStart(mains float64, op *OP) error {
 // voltage ratings against the highest voltage across them, valve plate and
 // screen dissipation, grid-1 resistance against the datasheet maximum, a
 // control grid positive of its cathode, screen volts over the datasheet
-// maximum, and heater windings and heater volts (±10 %, common practice).
+// maximum, gas regulators (current range, striking volts at switch-on,
+// capacitance across them), and heater windings and heater volts (±10 %,
+// common practice).
 func (m *Model) RatingChecks(op, cold *OP) []Finding {
 	var out []Finding
 	add := func(p *design.Part, sev design.Severity, format string, args ...any) {
@@ -110,6 +112,7 @@ func (m *Model) RatingChecks(op, cold *OP) []Finding {
 		}
 	}
 	m.electrodeChecks(op, add)
+	m.regulatorChecks(op, cold, add)
 	for _, w := range op.Windings {
 		if w.RatedAmps > 0 && w.Amps > w.RatedAmps*1.0001 {
 			add(nil, design.Error, "heater winding %s carries %s (%v), over its %s rating",

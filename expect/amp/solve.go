@@ -51,6 +51,9 @@ type Values struct {
 	RectDead bool
 	// Heater winding volts scale (ratio tolerance).
 	HeaterVolts float64
+	// GasVolts per Model.Regulators: the valve's burning volts above its
+	// type's law (0 nominal; a sample's valve-to-valve spread).
+	GasVolts []float64
 	// CapOpen marks capacitors (by ref) that a fault hypothesis has gone
 	// open. It changes no DC value except through StageC; AC analysis reads
 	// it. nil means none.
@@ -64,6 +67,7 @@ func (m *Model) NominalValues() *Values {
 		v.Koren = append(v.Koren, s.Type.Model)
 		v.Emission = append(v.Emission, 1)
 	}
+	v.GasVolts = make([]float64, len(m.Regulators))
 	if m.HT != nil {
 		v.StageC = make([]float64, len(m.HT.Nets))
 		for i := range v.StageC {
@@ -80,6 +84,7 @@ func (v *Values) Clone() *Values {
 	c.Koren = append([]valves.Koren(nil), v.Koren...)
 	c.Emission = append([]float64(nil), v.Emission...)
 	c.StageC = append([]float64(nil), v.StageC...)
+	c.GasVolts = append([]float64(nil), v.GasVolts...)
 	if v.CapOpen != nil {
 		c.CapOpen = make(map[string]bool, len(v.CapOpen))
 		for k, b := range v.CapOpen {
@@ -145,10 +150,13 @@ type SupplyOP struct {
 type OP struct {
 	V        []float64 // node volts, indexed by Model node
 	Sections []SectionOP
-	Heaters  []HeaterOP
-	Windings []WindingOP
-	Supply   *SupplyOP
-	Newton   int // Newton iterations, all network solves together
+	// Regulators: each gas regulator's current, anode to cathode, per
+	// Model.Regulators.
+	Regulators []float64
+	Heaters    []HeaterOP
+	Windings   []WindingOP
+	Supply     *SupplyOP
+	Newton     int // Newton iterations, all network solves together
 }
 
 // NetVolts returns the DC volts of a net and whether it is in the network.
@@ -410,6 +418,17 @@ func (s *Solver) applyValues(c Conditions, v *Values, heaterVolts map[string]flo
 			m.ckt.SetSource(sl.handle, x)
 		}
 	}
+	for i, rg := range m.Regulators {
+		if c.ColdValves {
+			// At switch-on the regulator is dark until its anode reaches
+			// the striking volts: the cold-start solve shows what it sees.
+			m.ckt.SetResistance(m.Slots[rg.Slot].handle, math.Inf(1))
+		}
+		rg.dev.Offset = rg.Law.Offset
+		if i < len(v.GasVolts) {
+			rg.dev.Offset += v.GasVolts[i]
+		}
+	}
 	lim, frac := s.emissionLimits(c, v, heaterVolts)
 	for i, sec := range m.Sections {
 		if sec.tri != nil {
@@ -538,7 +557,7 @@ func (s *Solver) stageLoads(p *supply.Params, sp *SupplyOP) {
 // fixed-point iteration on the filter nets' loads.
 func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	m := s.m
-	*op = OP{Sections: op.Sections[:0], Heaters: op.Heaters[:0], Windings: op.Windings[:0]}
+	*op = OP{Sections: op.Sections[:0], Regulators: op.Regulators[:0], Heaters: op.Heaters[:0], Windings: op.Windings[:0]}
 	hv := s.heaters(c, v, op)
 	frac := s.applyValues(c, v, hv)
 	if m.HT == nil {
@@ -766,6 +785,10 @@ func (s *Solver) extract(op *OP, hv map[string]float64, frac []float64) {
 		so.HeaterVolts = hv[sec.Ref]
 		so.EmissionFraction = frac[i]
 		op.Sections = append(op.Sections, so)
+	}
+	op.Regulators = op.Regulators[:0]
+	for _, rg := range m.Regulators {
+		op.Regulators = append(op.Regulators, m.ckt.ResistorCurrent(m.Slots[rg.Slot].handle, op.V))
 	}
 	if op.Supply != nil {
 		for i := range op.Supply.Nets {

@@ -118,6 +118,12 @@ type capTol struct {
 	tol    design.Tolerance
 }
 
+// GasSpreadFrac is the valve-to-valve spread of a gas regulator's burning
+// volts, uniform within ± this share of its maintaining volts (from
+// memory: regulator data give the operating voltage of a type as a range
+// about ±3 % wide, e.g. roughly 145–160 V for a 150 V type).
+const GasSpreadFrac = 0.03
+
 func newPlan(m *amp.Model) *plan {
 	d := m.D
 	p := &plan{slotTol: make([]design.Tolerance, len(m.Slots)), potOf: make([]string, len(m.Slots)),
@@ -192,6 +198,9 @@ func (p *plan) sample(r *rand.Rand, m *amp.Model, v *amp.Values, fixedMains bool
 	v.HTOhms *= uniformTol(r, p.winding)
 	for i, sec := range m.Sections {
 		v.Koren[i] = SpreadKoren(r, v.Koren[i], sec.Pentode)
+	}
+	for i, rg := range m.Regulators {
+		v.GasVolts[i] = (2*r.Float64() - 1) * GasSpreadFrac * rg.Type.Gas.MaintainVolts
 	}
 	if fixedMains {
 		return 1

@@ -857,7 +857,7 @@ var fieldsOf = map[Kind][]string{
 	PowerTransformer:  {"note"},
 	OutputTransformer: {"note"},
 	Rectifier:         {"anodes", "cathode", "ac", "plus", "minus", "note"},
-	Valve:             {"heater", "note", "plate", "grid", "cathode", "screen", "suppressor", "plates", "A", "B", "T", "P", "D"}, // sections: A, B double triodes; T, P, D triode, pentode and diode sections
+	Valve:             {"heater", "note", "plate", "grid", "cathode", "screen", "suppressor", "plates", "anode", "A", "B", "T", "P", "D"}, // sections: A, B double triodes; T, P, D triode, pentode and diode sections
 }
 
 // CapacitorKinds are the dielectric kinds a capacitor may name.
@@ -1455,7 +1455,7 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 	}
 	vp := &ValvePart{Type: vt, Sections: map[string]map[string]string{}, Unused: map[string]bool{}, PinNets: map[int]string{}}
 	p.Valve = vp
-	if !vt.Kind.Modelled() && vt.Kind != valves.Multi {
+	if !vt.Kind.Modelled() && vt.Kind != valves.Multi && vt.Kind != valves.Regulator {
 		l.errf(kv, f, "the %s (%s) is not yet modelled: pinwalk cannot put it in the network or predict its pins; "+
 			"leave it out of the design file (its pins and ratings: pinwalk valves %s)", vt.Name, kindWords(vt.Kind), vt.Name)
 		return
@@ -1652,6 +1652,13 @@ func (l *loader) heater(p *Part, vp *ValvePart, fields map[string]*yaml.Node) {
 	hf := p.Ref + ".heater"
 	vp.HeaterVolts, vp.HeaterAmps = vt.Heater.Volts, vt.Heater.Amps
 	n, ok := fields["heater"]
+	if vt.Heater.Volts == 0 && vt.Heater.Amps == 0 {
+		// A cold-cathode valve (a gas regulator) has no heater.
+		if ok {
+			l.errf(n, hf, "the %s is a cold-cathode valve with no heater: leave heater out", vt.Name)
+		}
+		return
+	}
 	if !ok {
 		l.errAt(p.Pos, hf, "missing heater: expected the heater winding's nets (heater: [H1, H2])")
 		return

@@ -98,13 +98,22 @@ func TestDiodeSectionRefused(t *testing.T) {
 	}
 }
 
-// Gas regulators are library data only: check refuses them, naming the
-// file and line, and says they are not yet modelled.
-func TestRegulatorRefused(t *testing.T) {
-	src := rig("", "    valve: OA2\n    heater: [H1, H2]\n")
+// A gas regulator is wired by its anode and cathode and has no heater: a
+// heater given is refused at its line, and so is a plate.
+func TestRegulatorWiring(t *testing.T) {
+	src := rig("", "    valve: OA2\n    anode: B2\n    cathode: 0V\n    heater: [H1, H2]\n")
 	errs := strings.Join(errorsOf(src), "\n")
-	if !strings.Contains(errs, fmt.Sprintf("rig.yaml:%d:12: error: V1.valve:", lineOf(src, "valve: OA2"))) || !strings.Contains(errs, "gas regulator") || !strings.Contains(errs, "not yet modelled") {
-		t.Errorf("OA2: %q", errs)
+	if !strings.Contains(errs, fmt.Sprintf("rig.yaml:%d:", lineOf(src, "heater: [H1, H2]"))) || !strings.Contains(errs, "no heater") {
+		t.Errorf("OA2 with a heater: %q", errs)
+	}
+	src = rig("", "    valve: OA2\n    plate: B2\n    cathode: 0V\n")
+	if errs := strings.Join(errorsOf(src), "\n"); !strings.Contains(errs, "the OA2 has no plate") || !strings.Contains(errs, "anode") {
+		t.Errorf("OA2 with a plate: %q", errs)
+	}
+	src = rig("  R1: {resistor: 6k8, between: [B1, B2]}\n  V2: {valve: 12AX7, A: {plate: B2, grid: 0V, cathode: K}, B: unused, heater: [H1, H2]}\n  R2: {resistor: 1k, between: [K, 0V]}\n",
+		"    valve: OA2\n    anode: B2\n    cathode: 0V\n")
+	if errs := errorsOf(src); len(errs) > 0 {
+		t.Errorf("OA2 wired: %q", errs)
 	}
 }
 

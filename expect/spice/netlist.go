@@ -133,6 +133,7 @@ func export(m *amp.Model, c amp.Conditions, v *amp.Values) (*Netlist, error) {
 	n.windings(m, f)
 	n.parts(m, v, f)
 	n.sections(m, s, c, v)
+	n.regulators(m, c, v)
 	n.heaters(m)
 	// Probes: every net of pinwalk's network, then electrode currents
 	// (added by sections).
@@ -507,6 +508,39 @@ func (n *Netlist) sections(m *amp.Model, s *amp.Solver, c amp.Conditions, v *amp
 			n.line("%s %s %s I = %s", n.elem("B", name+"_ip"), pp, kn, triodeIp(k, vgk, vpk, lims[i]))
 		}
 		n.line("%s %s %s I = %s", n.elem("B", name+"_ig"), gp, kn, gridIg(k, vgk))
+	}
+}
+
+// regulators writes each gas regulator as pinwalk solves it, struck
+// (valves.GasLaw): its incremental resistance, a DC source of its offset
+// and a diode with the library's silicon law standing in for the
+// discharge's knee, anode to cathode. A regulator still dark at switch-on
+// (Conditions.ColdValves) is left out.
+func (n *Netlist) regulators(m *amp.Model, c amp.Conditions, v *amp.Values) {
+	if len(m.Regulators) == 0 {
+		return
+	}
+	n.section("gas regulators (struck: incremental resistance, offset, knee)")
+	for i, rg := range m.Regulators {
+		g := rg.Type.Gas
+		n.comment("%s: %s, maintaining %s V over %s-%s A, striking %s V", rg.Ref, rg.Type.Name,
+			num(g.MaintainVolts), num(g.MinAmps), num(g.MaxAmps), num(g.StrikeVolts))
+		if c.ColdValves {
+			n.comment("  dark at switch-on (not written)")
+			continue
+		}
+		offset := rg.Law.Offset
+		if i < len(v.GasVolts) {
+			offset += v.GasVolts[i]
+		}
+		a := n.inner(clean(rg.Ref) + "_gr")
+		k := n.inner(clean(rg.Ref) + "_gk")
+		n.resistor(rg.Ref+"_r", n.node(rg.Anode), a, v.Slot[rg.Slot], "incremental resistance")
+		n.line("%s %s %s dc %s", n.elem("V", rg.Ref+"_off"), a, k, num(offset))
+		model := n.elem("DM", rg.Ref)
+		d := rg.Law.Junction
+		n.line(".model %s D(IS=%s N=%s RS=0)", model, num(d.Is), num(d.N))
+		n.line("%s %s %s %s", n.elem("D", rg.Ref), k, n.node(rg.Cathode), model)
 	}
 }
 

@@ -636,7 +636,7 @@ func (t *Type) PinsOf(section, electrode string) []int {
 }
 
 // electrodeOrder is the order Electrodes reports signal electrodes in.
-var electrodeOrder = []string{Plate, Plates, Screen, Grid, Grid3, Cathode}
+var electrodeOrder = []string{Plate, Plates, Anode, Screen, Grid, Grid3, Cathode}
 
 // Electrodes returns the signal electrodes that a design may map for a
 // section (plate, grid, cathode; screen on pentodes; suppressor where grid 3
