@@ -1,6 +1,7 @@
 package infer
 
 import (
+	"pinwalk/expect/faults"
 	"regexp"
 	"strings"
 	"testing"
@@ -163,7 +164,7 @@ func TestShortedDiode(t *testing.T) {
 // no fault mode of any demo is one of them (a heater-to-cathode short,
 // an output-transformer winding to chassis, a gassy valve have no mode).
 func TestNotModelledIsTrue(t *testing.T) {
-	for _, u := range NotModelled {
+	for _, u := range faults.NotModelled() {
 		if u.Fault == "" || u.Why == "" || strings.Contains(u.Why, "\n") {
 			t.Errorf("%+v: want a fault and one line why", u)
 		}
