@@ -7,7 +7,6 @@ import (
 	"io"
 	"math"
 	"os"
-	"pinwalk/expect/faults"
 	"strconv"
 	"strings"
 
@@ -17,6 +16,7 @@ import (
 	"pinwalk/expect/amp"
 	"pinwalk/expect/bands"
 	"pinwalk/expect/design"
+	"pinwalk/expect/faults"
 	pkey "pinwalk/expect/point"
 	"pinwalk/expect/units"
 	"pinwalk/procedures/infer"

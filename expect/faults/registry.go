@@ -133,6 +133,11 @@ type RolePrior struct {
 
 var registry = map[design.Kind]*Kind{}
 
+// noFaults are the design kinds that declare no fault, each with why.
+var noFaults = map[design.Kind]string{
+	design.MainsInlet: "its earth pin's bond to chassis is a cold check with a stop rule of its own, and its live and neutral are the mains itself",
+}
+
 // register adds a part kind's declaration; each kind is declared once.
 func register(k Kind) {
 	if _, dup := registry[k.Kind]; dup {

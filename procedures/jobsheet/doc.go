@@ -2,9 +2,9 @@ package jobsheet
 
 import (
 	"fmt"
-	"pinwalk/expect/faults"
 	"strings"
 
+	"pinwalk/expect/faults"
 	"pinwalk/procedures"
 )
 
