@@ -39,8 +39,9 @@ const (
 var allModes = []Mode{Open, Short, High, Leaky, Weak, Dead, HeaterOpen, HalfOpen}
 
 // Fault is one part failed in one mode. Ref is a design reference, or for
-// the halves of a push-pull output transformer's primary the reference with
-// ".a" or ".b" (the half to the first or second end).
+// a subpart its kind declares the reference with the subpart ("OT1.a",
+// "OT1.b": the half of a push-pull primary to its first or second end;
+// "OT1.sec": a wired secondary).
 type Fault struct {
 	Ref  string
 	Mode Mode

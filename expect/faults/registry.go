@@ -160,16 +160,6 @@ func KindOf(p *design.Part) *Kind {
 	return registry[p.Kind]
 }
 
-// Kinds returns the design kinds that declare faults.
-func Kinds() []design.Kind {
-	var out []design.Kind
-	for k := range registry {
-		out = append(out, k)
-	}
-	slices.Sort(out)
-	return out
-}
-
 // subparts of a part by its kind.
 func subparts(p *design.Part) []string {
 	if k := KindOf(p); k != nil && k.Subparts != nil {
