@@ -706,7 +706,7 @@ func (e *Engine) coldAll(base []cold.Check) error {
 		}
 		for j := len(r.cs); j < nc; j++ {
 			if p := e.points[e.nDC+j]; p.fuse {
-				r.h.cold[j] = fuseCold(p, r.h)
+				r.h.cold[j] = e.fuseCold(p, r.h)
 			} else {
 				r.h.cold[j] = e.heaterCold(p, r.h)
 			}
@@ -745,12 +745,16 @@ func (e *Engine) markNearShorts() {
 	}
 }
 
-// A fuse out of its holder reads a few tens of milliohms (common
-// practice: a glass fuse of an amp or two); the meter's leads read more.
+// fuseOhmsHi: the most a good fuse out of its holder reads with the
+// meter's leads (common practice: a glass fuse of an amp or two reads a
+// few tens of milliohms, faults.FuseOhms; the leads add more).
 const fuseOhmsHi = 0.3
 
-func fuseCold(p point, h *hyp) coldPred {
-	if h.fault != nil && h.fault.Ref == p.ck.ID && h.fault.Mode == faults.Open {
+// fuseCold is a fuse's reading out of its holder: what its kind says the
+// fuse reads (faults.OutOfCircuit: open when it is the hypothesis's
+// blown fuse), between 0 and fuseOhmsHi when good.
+func (e *Engine) fuseCold(p point, h *hyp) coldPred {
+	if r, ok := faults.OutOfCircuit(e.m, p.ck.ID, h.fault); ok && r.OK && math.IsInf(r.Ohms, 1) {
 		return coldPred{lo: math.Inf(1), nom: math.Inf(1), hi: math.Inf(1), open: true}
 	}
 	return coldPred{lo: 0, nom: faults.FuseOhms, hi: fuseOhmsHi}
