@@ -909,125 +909,25 @@ func (l *faultLoop) conclude(fault string, clear bool) {
 	r.Goto(StepConfirm)
 }
 
+// confirmText says how to confirm a fault out of circuit: its kind's
+// words (faults.Confirm).
 func confirmText(b *BenchModel, fault string) string {
 	f, err := faults.Parse(fault)
 	if err != nil {
 		return "Unplugged and discharged: check " + fault + " directly."
 	}
-	p := b.D.ByRef[strings.SplitN(f.Ref, ".", 2)[0]]
-	if p == nil {
-		return "Unplugged and discharged: check " + fault + " directly."
-	}
-	switch p.Kind {
-	case design.Resistor:
-		return fmt.Sprintf("Unplugged and discharged: lift one end of %s and measure it (%s ±%.0f %% expected when healthy). Enter the reading.", p.Ref, units.Format(p.Value, units.Ohms), 100*p.Tol.Hi)
-	case design.Capacitor:
-		if p.Material == "electrolytic" {
-			return fmt.Sprintf("Unplugged and discharged: lift one end of %s; check it on a capacitance meter (and its ESR) and for leakage at its working volts, and look for a bulging top, a vented seal or leaking electrolyte. Confirm when checked.", p.Ref)
-		}
-		return fmt.Sprintf("Unplugged and discharged: lift one end of %s (%s); check its capacitance and its leakage at its working volts (an insulation tester or a leakage tester: a good film or mica part shows hundreds of MΩ). Confirm when checked.", p.Ref, p.Material)
-	case design.Valve:
-		return fmt.Sprintf("Swap %s for a known-good %s (or test it on a valve tester); the fault should follow the valve. Confirm when checked.", p.Ref, p.Valve.Type.Name)
-	case design.Rectifier:
-		return fmt.Sprintf("Unplugged and discharged: lift one end of each diode of %s and check it on the meter's diode range: a good silicon diode reads about 0.5–0.7 V one way and open the other; a shorted one reads near 0 both ways, an open one open both ways. Confirm when checked.", p.Ref)
-	}
-	return fmt.Sprintf("Unplugged and discharged: check %s (%s) out of circuit or by substitution. Confirm when checked.", p.Ref, p.Kind)
+	return faults.Confirm(b.M, f)
 }
 
-// seriesFor picks the E-series for a tolerance (IEC 60063): E96 for 1 %,
-// E48 for 2 %, E24 for 5 %, E12 for 10 %, E6 for 20 % or wider.
-func seriesFor(tol design.Tolerance) int {
-	t := math.Max(math.Abs(tol.Lo), math.Abs(tol.Hi))
-	switch {
-	case t == 0:
-		return 12
-	case t <= 0.01:
-		return 96
-	case t <= 0.02:
-		return 48
-	case t <= 0.05:
-		return 24
-	case t <= 0.1:
-		return 12
-	}
-	return 6
-}
-
-var wattRatings = []float64{0.25, 0.5, 1, 2, 3, 5, 7, 10, 15, 25, 50}
-var voltRatings = []float64{16, 25, 35, 50, 63, 100, 160, 250, 350, 400, 450, 500, 550, 600, 630, 700, 800, 1000, 1200, 1600}
-
-func nextRating(v float64, list []float64) float64 {
-	for _, r := range list {
-		if r >= v {
-			return r
-		}
-	}
-	return v
-}
-
-// Replacement says what to fit in place of a failed part: the nearest
-// preferred value (units.Nearest, the series from the part's tolerance),
-// and the rating the operating point needs: watts at least 2× the
-// dissipation at full mains, volts at least the switch-on peak across
-// the part at the top of the mains tolerance (common practice).
+// Replacement says what to fit in place of a failed part: its kind's
+// words (faults.Replace: the nearest preferred value and the ratings the
+// operating point needs, with margin).
 func Replacement(b *BenchModel, fault string) string {
 	f, err := faults.Parse(fault)
 	if err != nil {
 		return "Replace " + fault + " with a part of the same value and ratings."
 	}
-	p := b.D.ByRef[strings.SplitN(f.Ref, ".", 2)[0]]
-	if p == nil {
-		return "Replace " + fault + " with a part of the same value and ratings."
-	}
-	s := amp.NewSolver(b.M)
-	var hot, peak amp.OP
-	hotOK := s.Solve(amp.Conditions{}, b.M.NominalValues(), false, &hot) == nil
-	peakOK := s.ColdStart(b.D.Mains.Volts*(1+b.D.Mains.Tol.Hi), &peak) == nil
-	across := func(op *amp.OP) float64 {
-		if len(p.Terminals) < 2 {
-			return 0
-		}
-		a, _ := b.M.NetVolts(op, p.Terminals[0].Net)
-		c, _ := b.M.NetVolts(op, p.Terminals[1].Net)
-		return math.Abs(a - c)
-	}
-	switch p.Kind {
-	case design.Resistor:
-		n := seriesFor(p.Tol)
-		v, _ := units.Nearest(p.Value, n)
-		watts := 0.0
-		if hotOK {
-			for _, r := range b.M.Resistors(&hot) {
-				if r.Ref == p.Ref {
-					watts = r.Watts
-				}
-			}
-		}
-		need := nextRating(math.Max(2*watts, p.Watts), wattRatings)
-		return fmt.Sprintf("Fit %s: %s (E%d, ±%.0f %%), rated at least %s (it dissipates %s at full mains: 2× margin, common practice).",
-			p.Ref, units.Format(v, units.Ohms), n, 100*math.Max(math.Abs(p.Tol.Lo), p.Tol.Hi), units.Format(need, units.Watts), units.Format(watts, units.Watts))
-	case design.Capacitor:
-		n := seriesFor(p.Tol)
-		if p.Material == "electrolytic" {
-			n = 6
-		}
-		v, _ := units.Nearest(p.Value, n)
-		vpk := 0.0
-		if peakOK {
-			vpk = across(&peak)
-		}
-		if hotOK {
-			vpk = math.Max(vpk, across(&hot))
-		}
-		need := nextRating(math.Max(vpk, p.Volts), voltRatings)
-		return fmt.Sprintf("Fit %s: %s %s (E%d), rated at least %s (switch-on peak across it %s at high mains).",
-			p.Ref, units.Format(v, units.Farads), p.Material, n, units.Format(need, units.Volts), units.Format(vpk, units.Volts))
-	case design.Valve:
-		return fmt.Sprintf("Fit a known-good %s in %s; for a push-pull output pair, fit a matched pair and re-set the bias.", p.Valve.Type.Name, p.Ref)
-	case design.Rectifier:
-		return fmt.Sprintf("Fit new silicon rectifier diodes in %s (all of them, not only the failed one), rated at least 1 kV reverse and 1 A (common practice: well over the twice-peak winding volts a full-wave diode blocks), then a fuse of the rated value; power up on the lamp limiter first.", p.Ref)
-	}
-	return fmt.Sprintf("Replace %s (%s) with a part of the same value and ratings; find why it failed before powering up again.", p.Ref, p.Kind)
+	return faults.Replace(b.M, f)
 }
 
 // shortRanking lists the n most probable suspects with their
@@ -1238,27 +1138,19 @@ func (l *faultLoop) choose(key string) error {
 	return nil
 }
 
-// partOhms is what the simulated amp's part reads out of circuit: open,
-// shorted or drifted high when it is the hidden fault, its nominal value
-// otherwise.
+// partOhms is what the simulated amp's part reads out of circuit: the
+// hidden fault's own reading when it is that part (faults.OutOfCircuit),
+// a healthy part's otherwise.
 func (l *faultLoop) partOhms(k point.Key) (float64, bool) {
-	ref := k.ID
-	p := l.w.B.D.ByRef[ref]
-	if p == nil {
+	var hidden *faults.Fault
+	if f, err := faults.Parse(l.w.R.Sess.Practice.Fault); err == nil {
+		hidden = &f
+	}
+	r, ok := faults.OutOfCircuit(l.w.B.M, k.ID, hidden)
+	if !ok || !r.OK {
 		return 0, false
 	}
-	v := p.Value
-	if f, err := faults.Parse(l.w.R.Sess.Practice.Fault); err == nil && f.Ref == ref {
-		switch f.Mode {
-		case faults.Open:
-			v = math.Inf(1)
-		case faults.Short:
-			v = 0.05
-		case faults.High:
-			v *= faults.HighFactor
-		}
-	}
-	return v, true
+	return r.Ohms, true
 }
 
 // answer enters the simulated amp's reading for the current measure.

@@ -16,6 +16,7 @@ import (
 	"pinwalk/expect/amp"
 	"pinwalk/expect/bands"
 	"pinwalk/expect/design"
+	"pinwalk/expect/faults"
 	pkey "pinwalk/expect/point"
 	"pinwalk/expect/units"
 	"pinwalk/procedures/infer"
@@ -314,7 +315,7 @@ type jsonUnmodelled struct {
 
 func notModelledJSON() []jsonUnmodelled {
 	var out []jsonUnmodelled
-	for _, u := range infer.NotModelled {
+	for _, u := range faults.NotModelled() {
 		out = append(out, jsonUnmodelled{u.Fault, u.Why})
 	}
 	return out
@@ -545,7 +546,7 @@ func printDiagnosis(w io.Writer, d *design.Design, e *infer.Engine, rk *infer.Ra
 	}
 	fmt.Fprintln(w)
 	fmt.Fprintln(w, "Not in this ranking (faults pinwalk does not model; check them by other means):")
-	for _, u := range infer.NotModelled {
+	for _, u := range faults.NotModelled() {
 		fmt.Fprintf(w, "  - %s: %s\n", u.Fault, u.Why)
 	}
 }

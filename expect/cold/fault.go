@@ -2,17 +2,11 @@ package cold
 
 import (
 	"math"
-	"strings"
 
 	"pinwalk/expect/amp"
 	"pinwalk/expect/design"
 	"pinwalk/expect/faults"
-	"pinwalk/expect/valves"
 )
-
-// shortOhms stands for a short in the cold network (a solder bridge or a
-// shorted capacitor): small but finite, so the nodal matrix stays regular.
-const shortOhms = 1e-3
 
 // FaultChecks returns the cold checks of a design with one fault in place:
 // the readings of base (Checks(d), same order, IDs, leads and notes) with
@@ -21,19 +15,8 @@ const shortOhms = 1e-3
 // supply gone dead, an open capacitor): base is then returned unchanged.
 // m is d compiled by amp.Build (for the HT winding and heater windings).
 //
-// What a fault does cold: a resistor open loses its element, short is
-// 1 mΩ, high multiplies it by faults.HighFactor; a pot with its wiper
-// open loses both halves; a shorted capacitor is faults.ShortedCapOhms
-// across it with corners faults.ShortedCapLoOhms–ShortedCapHiOhms, a leaky
-// one its leakage resistance (faults.LeakyElectrolyticOhms or
-// faults.LeakyFilmOhms); a choke open loses its winding; an output
-// transformer "OT1.a"/"OT1.b" loses one half (both segments of a half
-// with a screen tap), "OT1.sec" its wired secondary, a push-pull "OT1" open (the
-// centre-tap lead) parts the centre tap from both halves, a single-ended
-// one loses its primary; a power transformer open loses the HT winding,
-// heater-open the heater windings feeding amplifying valves; a fuse open
-// loses its 0 Ω link; a silicon rectifier with a diode shorted joins that
-// diode's ends (1 mΩ). The tolerance corners stay exact bounds (Rayleigh's
+// What a fault does cold is its kind's declaration (ModeSpec.Cold in
+// expect/faults' kind files). The tolerance corners stay exact bounds (Rayleigh's
 // monotonicity, see resistance): the fault's own element has no tolerance.
 // With corners false only the nominal reading is solved and the corners
 // are the base reading's corners scaled by the new reading (the relative
@@ -184,152 +167,51 @@ func FaultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault, c
 	return out, true, nil
 }
 
-// alterNetwork puts a fault into the cold network's edges and reports
-// whether anything changed (adjacency is left for the caller to rebuild).
+// alterNetwork puts a fault into the cold network's edges through its
+// kind's cold effect (faults.ApplyCold) and reports whether anything
+// changed (adjacency is left for the caller to rebuild).
 func alterNetwork(n *network, m *amp.Model, f faults.Fault) bool {
-	d := n.d
-	ref, half := f.Ref, ""
-	if d.ByRef[ref] == nil {
-		for _, h := range []string{"a", "b", faults.SecondaryWinding} {
-			if base, ok := strings.CutSuffix(ref, "."+h); ok && d.ByRef[base] != nil {
-				ref, half = base, h
-			}
-		}
-	}
-	p := d.ByRef[ref]
-	if p == nil {
-		return false
-	}
-	var keep []edge
-	changed := false
-	drop := func(match func(e edge) bool) {
-		keep = keep[:0]
-		for _, e := range n.edges {
-			if match(e) {
-				changed = true
-				continue
-			}
-			keep = append(keep, e)
-		}
-		n.edges = append([]edge(nil), keep...)
-	}
-	mine := func(e edge) bool { return e.ref == p.Ref }
-	between := func(a, b string) func(e edge) bool {
-		return func(e edge) bool {
-			return e.ref == p.Ref && ((e.a == a && e.b == b) || (e.a == b && e.b == a))
-		}
-	}
-	switch p.Kind {
-	case design.Resistor:
-		switch f.Mode {
-		case faults.Open:
-			drop(mine)
-		case faults.Short, faults.High:
-			for i := range n.edges {
-				if mine(n.edges[i]) {
-					changed = true
-					if f.Mode == faults.Short {
-						n.edges[i].ohms, n.edges[i].tol = shortOhms, design.Tolerance{}
-					} else {
-						n.edges[i].ohms *= faults.HighFactor
-					}
-				}
-			}
-		}
-	case design.Pot, design.Choke, design.Fuse:
-		if f.Mode == faults.Open {
-			drop(mine)
-		}
-	case design.Capacitor:
-		a, b := p.Terminals[0].Net, p.Terminals[1].Net
-		switch f.Mode {
-		case faults.Short:
-			// A shorted capacitor is not a clean 0 Ω: its tolerance
-			// corners span what an ohmmeter finds on one.
-			r := faults.ShortedCapOhms
-			n.edges = append(n.edges, edge{a: a, b: b, ohms: r, ref: p.Ref,
-				tol: design.Tolerance{Lo: faults.ShortedCapLoOhms/r - 1, Hi: faults.ShortedCapHiOhms/r - 1}})
-			changed = true
-		case faults.Leaky:
-			r := faults.LeakyFilmOhms
-			if p.Material == "electrolytic" {
-				r = faults.LeakyElectrolyticOhms
-			}
-			n.edges = append(n.edges, edge{a: a, b: b, ohms: r, ref: p.Ref})
-			changed = true
-		}
-	case design.Rectifier:
-		// One diode shorted: the first diode's ends joined (a centre-tap
-		// or half-wave rectifier's first anode to its cathode, a bridge's
-		// first AC end to plus). An ohmmeter on a healthy diode is not in
-		// this network (its reading depends on the meter's polarity and
-		// volts), so only the short shows.
-		if f.Mode == faults.Short && p.Rect != nil {
-			a := p.Rect.AC[0]
-			if !p.Rect.Bridge && len(p.Rect.Anodes) > 0 {
-				a = p.Rect.Anodes[0]
-			}
-			if a != "" && p.Rect.Plus != "" {
-				n.edges = append(n.edges, edge{a: a, b: p.Rect.Plus, ohms: shortOhms, ref: p.Ref})
-				changed = true
-			}
-		}
-	case design.OutputTransformer:
-		ot := p.OT
-		switch {
-		case half == "a" || half == "b":
-			drop(otSegments(p, design.HalfRoles(half)...))
-		case half == faults.SecondaryWinding:
-			drop(otSegments(p, "secondary"))
-		case ot.Centre == "":
-			drop(otSegments(p, "primary"))
-		default:
-			// The centre-tap lead open: both halves stay joined end to
-			// end, parted from the centre-tap net.
-			lead := p.Ref + "~centre-tap"
-			for i := range n.edges {
-				e := &n.edges[i]
-				if e.ref != p.Ref {
-					continue
-				}
-				if e.a == ot.Centre {
-					e.a, changed = lead, true
-				} else if e.b == ot.Centre {
-					e.b, changed = lead, true
-				}
-			}
-		}
-	case design.PowerTransformer:
-		var ws []*design.Winding
-		switch f.Mode {
-		case faults.Open:
-			if m.HT != nil && m.HT.Winding != nil {
-				ws = append(ws, m.HT.Winding)
-			}
-		case faults.HeaterOpen:
-			seen := map[*design.Winding]bool{}
-			for _, h := range m.Heaters {
-				if h.Transformer == p.PT && h.Winding != nil && !seen[h.Winding] && amplifying(d, h.Ref) {
-					seen[h.Winding] = true
-					ws = append(ws, h.Winding)
-				}
-			}
-		}
-		for _, w := range ws {
-			if w.Centre != "" {
-				drop(between(w.Centre, w.Ends[0]))
-				drop(between(w.Centre, w.Ends[1]))
-			} else {
-				drop(between(w.Ends[0], w.Ends[1]))
-			}
-		}
-	}
-	return changed
+	c := &coldNet{n: n}
+	faults.ApplyCold(m, c, f)
+	return c.changed
 }
 
-// amplifying reports whether a valve reference is an amplifying valve
-// (not a rectifier).
-func amplifying(d *design.Design, ref string) bool {
-	p := d.ByRef[ref]
-	return p != nil && p.Valve != nil && p.Valve.Type.Kind != valves.Rectifier
+// coldNet is the network as a fault's kind changes it (faults.ColdNet).
+type coldNet struct {
+	n       *network
+	changed bool
+}
+
+func toCold(e edge) faults.ColdEdge {
+	return faults.ColdEdge{A: e.a, B: e.b, Ohms: e.ohms, Tol: e.tol, Ref: e.ref}
+}
+
+func fromCold(e faults.ColdEdge) edge {
+	return edge{a: e.A, b: e.B, ohms: e.Ohms, tol: e.Tol, ref: e.Ref}
+}
+
+func (c *coldNet) Drop(match func(e faults.ColdEdge) bool) {
+	var keep []edge
+	for _, e := range c.n.edges {
+		if match(toCold(e)) {
+			c.changed = true
+			continue
+		}
+		keep = append(keep, e)
+	}
+	c.n.edges = keep
+}
+
+func (c *coldNet) Edit(edit func(e *faults.ColdEdge) bool) {
+	for i, e := range c.n.edges {
+		x := toCold(e)
+		if edit(&x) {
+			c.n.edges[i], c.changed = fromCold(x), true
+		}
+	}
+}
+
+func (c *coldNet) Add(e faults.ColdEdge) {
+	c.n.edges = append(c.n.edges, fromCold(e))
+	c.changed = true
 }

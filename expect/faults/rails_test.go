@@ -9,6 +9,7 @@ import (
 	"pinwalk/expect/bands"
 	"pinwalk/expect/design"
 	"pinwalk/expect/supply"
+	"pinwalk/expect/valves"
 )
 
 // everyDesign loads every demo design and every template, keyed
@@ -212,4 +213,59 @@ func htNet(m *amp.Model, net string) bool {
 		}
 	}
 	return net == m.HT.RectNet
+}
+
+// TestBlownFuseLightsNothing: with the mains fuse gone (an open mains
+// fuse, or a fault whose kind declares it a powered short, which blows
+// it at switch-on) no winding of the power transformer has volts, so
+// every heater, a valve rectifier's filament too, reads 0 V and no
+// cathode emits (a transformer passes nothing with its primary open:
+// Faraday's law, no primary current, no changing flux). The designs with
+// a valve rectifier (demo pp-el34-fixed's 5U4GB, the supply-valve-rect
+// template's 5Y3GT) are the ones whose filament a partial fix leaves lit.
+func TestBlownFuseLightsNothing(t *testing.T) {
+	models := everyDesign(t)
+	names := []string{}
+	for n := range models {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	seen, rectHeaters := 0, 0
+	for _, name := range names {
+		m := models[name]
+		s := amp.NewSolver(m)
+		for _, f := range All(m) {
+			p, _ := splitRef(m, f.Ref)
+			if !(p.Kind == design.Fuse && f.Mode == Open) && !PoweredShort(m, f) {
+				continue
+			}
+			seen++
+			v := m.NominalValues()
+			if err := Apply(m, v, f); err != nil {
+				t.Fatalf("%s %s: %v", name, f, err)
+			}
+			var op amp.OP
+			if err := s.Solve(amp.Conditions{}, v, false, &op); err != nil {
+				t.Errorf("%s %s: %v", name, f, err)
+				continue
+			}
+			for _, h := range op.Heaters {
+				if m.D.ByRef[h.Ref].Valve.Type.Kind == valves.Rectifier {
+					rectHeaters++
+				}
+				if math.Abs(h.Volts) > 1e-9 {
+					t.Errorf("%s %s: the fuse is gone but %s's heater reads %.3g V", name, f, h.Ref, h.Volts)
+				}
+			}
+			for i, so := range op.Sections {
+				if so.HeaterVolts > 1e-9 || so.Ia > 1e-9 {
+					t.Errorf("%s %s: the fuse is gone but %s has %.3g V on its heater and passes %.3g A", name, f, m.Sections[i].Name(), so.HeaterVolts, so.Ia)
+				}
+			}
+		}
+	}
+	if seen == 0 || rectHeaters == 0 {
+		t.Errorf("%d fuse-blowing faults, %d valve-rectifier filaments checked: the check saw nothing", seen, rectHeaters)
+	}
+	t.Logf("%d fuse-blowing faults checked; %d valve-rectifier filaments among their heaters", seen, rectHeaters)
 }

@@ -234,7 +234,7 @@ type Engine struct {
 	d                 *design.Design
 	m                 *amp.Model
 	opt               Options
-	roles             map[string]map[string]bool
+	roles             map[string]faults.RoleSet
 	points            []point // DC points first (nDC of them), then cold points
 	nDC               int
 	index             map[string]int
@@ -290,7 +290,7 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 		return nil, fmt.Errorf("infer: the healthy amplifier does not solve: %w", err)
 	}
 	e.healthy, e.hBand = healthy, map[int]bands.Band{}
-	e.roles = partRoles(m, healthy.NominalOP)
+	e.roles = faults.Roles(m, healthy.NominalOP)
 	loading, _ := healthy.Loading(opt.Meter)
 	load := map[string]bands.Loading{}
 	for _, l := range loading {
@@ -336,8 +336,8 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 	}
 	total := 0.0
 	for _, h := range e.hyps[1:] {
-		h.prior = priorOf(d, e.roles, *h.fault) * symptomFactor(d, e.roles, h.fault, opt.Symptoms)
-		total += priorOf(d, e.roles, *h.fault)
+		h.prior = faults.Prior(m, e.roles, *h.fault) * symptomFactor(d, e.roles, h.fault, opt.Symptoms)
+		total += faults.Prior(m, e.roles, *h.fault)
 	}
 	e.hyps[0].prior = healthyShare / (1 - healthyShare) * total * symptomFactor(d, e.roles, nil, opt.Symptoms)
 	sum := 0.0
@@ -707,7 +707,7 @@ func (e *Engine) coldAll(base []cold.Check) error {
 		}
 		for j := len(r.cs); j < nc; j++ {
 			if p := e.points[e.nDC+j]; p.fuse {
-				r.h.cold[j] = fuseCold(p, r.h)
+				r.h.cold[j] = e.fuseCold(p, r.h)
 			} else {
 				r.h.cold[j] = e.heaterCold(p, r.h)
 			}
@@ -726,17 +726,16 @@ func (e *Engine) coldAll(base []cold.Check) error {
 // short).
 const nearShortOhms = 1e3
 
-// markNearShorts sets each hypothesis's nearShort. A silicon rectifier
-// with a diode shorted is one whatever the cold readings show (a bridge's
-// shorted diode leaves B+ to chassis high): powered, it shorts the HT
-// winding.
+// markNearShorts sets each hypothesis's nearShort. A fault whose kind
+// declares it a powered short (faults.PoweredShort: a shorted silicon
+// diode, a valve rectifier arcing) is one whatever the cold readings show
+// (a bridge's shorted diode leaves B+ to chassis high): powered, it
+// shorts the HT winding.
 func (e *Engine) markNearShorts() {
 	for _, h := range e.hyps[1:] {
-		if f := h.fault; f != nil && f.Mode == faults.Short {
-			if p := partOf(e.d, f.Ref); p != nil && p.Kind == design.Rectifier {
-				h.nearShort = true
-				continue
-			}
+		if f := h.fault; f != nil && faults.PoweredShort(e.m, *f) {
+			h.nearShort = true
+			continue
 		}
 		for j, c := range h.cold {
 			if p := &e.points[e.nDC+j]; p.ck.Kind == "b+" && !c.open && c.hi < nearShortOhms {
@@ -747,15 +746,19 @@ func (e *Engine) markNearShorts() {
 	}
 }
 
-// A fuse out of its holder reads a few tens of milliohms (common
-// practice: a glass fuse of an amp or two); the meter's leads read more.
+// fuseOhmsHi: the most a good fuse out of its holder reads with the
+// meter's leads (common practice: a glass fuse of an amp or two reads a
+// few tens of milliohms, faults.FuseOhms; the leads add more).
 const fuseOhmsHi = 0.3
 
-func fuseCold(p point, h *hyp) coldPred {
-	if h.fault != nil && h.fault.Ref == p.ck.ID && h.fault.Mode == faults.Open {
+// fuseCold is a fuse's reading out of its holder: what its kind says the
+// fuse reads (faults.OutOfCircuit: open when it is the hypothesis's
+// blown fuse), between 0 and fuseOhmsHi when good.
+func (e *Engine) fuseCold(p point, h *hyp) coldPred {
+	if r, ok := faults.OutOfCircuit(e.m, p.ck.ID, h.fault); ok && r.OK && math.IsInf(r.Ohms, 1) {
 		return coldPred{lo: math.Inf(1), nom: math.Inf(1), hi: math.Inf(1), open: true}
 	}
-	return coldPred{lo: 0, nom: 0.05, hi: fuseOhmsHi}
+	return coldPred{lo: 0, nom: faults.FuseOhms, hi: fuseOhmsHi}
 }
 
 // Cold heater resistance of a valve out of its socket: a tungsten heater's

@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"pinwalk/expect/design"
+	"pinwalk/expect/faults"
 )
 
 // keyLike matches a point key's text form (what a screen must never show).
@@ -163,7 +164,7 @@ func TestShortedDiode(t *testing.T) {
 // no fault mode of any demo is one of them (a heater-to-cathode short,
 // an output-transformer winding to chassis, a gassy valve have no mode).
 func TestNotModelledIsTrue(t *testing.T) {
-	for _, u := range NotModelled {
+	for _, u := range faults.NotModelled() {
 		if u.Fault == "" || u.Why == "" || strings.Contains(u.Why, "\n") {
 			t.Errorf("%+v: want a fault and one line why", u)
 		}
@@ -175,6 +176,27 @@ func TestNotModelledIsTrue(t *testing.T) {
 					t.Errorf("%s: %s is modelled but listed as not modelled", name, h)
 				}
 			}
+		}
+	}
+}
+
+// TestArcingRectifierValve: demo pp-el34-fixed's 5U4GB (V9) flashing
+// over blows the fuse, so "no lights" and "fuse blows" both raise it as
+// they raise a shorted silicon diode (common practice: an arcing
+// rectifier is a classic cause of a fuse that blows at switch-on), and
+// powered it is a near-short whatever the cold readings show: while it is
+// a suspect nothing is read live.
+func TestArcingRectifierValve(t *testing.T) {
+	e := demo(t, "pp-el34-fixed.yaml")
+	f := faults.Fault{Ref: "V9", Mode: faults.Short}
+	if !e.NearShort(f.String()) {
+		t.Errorf("%s is no near-short", f)
+	}
+	for _, s := range []string{"no-lights", "fuse-blows"} {
+		up := symptomFactor(e.d, e.roles, &f, []string{s})
+		weak := symptomFactor(e.d, e.roles, &faults.Fault{Ref: "V9", Mode: faults.Weak}, []string{s})
+		if up < 10*weak {
+			t.Errorf("%q: %s ×%g, the same valve weak ×%g: want the arcing valve ten times as likely or more", s, f, up, weak)
 		}
 	}
 }

@@ -4,8 +4,8 @@ import (
 	"fmt"
 	"strings"
 
+	"pinwalk/expect/faults"
 	"pinwalk/procedures"
-	"pinwalk/procedures/infer"
 )
 
 // The sheet is first laid out as a small document (sections of headings,
@@ -306,7 +306,7 @@ func (sh *Sheet) document() *document {
 		// None of these is silently absent from a ranking that cannot see it.
 		fd.heading("Not in the ranking (not modelled: check by other means)")
 		var items []string
-		for _, u := range infer.NotModelled {
+		for _, u := range faults.NotModelled() {
 			items = append(items, u.Fault+": "+u.Why)
 		}
 		fd.list(items)

@@ -1,0 +1,167 @@
+package faults
+
+import (
+	"fmt"
+	"math"
+
+	"pinwalk/expect/amp"
+	"pinwalk/expect/design"
+	"pinwalk/expect/supply"
+	"pinwalk/expect/valves"
+)
+
+// Valve faults. Valves fail most of all, output valves most among them
+// (common practice for the weights). An amplifying valve (every section
+// at once):
+//
+//	weak         worn: Koren's KG1 (and KG2 for pentodes) × WeakFactor
+//	dead         no emission: no plate current
+//	heater-open  the heater open: no emission, the valve does not light
+//
+// A valve rectifier (only the HT rectifier is modelled):
+//
+//	weak         worn: its perveance × WeakRectScale (more drop, low B+)
+//	dead         no B+ (RectDead)
+//	heater-open  RectDead; its heater load stays on its winding
+//	half-open    one plate of a full-wave rectifier open
+//	short        flash-over (an arc from a plate to the cathode: an
+//	             overloaded or gassy rectifier, a reservoir over its
+//	             rating): powered, it joins the HT winding to the
+//	             reservoir both ways, as a shorted silicon diode does, and
+//	             the mains fuse blows (blowFuse). It has no cold effect:
+//	             the valve is out of its socket for the cold checks. It
+//	             fails this way about half as often as it wears weak
+//	             (common practice).
+const (
+	// WeakFactor divides a worn valve's perveance: Koren's KG1 (and KG2
+	// for pentodes) multiplied by it, so plate current at a given bias
+	// falls well under normal (common practice for a valve that tests
+	// "weak" on an emission tester).
+	WeakFactor = 2.5
+	// WeakRectScale is a worn valve rectifier's perveance scale (common
+	// practice: a worn rectifier drops noticeably more volts).
+	WeakRectScale = 0.3
+	// rectWeakPrior is a valve rectifier's "weak" weight; its "short"
+	// is rectShortShare of it.
+	rectWeakPrior  = 4
+	rectShortShare = 0.5
+)
+
+func init() {
+	amplifier := func(m *amp.Model, p *design.Part) bool {
+		return p.Valve.Type.Kind != valves.Rectifier && len(sectionsOf(m, p.Ref)) > 0
+	}
+	rect := func(m *amp.Model, p *design.Part) bool {
+		return p.Valve.Type.Kind == valves.Rectifier && m.HT != nil && m.HT.Rectifier == p
+	}
+	sections := func(t Target) []int { return sectionsOf(t.M, t.Part.Ref) }
+	outPrior := func(w float64) []RolePrior { return []RolePrior{{RoleOutput, w}} }
+	register(Kind{
+		Kind:  design.Valve,
+		Value: func(p *design.Part) string { return p.Valve.Type.Name },
+		Healthy: func(p *design.Part) OutReading {
+			return OutReading{Ohms: math.NaN(), Words: "good on a valve tester, its heater continuous"}
+		},
+		Modes: []ModeSpec{
+			// Amplifying valves.
+			{Mode: Weak, Applies: amplifier, Prior: 2, ByRole: outPrior(5),
+				Live: func(v *amp.Values, t Target) {
+					for _, i := range sections(t) {
+						v.Koren[i].KG1 *= WeakFactor
+						if v.Koren[i].KG2 > 0 {
+							v.Koren[i].KG2 *= WeakFactor
+						}
+					}
+				},
+				Describe:     said("weak (low emission: plate current well under normal)"),
+				OutOfCircuit: testerReads("low emission on a valve tester"),
+				Confirm:      confirmValve, Replace: replaceValve},
+			{Mode: Dead, Applies: amplifier, Prior: 0.6, ByRole: outPrior(1.5),
+				Live: func(v *amp.Values, t Target) {
+					for _, i := range sections(t) {
+						v.Emission[i] = 0
+					}
+				},
+				Describe:     said("dead (no emission: no plate current)"),
+				OutOfCircuit: testerReads("no emission on a valve tester"),
+				Confirm:      confirmValve, Replace: replaceValve},
+			{Mode: HeaterOpen, Applies: amplifier, Prior: 0.6, ByRole: outPrior(1),
+				Live:         func(v *amp.Values, t Target) { heaterOff(v, sections(t)) },
+				Describe:     said("heater open (valve does not light)"),
+				OutOfCircuit: heaterOpenReads,
+				Confirm:      confirmValve, Replace: replaceValve},
+			// Valve rectifiers.
+			{Mode: Weak, Applies: rect, Prior: rectWeakPrior,
+				Live:         func(v *amp.Values, t Target) { v.RectScale *= WeakRectScale },
+				Describe:     said("weak (low emission: extra drop, low B+)"),
+				OutOfCircuit: testerReads("low emission on a valve tester"),
+				Confirm:      confirmValve, Replace: replaceRectValve},
+			{Mode: Dead, Applies: rect, Prior: 1,
+				Live:         func(v *amp.Values, t Target) { v.RectDead = true },
+				Describe:     said("dead (no B+)"),
+				OutOfCircuit: testerReads("no emission on a valve tester"),
+				Confirm:      confirmValve, Replace: replaceRectValve},
+			{Mode: HeaterOpen, Applies: rect, Prior: 0.5,
+				Live:         func(v *amp.Values, t Target) { v.RectDead = true },
+				Describe:     said("heater open (valve does not light)"),
+				OutOfCircuit: heaterOpenReads,
+				Confirm:      confirmValve, Replace: replaceRectValve},
+			{Mode: HalfOpen, Prior: 1,
+				Applies: func(m *amp.Model, p *design.Part) bool {
+					return rect(m, p) && m.HT.Topology == supply.CentreTap
+				},
+				Live:         func(v *amp.Values, t Target) { v.HalfOpen = true },
+				Describe:     said("one plate open (half-wave operation, more ripple)"),
+				OutOfCircuit: testerReads("one plate with no emission on a valve tester"),
+				Confirm:      confirmValve, Replace: replaceRectValve},
+			{Mode: Short, Applies: rect, Prior: rectShortShare * rectWeakPrior, PoweredShort: true,
+				Live:     func(v *amp.Values, t Target) { blowFuse(t.M, v) },
+				Describe: said("arcing between plate and cathode (flash-over: the mains fuse blows)"),
+				OutOfCircuit: testerReads("a short between a plate and the filament on a valve tester's short test; often a blackened or " +
+					"silvered patch inside the glass"),
+				Confirm: func(t Target) string {
+					p := t.Part
+					return fmt.Sprintf(unplugged+"take %s out and look at it: a flash-over leaves a blue-white burn or a black or silvered patch inside the glass, or a cracked or melted base. Test it on a valve tester's short test (plate to filament); look at the socket for a carbon track between the plate and filament pins. Check the reservoir capacitor's value against the %s's maximum and the fuse's rating."+confirmed,
+						p.Ref, p.Valve.Type.Name)
+				},
+				Replace: func(t Target) string {
+					p := t.Part
+					return fmt.Sprintf("Fit a new %s in %s; if the socket shows a carbon track between pins, replace the socket too. Keep the reservoir capacitor within the valve's rated maximum and fit a new fuse of the rated value, no larger; a rectifier that arced may have taken the reservoir capacitor with it: check it for a short first."+lampFirst,
+						p.Valve.Type.Name, p.Ref)
+				}},
+		},
+	})
+}
+
+func sectionsOf(m *amp.Model, ref string) []int {
+	var out []int
+	for i, s := range m.Sections {
+		if s.Ref == ref {
+			out = append(out, i)
+		}
+	}
+	return out
+}
+
+func testerReads(words string) func(Target) OutReading {
+	return func(Target) OutReading { return OutReading{Ohms: math.NaN(), Words: words} }
+}
+
+func heaterOpenReads(Target) OutReading {
+	return OutReading{Ohms: math.Inf(1), OK: true, Words: "open across its heater pins"}
+}
+
+func confirmValve(t Target) string {
+	p := t.Part
+	return fmt.Sprintf("Swap %s for a known-good %s (or test it on a valve tester); the fault should follow the valve."+confirmed, p.Ref, p.Valve.Type.Name)
+}
+
+func replaceValve(t Target) string {
+	p := t.Part
+	return fmt.Sprintf("Fit a known-good %s in %s; for a push-pull output pair, fit a matched pair and re-set the bias.", p.Valve.Type.Name, p.Ref)
+}
+
+func replaceRectValve(t Target) string {
+	p := t.Part
+	return fmt.Sprintf("Fit a known-good %s in %s; keep the reservoir capacitor within the valve's rated maximum.", p.Valve.Type.Name, p.Ref)
+}
