@@ -7,6 +7,7 @@ import (
 	"pinwalk/expect/amp"
 	"pinwalk/expect/design"
 	"pinwalk/expect/supply"
+	"pinwalk/expect/units"
 	"pinwalk/expect/valves"
 )
 
@@ -32,6 +33,13 @@ import (
 //	             the valve is out of its socket for the cold checks. It
 //	             fails this way about half as often as it wears weak
 //	             (common practice).
+//
+// A gas regulator:
+//
+//	dead         will not strike (gas gone, an electrode open): dark, it
+//	             passes nothing, and the rail it held rises to what its
+//	             feed resistor gives. Regulators last long; its weight is
+//	             a weak valve's half (common practice).
 const (
 	// WeakFactor divides a worn valve's perveance: Koren's KG1 (and KG2
 	// for pentodes) multiplied by it, so plate current at a given bias
@@ -55,6 +63,7 @@ func init() {
 		return p.Valve.Type.Kind == valves.Rectifier && m.HT != nil && m.HT.Rectifier == p
 	}
 	sections := func(t Target) []int { return sectionsOf(t.M, t.Part.Ref) }
+	regulator := func(m *amp.Model, p *design.Part) bool { return regulatorOf(m, p.Ref) != nil }
 	outPrior := func(w float64) []RolePrior { return []RolePrior{{RoleOutput, w}} }
 	register(Kind{
 		Kind:  design.Valve,
@@ -129,9 +138,40 @@ func init() {
 					return fmt.Sprintf("Fit a new %s in %s; if the socket shows a carbon track between pins, replace the socket too. Keep the reservoir capacitor within the valve's rated maximum and fit a new fuse of the rated value, no larger; a rectifier that arced may have taken the reservoir capacitor with it: check it for a short first."+lampFirst,
 						p.Valve.Type.Name, p.Ref)
 				}},
+			// Gas regulators.
+			{Mode: Dead, Applies: regulator, Prior: 1,
+				Live: func(v *amp.Values, t Target) {
+					if rg := regulatorOf(t.M, t.Part.Ref); rg != nil {
+						v.Slot[rg.Slot] = math.Inf(1)
+					}
+				},
+				Describe:     said("will not strike (dark: the rail it holds rises to what its feed gives)"),
+				OutOfCircuit: testerReads("no glow when fed at its striking volts through a current-limiting resistor"),
+				Confirm: func(t Target) string {
+					p := t.Part
+					return fmt.Sprintf("Swap %s for a known-good %s: a struck regulator glows (violet or blue) inside and holds its anode near its maintaining volts; one that stays dark with its anode above its striking volts is dead. Check its feed resistor first: an open feed resistor also leaves it dark."+confirmed,
+						p.Ref, p.Valve.Type.Name)
+				},
+				Replace: func(t Target) string {
+					p := t.Part
+					g := p.Valve.Type.Gas
+					return fmt.Sprintf("Fit a known-good %s in %s; check that its current stays within %s–%s and that no more than about 100 nF sits straight across it.",
+						p.Valve.Type.Name, p.Ref, fmtAmps(g.MinAmps), fmtAmps(g.MaxAmps))
+				}},
 		},
 	})
 }
+
+func regulatorOf(m *amp.Model, ref string) *amp.Regulator {
+	for _, rg := range m.Regulators {
+		if rg.Ref == ref {
+			return rg
+		}
+	}
+	return nil
+}
+
+func fmtAmps(a float64) string { return units.Format(a, units.Amps) }
 
 func sectionsOf(m *amp.Model, ref string) []int {
 	var out []int
