@@ -508,12 +508,20 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 			Instruction: fmt.Sprintf("At 100 %% mains, measure %s's electrodes to chassis, one pin at a time (pins counted clockwise from the key, socket viewed from below).", v.Ref),
 			Why:         "Plate, screen, cathode and grid volts together give the valve's operating point: a low plate with a high cathode means heavy current, a high plate with 0 V cathode means no current (an open cathode path, a dead valve, or no heater).",
 			StopIf:      []string{"a plate glows red", "a positive grid on a valve whose grid should sit at 0 V (a leaky coupling capacitor)"}}
+		if v.Valve.Type.Kind == valves.Regulator {
+			g := v.Valve.Type.Gas
+			st.Title = fmt.Sprintf("%s (%s regulator): anode volts", v.Ref, v.Valve.Type.Name)
+			st.Instruction = fmt.Sprintf("At 100 %% mains, measure %s's anode to chassis (socket viewed from below), and look at it: a struck regulator glows inside.", v.Ref)
+			st.Why = fmt.Sprintf("A struck %s holds its anode near %s whatever the supply does; an anode well above that with the valve dark means it has not struck (a dead regulator, or a supply that never reaches its %s striking volts), well under it means its feed resistor is high or the stage it feeds draws too much.",
+				v.Valve.Type.Name, units.Format(g.MaintainVolts, units.Volts), units.Format(g.StrikeVolts, units.Volts))
+			st.StopIf = []string{"the regulator flickers or its glow jumps about (it is oscillating: too much capacitance across it or too little current)"}
+		}
 		for _, pd := range pts {
 			if pd.Valve != v.Ref || pd.Quantity != amp.DCVolts || pd.Net == b.D.Ground {
 				continue
 			}
 			switch pd.Electrode {
-			case valves.Plate, valves.Screen, valves.Cathode, valves.Grid:
+			case valves.Plate, valves.Screen, valves.Cathode, valves.Grid, valves.Anode:
 			default:
 				continue
 			}
