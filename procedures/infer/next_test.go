@@ -97,6 +97,24 @@ func TestDeadAmpPlugFirst(t *testing.T) {
 	}
 }
 
+// TestNearShortOnB1RanksTheCapacitor: B1 reads a fraction of an ohm to
+// chassis, cold. Both the reservoir capacitor shorted and the bleeder
+// across it shorted explain it, but electrolytics break down far more often
+// than resistors short (resistors fail open or drift high: common
+// practice), and a broken-down capacitor reads anything from milliohms to
+// hundreds of ohms (spread evenly in the logarithm, not in ohms), so the
+// capacitor must rank first at every such reading.
+func TestNearShortOnB1RanksTheCapacitor(t *testing.T) {
+	e := demo(t, "se-6v6-stereo.yaml")
+	for _, ohms := range []float64{0.02, 0.3, 3, 30} {
+		r := e.Rank([]Observation{{ColdKey("B1"), ohms}}, nil)
+		t.Logf("B1 %g Ω: %s %.3f, %s %.3f", ohms, r.Suspects[0].Fault, r.Suspects[0].Probability, r.Suspects[1].Fault, r.Suspects[1].Probability)
+		if r.Suspects[0].Fault != "C1:short" {
+			t.Errorf("B1 reads %g Ω: %s ranks first, want C1:short", ohms, r.Suspects[0].Fault)
+		}
+	}
+}
+
 // TestShortedCapOnB2: B2 reads 220 Ω to chassis, cold (a smoothing
 // capacitor broken down: an old electrolytic that has shorted reads tens
 // to hundreds of ohms, not zero, common practice), first alone, then with

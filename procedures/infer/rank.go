@@ -295,7 +295,9 @@ func coldLogLik(c coldPred, r, lb float64) float64 {
 	}
 	sg := sigmaOf(amp.Ohms, r, bandsZeroMeter)
 	var dens float64
-	if c.hi-c.lo < sg*1e-3 {
+	if c.lo > 0 && c.hi > logSpreadRatio*c.lo {
+		dens = logUniformDensity(r, c.lo, c.hi)
+	} else if c.hi-c.lo < sg*1e-3 {
 		z := (r - c.nom) / sg
 		dens = math.Exp(-z*z/2) / (sg * math.Sqrt(2*math.Pi))
 	} else {
@@ -305,6 +307,24 @@ func coldLogLik(c coldPred, r, lb float64) float64 {
 		return lb
 	}
 	return logAddExp(math.Log(1-OutlierFloor)+math.Log(dens), lb)
+}
+
+// logSpreadRatio: a cold prediction whose ends are more than this ratio
+// apart (a broken-down part: a shorted capacitor reads anything from
+// milliohms to hundreds of ohms) is spread evenly in the logarithm of the
+// ohms, not in ohms: a breakdown is as likely to leave 0.1–1 Ω as
+// 10–100 Ω. Tolerance corners never span a decade.
+const logSpreadRatio = 10
+
+// logUniformDensity is the density of a reading r of a value spread evenly
+// in log between lo and hi (1/(x·ln(hi/lo))), read with the ohmmeter's σ:
+// inside the spread the meter's σ is small beside x, so the density at r
+// is the spread's own, its ends softened by the σ at r (and below σ the
+// 1/x is held at 1/σ: a meter cannot tell milliohms apart).
+func logUniformDensity(r, lo, hi float64) float64 {
+	sg := sigmaOf(amp.Ohms, r, bandsZeroMeter)
+	inside := phi((r-lo)/sg) - phi((r-hi)/sg)
+	return inside / (max(r, sg) * math.Log(hi/lo))
 }
 
 func phi(z float64) float64 { return 0.5 * math.Erfc(-z/math.Sqrt2) }
