@@ -302,7 +302,7 @@ func (s *Solver) mainsFactor(c Conditions) float64 {
 		variac = 1
 	}
 	prim := s.m.D.Mains.Volts
-	if s.m.HT != nil && s.m.HT.Transformer.PT.PrimaryVolts > 0 {
+	if s.m.HT != nil && s.m.HT.Transformer != nil && s.m.HT.Transformer.PT.PrimaryVolts > 0 {
 		prim = s.m.HT.Transformer.PT.PrimaryVolts
 	} else if pts := s.m.D.PartsOfKind(design.PowerTransformer); len(pts) > 0 {
 		prim = pts[0].PT.PrimaryVolts
@@ -327,6 +327,9 @@ func (s *Solver) heaters(c Conditions, v *Values, op *OP) map[string]float64 {
 	loads := map[*design.Winding]*wl{}
 	for i, h := range s.m.Heaters {
 		_ = i
+		if h.InString {
+			continue
+		}
 		l := loads[h.Winding]
 		if l == nil {
 			l = &wl{w: h.Winding, pt: h.Transformer}
@@ -349,6 +352,9 @@ func (s *Solver) heaters(c Conditions, v *Values, op *OP) map[string]float64 {
 		}
 		op.Windings = append(op.Windings, WindingOP{Name: w.Name, Volts: vl, Amps: vl * l.g, RatedAmps: rated, Refs: l.refs})
 	}
+	if hs := s.m.String; hs != nil {
+		s.stringHeaters(c, v, f, volts, op)
+	}
 	for _, h := range s.m.Heaters {
 		vv, ok := volts[h.Ref]
 		if !ok {
@@ -358,6 +364,43 @@ func (s *Solver) heaters(c Conditions, v *Values, op *OP) map[string]float64 {
 		op.Heaters = append(op.Heaters, HeaterOP{Ref: h.Ref, Volts: vv, Amps: h.RatedAmps * vv / h.RatedVolts})
 	}
 	return volts
+}
+
+// stringHeaters sets the volts of each heater of the series string: one
+// current, the mains (through the variac) over the droppers and every
+// heater at its rated resistance (rated volts over rated amps, as for a
+// heater on a winding); each heater's volts are its share. One heater
+// open, or the dropper, and the string carries nothing: every heater is
+// cold.
+func (s *Solver) stringHeaters(c Conditions, v *Values, f float64, volts map[string]float64, op *OP) {
+	hs := s.m.String
+	mains := s.m.D.Mains.Volts * f
+	r := 0.0
+	for _, sl := range s.m.DropSlots {
+		r += v.Slot[sl]
+	}
+	open := math.IsInf(r, 1)
+	var refs []string
+	for _, h := range s.m.Heaters {
+		if !h.InString {
+			continue
+		}
+		refs = append(refs, h.Ref)
+		r += h.RatedVolts / h.RatedAmps
+		if v != nil && s.heaterOpen(h.Ref, v) {
+			open = true
+		}
+	}
+	amps := 0.0
+	if !open && r > 0 {
+		amps = mains / r
+	}
+	for _, h := range s.m.Heaters {
+		if h.InString {
+			volts[h.Ref] = amps * h.RatedVolts / h.RatedAmps
+		}
+	}
+	op.Windings = append(op.Windings, WindingOP{Name: "series heater string", Volts: mains, Amps: amps, RatedAmps: hs.Amps, Refs: refs})
 }
 
 // HeaterWindingSource returns the open-circuit rms volts (at the
@@ -453,6 +496,19 @@ func (s *Solver) supplyParams(c Conditions, v *Values, hv map[string]float64) su
 	f := s.mainsFactor(c)
 	p := supply.Params{Topology: ht.Topology, Vrms: ht.VrmsOC * f * v.HTVolts, Rs: ht.Rs * v.HTOhms,
 		Hz: s.m.D.Mains.Hz, Rect: ht.Rect}
+	if ht.Line != nil {
+		// Off the mains: the series resistors as they are in these
+		// values; one of them open leaves no HT at all.
+		rs := 0.0
+		for _, sl := range ht.LineSlots {
+			rs += v.Slot[sl]
+		}
+		if math.IsInf(rs, 1) {
+			p.Vrms = 0
+		} else {
+			p.Rs = rs * v.HTOhms
+		}
+	}
 	p.Rect.Perveance *= v.RectScale
 	if ht.Rect.Kind == supply.Valve {
 		// A valve rectifier's filament runs cool on a low variac setting:
