@@ -26,6 +26,8 @@ const (
 	StepSummary  = "summary"
 	StepIntake   = "intake"
 	StepVisual   = "visual"
+	// StepIsolation: the isolation transformer of a hot-chassis set.
+	StepIsolation = "isolation-transformer"
 )
 
 // meterRatings are common meter voltage ratings, volts.
@@ -129,8 +131,35 @@ func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
 		Measures: []Measure{{Point: EarthKey, Label: "earth pin to chassis", Function: FuncOhms, Range: "200 Ω", Probes: "one lead on the plug's earth pin, the other on bare chassis metal", Unit: "Ω"}},
 		Why:      "The earth bond is what blows the fuse instead of electrifying the chassis when a live wire touches it. A poor bond (paint under the lug, a loose nut) reads ohms, not milliohms.",
 	}
+	if b.D.TwoPin() {
+		// No protective earth to bond to: what keeps a user safe is the
+		// insulation between the mains and every metal part they touch.
+		earth.Title = "Insulation: mains pins to exposed metal"
+		earth.Instruction = fmt.Sprintf("This set has a two-pin mains inlet: there is no earth pin to test. Unplugged, the set's power switch ON: join the plug's live and neutral pins and, with an insulation tester at its test voltage (500 V DC for mains equipment, common practice), "+
+			"measure from them to every metal part a user can touch: knobs' grub screws, cabinet and back-panel screws, socket shells, any exposed bracket. Enter the lowest reading. Expect the tester's top range; under %s stops the walk and cannot be overridden.", FormatValue(InsulationStopOhms, "Ω"))
+		if hot, why := b.D.HotChassis(); hot {
+			earth.Instruction += " The chassis itself is tied to the mains on this set (" + why + "): it must not be one of the parts a user can touch; if it is (a missing back, a chassis screw through the cabinet), mend that before anything else."
+		}
+		earth.Cautions = []string{UnpluggedCaution, InsulationCaution}
+		earth.Measures = []Measure{{Point: InsulationKey, Label: "mains pins to exposed metal", Function: FuncOhms, Range: "insulation tester, 500 V DC",
+			Probes: "one lead on the plug's live and neutral pins joined, the other on each exposed metal part in turn", Unit: "Ω"}}
+		earth.Why = "A set with no mains earth relies on insulation alone: the knobs, screws and panels a user can touch must be insulated from everything on the mains side. A grub screw touching a live shaft, or a cabinet screw into a live chassis, reads low here."
+	}
 	steps = append(steps, earth)
 	gate = append(gate, StepEarth)
+	if hot, why := b.D.HotChassis(); hot {
+		iso := &Step{ID: StepIsolation, Kind: KindIsolation, Safety: true, Gate: append([]string(nil), gate...),
+			Title: "Feed the set through an isolation transformer",
+			Instruction: "The chassis of this set may be at mains potential: " + why + ". Before any live step, plug the set (through the variac and lamp limiter, if you use them) into the output of an isolation transformer rated for its load, and plug the isolation transformer into the mains. " +
+				"A variac alone is an autotransformer and does NOT isolate: its output is still tied to the mains. Confirm (y) only when the set is fed through the isolation transformer; no live step can start until you do, and this step cannot be skipped or overridden.",
+			Cautions: []string{UnpluggedCaution, HotChassisCaution(why)},
+			Why:      "An isolation transformer floats the set's mains side, so that touching the live chassis and earth together no longer passes current through you; the scope's and meter's earths no longer short the mains through the chassis.",
+		}
+		// Not in the gate: the unplugged work goes on without it. The
+		// runner holds every live step until it is done, and the walk
+		// puts it just before the first live step (placeIsolation).
+		steps = append(steps, iso)
+	}
 	return steps, gate
 }
 

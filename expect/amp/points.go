@@ -91,6 +91,14 @@ func (m *Model) Points() []PointDef {
 				d.Quantity = ACAmps
 				out = append(out, d)
 			case valves.Plates:
+				if vt.Kind != valves.Rectifier {
+					// A multi-function valve's diode plates (12AV6 D:
+					// unused) are tied to chassis: a DC point like any pin.
+					d := def
+					d.Quantity = DCVolts
+					out = append(out, d)
+					continue
+				}
 				d := def
 				d.Quantity = ACVolts
 				d.Label += " (to chassis)"

@@ -302,7 +302,7 @@ func (d *Design) HotChassis() (bool, string) {
 			}
 			for _, a := range anodes {
 				if lf, ok := d.LineFeedTo(a); ok {
-					why = append(why, fmt.Sprintf("there is no power transformer: the rectifier %s is fed straight from the mains (%s)", p.Ref, lf.From))
+					why = append(why, fmt.Sprintf("there is no power transformer: the rectifier %s is fed straight from the mains %s (%s)", p.Ref, d.poleWord(lf.From), lf.From))
 					break
 				}
 			}
@@ -334,6 +334,14 @@ func (d *Design) HotChassis() (bool, string) {
 		why = append(why, "the mains inlet has no earth")
 	}
 	return true, strings.Join(why, "; ")
+}
+
+// poleWord names a mains net: "live" or "neutral".
+func (d *Design) poleWord(net string) string {
+	if _, n := d.mainsPoles(); net == n {
+		return "neutral"
+	}
+	return "live"
 }
 
 // tieTo says how the ground net is joined to the net pole by one part:

@@ -472,6 +472,8 @@ func (sh *Sheet) groupOf(r procedures.Reading, repaired time.Time) (int, string)
 		return 0, "Filter capacitors discharged before work"
 	case key.Domain == point.Earth:
 		return 1, "Mains earth continuity (multimeter)"
+	case key.Domain == point.Insulation:
+		return 1, "Insulation, mains pins to exposed metal"
 	case key.Domain == point.Cold && !strings.Contains(label, "to chassis"):
 		return 3, "Windings and mains input, unplugged"
 	case key.Domain == point.Cold:
