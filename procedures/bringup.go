@@ -176,6 +176,7 @@ func rangeFor(v float64, unit string) string {
 // coldSteps groups the cold checks by kind.
 func coldSteps(b *BenchModel, gate []string) []*Step {
 	groups := []struct{ kind, title, why string }{
+		{"heaters", "the series heater string (valves in)", "The heaters of a transformerless set are one series string across the mains: one open heater, or an open dropper, and no valve lights. Read end to end at the plug, it is the first cold check of such a set, done before the valves come out."},
 		{"b+", "B+ nets", "A short or a leaky capacitor on a B+ net shows as a low resistance now, before power can burn anything; the bleeder sets the expected value."},
 		{"bias", "bias supply", "The bias network must be intact before power: an open bias pot or resistor leaves the output valves with no negative grid volts, and they run away."},
 		{"plate", "plates", "Each plate should see its load resistor or transformer winding to B+ and on through the bleeder: an open load reads high."},
@@ -198,9 +199,13 @@ func coldSteps(b *BenchModel, gate []string) []*Step {
 		if len(ms) == 0 {
 			continue
 		}
+		instr := "Unplugged and discharged, valves out of their sockets (a valve rectifier too): measure each resistance. Readings may climb while the meter charges the filter capacitors: wait for them to settle."
+		if g.kind == "heaters" {
+			instr = "Unplugged and discharged, every valve IN its socket, the power switch on: measure from the plug's live pin to its neutral pin. An open reading means a heater or the dropper is open: find it by measuring across each heater's pins in turn."
+		}
 		out = append(out, &Step{ID: "cold-" + g.kind, Kind: KindCold, Gate: gate,
 			Title:       "Cold resistance: " + g.title,
-			Instruction: "Unplugged and discharged, valves out of their sockets (a valve rectifier too): measure each resistance. Readings may climb while the meter charges the filter capacitors: wait for them to settle.",
+			Instruction: instr,
 			Cautions:    []string{UnpluggedCaution},
 			Measures:    ms, Why: g.why})
 	}

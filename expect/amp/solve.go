@@ -55,6 +55,12 @@ type Values struct {
 	// open. It changes no DC value except through StageC; AC analysis reads
 	// it. nil means none.
 	CapOpen map[string]bool
+	// StringOpen: the series heater string is broken (a heater in it
+	// open, the rectifier's included): no heater in it lights. An open
+	// dropper shows as its slot at +Inf, an amplifying valve's open heater
+	// as its emission below 0; this flag is for the heaters neither
+	// covers.
+	StringOpen bool
 }
 
 // NominalValues returns a fresh copy of the nominal part values.
@@ -379,7 +385,7 @@ func (s *Solver) stringHeaters(c Conditions, v *Values, f float64, volts map[str
 	for _, sl := range s.m.DropSlots {
 		r += v.Slot[sl]
 	}
-	open := math.IsInf(r, 1)
+	open := math.IsInf(r, 1) || (v != nil && v.StringOpen)
 	var refs []string
 	for _, h := range s.m.Heaters {
 		if !h.InString {

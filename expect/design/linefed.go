@@ -416,3 +416,56 @@ func (l *loader) checkHeaterString(d *Design) map[string]bool {
 	}
 	return in
 }
+
+// MainsSideNets returns the nets on the mains side of a transformerless
+// set: the path from the inlet's live to the rectifier anode and the
+// heater string's nets (the chassis excluded). They carry mains AC, not
+// DC worth a reading to chassis.
+func (d *Design) MainsSideNets() map[string]bool {
+	out := map[string]bool{}
+	if len(d.PartsOfKind(PowerTransformer)) > 0 {
+		return out
+	}
+	live, neutral := d.mainsPoles()
+	for _, p := range d.Parts {
+		var anodes []string
+		switch {
+		case p.Kind == Rectifier && !p.Rect.Bridge:
+			anodes = p.Rect.Anodes
+		case p.Kind == Valve && p.Valve.Type.Kind == valves.Rectifier:
+			anodes = strings.Split(p.Valve.Sections[""][valves.Plates], ",")
+		}
+		for _, a := range anodes {
+			if lf, ok := d.LineFeedTo(a); ok {
+				for _, n := range lf.PathNets {
+					out[n] = true
+				}
+			}
+		}
+	}
+	if hs, err := d.SeriesHeaters(); err == nil && hs != nil {
+		if _, nets, ok := d.linePath(live, hs.LiveEnd, nil); ok {
+			for _, n := range nets {
+				out[n] = true
+			}
+		}
+		for _, ref := range hs.Valves {
+			for _, n := range d.ByRef[ref].Valve.HeaterNets {
+				out[n] = true
+			}
+		}
+		for _, ref := range hs.Droppers {
+			for _, t := range d.ByRef[ref].Terminals {
+				out[t.Net] = true
+			}
+		}
+	}
+	if live != "" {
+		out[live] = true
+	}
+	if neutral != "" {
+		out[neutral] = true
+	}
+	delete(out, d.Ground)
+	return out
+}

@@ -391,6 +391,7 @@ func Apply(m *amp.Model, v *amp.Values, f Fault) error {
 			v.Slot[i] = val
 		}
 	}
+	seriesString(m, v, p, f)
 	open, short := math.Inf(1), 0.0
 	if htSeries(m, p.Ref) {
 		open, short = SeriesOpenOhms, SeriesShortOhms
@@ -669,4 +670,21 @@ func Describe(f Fault, m *amp.Model) string {
 		return name + " dead (output at 0 V)"
 	}
 	return name + " " + string(f.Mode)
+}
+
+// --- the series heater string of a transformerless set ---------------------
+
+// seriesString applies what a fault does to the series heater string: a
+// heater open anywhere in it (an amplifying valve's or the rectifier's)
+// breaks the string, and no valve in it lights. (An open dropper is its
+// resistor slot at +Inf, which the string model reads itself.)
+func seriesString(m *amp.Model, v *amp.Values, p *design.Part, f Fault) {
+	if m.String == nil || f.Mode != HeaterOpen || p.Kind != design.Valve {
+		return
+	}
+	for _, ref := range m.String.Valves {
+		if ref == p.Ref {
+			v.StringOpen = true
+		}
+	}
 }
