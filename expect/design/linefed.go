@@ -135,6 +135,7 @@ type HeaterString struct {
 	Droppers []string // resistor refs between the mains and the string
 	DropOhms float64  // the droppers' total, ohms
 	LiveEnd  string   // the net of the string's live end (the mains side of the droppers)
+	Top      string   // the heater net at the string's live end (the droppers' heater side)
 	Return   string   // the net of the string's other end (neutral or chassis)
 	Amps     float64  // the rated heater current (every heater's, when they agree)
 	// Mismatch names a heater whose rated current differs from the
@@ -249,7 +250,7 @@ func (d *Design) SeriesHeaters() (hs *HeaterString, err error) {
 	if !ok {
 		return nil, fmt.Errorf("the series heater string's end %s does not reach the mains live %s through a dropper resistor or fuse", top, live)
 	}
-	hs.LiveEnd = top
+	hs.LiveEnd, hs.Top = top, top
 	for _, p := range parts {
 		if p.Kind == Resistor {
 			hs.Droppers = append(hs.Droppers, p.Ref)
