@@ -475,7 +475,13 @@ const (
 // rectifier's plate path is open cold). One open heater, or the dropper,
 // reads open, and then no valve lights.
 func heaterString(d *design.Design, hs *design.HeaterString, live, neutral string) (Check, error) {
-	n := buildNetwork(d)
+	return heaterStringOn(buildNetwork(d), hs, live, neutral, "")
+}
+
+// heaterStringOn is heaterString on a cold network n (a fault may have
+// changed it), the heater of valve open (if any) left out.
+func heaterStringOn(n *network, hs *design.HeaterString, live, neutral, open string) (Check, error) {
+	d := n.d
 	add := func(ref, a, b string, ohms float64, tol design.Tolerance) {
 		n.edges = append(n.edges, edge{a: a, b: b, ohms: ohms, tol: tol, ref: ref})
 		i := len(n.edges) - 1
@@ -484,6 +490,9 @@ func heaterString(d *design.Design, hs *design.HeaterString, live, neutral strin
 	}
 	tol := design.Tolerance{Lo: ColdHeaterShareLo/ColdHeaterShare - 1, Hi: ColdHeaterShareHi/ColdHeaterShare - 1}
 	for _, ref := range hs.Valves {
+		if ref == open {
+			continue
+		}
 		vp := d.ByRef[ref].Valve
 		add(ref, vp.HeaterNets[0], vp.HeaterNets[1], ColdHeaterShare*vp.HeaterVolts/vp.HeaterAmps, tol)
 	}
