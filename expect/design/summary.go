@@ -18,6 +18,8 @@ const (
 	FindHeaterOverload      = "heater-overload"       // valve heaters draw more than the winding's rating
 	FindScreenNoStopper     = "screen-no-stopper"     // a screen straight on a B+ filter net
 	FindElectrolyticNoVolts = "electrolytic-no-volts" // an electrolytic with no voltage rating
+	FindHotChassis          = "hot-chassis"           // the chassis may be at mains potential (design.HotChassis)
+	FindSeriesString        = "series-string"         // the heaters are one series string across the mains
 )
 
 // SummaryFinding is one unusual thing Summarize noticed about a design.
@@ -312,6 +314,17 @@ func supplyChains(d *Design) []SupplyChain {
 		}
 		t, w := windingOf(anodes[0])
 		if w == nil {
+			if lf, ok := d.LineFeedTo(anodes[0]); ok {
+				via := append(append([]string(nil), lf.Fuses...), lf.Series...)
+				s := fmt.Sprintf("the mains %s %s, no transformer", d.poleWord(lf.From), lf.From)
+				if len(via) > 0 {
+					s += ", through " + strings.Join(via, ", ")
+				}
+				if lf.Ohms > 0 {
+					s += " (" + units.Format(lf.Ohms, units.Ohms) + ")"
+				}
+				return s + " to " + anodes[0]
+			}
 			return "no winding (anode net " + anodes[0] + ")"
 		}
 		v := units.Format(w.Volts, units.Volts)
@@ -449,6 +462,25 @@ func findings(d *Design, s *Summary) []SummaryFinding {
 		add(FindOneConnection, Warning, u.Ref, net, u.Pos,
 			"net %s has only one connection (%s %s): a net joins at least two parts; is a part missing or the name misspelled?",
 			net, u.Ref, u.Terminal)
+	}
+	if hot, why := d.HotChassis(); hot {
+		pos := Pos{1, 1}
+		if in := d.Inlet(); in != nil {
+			pos = in.Pos
+		}
+		add(FindHotChassis, Warning, "", d.Ground, pos,
+			"HOT CHASSIS: the chassis may be at mains potential (%s): power the set only through an isolation transformer (a variac alone is an autotransformer and does not isolate); the walk will not do a live step without one", why)
+	}
+	if hs, err := d.SeriesHeaters(); err == nil && hs != nil {
+		amps := d.Mains.Volts / hs.RatedOhms(d)
+		drop := "no dropper"
+		if len(hs.Droppers) > 0 {
+			drop = "the dropper " + strings.Join(hs.Droppers, ", ") + " (" + units.Format(hs.DropOhms, units.Ohms) + ")"
+		}
+		p := d.ByRef[hs.Valves[0]]
+		add(FindSeriesString, Note, p.Ref, "", p.FieldPos("heater"),
+			"series heater string across the mains: %s and the heaters of %s, %s at %s mains (rated %s); one open heater and no valve lights",
+			drop, strings.Join(hs.Valves, ", "), units.Format(amps, units.Amps), units.Format(d.Mains.Volts, units.Volts), units.Format(hs.Amps, units.Amps))
 	}
 	groups := d.DCGroups()
 	ground := groups[d.Ground]
