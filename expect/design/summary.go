@@ -18,8 +18,6 @@ const (
 	FindHeaterOverload      = "heater-overload"       // valve heaters draw more than the winding's rating
 	FindScreenNoStopper     = "screen-no-stopper"     // a screen straight on a B+ filter net
 	FindElectrolyticNoVolts = "electrolytic-no-volts" // an electrolytic with no voltage rating
-	FindHotChassis          = "hot-chassis"           // the chassis may be at mains potential (design.HotChassis)
-	FindSeriesString        = "series-string"         // the heaters are one series string across the mains
 )
 
 // SummaryFinding is one unusual thing Summarize noticed about a design.
@@ -104,7 +102,10 @@ type Summary struct {
 	Transformers []TransformerSummary
 	Nets         []NetSummary
 	Findings     []SummaryFinding
-	ground       string
+	// Mains says, for a transformerless set, that the chassis may be at
+	// mains potential and how the heaters are strung ("" lines omitted).
+	Mains  []string
+	ground string
 }
 
 // DescribePart says what a part is in a few words with its main values:
@@ -241,7 +242,27 @@ func Summarize(d *Design) *Summary {
 		s.Nets = append(s.Nets, ns)
 	}
 	s.Findings = findings(d, s)
+	s.Mains = mainsWords(d)
 	return s
+}
+
+// mainsWords describes a transformerless set's mains side: the hot
+// chassis (design.HotChassis) and the series heater string.
+func mainsWords(d *Design) []string {
+	var out []string
+	if hot, why := d.HotChassis(); hot {
+		out = append(out, fmt.Sprintf("HOT CHASSIS: the chassis may be at mains potential (%s): power the set only through an isolation transformer (a variac alone is an autotransformer and does not isolate); the walk will not do a live step without one", why))
+	}
+	if hs, err := d.SeriesHeaters(); err == nil && hs != nil {
+		amps := d.Mains.Volts / hs.RatedOhms(d)
+		drop := "no dropper"
+		if len(hs.Droppers) > 0 {
+			drop = "the dropper " + strings.Join(hs.Droppers, ", ") + " (" + units.Format(hs.DropOhms, units.Ohms) + ")"
+		}
+		out = append(out, fmt.Sprintf("series heater string across the mains: %s and the heaters of %s, %s at %s mains (rated %s); one open heater and no valve lights",
+			drop, strings.Join(hs.Valves, ", "), units.Format(amps, units.Amps), units.Format(d.Mains.Volts, units.Volts), units.Format(hs.Amps, units.Amps)))
+	}
+	return out
 }
 
 func valveSummary(d *Design, p *Part) ValveSummary {
@@ -463,25 +484,6 @@ func findings(d *Design, s *Summary) []SummaryFinding {
 			"net %s has only one connection (%s %s): a net joins at least two parts; is a part missing or the name misspelled?",
 			net, u.Ref, u.Terminal)
 	}
-	if hot, why := d.HotChassis(); hot {
-		pos := Pos{1, 1}
-		if in := d.Inlet(); in != nil {
-			pos = in.Pos
-		}
-		add(FindHotChassis, Warning, "", d.Ground, pos,
-			"HOT CHASSIS: the chassis may be at mains potential (%s): power the set only through an isolation transformer (a variac alone is an autotransformer and does not isolate); the walk will not do a live step without one", why)
-	}
-	if hs, err := d.SeriesHeaters(); err == nil && hs != nil {
-		amps := d.Mains.Volts / hs.RatedOhms(d)
-		drop := "no dropper"
-		if len(hs.Droppers) > 0 {
-			drop = "the dropper " + strings.Join(hs.Droppers, ", ") + " (" + units.Format(hs.DropOhms, units.Ohms) + ")"
-		}
-		p := d.ByRef[hs.Valves[0]]
-		add(FindSeriesString, Note, p.Ref, "", p.FieldPos("heater"),
-			"series heater string across the mains: %s and the heaters of %s, %s at %s mains (rated %s); one open heater and no valve lights",
-			drop, strings.Join(hs.Valves, ", "), units.Format(amps, units.Amps), units.Format(d.Mains.Volts, units.Volts), units.Format(hs.Amps, units.Amps))
-	}
 	groups := d.DCGroups()
 	ground := groups[d.Ground]
 	through := newValvePaths(d, groups)
@@ -608,6 +610,12 @@ func (s *Summary) WriteText(w io.Writer) error {
 		title = "(no title)"
 	}
 	fmt.Fprintf(&b, "%s\n%s\n", title, s.File)
+	if len(s.Mains) > 0 {
+		b.WriteString("\nMains side\n")
+		for _, l := range s.Mains {
+			fmt.Fprintf(&b, "  %s\n", l)
+		}
+	}
 	for _, ch := range s.Supplies {
 		fmt.Fprintf(&b, "\n%s supply, from the source outwards\n  %s\n", ch.Name, ch.Source)
 		for _, st := range ch.Stages {
