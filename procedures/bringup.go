@@ -193,8 +193,12 @@ func coldSteps(b *BenchModel, gate []string) []*Step {
 			if c.Kind != g.kind {
 				continue
 			}
+			probes := fmt.Sprintf("red on %s, black on %s", b.probeAt(c.From), b.probeAt(c.To))
+			if c.Kind == "heaters" {
+				probes = "one lead on the mains plug's live pin, the other on its neutral pin (the set's power switch on)"
+			}
 			ms = append(ms, Measure{Point: ColdKey(c), Label: c.ID + " resistance", Function: FuncOhms,
-				Range: ohmsRange(c), Probes: fmt.Sprintf("red on %s, black on %s", b.probeAt(c.From), b.probeAt(c.To)), Unit: "Ω"})
+				Range: ohmsRange(c), Probes: probes, Unit: "Ω"})
 		}
 		if len(ms) == 0 {
 			continue
