@@ -101,6 +101,24 @@ func TestSeriesHeaterString(t *testing.T) {
 			t.Errorf("%s heater %.4f V, want %.4f V", ref, got[ref], want)
 		}
 	}
+	// The dropper's heat, Joule's law: I² × 150 Ω (its rating checked
+	// like any resistor's).
+	var op OP
+	if err := NewSolver(m).Solve(Conditions{}, m.NominalValues(), false, &op); err != nil {
+		t.Fatal(err)
+	}
+	found := false
+	for _, r := range m.Resistors(&op) {
+		if r.Ref == "R9" {
+			found = true
+			if want := amps * amps * 150; math.Abs(r.Watts-want) > 1e-6*want {
+				t.Errorf("dropper R9 dissipates %.4f W, want %.4f W", r.Watts, want)
+			}
+		}
+	}
+	if !found {
+		t.Errorf("the dropper is not among the resistors")
+	}
 	half := heaters(Conditions{Variac: 0.5}, m.NominalValues())
 	for ref := range rated {
 		if math.Abs(half[ref]-got[ref]/2) > 1e-6*got[ref] {

@@ -372,6 +372,10 @@ func (s *Solver) heaters(c Conditions, v *Values, op *OP) map[string]float64 {
 	return volts
 }
 
+// SeriesStringName names the series heater string among the heater
+// windings of an operating point.
+const SeriesStringName = "series heater string"
+
 // stringHeaters sets the volts of each heater of the series string: one
 // current, the mains (through the variac) over the droppers and every
 // heater at its rated resistance (rated volts over rated amps, as for a
@@ -406,7 +410,7 @@ func (s *Solver) stringHeaters(c Conditions, v *Values, f float64, volts map[str
 			volts[h.Ref] = amps * h.RatedVolts / h.RatedAmps
 		}
 	}
-	op.Windings = append(op.Windings, WindingOP{Name: "series heater string", Volts: mains, Amps: amps, RatedAmps: hs.Amps, Refs: refs})
+	op.Windings = append(op.Windings, WindingOP{Name: SeriesStringName, Volts: mains, Amps: amps, RatedAmps: hs.Amps, Refs: refs})
 }
 
 // HeaterWindingSource returns the open-circuit rms volts (at the
