@@ -40,7 +40,7 @@ type Options struct {
 
 // SafetyKinds are the step kinds whose confirmation is listed as a safety
 // check when no procedure is given.
-var SafetyKinds = []procedures.Kind{procedures.KindBriefing, procedures.KindMeter, procedures.KindDischarge, procedures.KindEarth}
+var SafetyKinds = []procedures.Kind{procedures.KindBriefing, procedures.KindMeter, procedures.KindDischarge, procedures.KindEarth, procedures.KindIsolation}
 
 // Sheet is a built job sheet, ready to render.
 type Sheet struct {
