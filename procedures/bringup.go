@@ -372,7 +372,16 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 	if ramp && len(heaters) > 0 {
 		// Heaters with no HT: at a low setting first, then at full mains.
 		var how, back string
-		if r := b.valveRectifier(); r != nil {
+		if r := b.valveRectifier(); r != nil && b.inString(r.Ref) {
+			// In a series heater string the rectifier's heater carries
+			// every other heater's current: pulled, no valve lights.
+			lead := "the lead feeding its plate"
+			if lf := b.M.HT.Line; lf != nil && len(lf.Series) > 0 {
+				lead = fmt.Sprintf("the lead of %s at its plate (net %s)", lf.Series[len(lf.Series)-1], lf.Anode)
+			}
+			how = fmt.Sprintf("Unplugged and discharged: keep every valve in its socket (the heaters are one series string: pulling any valve, the rectifier %s too, leaves every heater cold). Unsolder %s from the rectifier %s and insulate its end, so that no HT can come up.", r.Ref, lead, r.Ref)
+			back = fmt.Sprintf("resolder %s on the rectifier %s", lead, r.Ref)
+		} else if r != nil {
 			how = fmt.Sprintf("Pull the rectifier valve %s (%s) so that no HT can come up; fit every other valve.", r.Ref, r.Valve.Type.Name)
 			back = fmt.Sprintf("refit the rectifier valve %s", r.Ref)
 		} else if b.M.HT != nil {
@@ -746,4 +755,18 @@ func valveOrder(b *BenchModel) []*design.Part {
 		out[i] = v.p
 	}
 	return out
+}
+
+// inString reports whether a valve's heater is in the series heater
+// string of a transformerless set.
+func (b *BenchModel) inString(ref string) bool {
+	if b.M.String == nil {
+		return false
+	}
+	for _, r := range b.M.String.Valves {
+		if r == ref {
+			return true
+		}
+	}
+	return false
 }
