@@ -375,12 +375,12 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 		if r := b.valveRectifier(); r != nil && b.inString(r.Ref) {
 			// In a series heater string the rectifier's heater carries
 			// every other heater's current: pulled, no valve lights.
-			lead := "the lead feeding its plate"
+			lead := fmt.Sprintf("the lead to the rectifier %s's plate pin", r.Ref)
 			if lf := b.M.HT.Line; lf != nil && len(lf.Series) > 0 {
-				lead = fmt.Sprintf("the lead of %s at its plate (net %s)", lf.Series[len(lf.Series)-1], lf.Anode)
+				lead = fmt.Sprintf("%s's lead from the rectifier %s's plate pin (net %s)", lf.Series[len(lf.Series)-1], r.Ref, lf.Anode)
 			}
-			how = fmt.Sprintf("Unplugged and discharged: keep every valve in its socket (the heaters are one series string: pulling any valve, the rectifier %s too, leaves every heater cold). Unsolder %s from the rectifier %s and insulate its end, so that no HT can come up.", r.Ref, lead, r.Ref)
-			back = fmt.Sprintf("resolder %s on the rectifier %s", lead, r.Ref)
+			how = fmt.Sprintf("Unplugged and discharged: keep every valve in its socket (the heaters are one series string: pulling any valve, the rectifier %s too, leaves every heater cold). Unsolder %s and insulate its end, so that no HT can come up.", r.Ref, lead)
+			back = "resolder " + lead
 		} else if r != nil {
 			how = fmt.Sprintf("Pull the rectifier valve %s (%s) so that no HT can come up; fit every other valve.", r.Ref, r.Valve.Type.Name)
 			back = fmt.Sprintf("refit the rectifier valve %s", r.Ref)
