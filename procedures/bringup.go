@@ -380,7 +380,7 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 				lead = fmt.Sprintf("%s's lead from the rectifier %s's plate pin (net %s)", lf.Series[len(lf.Series)-1], r.Ref, lf.Anode)
 			}
 			how = fmt.Sprintf("Unplugged and discharged: keep every valve in its socket (the heaters are one series string: pulling any valve, the rectifier %s too, leaves every heater cold). Unsolder %s and insulate its end, so that no HT can come up.", r.Ref, lead)
-			back = "resolder " + lead
+			back = "resolder " + strings.Replace(lead, " from the rectifier", " to the rectifier", 1)
 		} else if r != nil {
 			how = fmt.Sprintf("Pull the rectifier valve %s (%s) so that no HT can come up; fit every other valve.", r.Ref, r.Valve.Type.Name)
 			back = fmt.Sprintf("refit the rectifier valve %s", r.Ref)
