@@ -49,6 +49,10 @@ type Sheet struct {
 	// DesignFile and DesignHash are as the session recorded them;
 	// LoadedHash is the hash of the design file loaded now ("" when none).
 	DesignFile, DesignHash, LoadedHash string
+	// TwoPin: the design's mains inlet has no earth (a Class II or
+	// transformerless set): no earth bond to test, and the insulation
+	// limit is the class II one.
+	TwoPin bool
 	Mode                               procedures.Mode
 	Started, Updated                   time.Time
 	// Mains is the mains volts the operating points were solved at.
@@ -161,6 +165,7 @@ func Build(s *procedures.Session, opt Options) (*Sheet, error) {
 	d := opt.Design
 	if d != nil {
 		sh.LoadedHash = d.Hash
+		sh.TwoPin = d.TwoPin()
 		if d.Title != "" {
 			sh.Title = d.Title
 		}
