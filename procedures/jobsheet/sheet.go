@@ -52,9 +52,9 @@ type Sheet struct {
 	// TwoPin: the design's mains inlet has no earth (a Class II or
 	// transformerless set): no earth bond to test, and the insulation
 	// limit is the class II one.
-	TwoPin bool
-	Mode                               procedures.Mode
-	Started, Updated                   time.Time
+	TwoPin           bool
+	Mode             procedures.Mode
+	Started, Updated time.Time
 	// Mains is the mains volts the operating points were solved at.
 	Mains   float64
 	Variacs []float64 // distinct variac fractions readings were taken at (0 = none)
