@@ -245,8 +245,7 @@ func (d *Design) SeriesHeaters() (hs *HeaterString, err error) {
 	for i := len(chain) - 1; i >= 0; i-- {
 		hs.Valves = append(hs.Valves, chain[i])
 	}
-	skip := map[string]bool{}
-	parts, _, ok := d.linePath(live, top, skip)
+	parts, _, ok := d.linePath(live, top, nil)
 	if !ok {
 		return nil, fmt.Errorf("the series heater string's end %s does not reach the mains live %s through a dropper resistor or fuse", top, live)
 	}
