@@ -28,6 +28,7 @@ const (
 	rolePreamp      = "preamp"        // other amplifying valve
 	roleRectValve   = "rect-valve"    // valve rectifier
 	roleBias        = "bias"          // bias supply, or a part on its output nets
+	roleString      = "heater-string" // a valve or dropper in a transformerless set's series heater string
 )
 
 // HotFraction is the share of a resistor's rated dissipation above which it
@@ -150,6 +151,10 @@ var symptomTable = []symptomRule{
 	{"no-lights", design.Fuse, "", faults.Open, 1000},
 	{"no-lights", design.PowerTransformer, "", faults.HeaterOpen, 250},
 	{"no-lights", design.Rectifier, "", faults.Short, 100}, // it blew the fuse
+	// A series heater string: one open heater, or the dropper, and no
+	// valve lights (Ohm's law: one current through them all).
+	{"no-lights", design.Valve, roleString, faults.HeaterOpen, 250},
+	{"no-lights", design.Resistor, roleString, faults.Open, 250},
 	{"no-lights", healthyKind, "", "", 0.01},
 	// The valves glow but there is no sound at all: the HT supply or a
 	// stage every signal passes through.
@@ -287,6 +292,11 @@ func partRoles(m *amp.Model, op *amp.OP) map[string]map[string]bool {
 			if m.HT.Rectifier.Kind == design.Valve {
 				add(m.HT.Rectifier.Ref, roleRectValve)
 			}
+		}
+	}
+	if hs := m.String; hs != nil {
+		for _, r := range append(append([]string(nil), hs.Valves...), hs.Droppers...) {
+			add(r, roleString)
 		}
 	}
 	biasNet := map[string]bool{}
