@@ -18,8 +18,9 @@ import (
 // EarthKey and MainsKey are the two fixed points outside the amplifier
 // model: mains earth pin to chassis (ohms) and the mains as measured.
 var (
-	EarthKey = point.EarthKey
-	MainsKey = point.MainsKey
+	EarthKey      = point.EarthKey
+	MainsKey      = point.MainsKey
+	InsulationKey = point.InsulationKey
 )
 
 // Earth continuity band, ohms: a multimeter reading well under 0.5 Ω
@@ -337,6 +338,9 @@ func (b *BenchModel) effectiveVariac(variac float64, readings []Reading) float64
 // Expect implements Expecter.
 func (b *BenchModel) Expect(k point.Key, variac float64, readings []Reading) (Band, bool) {
 	switch k.Domain {
+	case point.Insulation:
+		return Band{Nominal: InsulationGoodOhms, Low: InsulationStopOhms, High: math.Inf(1),
+			Note: "an insulation tester at its test voltage (500 V DC for mains equipment, common practice); a sound set reads at the top of its range"}, true
 	case point.Earth:
 		return Band{Nominal: 0.1, Low: 0, High: EarthMaxOhms,
 			Note: "after nulling the meter leads; a multimeter reading is only an indication, no substitute for an earth-bond tester (IEC 61557-4): in-service limit 0.1 Ω plus the cord (IET Code of Practice)"}, true

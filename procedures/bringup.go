@@ -26,6 +26,8 @@ const (
 	StepSummary  = "summary"
 	StepIntake   = "intake"
 	StepVisual   = "visual"
+	// StepIsolation: the isolation transformer of a hot-chassis set.
+	StepIsolation = "isolation-transformer"
 )
 
 // meterRatings are common meter voltage ratings, volts.
@@ -129,8 +131,35 @@ func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
 		Measures: []Measure{{Point: EarthKey, Label: "earth pin to chassis", Function: FuncOhms, Range: "200 Ω", Probes: "one lead on the plug's earth pin, the other on bare chassis metal", Unit: "Ω"}},
 		Why:      "The earth bond is what blows the fuse instead of electrifying the chassis when a live wire touches it. A poor bond (paint under the lug, a loose nut) reads ohms, not milliohms.",
 	}
+	if b.D.TwoPin() {
+		// No protective earth to bond to: what keeps a user safe is the
+		// insulation between the mains and every metal part they touch.
+		earth.Title = "Insulation: mains pins to exposed metal"
+		earth.Instruction = fmt.Sprintf("This set has a two-pin mains inlet: there is no earth pin to test. Unplugged, the set's power switch ON: join the plug's live and neutral pins and, with an insulation tester at its test voltage (500 V DC for mains equipment, common practice), "+
+			"measure from them to every metal part a user can touch: knobs' grub screws, cabinet and back-panel screws, socket shells, any exposed bracket. Enter the lowest reading. Expect the tester's top range; under %s stops the walk and cannot be overridden.", FormatValue(InsulationStopOhms, "Ω"))
+		if hot, why := b.D.HotChassis(); hot {
+			earth.Instruction += " The chassis itself is tied to the mains on this set (" + why + "): it must not be one of the parts a user can touch; if it is (a missing back, a chassis screw through the cabinet), mend that before anything else."
+		}
+		earth.Cautions = []string{UnpluggedCaution, InsulationCaution}
+		earth.Measures = []Measure{{Point: InsulationKey, Label: "mains pins to exposed metal", Function: FuncOhms, Range: "insulation tester, 500 V DC",
+			Probes: "one lead on the plug's live and neutral pins joined, the other on each exposed metal part in turn", Unit: "Ω"}}
+		earth.Why = "A set with no mains earth relies on insulation alone: the knobs, screws and panels a user can touch must be insulated from everything on the mains side. A grub screw touching a live shaft, or a cabinet screw into a live chassis, reads low here."
+	}
 	steps = append(steps, earth)
 	gate = append(gate, StepEarth)
+	if hot, why := b.D.HotChassis(); hot {
+		iso := &Step{ID: StepIsolation, Kind: KindIsolation, Safety: true, Gate: append([]string(nil), gate...),
+			Title: "Feed the set through an isolation transformer",
+			Instruction: "The chassis of this set may be at mains potential: " + why + ". Before any live step, plug the set (through the variac and lamp limiter, if you use them) into the output of an isolation transformer rated for its load, and plug the isolation transformer into the mains. " +
+				"A variac alone is an autotransformer and does NOT isolate: its output is still tied to the mains. Confirm (y) only when the set is fed through the isolation transformer; no live step can start until you do, and this step cannot be skipped or overridden.",
+			Cautions: []string{UnpluggedCaution, HotChassisCaution(why)},
+			Why:      "An isolation transformer floats the set's mains side, so that touching the live chassis and earth together no longer passes current through you; the scope's and meter's earths no longer short the mains through the chassis.",
+		}
+		// Not in the gate: the unplugged work goes on without it. The
+		// runner holds every live step until it is done, and the walk
+		// puts it just before the first live step (placeIsolation).
+		steps = append(steps, iso)
+	}
 	return steps, gate
 }
 
@@ -147,6 +176,7 @@ func rangeFor(v float64, unit string) string {
 // coldSteps groups the cold checks by kind.
 func coldSteps(b *BenchModel, gate []string) []*Step {
 	groups := []struct{ kind, title, why string }{
+		{"heaters", "the series heater string (valves in)", "The heaters of a transformerless set are one series string across the mains: one open heater, or an open dropper, and no valve lights. Read end to end at the plug, it is the first cold check of such a set, done before the valves come out."},
 		{"b+", "B+ nets", "A short or a leaky capacitor on a B+ net shows as a low resistance now, before power can burn anything; the bleeder sets the expected value."},
 		{"bias", "bias supply", "The bias network must be intact before power: an open bias pot or resistor leaves the output valves with no negative grid volts, and they run away."},
 		{"plate", "plates", "Each plate should see its load resistor or transformer winding to B+ and on through the bleeder: an open load reads high."},
@@ -163,15 +193,23 @@ func coldSteps(b *BenchModel, gate []string) []*Step {
 			if c.Kind != g.kind {
 				continue
 			}
+			probes := fmt.Sprintf("red on %s, black on %s", b.probeAt(c.From), b.probeAt(c.To))
+			if c.Kind == "heaters" {
+				probes = "one lead on the mains plug's live pin, the other on its neutral pin (the set's power switch on)"
+			}
 			ms = append(ms, Measure{Point: ColdKey(c), Label: c.ID + " resistance", Function: FuncOhms,
-				Range: ohmsRange(c), Probes: fmt.Sprintf("red on %s, black on %s", b.probeAt(c.From), b.probeAt(c.To)), Unit: "Ω"})
+				Range: ohmsRange(c), Probes: probes, Unit: "Ω"})
 		}
 		if len(ms) == 0 {
 			continue
 		}
+		instr := "Unplugged and discharged, valves out of their sockets (a valve rectifier too): measure each resistance. Readings may climb while the meter charges the filter capacitors: wait for them to settle."
+		if g.kind == "heaters" {
+			instr = "Unplugged and discharged, every valve IN its socket, the power switch on: measure from the plug's live pin to its neutral pin. An open reading means a heater or the dropper is open: find it by measuring across each heater's pins in turn."
+		}
 		out = append(out, &Step{ID: "cold-" + g.kind, Kind: KindCold, Gate: gate,
 			Title:       "Cold resistance: " + g.title,
-			Instruction: "Unplugged and discharged, valves out of their sockets (a valve rectifier too): measure each resistance. Readings may climb while the meter charges the filter capacitors: wait for them to settle.",
+			Instruction: instr,
 			Cautions:    []string{UnpluggedCaution},
 			Measures:    ms, Why: g.why})
 	}
@@ -334,7 +372,16 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 	if ramp && len(heaters) > 0 {
 		// Heaters with no HT: at a low setting first, then at full mains.
 		var how, back string
-		if r := b.valveRectifier(); r != nil {
+		if r := b.valveRectifier(); r != nil && b.inString(r.Ref) {
+			// In a series heater string the rectifier's heater carries
+			// every other heater's current: pulled, no valve lights.
+			lead := fmt.Sprintf("the lead to the rectifier %s's plate pin", r.Ref)
+			if lf := b.M.HT.Line; lf != nil && len(lf.Series) > 0 {
+				lead = fmt.Sprintf("%s's lead from the rectifier %s's plate pin (net %s)", lf.Series[len(lf.Series)-1], r.Ref, lf.Anode)
+			}
+			how = fmt.Sprintf("Unplugged and discharged: keep every valve in its socket (the heaters are one series string: pulling any valve, the rectifier %s too, leaves every heater cold). Unsolder %s and insulate its end, so that no HT can come up.", r.Ref, lead)
+			back = "resolder " + strings.Replace(lead, " from the rectifier", " to the rectifier", 1)
+		} else if r != nil {
 			how = fmt.Sprintf("Pull the rectifier valve %s (%s) so that no HT can come up; fit every other valve.", r.Ref, r.Valve.Type.Name)
 			back = fmt.Sprintf("refit the rectifier valve %s", r.Ref)
 		} else if b.M.HT != nil {
@@ -716,4 +763,18 @@ func valveOrder(b *BenchModel) []*design.Part {
 		out[i] = v.p
 	}
 	return out
+}
+
+// inString reports whether a valve's heater is in the series heater
+// string of a transformerless set.
+func (b *BenchModel) inString(ref string) bool {
+	if b.M.String == nil {
+		return false
+	}
+	for _, r := range b.M.String.Valves {
+		if r == ref {
+			return true
+		}
+	}
+	return false
 }

@@ -336,7 +336,14 @@ func (c *Controller) settle() error {
 		return nil
 	}
 	if c.w.Loop != nil {
-		return c.w.Loop.Advance()
+		if err := c.w.Loop.Advance(); err != nil {
+			return err
+		}
+	}
+	// A live step held only for the isolation transformer: the walk
+	// takes the technician to that step.
+	if st := r.Current(); st != nil && st.Live && r.Proc.HotChassis != "" && !r.Done(StepIsolation) {
+		_ = r.Goto(StepIsolation)
 	}
 	return nil
 }

@@ -43,6 +43,8 @@ func scriptedAction(rng *rand.Rand, s State) (Action, string) {
 			v = 2.5
 		case point.Cold:
 			v = 5
+		case point.Insulation:
+			v = 0.5e6 // under the 2 MΩ class II limit
 		default:
 			v = s.Band.High * (1.5 + rng.Float64())
 			if rng.IntN(3) == 0 {
@@ -110,6 +112,10 @@ func TestScriptedTechnician(t *testing.T) {
 				}
 				r := c.Runner()
 				if cur := next.Step; cur != nil && cur.Live && cur.Kind != KindPowerDown && len(next.Blockers) == 0 {
+					if r.Proc.HotChassis != "" && !r.Done(StepIsolation) {
+						violations++
+						t.Errorf("%s: live step %s can start on a hot chassis with no isolation transformer", name, cur.ID)
+					}
 					for _, rd := range r.Stops() {
 						violations++
 						t.Errorf("%s: live step %s can start with the stop on %s in force", name, cur.ID, rd.Point)

@@ -1171,6 +1171,8 @@ func (l *faultLoop) answer() error {
 		v, ok = 0.4, true // discharged through the resistor tool
 	case m.Point.Domain == point.Earth:
 		v, ok = 0.15, true
+	case m.Point.Domain == point.Insulation:
+		v, ok = InsulationGoodOhms, true
 	case m.Point.Domain == point.Part:
 		v, ok = l.partOhms(m.Point)
 	}

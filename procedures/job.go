@@ -394,6 +394,13 @@ func (l *faultLoop) closeOutSteps() []*Step {
 		"A repaired amp goes back to a home: the earth bond and the insulation are what make it safe to touch, and only the proper testers prove them.", append(append([]string(nil), g...), "soak"))
 	safety.Asks = []Ask{{Field: FieldEarthBond, Prompt: "Earth bond, ohms and instrument (like 0.08 tester)", Required: true},
 		{Field: FieldInsulation, Prompt: "Insulation at 500 V DC, ohms and instrument (like 50M tester)", Required: true}}
+	if b.D.TwoPin() {
+		// No earth pin: the insulation from the mains pins to what a
+		// user can touch is the whole of the safety test.
+		safety.Instruction = fmt.Sprintf("Switch off and unplug; measure B+ to chassis (below 10 V before touching). This set has no mains earth: with an insulation tester (IEC 61557-2) at 500 V DC, the set's switch on, measure from the plug's live and neutral pins joined to every metal part a user can touch (knobs' grub screws, cabinet and back-panel screws, socket shells): at least %s (class II, IET Code of Practice, from memory). Type the lowest reading and the instrument. Local codes and licensed practice rule.", FormatValue(InsulationStopOhms, "Ω"))
+		safety.Why = "A set with no mains earth goes back to a home on its insulation alone: only an insulation tester proves it."
+		safety.Asks = []Ask{{Field: FieldInsulation, Prompt: "Insulation, mains pins to exposed metal at 500 V DC, ohms and instrument (like 200M tester)", Required: true}}
+	}
 	out = append(out, safety)
 	out = append(out, &Step{ID: "sign-off", Kind: KindConfirm, Gate: append(append([]string(nil), g...), safety.ID), Title: "Sign-off",
 		Instruction: "Your name signs the job off: it goes on the customer's sheet with the time.",

@@ -252,6 +252,11 @@ func (r *Runner) Blockers(st *Step) []string {
 		}
 	}
 	if st.Live && st.Kind != KindPowerDown {
+		if r.Proc.HotChassis != "" && !r.Done(StepIsolation) {
+			// A hot chassis is powered only through an isolation
+			// transformer: no gate list can leave this out.
+			out = append(out, "the isolation transformer (this set's chassis may be at mains potential)")
+		}
 		for _, rd := range r.Stops() {
 			out = append(out, "the stop on "+r.labelOf(rd.Step, rd.Point)+" ("+FormatValue(rd.Value, rd.Unit)+")")
 		}
@@ -345,6 +350,14 @@ func (r *Runner) Skip(reason string) error {
 	}
 	if st.Kind == KindDischarge {
 		return errors.New("a discharge check cannot be skipped: discharge the capacitor and measure it (a reading under 10 V passes)")
+	}
+	if st.Kind == KindIsolation {
+		return errors.New("the isolation-transformer step cannot be skipped: this set's chassis may be at mains potential, and no live step is done without an isolation transformer")
+	}
+	for _, m := range st.Measures {
+		if m.Point == InsulationKey {
+			return errors.New("the insulation test cannot be skipped on a set with no mains earth: it is what shows that no metal a user can touch is on the mains")
+		}
 	}
 	for i := range st.Measures {
 		if rd := r.Last(st.ID, st.Measures[i].Point); rd != nil && r.blocking(rd) {
@@ -498,7 +511,7 @@ func ParseReading(raw string, m *Measure, expect *Band) (float64, error) {
 			return v, fmt.Errorf("%w: %s is far beyond anything this amp can read here; check the meter's range and the decimal point, "+
 				"and type it again followed by ! if it really reads that", ErrQuestioned, units.Format(v, q))
 		}
-		if expect != nil && m.Point.Domain != point.Discharge && m.Point.Domain != point.Earth {
+		if expect != nil && m.Point.Domain != point.Discharge && m.Point.Domain != point.Earth && m.Point.Domain != point.Insulation {
 			if f, ok := unitSlip(v, *expect); ok {
 				return v, fmt.Errorf("%w: %s is about %s from the band (%s): did you mean %s? Type it with its prefix, or %s! to keep %s",
 					ErrQuestioned, units.Format(v, q), slipWord(f), FormatBand(*expect, m.Unit), units.Format(v*f, q), s, units.Format(v, q))
@@ -719,7 +732,13 @@ func (r *Runner) lastRetry(step string, k point.Key) bool {
 // nearEdge: out of band by less than 2 % of the band's scale — within a
 // typical meter's and probe's uncertainty (common practice: re-measure).
 func nearEdge(v float64, b Band) bool {
-	scale := math.Max(math.Abs(b.High), math.Abs(b.Low))
+	// An open-ended band (an insulation reading: 2 MΩ to open) takes its
+	// scale from its finite end.
+	hi, lo := math.Abs(b.High), math.Abs(b.Low)
+	if math.IsInf(hi, 1) {
+		hi = 0
+	}
+	scale := math.Max(hi, lo)
 	tol := 0.02*scale + 1e-9
 	return (v < b.Low && b.Low-v <= tol) || (v > b.High && v-b.High <= tol)
 }

@@ -33,6 +33,9 @@ const (
 	KindSummary   Kind = "summary"
 	KindIntake    Kind = "intake"
 	KindVisual    Kind = "visual"
+	// KindIsolation: the technician confirms that a hot-chassis set is
+	// fed through an isolation transformer; no live step before it.
+	KindIsolation Kind = "isolation"
 )
 
 // Function is the meter function a step needs.
@@ -111,6 +114,11 @@ type Procedure struct {
 	Mode  Mode
 	Title string
 	Steps []*Step
+	// HotChassis says why the chassis may be at mains potential (the
+	// design's words, design.Design.HotChassis), "" when it is not: then
+	// no live step starts before the isolation-transformer step is done,
+	// and every live step carries HotChassisCaution.
+	HotChassis string `yaml:"-"`
 }
 
 // Step returns the step with the given id, or nil.
@@ -144,9 +152,36 @@ const (
 		"then verify with the meter. Below 60 V DC is no longer hazardous-live (IEC 62368-1 ES1; IEC 60065 for older sets); go on to under 10 V before touching (common practice). A discharge check cannot be skipped."
 	VariacCaution = "Bring the amp up on a variac, ideally through a series lamp limiter, with a dummy load (or speaker) on the output. " +
 		"Watch the lamp and the meter; switch off at once on smoke, a red-glowing plate, arcing or a reading far outside its band."
+	InsulationCaution = "Insulation test voltages are hazardous: keep your hands off the plug pins and the set while the tester is pressing, and discharge the set afterwards (the tester's own discharge, then the discharge checks). " +
+		"An insulation tester (IEC 61557-2) proves insulation; a multimeter's resistance range is only an indication. Local codes and licensed practice rule."
 	EarthCaution = "A multimeter continuity reading is only an indication, not a substitute for an earth-bond tester (IEC 61557-4) " +
 		"and an insulation test at 500 V DC (IEC 61557-2); in-service limits: 0.1 Ω plus the cord, at least 1 MΩ (IET Code of Practice, 5th ed.). Local codes and licensed practice rule."
 )
+
+// HotChassisCaution is the caution every live step of a hot-chassis set
+// carries, with the design's reason.
+func HotChassisCaution(why string) string {
+	return "LIVE CHASSIS: the chassis may be at mains potential: " + why + ". " +
+		"Power this set only through an isolation transformer (a variac alone is an autotransformer and does NOT isolate: put the variac after the isolation transformer). " +
+		"Treat the chassis, the 0 V bus and every point referred to it as live; never touch the chassis and anything earthed (the bench, a scope's ground clip) together. " +
+		"Follow local codes and licensed practice."
+}
+
+// hotChassisMark finds HotChassisCaution among a step's cautions.
+const hotChassisMark = "LIVE CHASSIS: the chassis may be at mains potential"
+
+// markHotChassis gives every live step of a hot-chassis procedure its
+// caution (once).
+func markHotChassis(p *Procedure, steps ...*Step) {
+	if p.HotChassis == "" {
+		return
+	}
+	for _, st := range steps {
+		if st.Live && !st.HasCaution(hotChassisMark) {
+			st.Cautions = append([]string{HotChassisCaution(p.HotChassis)}, st.Cautions...)
+		}
+	}
+}
 
 // Summary line for a step, used in lists.
 func (s *Step) String() string {

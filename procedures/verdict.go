@@ -38,6 +38,14 @@ const (
 	// this positive points to a leaky coupling capacitor or grid current
 	// (common practice).
 	GridLeakyVolts = 0.5
+	// InsulationStopOhms: mains pins joined to exposed metal on a set
+	// with no protective earth below this stops the walk (the class II
+	// in-service limit, 2 MΩ at 500 V DC: IET Code of Practice for
+	// In-service Inspection and Testing, 5th ed., from memory).
+	InsulationStopOhms = 2e6
+	// InsulationGoodOhms: what a sound set reads, at or past the top of an
+	// insulation tester's range (common practice).
+	InsulationGoodOhms = 200e6
 )
 
 // judgement is what a reading means beyond its band.
@@ -69,6 +77,13 @@ func (b *BenchModel) judge(st *Step, m *Measure, v float64, band Band, has bool,
 				"STOP: the earth pin to chassis %s (over %g Ω): this amp has no sound protective earth. Do not power it. "+
 					"Check the earth lug (bare metal under it, its own fixing, tight), the cord's earth core and the plug, flexing the cord and lug while you measure, then measure again. "+
 					"If the set has no mains earth by design (double insulated, two-pin inlet), override with that reason.", what, EarthStopOhms)}
+		}
+	case point.Insulation:
+		if v < InsulationStopOhms {
+			return judgement{Consequence: Stop, Said: fmt.Sprintf(
+				"STOP: the mains pins to exposed metal read %s, under %s: on a set with no mains earth a knob, screw or panel a user can touch is joined to the mains side, or its insulation is breaking down. "+
+					"Do not power it and do not return it. Find the path (a knob's grub screw touching the shaft, a cabinet screw into the chassis, a failed capacitor from the chassis to a metal part), mend it, then test again. "+
+					"This stop cannot be overridden.", FormatValue(v, "Ω"), FormatValue(InsulationStopOhms, "Ω"))}
 		}
 	case point.Cold:
 		if c := b.coldCheck(k.ID); c != nil && c.Kind == "b+" && has && !c.Open && v < NearShortShare*band.Low {

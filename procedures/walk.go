@@ -165,6 +165,11 @@ func openWith(b *BenchModel, s *Session, path string, opt WalkOptions) (*Walk, e
 		sum := p.Steps[len(p.Steps)-1]
 		p.Steps = append(append(p.Steps[:len(p.Steps)-1], s.Added...), sum)
 	}
+	if hot, why := b.D.HotChassis(); hot {
+		p.HotChassis = why
+		placeIsolation(p)
+		markHotChassis(p, p.Steps...)
+	}
 	r := NewRunner(p, s, path, ex)
 	if opt.Now != nil {
 		r.Now = opt.Now
@@ -185,10 +190,31 @@ func now(opt WalkOptions) time.Time {
 	return time.Now()
 }
 
+// placeIsolation moves the isolation-transformer step just before the
+// first live step (before the summary when there is none yet: the
+// measuring loop adds its live steps after it).
+func placeIsolation(p *Procedure) {
+	i := p.Index(StepIsolation)
+	if i < 0 {
+		return
+	}
+	iso := p.Steps[i]
+	rest := append(append([]*Step(nil), p.Steps[:i]...), p.Steps[i+1:]...)
+	at := len(rest) - 1
+	for j, st := range rest {
+		if st.Live {
+			at = j
+			break
+		}
+	}
+	p.Steps = append(append(append([]*Step(nil), rest[:at]...), iso), rest[at:]...)
+}
+
 // AddStep inserts a step before the summary and records it in the
 // session so that a resumed session rebuilds it.
 func (w *Walk) AddStep(st *Step) {
 	p := w.R.Proc
+	markHotChassis(p, st)
 	n := len(p.Steps)
 	p.Steps = append(p.Steps[:n-1], st, p.Steps[n-1])
 	w.R.Sess.Added = append(w.R.Sess.Added, st)

@@ -447,6 +447,7 @@ func printReport(w io.Writer, d *design.Design, m *amp.Model, op *amp.OP, rep *j
 	fmt.Fprintln(w, "DANGER: these voltages are lethal and filter capacitors hold them after power-off.")
 	fmt.Fprintln(w, "Measure one-handed with insulated, shrouded probes and a meter rated above the highest")
 	fmt.Fprintln(w, "voltage here; follow local codes and licensed practice.")
+	hotChassisBanner(w, d)
 	fmt.Fprintln(w)
 	mainsNote := "sampled within the design's tolerance"
 	if rep.Conditions.MainsFixed {
@@ -702,6 +703,7 @@ func runVariacSteps(d *design.Design, opt bands.Options, asJSON bool, stdout, st
 	fmt.Fprintln(w, "DANGER: these voltages are lethal and filter capacitors hold them after power-off.")
 	fmt.Fprintln(w, "At low settings the heaters run cool, the valves barely conduct and B+ rises towards its")
 	fmt.Fprintln(w, "switch-on peak: the figures there are emission-limited estimates, not precise values.")
+	hotChassisBanner(w, d)
 	for _, js := range out {
 		if js.Failed > 0 {
 			fmt.Fprintf(w, "WARNING: at %.0f%% variac %d of %d samples did not converge\n", 100*js.Variac, js.Failed, js.Samples)
@@ -779,4 +781,15 @@ func isFilterNet(peaks []bands.ColdPeak, net string) bool {
 		}
 	}
 	return false
+}
+
+// hotChassisBanner warns, under the danger lines, of a chassis that may be
+// at mains potential (design.Design.HotChassis), and of the variac that
+// does not isolate.
+func hotChassisBanner(w io.Writer, d *design.Design) {
+	if hot, why := d.HotChassis(); hot {
+		fmt.Fprintf(w, "LIVE CHASSIS: the chassis may be at mains potential (%s).\n", why)
+		fmt.Fprintln(w, "Feed the set through an isolation transformer; a variac alone is an autotransformer and does NOT isolate.")
+		fmt.Fprintln(w, "Every reading here is to that chassis: the black lead is on the mains side of the set.")
+	}
 }

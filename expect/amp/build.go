@@ -56,10 +56,12 @@ type Section struct {
 	pen         *valves.PentodeDevice
 }
 
-// Heater is one valve heater on a winding.
+// Heater is one valve heater on a winding, or in the series heater string
+// (Winding nil, InString true).
 type Heater struct {
 	Ref          string
 	Winding      *design.Winding
+	InString     bool
 	RatedVolts   float64
 	RatedAmps    float64
 	Transformer  *design.PowerTransformerPart
@@ -76,6 +78,11 @@ type Model struct {
 	Heaters  []Heater
 	// Regulators are the gas regulator valves (struck) in the network.
 	Regulators []*Regulator
+	// String is the series heater string of a transformerless set (nil
+	// when the heaters are on windings); DropSlots are its droppers'
+	// value slots.
+	String    *design.HeaterString
+	DropSlots []int
 
 	// The HT supply, when the design has a rectifier.
 	HT         *HTSupply
@@ -100,11 +107,17 @@ func (m *Model) MeterSlot(net string) (slot int, ok bool) {
 // HTSupply describes the rectifier and filter as the supply simulation
 // sees them.
 type HTSupply struct {
-	Transformer *design.Part
-	Winding     *design.Winding
-	Rectifier   *design.Part
-	Topology    supply.Topology
-	Rect        supply.Rectifier
+	Transformer *design.Part    // nil when fed straight from the mains
+	Winding     *design.Winding // nil when fed straight from the mains
+	// Line is the path from the mains to the rectifier of a
+	// transformerless set (nil with a transformer): the source is the
+	// mains at ratio 1, its series resistance the path's resistors
+	// (LineSlots, their value slots).
+	Line      *design.LineFeed
+	LineSlots []int
+	Rectifier *design.Part
+	Topology  supply.Topology
+	Rect      supply.Rectifier
 	// VrmsOC is the open-circuit rms volts (per half for a centre tap) at
 	// the transformer's rated primary volts; Rs the source resistance per
 	// conducting path referred to the secondary.
@@ -165,6 +178,16 @@ func (m *Model) addR(ref, role, a, b string, ohms float64) int {
 	return i
 }
 
+// addPrivateR adds a resistance slot on a private node of its own (held
+// to chassis by a fixed resistor besides), so that it carries no current
+// in the DC network: a mains-side part whose value a model outside the
+// network reads.
+func (m *Model) addPrivateR(ref string, ohms float64) int {
+	n := m.node("~" + ref)
+	m.ckt.AddResistor(n, 0, 1)
+	return m.addR(ref, "", "~"+ref, m.D.Ground, ohms)
+}
+
 // Build compiles a design that loaded without errors.
 func Build(d *design.Design) (*Model, error) {
 	m := &Model{D: d, ckt: mna.New(), slotByRef: map[string][]int{}, nodeOf: map[string]int{},
@@ -180,8 +203,28 @@ func Build(d *design.Design) (*Model, error) {
 	if ht != nil && ht.ChokeInput {
 		skip[ht.SeriesRefs[0]] = true
 	}
+	// The mains side of a transformerless set is AC only: the rectifier's
+	// series resistors and the heater string's droppers are value slots
+	// (for tolerances and faults) on private nodes, out of the DC
+	// network; the supply model and the heater string read them.
+	private := map[string]*[]int{}
+	if ht != nil && ht.Line != nil {
+		for _, ref := range ht.Line.Series {
+			private[ref] = &ht.LineSlots
+		}
+	}
+	if hs, err := d.SeriesHeaters(); err == nil && hs != nil {
+		m.String = hs
+		for _, ref := range hs.Droppers {
+			private[ref] = &m.DropSlots
+		}
+	}
 	for _, p := range d.Parts {
 		if skip[p.Ref] {
+			continue
+		}
+		if dst, ok := private[p.Ref]; ok {
+			*dst = append(*dst, m.addPrivateR(p.Ref, p.Value))
 			continue
 		}
 		switch p.Kind {
@@ -266,6 +309,13 @@ func (m *Model) addValve(p *design.Part) {
 	vp := p.Valve
 	vt := vp.Type
 	// Heater.
+	if m.String != nil {
+		for _, ref := range m.String.Valves {
+			if ref == p.Ref {
+				m.Heaters = append(m.Heaters, Heater{Ref: p.Ref, InString: true, RatedVolts: vp.HeaterVolts, RatedAmps: vp.HeaterAmps})
+			}
+		}
+	}
 	for _, pp := range m.D.PartsOfKind(design.PowerTransformer) {
 		for wi, w := range pp.PT.Windings {
 			e := map[string]bool{w.Ends[0]: true, w.Ends[1]: true}
@@ -413,12 +463,23 @@ func findHT(d *design.Design) (*HTSupply, error) {
 		}
 		w := windingOf(anodes[0])
 		if w == nil {
+			if lf, ok := d.LineFeedTo(anodes[0]); ok && tr == nil && topo == supply.HalfWave {
+				ht = &HTSupply{Line: &lf, Rectifier: p, Topology: topo, Rect: rect, RectNet: out}
+				continue
+			}
 			return nil, fmt.Errorf("%s:%d:%d: %s: rectifier not fed from a transformer winding", d.File, p.Pos.Line, p.Pos.Col, p.Ref)
 		}
 		ht = &HTSupply{Transformer: tr, Winding: w, Rectifier: p, Topology: topo, Rect: rect, RectNet: out}
 	}
 	if ht == nil {
 		return nil, nil
+	}
+	if ht.Line != nil {
+		// Straight off the mains: the source is the mains itself (ratio
+		// 1), behind the path's resistors.
+		ht.VrmsOC = d.Mains.Volts
+		ht.Rs = ht.Line.Ohms
+		return ht, ht.filter(d)
 	}
 	// Source: open-circuit volts and resistance per conducting path.
 	pt := ht.Transformer.PT
@@ -448,7 +509,11 @@ func findHT(d *design.Design) (*HTSupply, error) {
 		rs = perPath * reg / rated
 	}
 	ht.Rs = rs
-	// Filter tree.
+	return ht, ht.filter(d)
+}
+
+// filter walks the filter tree from the rectifier outwards.
+func (ht *HTSupply) filter(d *design.Design) error {
 	isFilterCap := func(p *design.Part, net string) bool {
 		if p.Kind != design.Capacitor || p.Value < 0.5e-6 {
 			return false
@@ -494,7 +559,7 @@ func findHT(d *design.Design) (*HTSupply, error) {
 		}
 		if !ht.ChokeInput {
 			p := ht.Rectifier
-			return nil, fmt.Errorf("%s:%d:%d: %s: the rectifier output %s has no reservoir capacitor and no choke into one: expected a capacitor or a choke-input filter",
+			return fmt.Errorf("%s:%d:%d: %s: the rectifier output %s has no reservoir capacitor and no choke into one: expected a capacitor or a choke-input filter",
 				d.File, p.Pos.Line, p.Pos.Col, p.Ref, ht.RectNet)
 		}
 	}
@@ -515,7 +580,7 @@ func findHT(d *design.Design) (*HTSupply, error) {
 			addStage(other, i, p.Ref)
 		}
 	}
-	return ht, nil
+	return nil
 }
 
 func splitNets(s string) []string {

@@ -91,6 +91,14 @@ func (m *Model) Points() []PointDef {
 				d.Quantity = ACAmps
 				out = append(out, d)
 			case valves.Plates:
+				if vt.Kind != valves.Rectifier {
+					// A multi-function valve's diode plates (12AV6 D:
+					// unused) are tied to chassis: a DC point like any pin.
+					d := def
+					d.Quantity = DCVolts
+					out = append(out, d)
+					continue
+				}
 				d := def
 				d.Quantity = ACVolts
 				d.Label += " (to chassis)"
@@ -263,6 +271,12 @@ func (m *Model) Resistors(op *OP) []ResistorOP {
 		vb, _ := m.NetVolts(op, b)
 		cur := m.SlotCurrent(op, i)
 		r := ResistorOP{Ref: p.Ref, Volts: va - vb, Amps: cur, Watts: math.Abs((va - vb) * cur), RatedWatts: p.Watts}
+		if rms, ok := m.mainsSideAmps(op, i); ok {
+			// A transformerless set's surge resistor or dropper, out of
+			// the DC network: its rms current, heat I²R.
+			ohms := m.Nominal[i]
+			r.Volts, r.Amps, r.Watts = rms*ohms, rms, rms*rms*ohms
+		}
 		if p.Kind == design.Pot {
 			r.Ref = p.Ref + " (" + sl.Role + ")"
 		}
@@ -337,4 +351,32 @@ func (m *Model) ProbeAt(net string) string {
 		}
 	}
 	return "net " + net
+}
+
+// mainsSideAmps is the rms current of a mains-side slot of a
+// transformerless set: a dropper carries the series heater string's
+// current, a surge resistor the rectifier's rms current (ok false for
+// any other slot).
+func (m *Model) mainsSideAmps(op *OP, slot int) (float64, bool) {
+	for _, i := range m.DropSlots {
+		if i == slot {
+			for _, w := range op.Windings {
+				if w.Name == SeriesStringName {
+					return w.Amps, true
+				}
+			}
+			return 0, true
+		}
+	}
+	if m.HT != nil {
+		for _, i := range m.HT.LineSlots {
+			if i == slot {
+				if op.Supply == nil {
+					return 0, true
+				}
+				return op.Supply.RmsAmps, true
+			}
+		}
+	}
+	return 0, false
 }

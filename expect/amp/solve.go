@@ -58,6 +58,12 @@ type Values struct {
 	// open. It changes no DC value except through StageC; AC analysis reads
 	// it. nil means none.
 	CapOpen map[string]bool
+	// StringOpen: the series heater string is broken (a heater in it
+	// open, the rectifier's included): no heater in it lights. An open
+	// dropper shows as its slot at +Inf, an amplifying valve's open heater
+	// as its emission below 0; this flag is for the heaters neither
+	// covers.
+	StringOpen bool
 }
 
 // NominalValues returns a fresh copy of the nominal part values.
@@ -310,7 +316,7 @@ func (s *Solver) mainsFactor(c Conditions) float64 {
 		variac = 1
 	}
 	prim := s.m.D.Mains.Volts
-	if s.m.HT != nil && s.m.HT.Transformer.PT.PrimaryVolts > 0 {
+	if s.m.HT != nil && s.m.HT.Transformer != nil && s.m.HT.Transformer.PT.PrimaryVolts > 0 {
 		prim = s.m.HT.Transformer.PT.PrimaryVolts
 	} else if pts := s.m.D.PartsOfKind(design.PowerTransformer); len(pts) > 0 {
 		prim = pts[0].PT.PrimaryVolts
@@ -335,6 +341,9 @@ func (s *Solver) heaters(c Conditions, v *Values, op *OP) map[string]float64 {
 	loads := map[*design.Winding]*wl{}
 	for i, h := range s.m.Heaters {
 		_ = i
+		if h.InString {
+			continue
+		}
 		l := loads[h.Winding]
 		if l == nil {
 			l = &wl{w: h.Winding, pt: h.Transformer}
@@ -357,6 +366,9 @@ func (s *Solver) heaters(c Conditions, v *Values, op *OP) map[string]float64 {
 		}
 		op.Windings = append(op.Windings, WindingOP{Name: w.Name, Volts: vl, Amps: vl * l.g, RatedAmps: rated, Refs: l.refs})
 	}
+	if hs := s.m.String; hs != nil {
+		s.stringHeaters(c, v, f, volts, op)
+	}
 	for _, h := range s.m.Heaters {
 		vv, ok := volts[h.Ref]
 		if !ok {
@@ -366,6 +378,47 @@ func (s *Solver) heaters(c Conditions, v *Values, op *OP) map[string]float64 {
 		op.Heaters = append(op.Heaters, HeaterOP{Ref: h.Ref, Volts: vv, Amps: h.RatedAmps * vv / h.RatedVolts})
 	}
 	return volts
+}
+
+// SeriesStringName names the series heater string among the heater
+// windings of an operating point.
+const SeriesStringName = "series heater string"
+
+// stringHeaters sets the volts of each heater of the series string: one
+// current, the mains (through the variac) over the droppers and every
+// heater at its rated resistance (rated volts over rated amps, as for a
+// heater on a winding); each heater's volts are its share. One heater
+// open, or the dropper, and the string carries nothing: every heater is
+// cold.
+func (s *Solver) stringHeaters(c Conditions, v *Values, f float64, volts map[string]float64, op *OP) {
+	hs := s.m.String
+	mains := s.m.D.Mains.Volts * f
+	r := 0.0
+	for _, sl := range s.m.DropSlots {
+		r += v.Slot[sl]
+	}
+	open := math.IsInf(r, 1) || (v != nil && v.StringOpen)
+	var refs []string
+	for _, h := range s.m.Heaters {
+		if !h.InString {
+			continue
+		}
+		refs = append(refs, h.Ref)
+		r += h.RatedVolts / h.RatedAmps
+		if v != nil && s.heaterOpen(h.Ref, v) {
+			open = true
+		}
+	}
+	amps := 0.0
+	if !open && r > 0 {
+		amps = mains / r
+	}
+	for _, h := range s.m.Heaters {
+		if h.InString {
+			volts[h.Ref] = amps * h.RatedVolts / h.RatedAmps
+		}
+	}
+	op.Windings = append(op.Windings, WindingOP{Name: SeriesStringName, Volts: mains, Amps: amps, RatedAmps: hs.Amps, Refs: refs})
 }
 
 // HeaterWindingSource returns the open-circuit rms volts (at the
@@ -472,6 +525,19 @@ func (s *Solver) supplyParams(c Conditions, v *Values, hv map[string]float64) su
 	f := s.mainsFactor(c)
 	p := supply.Params{Topology: ht.Topology, Vrms: ht.VrmsOC * f * v.HTVolts, Rs: ht.Rs * v.HTOhms,
 		Hz: s.m.D.Mains.Hz, Rect: ht.Rect}
+	if ht.Line != nil {
+		// Off the mains: the series resistors as they are in these
+		// values; one of them open leaves no HT at all.
+		rs := 0.0
+		for _, sl := range ht.LineSlots {
+			rs += v.Slot[sl]
+		}
+		if math.IsInf(rs, 1) {
+			p.Vrms = 0
+		} else {
+			p.Rs = rs * v.HTOhms
+		}
+	}
 	p.Rect.Perveance *= v.RectScale
 	if ht.Rect.Kind == supply.Valve {
 		// A valve rectifier's filament runs cool on a low variac setting:

@@ -97,8 +97,9 @@ func Checks(d *design.Design) ([]Check, error) {
 			}
 		}
 	}
+	mainsSide := d.MainsSideNets()
 	for _, net := range d.NetNames() {
-		if dcNet(d, net) {
+		if dcNet(d, net) && !mainsSide[net] {
 			if err := addNet(net, "net"); err != nil {
 				return nil, err
 			}
@@ -162,7 +163,14 @@ func Checks(d *design.Design) ([]Check, error) {
 		case design.MainsInlet:
 			l, _ := p.Net("live")
 			nn, _ := p.Net("neutral")
-			if l != "" && nn != "" {
+			if hs, herr := d.SeriesHeaters(); herr == nil && hs != nil && l != "" && nn != "" {
+				// A transformerless set: live to neutral at the plug is
+				// the heater string, read with the valves in.
+				var c Check
+				if c, err = heaterString(d, hs, l, nn); err == nil {
+					out = append(out, c)
+				}
+			} else if l != "" && nn != "" {
 				err = wind(p.Ref+" live–neutral", l, nn)
 				if err == nil {
 					c := &out[len(out)-1]
@@ -446,4 +454,53 @@ func FormatDuration(t float64) string {
 		return fmt.Sprintf("%.2g min", t/60)
 	}
 	return fmt.Sprintf("%.2g h", t/3600)
+}
+
+// Cold heater resistance: a tungsten heater's resistance cold is a
+// fraction of its hot (rated volts over rated amps) resistance. Tungsten's
+// resistivity rises about 5.7 times from 300 K to 1200 K and 6.8 times to
+// 1400 K, where indirectly heated heaters run (CRC Handbook of Chemistry
+// and Physics, resistivity of tungsten, from memory); the band takes the
+// cold heater at a fifth to an eighth of its hot resistance, 1/6.5
+// nominal.
+const (
+	ColdHeaterShare   = 1 / 6.5
+	ColdHeaterShareLo = 1.0 / 8
+	ColdHeaterShareHi = 1.0 / 5
+)
+
+// heaterString is THE cold check of a transformerless set: live to
+// neutral at the plug, power switch on, valves in their sockets: the
+// dropper and every heater of the series string end to end (the
+// rectifier's plate path is open cold). One open heater, or the dropper,
+// reads open, and then no valve lights.
+func heaterString(d *design.Design, hs *design.HeaterString, live, neutral string) (Check, error) {
+	return heaterStringOn(buildNetwork(d), hs, live, neutral, "")
+}
+
+// heaterStringOn is heaterString on a cold network n (a fault may have
+// changed it), the heater of valve open (if any) left out.
+func heaterStringOn(n *network, hs *design.HeaterString, live, neutral, open string) (Check, error) {
+	d := n.d
+	add := func(ref, a, b string, ohms float64, tol design.Tolerance) {
+		n.edges = append(n.edges, edge{a: a, b: b, ohms: ohms, tol: tol, ref: ref})
+		i := len(n.edges) - 1
+		n.adj[a] = append(n.adj[a], i)
+		n.adj[b] = append(n.adj[b], i)
+	}
+	tol := design.Tolerance{Lo: ColdHeaterShareLo/ColdHeaterShare - 1, Hi: ColdHeaterShareHi/ColdHeaterShare - 1}
+	for _, ref := range hs.Valves {
+		if ref == open {
+			continue
+		}
+		vp := d.ByRef[ref].Valve
+		add(ref, vp.HeaterNets[0], vp.HeaterNets[1], ColdHeaterShare*vp.HeaterVolts/vp.HeaterAmps, tol)
+	}
+	c, err := n.check("heater string", live, neutral, "heaters")
+	if err != nil {
+		return c, err
+	}
+	c.Note = join(c.Note, fmt.Sprintf("valves IN their sockets, at the plug with the power switch on: the dropper %s and the heaters of %s in series, cold (a fifth to an eighth of hot); open: a heater or the dropper is open and no valve lights",
+		strings.Join(hs.Droppers, "+"), strings.Join(hs.Valves, ", ")))
+	return c, nil
 }

@@ -27,6 +27,50 @@ func FaultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault, c
 	if err := faults.Check(m, f); err != nil {
 		return nil, false, err
 	}
+	out, changed, err = faultChecks(d, m, base, f, corners)
+	if err != nil {
+		return nil, changed, err
+	}
+	return faultHeaterString(d, m, out, changed, f)
+}
+
+// faultHeaterString redoes the series heater string's reading (valves in)
+// under a fault: a heater of the string open, or the dropper, reads open.
+func faultHeaterString(d *design.Design, m *amp.Model, out []Check, changed bool, f faults.Fault) ([]Check, bool, error) {
+	hs := m.String
+	if hs == nil {
+		return out, changed, nil
+	}
+	for i, c := range out {
+		if c.Kind != "heaters" {
+			continue
+		}
+		n := buildNetwork(d)
+		alterNetwork(n, m, f)
+		n.adj = map[string][]int{}
+		for j, e := range n.edges {
+			n.adj[e.a] = append(n.adj[e.a], j)
+			n.adj[e.b] = append(n.adj[e.b], j)
+		}
+		open := ""
+		if f.Mode == faults.HeaterOpen {
+			open = f.Ref
+		}
+		nc, err := heaterStringOn(n, hs, c.From, c.To, open)
+		if err != nil {
+			return nil, changed, err
+		}
+		if nc.Ohms != c.Ohms || nc.Open != c.Open {
+			if !changed {
+				out = append([]Check(nil), out...)
+			}
+			out[i], changed = nc, true
+		}
+	}
+	return out, changed, nil
+}
+
+func faultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault, corners bool) (out []Check, changed bool, err error) {
 	n := buildNetwork(d)
 	orig := buildNetwork(d)
 	if !alterNetwork(n, m, f) {

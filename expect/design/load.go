@@ -958,7 +958,7 @@ func (l *loader) part(d *Design, p *Part, n *yaml.Node) bool {
 				if s, ok := l.netName(tn, field(t)); ok {
 					p.Terminals = append(p.Terminals, Terminal{Name: t, Net: s, Pos: posOf(tn)})
 				}
-			} else {
+			} else if t != "earth" { // a two-pin inlet has no earth
 				l.errAt(p.Pos, field(t), "missing %s: expected the net the inlet's %s connects to", t, t)
 			}
 		}

@@ -102,7 +102,10 @@ type Summary struct {
 	Transformers []TransformerSummary
 	Nets         []NetSummary
 	Findings     []SummaryFinding
-	ground       string
+	// Mains says, for a transformerless set, that the chassis may be at
+	// mains potential and how the heaters are strung ("" lines omitted).
+	Mains  []string
+	ground string
 }
 
 // DescribePart says what a part is in a few words with its main values:
@@ -239,7 +242,27 @@ func Summarize(d *Design) *Summary {
 		s.Nets = append(s.Nets, ns)
 	}
 	s.Findings = findings(d, s)
+	s.Mains = mainsWords(d)
 	return s
+}
+
+// mainsWords describes a transformerless set's mains side: the hot
+// chassis (design.HotChassis) and the series heater string.
+func mainsWords(d *Design) []string {
+	var out []string
+	if hot, why := d.HotChassis(); hot {
+		out = append(out, fmt.Sprintf("HOT CHASSIS: the chassis may be at mains potential (%s): power the set only through an isolation transformer (a variac alone is an autotransformer and does not isolate); the walk will not do a live step without one", why))
+	}
+	if hs, err := d.SeriesHeaters(); err == nil && hs != nil {
+		amps := d.Mains.Volts / hs.RatedOhms(d)
+		drop := "no dropper"
+		if len(hs.Droppers) > 0 {
+			drop = "the dropper " + strings.Join(hs.Droppers, ", ") + " (" + units.Format(hs.DropOhms, units.Ohms) + ")"
+		}
+		out = append(out, fmt.Sprintf("series heater string across the mains: %s and the heaters of %s, %s at %s mains (rated %s); one open heater and no valve lights",
+			drop, strings.Join(hs.Valves, ", "), units.Format(amps, units.Amps), units.Format(d.Mains.Volts, units.Volts), units.Format(hs.Amps, units.Amps)))
+	}
+	return out
 }
 
 func valveSummary(d *Design, p *Part) ValveSummary {
@@ -312,6 +335,17 @@ func supplyChains(d *Design) []SupplyChain {
 		}
 		t, w := windingOf(anodes[0])
 		if w == nil {
+			if lf, ok := d.LineFeedTo(anodes[0]); ok {
+				via := append(append([]string(nil), lf.Fuses...), lf.Series...)
+				s := fmt.Sprintf("the mains %s %s, no transformer", d.poleWord(lf.From), lf.From)
+				if len(via) > 0 {
+					s += ", through " + strings.Join(via, ", ")
+				}
+				if lf.Ohms > 0 {
+					s += " (" + units.Format(lf.Ohms, units.Ohms) + ")"
+				}
+				return s + " to " + anodes[0]
+			}
 			return "no winding (anode net " + anodes[0] + ")"
 		}
 		v := units.Format(w.Volts, units.Volts)
@@ -576,6 +610,12 @@ func (s *Summary) WriteText(w io.Writer) error {
 		title = "(no title)"
 	}
 	fmt.Fprintf(&b, "%s\n%s\n", title, s.File)
+	if len(s.Mains) > 0 {
+		b.WriteString("\nMains side\n")
+		for _, l := range s.Mains {
+			fmt.Fprintf(&b, "  %s\n", l)
+		}
+	}
 	for _, ch := range s.Supplies {
 		fmt.Fprintf(&b, "\n%s supply, from the source outwards\n  %s\n", ch.Name, ch.Source)
 		for _, st := range ch.Stages {

@@ -90,6 +90,11 @@ func (l *loader) checkSupply(d *Design) {
 		var w *Winding
 		for _, a := range anodes {
 			ww := winding[a]
+			if ww == nil && len(pts) == 0 && len(anodes) == 1 {
+				if _, ok := d.LineFeedTo(a); ok {
+					continue // a transformerless set: half-wave off the mains
+				}
+			}
 			if ww == nil {
 				l.add(p.Pos, Error, p.Ref, "wire the rectifier to the HT winding's ends (ends: [HTA, HTB] on the transformer)",
 					"rectifier anode net %s is not an end of any power-transformer secondary", a)
@@ -249,6 +254,7 @@ func (l *loader) checkHeaters(d *Design) {
 		windings = append(windings, p.PT.Windings...)
 	}
 	loads := map[*Winding]*load{}
+	inString := l.checkHeaterString(d)
 	for _, p := range d.Valves() {
 		vp := p.Valve
 		if vp.HeaterNets[0] == "" {
@@ -262,6 +268,9 @@ func (l *loader) checkHeaters(d *Design) {
 			}
 		}
 		if w == nil {
+			if _, ok := inString[p.Ref]; ok {
+				continue
+			}
 			if len(windings) > 0 {
 				l.add(p.FieldPos("heater"), Warning, p.Ref+".heater", "",
 					"heater nets %s, %s are not the two ends of one transformer winding: heater volts cannot be predicted", vp.HeaterNets[0], vp.HeaterNets[1])

@@ -71,10 +71,22 @@ func (l *loader) rectifierHeaterPins(p *Part, vp *ValvePart) {
 // insulation sees B+ (common practice; the limit is the data sheet's).
 func (l *loader) checkRectifierHeaters(d *Design) {
 	var fromGround map[string]float64
+	inString := map[string]bool{}
+	if hs, _ := d.SeriesHeaters(); hs != nil {
+		for _, ref := range hs.Valves {
+			inString[ref] = true
+		}
+	}
 	for _, p := range d.Valves() {
 		vp := p.Valve
 		vt := vp.Type
 		if vt.Kind != valves.Rectifier || vt.Heater.DirectlyHeated || vp.HeaterNets[0] == "" {
+			continue
+		}
+		if inString[p.Ref] {
+			// A series-string rectifier (35W4) is built for its heater to
+			// sit in the string with its cathode at B+: its rating
+			// covers it (the data sheet's).
 			continue
 		}
 		cat := vp.Sections[""][valves.Cathode]

@@ -199,3 +199,20 @@ func seriesOhms(t Target) (open, short float64) {
 func ofPart(t Target) func(e ColdEdge) bool {
 	return func(e ColdEdge) bool { return e.Ref == t.Part.Ref }
 }
+
+// --- the series heater string of a transformerless set ---------------------
+
+// breakString is what a heater open does to a series heater string: a
+// heater open anywhere in it (an amplifying valve's or the rectifier's)
+// breaks the string, and no valve in it lights. (An open dropper is its
+// resistor slot at +Inf, which the string model reads itself.)
+func breakString(v *amp.Values, t Target) {
+	if t.M.String == nil {
+		return
+	}
+	for _, ref := range t.M.String.Valves {
+		if ref == t.Part.Ref {
+			v.StringOpen = true
+		}
+	}
+}

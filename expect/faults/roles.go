@@ -33,6 +33,7 @@ const (
 	RolePreamp      Role = "preamp"        // other amplifying valve
 	RoleRectValve   Role = "rect-valve"    // valve rectifier
 	RoleBias        Role = "bias"          // bias supply, or a part on its output nets
+	RoleString      Role = "heater-string" // a valve or dropper in a transformerless set's series heater string
 )
 
 // HotFraction is the share of a resistor's rated dissipation above which it
@@ -106,6 +107,11 @@ func Roles(m *amp.Model, op *amp.OP) map[string]RoleSet {
 			if m.HT.Rectifier.Kind == design.Valve {
 				add(m.HT.Rectifier.Ref, RoleRectValve)
 			}
+		}
+	}
+	if hs := m.String; hs != nil {
+		for _, r := range append(append([]string(nil), hs.Valves...), hs.Droppers...) {
+			add(r, RoleString)
 		}
 	}
 	biasNet := map[string]bool{}

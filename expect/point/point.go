@@ -14,6 +14,7 @@
 //	discharge:C1 dc_volts    discharge: C1 after discharging
 //	earth ohms               earth pin to chassis
 //	mains ac_volts           the mains at the outlet (or the variac)
+//	insulation ohms          mains pins joined to exposed metal (a two-pin set)
 //
 // Nothing outside this package builds or takes apart that text.
 package point
@@ -30,19 +31,20 @@ type Domain uint8
 
 // Domains.
 const (
-	Live      Domain = iota // a point of the powered amplifier model: a socket pin or a net
-	Cold                    // a resistance measured unplugged, valves out
-	Part                    // a part measured out of circuit (one end lifted)
-	Bias                    // a fixed-bias output valve's idle reading
-	Discharge               // a capacitor's volts after discharging
-	Earth                   // mains earth pin to chassis
-	Mains                   // the mains volts at the outlet or variac
+	Live       Domain = iota // a point of the powered amplifier model: a socket pin or a net
+	Cold                     // a resistance measured unplugged, valves out
+	Part                     // a part measured out of circuit (one end lifted)
+	Bias                     // a fixed-bias output valve's idle reading
+	Discharge                // a capacitor's volts after discharging
+	Earth                    // mains earth pin to chassis
+	Mains                    // the mains volts at the outlet or variac
+	Insulation               // mains pins joined to exposed metal, on an insulation tester (a set with no mains earth)
 )
 
 // prefixes of the text form; Live, Earth and Mains have none.
 var prefixes = map[Domain]string{Cold: "cold:", Part: "part:", Bias: "bias:", Discharge: "discharge:"}
 
-var domainNames = map[Domain]string{Live: "live", Cold: "cold", Part: "part", Bias: "bias", Discharge: "discharge", Earth: "earth", Mains: "mains"}
+var domainNames = map[Domain]string{Live: "live", Cold: "cold", Part: "part", Bias: "bias", Discharge: "discharge", Earth: "earth", Mains: "mains", Insulation: "insulation"}
 
 func (d Domain) String() string { return domainNames[d] }
 
@@ -75,10 +77,11 @@ func BiasKey(ref, quantity string) Key {
 	return Key{Bias, ref, quantity}
 }
 
-// EarthKey and MainsKey are the two fixed points.
+// EarthKey, MainsKey and InsulationKey are the fixed points.
 var (
-	EarthKey = Key{Domain: Earth, Quantity: Ohms}
-	MainsKey = Key{Domain: Mains, Quantity: ACVolts}
+	EarthKey      = Key{Domain: Earth, Quantity: Ohms}
+	MainsKey      = Key{Domain: Mains, Quantity: ACVolts}
+	InsulationKey = Key{Domain: Insulation, Quantity: Ohms}
 )
 
 // String is the text form (see the package comment).
@@ -88,6 +91,8 @@ func (k Key) String() string {
 		return "earth " + k.Quantity
 	case Mains:
 		return "mains " + k.Quantity
+	case Insulation:
+		return "insulation " + k.Quantity
 	}
 	if k.ID == "" && k.Quantity == "" {
 		return ""
@@ -142,6 +147,8 @@ func Parse(s string) (Key, error) {
 		return Key{Domain: Earth, Quantity: q}, nil
 	case "mains":
 		return Key{Domain: Mains, Quantity: q}, nil
+	case "insulation":
+		return Key{Domain: Insulation, Quantity: q}, nil
 	}
 	for d, p := range prefixes {
 		if strings.HasPrefix(id, p) {
@@ -269,5 +276,5 @@ func ParseShort(s string) (Key, error) {
 // key form (V3.8).
 var InText = regexp.MustCompile(`\b(?:cold|part|bias|discharge):[A-Za-z0-9]` +
 	`|\b(?:dc_volts|dc_amps|ac_volts|ac_amps|ripple_volts|tone_volts)\b` +
-	`|\b(?:[A-Z][A-Za-z0-9_+.-]*[0-9][A-Za-z0-9_.]*|earth|mains) ohms\b` +
+	`|\b(?:[A-Z][A-Za-z0-9_+.-]*[0-9][A-Za-z0-9_.]*|earth|mains|insulation) ohms\b` +
 	`|\bV[0-9]+\.[0-9]+\b`)

@@ -23,6 +23,7 @@ func TestRoundTrip(t *testing.T) {
 		{"discharge:C1 dc_volts", Key{Discharge, "C1", DCVolts}},
 		{"earth ohms", EarthKey},
 		{"mains ac_volts", MainsKey},
+		{"insulation ohms", InsulationKey},
 		{"V2.5 tone_volts", Key{Live, "V2.5", ToneVolts}},
 	} {
 		got, err := Parse(tc.text)
@@ -110,7 +111,7 @@ func TestInText(t *testing.T) {
 		{Domain: Live, ID: "V2.3", Quantity: DCVolts}, {Domain: Live, ID: "B1", Quantity: DCVolts},
 		{Domain: Cold, ID: "B1", Quantity: Ohms}, {Domain: Part, ID: "R7", Quantity: Ohms},
 		{Domain: Bias, ID: "V3", Quantity: DCVolts}, {Domain: Discharge, ID: "C1", Quantity: DCVolts},
-		{Domain: Earth, Quantity: Ohms}, {Domain: Mains, Quantity: ACVolts},
+		{Domain: Earth, Quantity: Ohms}, {Domain: Mains, Quantity: ACVolts}, {Domain: Insulation, Quantity: Ohms},
 	} {
 		if s := "the reading " + k.String() + " was high"; !InText.MatchString(s) {
 			t.Errorf("InText misses %q", s)

@@ -134,7 +134,7 @@ func export(m *amp.Model, c amp.Conditions, v *amp.Values) (*Netlist, error) {
 	n.parts(m, v, f)
 	n.sections(m, s, c, v)
 	n.regulators(m, c, v)
-	n.heaters(m)
+	n.heaters(m, v, f)
 	// Probes: every net of pinwalk's network, then electrode currents
 	// (added by sections).
 	var probes []Probe
@@ -263,6 +263,22 @@ func (n *Netlist) supply(m *amp.Model, s *amp.Solver, c amp.Conditions, v *amp.V
 		n.line("%s %s %s %s", n.elem("R", ref), mid, to, num(max(p.Rs, minOhms)))
 		n.comment("  %s: %s V rms open-circuit, behind %s ohm (winding DCR and reflected primary DCR)", what, num(p.Vrms), num(p.Rs))
 	}
+	if lf := ht.Line; lf != nil {
+		// Transformerless: the mains itself, from the neutral (the
+		// chassis) to the anode, behind the path's resistors.
+		n.comment("no power transformer: the mains (%s V rms at this variac) from %s to the anode %s, behind %s (%s ohm)",
+			num(p.Vrms), m.D.Ground, lf.Anode, strings.Join(lf.Series, " + "), num(p.Rs))
+		mid := n.inner("mains_ht_emf")
+		n.line("%s %s 0 sin(0 %s %s 0 0 0)", n.elem("V", "mains_ht"), mid, num(vpk), num(p.Hz))
+		n.line("%s %s %s %s", n.elem("R", "mains_ht"), mid, n.node(lf.Anode), num(max(p.Rs, minOhms)))
+	} else {
+		n.htWinding(ht, w, p, src)
+	}
+	return n.rectifier(ht, p)
+}
+
+// htWinding writes the HT winding's sources.
+func (n *Netlist) htWinding(ht *amp.HTSupply, w *design.Winding, p supply.Params, src func(ref, from, to string, phase float64, what string)) {
 	tr := ht.Transformer.Ref
 	n.comment("%s winding %s (%s): the sources are its open-circuit volts, %s V rms per conducting path", tr, w.Name, p.Topology, num(p.Vrms))
 	n.comment("at this mains; each path's resistance is the winding's share of its DCR plus the primary DCR")
@@ -290,6 +306,16 @@ func (n *Netlist) supply(m *amp.Model, s *amp.Solver, c amp.Conditions, v *amp.V
 			other = w.Centre
 		}
 		src(tr+"_"+w.Name, n.node(other), n.node(anode), 0, "winding, to the anode end")
+	}
+}
+
+// rectifier writes the HT rectifier.
+func (n *Netlist) rectifier(ht *amp.HTSupply, p supply.Params) error {
+	gnd := func(net string) string {
+		if net == "" {
+			return "0"
+		}
+		return n.node(net)
 	}
 	rp := ht.Rectifier
 	switch p.Rect.Kind {
@@ -381,12 +407,25 @@ func (n *Netlist) windings(m *amp.Model, f float64) {
 	}
 }
 
-// heaters writes each valve heater on a winding as its rated resistance.
-func (n *Netlist) heaters(m *amp.Model) {
+// heaters writes each valve heater on a winding as its rated resistance;
+// a series heater string gets the mains across it, behind its droppers.
+func (n *Netlist) heaters(m *amp.Model, v *amp.Values, f float64) {
 	if len(m.Heaters) == 0 {
 		return
 	}
 	n.section("heaters (resistive loads at their rated volts and amps)")
+	if hs := m.String; hs != nil {
+		r := 0.0
+		for _, i := range m.DropSlots {
+			r += v.Slot[i]
+		}
+		vrms := m.D.Mains.Volts * f
+		n.comment("series heater string %s: the mains (%s V rms) from %s, behind the dropper %s (%s ohm)",
+			strings.Join(hs.Valves, ", "), num(vrms), hs.Return, strings.Join(hs.Droppers, " + "), num(r))
+		mid := n.inner("mains_string_emf")
+		n.line("%s %s %s sin(0 %s %s 0 0 0)", n.elem("V", "mains_string"), mid, n.node(hs.Return), num(math.Sqrt2*vrms), num(m.D.Mains.Hz))
+		n.resistor("string_dropper", mid, n.node(hs.Top), r, "dropper")
+	}
 	for _, h := range m.Heaters {
 		p := m.D.ByRef[h.Ref]
 		if h.RatedAmps <= 0 {
@@ -410,11 +449,27 @@ func (n *Netlist) parts(m *amp.Model, v *amp.Values, mainsFactor float64) {
 		}
 		return 0, false
 	}
+	// A transformerless set's surge resistor and heater dropper are
+	// written with their mains sources, as pinwalk folds them.
+	folded := map[string]bool{}
+	if m.HT != nil && m.HT.Line != nil {
+		for _, ref := range m.HT.Line.Series {
+			folded[ref] = true
+		}
+	}
+	if m.String != nil {
+		for _, ref := range m.String.Droppers {
+			folded[ref] = true
+		}
+	}
 	for _, p := range d.Parts {
 		t := func(i int) string { return n.node(p.Terminals[i].Net) }
 		what := p.Note
 		switch p.Kind {
 		case design.Resistor:
+			if folded[p.Ref] {
+				continue // written with the source it belongs to
+			}
 			r, _ := slot(p.Ref, "")
 			n.resistor(p.Ref, t(0), t(1), r, what)
 		case design.Capacitor:

@@ -41,6 +41,10 @@ var symptomTable = []symptomRule{
 	{"no-lights", design.PowerTransformer, "", faults.HeaterOpen, 250},
 	{"no-lights", design.Rectifier, "", faults.Short, 100},               // it blew the fuse
 	{"no-lights", design.Valve, faults.RoleRectValve, faults.Short, 100}, // it arced and blew the fuse
+	// A series heater string: one open heater, or the dropper, and no
+	// valve lights (Ohm's law: one current through them all).
+	{"no-lights", design.Valve, faults.RoleString, faults.HeaterOpen, 250},
+	{"no-lights", design.Resistor, faults.RoleString, faults.Open, 250},
 	{"no-lights", healthyKind, "", "", 0.01},
 	// The valves glow but there is no sound at all: the HT supply or a
 	// stage every signal passes through.

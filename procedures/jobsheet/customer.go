@@ -196,7 +196,7 @@ func judgeEarth(t *procedures.SafetyTest) safetyVerdict {
 	return v
 }
 
-func judgeInsulation(t *procedures.SafetyTest) safetyVerdict {
+func judgeInsulation(t *procedures.SafetyTest, minOhms float64) safetyVerdict {
 	if t == nil {
 		return safetyVerdict{Result: "not tested", Verdict: "✗ NOT TESTED"}
 	}
@@ -212,12 +212,32 @@ func judgeInsulation(t *procedures.SafetyTest) safetyVerdict {
 		v.Verdict = "• multimeter reading: " + InsulationMultimeterNote
 	case t.TestVolts > 0 && t.TestVolts < InsulationTestVolts:
 		v.Verdict = fmt.Sprintf("• tested at %s, below the %s DC the test calls for: not a pass", cVal(t.TestVolts, "V"), cVal(InsulationTestVolts, "V"))
-	case t.Ohms >= InsulationMinOhms:
+	case t.Ohms >= minOhms:
 		v.Verdict, v.Passed = "✓ passed", true
 	default:
 		v.Verdict, v.Failed = "✗ FAILED", true
 	}
 	return v
+}
+
+// insulationMin is the insulation limit of the sheet's amplifier: Class I
+// (earthed), or Class II for a set with no mains earth, the walk's own
+// limit (procedures.InsulationStopOhms).
+func (sh *Sheet) insulationMin() float64 {
+	if sh.TwoPin {
+		return procedures.InsulationStopOhms
+	}
+	return InsulationMinOhms
+}
+
+// safetyVerdicts judges the after-repair earth bond and insulation; a set
+// with no mains earth has no earth bond to test.
+func (sh *Sheet) safetyVerdicts(j procedures.Job) (eb, ins safetyVerdict) {
+	eb, ins = judgeEarth(j.After.EarthBond), judgeInsulation(j.After.Insulation, sh.insulationMin())
+	if sh.TwoPin {
+		eb = safetyVerdict{Result: "no mains earth (two-pin inlet)", Verdict: "– not applicable", Passed: true}
+	}
+	return eb, ins
 }
 
 // durationWords prints a soak time: "2 h", "1 h 30 min", "45 min".
@@ -278,7 +298,8 @@ func (sh *Sheet) customerDocument() *document {
 	doc.Sections = append(doc.Sections, job)
 
 	// Safety verdict first, so nobody misses it.
-	eb, ins := judgeEarth(j.After.EarthBond), judgeInsulation(j.After.Insulation)
+	eb, ins := sh.safetyVerdicts(j)
+	insMin := sh.insulationMin()
 
 	// What we found.
 	fd := docSection{ID: "found", Title: "What we found"}
@@ -377,8 +398,13 @@ func (sh *Sheet) customerDocument() *document {
 
 	// Safety tests.
 	st := docSection{ID: "safety", Title: "Electrical-safety tests"}
-	st.para("Before the amplifier goes back, with it unplugged from the mains: the earth bond from the mains plug's earth pin to the chassis (%s or less) and the insulation between the mains conductors and earth at %s DC (%s or more). Limits for an earthed (Class I) amplifier; local codes rule.",
-		cVal(EarthBondMaxOhms, "Ω"), cVal(InsulationTestVolts, "V"), cVal(InsulationMinOhms, "Ω"))
+	if sh.TwoPin {
+		st.para("Before the amplifier goes back, with it unplugged from the mains: it has no mains earth, so the insulation between the mains plug's pins and every metal part a user can touch at %s DC (%s or more). Limit for equipment with no protective earth (Class II); local codes rule.",
+			cVal(InsulationTestVolts, "V"), cVal(insMin, "Ω"))
+	} else {
+		st.para("Before the amplifier goes back, with it unplugged from the mains: the earth bond from the mains plug's earth pin to the chassis (%s or less) and the insulation between the mains conductors and earth at %s DC (%s or more). Limits for an earthed (Class I) amplifier; local codes rule.",
+			cVal(EarthBondMaxOhms, "Ω"), cVal(InsulationTestVolts, "V"), cVal(InsulationMinOhms, "Ω"))
+	}
 	st.table(&table{Head: []string{"Test", "Result", "Verdict"}, Rows: [][]string{
 		{"Earth bond", eb.Result, eb.Verdict},
 		{"Insulation resistance", ins.Result, ins.Verdict},
@@ -472,6 +498,8 @@ func (sh *Sheet) groupOf(r procedures.Reading, repaired time.Time) (int, string)
 		return 0, "Filter capacitors discharged before work"
 	case key.Domain == point.Earth:
 		return 1, "Mains earth continuity (multimeter)"
+	case key.Domain == point.Insulation:
+		return 1, "Insulation, mains pins to exposed metal"
 	case key.Domain == point.Cold && !strings.Contains(label, "to chassis"):
 		return 3, "Windings and mains input, unplugged"
 	case key.Domain == point.Cold:

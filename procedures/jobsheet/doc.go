@@ -323,7 +323,7 @@ func (sh *Sheet) document() *document {
 		for _, p := range j.Parts {
 			rows = append(rows, []string{"Replaced " + p.Ref, strings.Join(nonEmpty(p.Value, p.Rating, p.Reason), "; ")})
 		}
-		eb, ins := judgeEarth(j.After.EarthBond), judgeInsulation(j.After.Insulation)
+		eb, ins := sh.safetyVerdicts(j)
 		rows = append(rows, []string{"Earth bond", eb.Result + ": " + eb.Verdict}, []string{"Insulation resistance", ins.Result + ": " + ins.Verdict})
 		for _, p := range j.After.PowerOut {
 			rows = append(rows, []string{"Power out, " + orDash(p.Channel), strings.TrimSpace(fmtVal(p.Watts, "W") + " into " + loadWords(p.LoadOhms) + " " + p.Note)})

@@ -92,6 +92,8 @@ func (l *Labeller) Label(k point.Key) string {
 	switch k.Domain {
 	case point.Earth:
 		return "mains earth pin to chassis, unplugged"
+	case point.Insulation:
+		return "mains pins to exposed metal, insulation tester, unplugged"
 	case point.Mains:
 		return "mains volts at the wall"
 	case point.Cold:

@@ -40,7 +40,7 @@ type Options struct {
 
 // SafetyKinds are the step kinds whose confirmation is listed as a safety
 // check when no procedure is given.
-var SafetyKinds = []procedures.Kind{procedures.KindBriefing, procedures.KindMeter, procedures.KindDischarge, procedures.KindEarth}
+var SafetyKinds = []procedures.Kind{procedures.KindBriefing, procedures.KindMeter, procedures.KindDischarge, procedures.KindEarth, procedures.KindIsolation}
 
 // Sheet is a built job sheet, ready to render.
 type Sheet struct {
@@ -49,8 +49,12 @@ type Sheet struct {
 	// DesignFile and DesignHash are as the session recorded them;
 	// LoadedHash is the hash of the design file loaded now ("" when none).
 	DesignFile, DesignHash, LoadedHash string
-	Mode                               procedures.Mode
-	Started, Updated                   time.Time
+	// TwoPin: the design's mains inlet has no earth (a Class II or
+	// transformerless set): no earth bond to test, and the insulation
+	// limit is the class II one.
+	TwoPin           bool
+	Mode             procedures.Mode
+	Started, Updated time.Time
 	// Mains is the mains volts the operating points were solved at.
 	Mains   float64
 	Variacs []float64 // distinct variac fractions readings were taken at (0 = none)
@@ -161,6 +165,7 @@ func Build(s *procedures.Session, opt Options) (*Sheet, error) {
 	d := opt.Design
 	if d != nil {
 		sh.LoadedHash = d.Hash
+		sh.TwoPin = d.TwoPin()
 		if d.Title != "" {
 			sh.Title = d.Title
 		}
