@@ -324,7 +324,11 @@ func (c *Controller) settle() error {
 	if h := r.PendingHalt(); h != nil {
 		id := fmt.Sprintf("switch-off-%d", len(r.Sess.Halts))
 		if r.Proc.Step(id) == nil {
-			c.w.AddStep(&Step{ID: id, Kind: KindPowerDown, Live: true, Title: "SWITCH OFF NOW",
+			title := "SWITCH OFF NOW"
+			if h.Stop {
+				title = "Switch off: a stop holds"
+			}
+			c.w.AddStep(&Step{ID: id, Kind: KindPowerDown, Live: true, Title: title,
 				Instruction: h.Why + " When the variac is at zero and the amp is switched off and unplugged, confirm (y). Its capacitors are charged: the walk asks you to discharge them again.",
 				Cautions:    []string{LiveCaution, UnpluggedCaution}})
 		}
@@ -336,7 +340,13 @@ func (c *Controller) settle() error {
 		return nil
 	}
 	if c.w.Loop != nil {
-		return c.w.Loop.Advance()
+		if err := c.w.Loop.Advance(); err != nil {
+			return err
+		}
+		if r.PendingHalt() != nil {
+			// The loop asked for a switch-off (a stop holds on a live step).
+			return c.settle()
+		}
 	}
 	return nil
 }
@@ -478,6 +488,6 @@ func (c *Controller) Ranker() func([]Reading) (*infer.Ranking, error) {
 			}
 			eng = e
 		}
-		return eng.Rank(Observations(rs), nil), nil
+		return eng.Rank(Observations(rs, d), nil), nil
 	}
 }
