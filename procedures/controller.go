@@ -325,8 +325,11 @@ func (c *Controller) settle() error {
 		id := fmt.Sprintf("switch-off-%d", len(r.Sess.Halts))
 		if r.Proc.Step(id) == nil {
 			title := "SWITCH OFF NOW"
-			if h.Stop {
+			switch {
+			case h.Stop:
 				title = "Switch off: a stop holds"
+			case h.Cold:
+				title = "Switch off: the next readings are cold"
 			}
 			c.w.AddStep(&Step{ID: id, Kind: KindPowerDown, Live: true, Title: title,
 				Instruction: h.Why + " When the variac is at zero and the amp is switched off and unplugged, confirm (y). Its capacitors are charged: the walk asks you to discharge them again.",

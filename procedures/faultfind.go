@@ -512,6 +512,13 @@ func (l *faultLoop) Advance() error {
 // on while one tells anything (stophold.go), then the measuring ends
 // with the leading suspect (power stays the technician's own command).
 func (l *faultLoop) addNext(rk *infer.Ranking) error {
+	if l.powered() && l.w.R.PendingHalt() == nil {
+		if cold := l.coldNext(); coldNow(rk.Next, cold) {
+			l.withdraw()
+			l.offForCold(cold)
+			return nil
+		}
+	}
 	if !l.powered() && l.underStop() {
 		if rk.Next == nil || rk.Next.Live || rk.Next.GainBits < MinColdGainBits {
 			l.conclude(rk.Suspects[0].Fault, false)
@@ -540,6 +547,15 @@ func powerNow(cold *infer.Probe, live func() *infer.Probe) bool {
 	}
 	lp := live()
 	return lp != nil && cold.GainBits < LiveGainShare*lp.GainBits
+}
+
+// coldNext is the best cold measurement (or look) on the readings so far.
+func (l *faultLoop) coldNext() *infer.Probe {
+	e, err := l.engine()
+	if err != nil {
+		return nil
+	}
+	return e.NextAmong(l.observations(), isCold)
 }
 
 // liveNext is the best live measurement on the readings so far (the next
@@ -810,7 +826,7 @@ func measureFor(key point.Key, label, setup string) Measure {
 	m := Measure{Point: key, Label: label, Probes: setup}
 	switch key.Quantity {
 	case point.Seen:
-		m.Function = FuncLook
+		m.Function, m.Unit = FuncLook, point.Seen
 	case point.Ohms:
 		m.Function, m.Unit, m.Range = FuncOhms, "Ω", "autorange"
 	case point.ACVolts, point.RippleVolts, point.ToneVolts:

@@ -465,3 +465,45 @@ func TestPracticeStopGoesOnCold(t *testing.T) {
 		t.Errorf("out-of-order attempts %v", r.Sess.Attempts)
 	}
 }
+
+// TestPracticeGoesColdAfterLive: the fixed-bias demo's valve rectifier
+// with its filament open inside the glass (V9:heater-open): powered, B+
+// is dead and the filament winding gives its 5 V, so the live readings
+// cannot tell an open filament from a dead valve; the ohmmeter across the
+// filament pins can (common practice). The walk has the amp switched off
+// for cold readings (once: it does not power up again by itself) and the
+// trainee names the fault from the cold reading.
+func TestPracticeGoesColdAfterLive(t *testing.T) {
+	d := loadDesign(t, "pp-el34-fixed")
+	s := NewSession(d, Practise, 22, fixedNow)
+	s.Practice = &Practice{Seed: 22, Fault: "V9:heater-open"}
+	w, err := Open(d, s, "", WalkOptions{Samples: 100, Seed: 22, Now: clock()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := 0; i < 200 && trainee(t, w); i++ {
+	}
+	r := w.R
+	p := r.Sess.Practice
+	t.Logf("readings: %s", readingsOf(r))
+	if !p.Revealed || p.Named != "V9:heater-open" {
+		t.Fatalf("named %q (revealed %v), want V9:heater-open", p.Named, p.Revealed)
+	}
+	if len(r.Sess.Halts) != 1 || !r.Sess.Halts[0].Cold || !r.Sess.Halts[0].Done {
+		t.Fatalf("switch-offs %+v, want one for cold readings, confirmed", r.Sess.Halts)
+	}
+	live, coldAfter := 0, 0
+	for _, rd := range r.Sess.Readings {
+		switch {
+		case rd.Point.Powered() && rd.Cycle > 0:
+			t.Errorf("live reading %s after the switch-off", rd.Point)
+		case rd.Point.Powered():
+			live++
+		case rd.Point == point.ColdKey("V9 heater") && rd.Cycle > 0:
+			coldAfter++
+		}
+	}
+	if live == 0 || coldAfter != 1 {
+		t.Errorf("%d live readings before, %d readings of V9's filament after the switch-off; want some, and one", live, coldAfter)
+	}
+}

@@ -4,6 +4,7 @@ import (
 	"fmt"
 
 	"pinwalk/expect/point"
+	"pinwalk/procedures/infer"
 )
 
 // A stop forbids powering, not measuring. In fault-finding and practice
@@ -49,4 +50,26 @@ func (l *faultLoop) offForStop() bool {
 			"The measuring goes on with the amp unpowered: the reading that stopped is evidence, and the next readings are cold ones.",
 			r.labelOf(rd.Step, rd.Point), FormatValue(rd.Value, rd.Unit))})
 	return true
+}
+
+// coldNow reports whether the powered amp should be switched off for cold
+// readings: the best cold reading (or look) left tells at least
+// MinColdGainBits, and the best live one less than that or less than
+// LiveGainShare of it (the mirror of powerNow: a filament open inside a
+// valve, a winding open, show only on the ohmmeter once the amp is dead).
+func coldNow(live, cold *infer.Probe) bool {
+	if cold == nil || cold.GainBits < MinColdGainBits {
+		return false
+	}
+	return live == nil || live.GainBits < MinColdGainBits || live.GainBits < LiveGainShare*cold.GainBits
+}
+
+// offForCold asks for the amp to be switched off so that the measuring
+// goes on cold (the controller shows the step; confirming it ends the
+// power cycle, and the loop does not power up again by itself).
+func (l *faultLoop) offForCold(cold *infer.Probe) {
+	r := l.w.R
+	r.Sess.Halts = append(r.Sess.Halts, Halt{Step: StepPowerUp, At: r.Now(), Cold: true,
+		Why: fmt.Sprintf("The live readings no longer tell the suspects apart; a cold one does (%s: %s). Variac to zero, switch off and unplug: the measuring goes on with the amp unpowered.",
+			cold.Label, cold.Reason)})
 }
