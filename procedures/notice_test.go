@@ -111,7 +111,7 @@ func TestPracticeFaultsNoticed(t *testing.T) {
 			outs = append(outs, pts[i].ID)
 		}
 		counts := map[string]int{}
-		noticed, all := 0, 0
+		noticed, all, unseen := 0, 0, 0
 		for _, f := range faults.All(m) {
 			all++
 			c, ok := complaintOf(w.B, e, f.String())
@@ -129,6 +129,9 @@ func TestPracticeFaultsNoticed(t *testing.T) {
 			}
 			noticed++
 			counts[c.Words]++
+			if e.SameGroup(f.String(), "healthy", true) {
+				unseen++ // noticed, but no reading of the walk sees it: not drawn
+			}
 			worst := 0.0
 			for _, x := range g {
 				worst = math.Min(worst, x)
@@ -152,7 +155,7 @@ func TestPracticeFaultsNoticed(t *testing.T) {
 			words = append(words, k)
 		}
 		sort.Slice(words, func(a, b int) bool { return counts[words[a]] > counts[words[b]] })
-		t.Logf("%s: %d of %d injectable faults noticed, %d complaints", name, noticed, all, len(words))
+		t.Logf("%s: %d of %d injectable faults noticed (%d of them seen by no reading of the walk, not drawn), %d complaints", name, noticed, all, unseen, len(words))
 		for _, k := range words {
 			t.Logf("%s %3d  %s", name, counts[k], k)
 			if 2*counts[k] > noticed {

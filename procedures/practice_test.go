@@ -102,7 +102,7 @@ func TestPracticeFollowingSuggestions(t *testing.T) {
 	}
 	const seeds = 24
 	for _, name := range []string{"se-6v6-stereo", "pp-el34-fixed", "bench-12ax7"} {
-		hits, readings := 0, 0
+		hits, readings, lookTotal := 0, 0, 0
 		var misses []string
 		complaints := map[string]int{}
 		for seed := uint64(1); seed <= seeds; seed++ {
@@ -112,15 +112,19 @@ func TestPracticeFollowingSuggestions(t *testing.T) {
 			e, _ := l.engine()
 			p := r.Sess.Practice
 			hit := named != "" && (named == hidden || e.SameGroup(named, hidden, true))
-			n := 0
+			n, looks := 0, 0
 			for _, st := range r.Proc.Steps {
 				if strings.HasPrefix(st.ID, "probe-") && l.hasReading(st.ID) {
 					n++
+					if st.Measures[0].Point.Domain == point.Look {
+						looks++
+					}
 				}
 			}
+			lookTotal += looks
 			readings += n
 			complaints[p.Complaint]++
-			t.Logf("%s seed %2d | %-22s | found %-5v | %2d readings | score %3d | named %-14s | %q", name, seed, hidden, hit, n, p.Score, orNothing(named), p.Complaint)
+			t.Logf("%s seed %2d | %-22s | found %-5v | %2d readings (%d looks) | score %3d | named %-14s | %q", name, seed, hidden, hit, n, looks, p.Score, orNothing(named), p.Complaint)
 			// A complaint always; its symptom where one of the symptom
 			// list fits (a burning smell, a louder amp have none).
 			if p.Complaint == "" || (p.Symptom != "" && len(r.Sess.Symptoms) == 0) {
@@ -152,7 +156,10 @@ func TestPracticeFollowingSuggestions(t *testing.T) {
 			}
 		}
 		rate := float64(hits) / seeds
-		t.Logf("%s: found %d of %d (%.0f %%), mean %.1f readings, %d different complaints", name, hits, seeds, 100*rate, float64(readings)/seeds, len(complaints))
+		t.Logf("%s: found %d of %d (%.0f %%), mean %.1f readings (%d looks in all), %d different complaints", name, hits, seeds, 100*rate, float64(readings)/seeds, lookTotal, len(complaints))
+		for c, k := range complaints {
+			t.Logf("%s: %2d × %q", name, k, c)
+		}
 		for _, m := range misses {
 			t.Log(m)
 		}
