@@ -376,6 +376,8 @@ func (b *BenchModel) Expect(k point.Key, variac float64, readings []Reading) (Ba
 		return b.biasBand(k, readings)
 	case point.Part:
 		return b.partBand(k)
+	case point.Look:
+		return Band{}, false // a sign seen or not: no band
 	}
 	s, err := b.Set(b.effectiveVariac(variac, readings), readings)
 	if err != nil {

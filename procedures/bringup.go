@@ -686,6 +686,11 @@ func fmtBand(v float64, unit string) string {
 		v = 0 // numerical dust: no meter shows it
 	}
 	switch unit {
+	case point.Seen: // a look: 1 the sign seen, 0 not
+		if v >= 0.5 {
+			return "seen"
+		}
+		return "not seen"
 	case "A":
 		return units.Format(v, units.Amps)
 	case "Ω":

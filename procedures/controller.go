@@ -324,7 +324,14 @@ func (c *Controller) settle() error {
 	if h := r.PendingHalt(); h != nil {
 		id := fmt.Sprintf("switch-off-%d", len(r.Sess.Halts))
 		if r.Proc.Step(id) == nil {
-			c.w.AddStep(&Step{ID: id, Kind: KindPowerDown, Live: true, Title: "SWITCH OFF NOW",
+			title := "SWITCH OFF NOW"
+			switch {
+			case h.Stop:
+				title = "Switch off: a stop holds"
+			case h.Cold:
+				title = "Switch off: the next readings are cold"
+			}
+			c.w.AddStep(&Step{ID: id, Kind: KindPowerDown, Live: true, Title: title,
 				Instruction: h.Why + " When the variac is at zero and the amp is switched off and unplugged, confirm (y). Its capacitors are charged: the walk asks you to discharge them again.",
 				Cautions:    []string{LiveCaution, UnpluggedCaution}})
 		}
@@ -338,6 +345,10 @@ func (c *Controller) settle() error {
 	if c.w.Loop != nil {
 		if err := c.w.Loop.Advance(); err != nil {
 			return err
+		}
+		if r.PendingHalt() != nil {
+			// The loop asked for a switch-off (a stop holds on a live step).
+			return c.settle()
 		}
 	}
 	// A live step held only for the isolation transformer: the walk
@@ -485,6 +496,6 @@ func (c *Controller) Ranker() func([]Reading) (*infer.Ranking, error) {
 			}
 			eng = e
 		}
-		return eng.Rank(Observations(rs), nil), nil
+		return eng.Rank(Observations(rs, d), nil), nil
 	}
 }

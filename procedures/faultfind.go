@@ -207,7 +207,9 @@ func (l *faultLoop) practice() error {
 }
 
 // drawPractice picks a practice session's hidden fault: among the faults
-// a customer would notice (complaintOf), weighted by their priors
+// a customer would notice (complaintOf) and some reading of the walk can
+// tell from a healthy amp (one no reading sees teaches nothing: an open
+// coupling capacitor shows only on a test tone), weighted by their priors
 // (common-practice failure rates), with the complaint in the customer's
 // words and the symptom it reports.
 func (l *faultLoop) drawPractice(e *infer.Engine, seed uint64) (fault string, c Complaint, err error) {
@@ -224,9 +226,12 @@ func (l *faultLoop) drawPractice(e *infer.Engine, seed uint64) (fault string, c 
 	total := 0.0
 	for _, f := range all {
 		name := f.String()
-		c, ok := complaintOf(l.w.B, e, name)
 		w := e.Prior(name)
-		if !ok || !(w > 0) {
+		if !(w > 0) || e.SameGroup(name, infer.Healthy, true) {
+			continue
+		}
+		c, ok := complaintOf(l.w.B, e, name)
+		if !ok {
 			continue
 		}
 		cs = append(cs, cand{name, c, w})
@@ -252,133 +257,116 @@ type Complaint struct {
 	Words, Symptom string
 }
 
-// Thresholds of what an owner notices (common practice).
-const (
-	// darkShare: heater volts under this share of healthy: no glow.
-	darkShare = 0.3
-	// deadShare: the first HT net under this share of healthy: no sound.
-	deadShare = 0.4
-	// redShare: an output valve's plate current this much above healthy
-	// shows a red plate within minutes; lostShare below healthy, one
-	// channel (or the amp) goes quiet; weakShare, it sounds weak.
-	redShare, lostShare, weakShare = 0.25, 0.6, 0.25
-	// humFactor: ripple on a B+ net this many times its healthy top is a
-	// hum the owner hears.
-	humFactor = 2.0
-)
+// darkShare: heater volts under this share of healthy: no glow (common
+// practice).
+const darkShare = 0.3
 
-// complaintOf says what an owner would notice with a fault, from the
-// fault's predicted readings against the healthy bands: no lights at all,
-// a fuse that blows, valves lit but no sound, a red plate, one channel
-// quiet, hum, a weak or distorted sound. A fault that moves no reading an
-// owner would notice by more than the healthy band's width is not
-// noticed (ok false): nobody brings such an amplifier in.
+// complaintOf says what an owner would notice with a fault, in the
+// owner's words, and the symptom it reports. The fault is solved in the
+// whole amp and its levels compared with the healthy amp's (notice.go):
+// a fault that moves the gain or the maximum output by less than
+// NoticeDB, kills nothing, blows nothing, hums no more and overheats
+// nothing is not noticed (ok false): nobody brings such an amplifier in.
+// The complaint names what the owner hears and sees, the most striking
+// first: no lights, a fuse that blows, a valve that stays dark, a red
+// plate, no sound, one channel silent or weak, hum, a burning smell, a
+// quieter amp, one that breaks up early, one that got louder.
 func complaintOf(b *BenchModel, e *infer.Engine, fault string) (Complaint, bool) {
 	m := b.M
-	shift := func(key string) (rel float64, beyond bool, ok bool) {
-		x, lo, hi, ok := e.Predicted(fault, key)
-		_, h, _, okh := e.Predicted(infer.Healthy, key)
-		if !ok || !okh || h == 0 {
-			return 0, false, false
-		}
-		w := hi - lo
-		return (x - h) / math.Abs(h), x < lo-w || x > hi+w, true
-	}
-	var heaters, outPlates, signal []string
-	outValve := map[string]string{}
-	for _, pd := range m.Points() {
-		switch {
-		case pd.Quantity == amp.ACVolts && pd.Electrode == valves.Heater && pd.Section >= 0:
-			// Amplifying valves' heaters (a valve rectifier's filament
-			// is judged by the HT it gives).
-			heaters = append(heaters, pd.Key())
-		case pd.Quantity == amp.DCAmps && pd.Electrode == valves.Plate && pd.Section >= 0 && m.Sections[pd.Section].Pentode:
-			outPlates = append(outPlates, pd.Key())
-			outValve[pd.Key()] = pd.Valve
-		case pd.Quantity == amp.DCVolts && pd.Valve != "" && pd.Section >= 0:
-			signal = append(signal, pd.Key())
-		}
-	}
-	dark := 0
-	var darkValve string
-	for _, k := range heaters {
-		if rel, _, ok := shift(k); ok && rel < darkShare-1 {
-			dark++
-			darkValve = strings.SplitN(k, ".", 2)[0]
-		}
-	}
-	if len(heaters) > 0 && dark == len(heaters) {
-		return Complaint{"Nothing at all: the valves don't light up and there is no sound, not even a hum.", "no-lights"}, true
-	}
 	if e.NearShort(fault) {
 		return Complaint{"It blew its fuse. I put a new one in and that blew too, as soon as I switched on.", "fuse-blows"}, true
 	}
-	stereo := len(channels(b.D)) > 1
-	if dark == 1 {
-		if p := b.D.ByRef[darkValve]; p != nil && p.Valve.Type.Kind == valves.Rectifier {
-			return Complaint{"The valves light up except one, and there is no sound at all.", "no-sound"}, true
+	ef := effectOf(m, fault)
+	if !ef.noticed() {
+		return Complaint{}, false
+	}
+	if ef.allDark {
+		return Complaint{"Nothing at all: the valves don't light up and there is no sound, not even a hum.", "no-lights"}, true
+	}
+	stereo := len(ef.gainDB) > 1
+	silent, weak, fine := 0, 0, 0
+	worst := 0.0
+	for i, g := range ef.gainDB {
+		switch {
+		case g <= -SilentDB:
+			silent++
+		case g <= -NoticeDB || ef.maxDB[i] <= -NoticeDB:
+			weak++
+		default:
+			fine++
 		}
-		for _, v := range outValve {
-			if v == darkValve {
-				if stereo {
-					return Complaint{"One channel has gone silent, and one of the big valves does not light up.", "no-sound-one-channel"}, true
-				}
-				return Complaint{"It has gone weak and distorted, and one of the big valves does not light up.", "low-volume"}, true
+		worst = math.Min(worst, g)
+	}
+	power := func(ref string) bool {
+		for _, s := range m.Sections {
+			if s.Ref == ref && s.Type.Limits.PlateWatts >= PowerValveWatts {
+				return true
 			}
 		}
-		return Complaint{"One of the small valves does not light up, and the sound has gone.", "no-sound"}, true
+		return false
 	}
-	if m.HT != nil && len(m.HT.Nets) > 0 {
-		if rel, _, ok := shift(point.LiveKey(m.HT.Nets[0], point.DCVolts).String()); ok && rel < deadShare-1 {
-			return Complaint{"The valves light up but there is no sound at all.", "no-sound"}, true
-		}
-	}
-	var lost, weak []string
-	for _, k := range outPlates {
-		rel, beyond, ok := shift(k)
-		if !ok {
-			continue
-		}
+	if len(ef.dark) > 0 {
+		ref := ef.dark[0]
 		switch {
-		case rel > redShare && beyond:
-			return Complaint{"After a few minutes one of the big valves glows red inside, and it starts to sound rough.", "red-plate"}, true
-		case rel < -lostShare:
-			lost = append(lost, outValve[k])
-		case rel < -weakShare && beyond:
-			weak = append(weak, outValve[k])
+		case b.D.ByRef[ref] != nil && b.D.ByRef[ref].Valve != nil && b.D.ByRef[ref].Valve.Type.Kind == valves.Rectifier:
+			return Complaint{"The valves light up except one, and there is no sound at all.", "no-sound"}, true
+		case power(ref) && stereo && fine > 0:
+			return Complaint{"One channel has gone silent, and one of the big valves does not light up.", "no-sound-one-channel"}, true
+		case power(ref):
+			return Complaint{"It has gone weak and distorted, and one of the big valves does not light up.", "low-volume"}, true
+		case silent > 0 && fine == 0:
+			return Complaint{"One of the small valves does not light up, and the sound has gone.", "no-sound"}, true
+		case stereo && fine > 0:
+			return Complaint{"One of the small valves does not light up, and one channel has gone quiet.", "no-sound-one-channel"}, true
 		}
+		return Complaint{"One of the small valves does not light up, and it has gone quiet.", "low-volume"}, true
 	}
-	if len(lost) > 0 && len(lost) < len(outPlates) && stereo {
+	if len(ef.red) > 0 {
+		if silent > 0 && fine == 0 && weak == 0 {
+			return Complaint{"There is no sound at all, and after a few minutes the big valves glow red inside.", "red-plate"}, true
+		}
+		if stereo && silent > 0 {
+			return Complaint{"One channel has gone silent, and after a few minutes one of its big valves glows red inside.", "red-plate"}, true
+		}
+		return Complaint{"After a few minutes one of the big valves glows red inside, and it starts to sound rough.", "red-plate"}, true
+	}
+	switch {
+	case silent > 0 && fine == 0 && weak == 0:
+		return Complaint{"The valves light up but there is no sound at all.", "no-sound"}, true
+	case stereo && silent > 0:
 		return Complaint{"One channel has gone silent (or very faint); the other is fine.", "no-sound-one-channel"}, true
 	}
-	if len(lost) > 0 {
-		return Complaint{"It has gone very quiet and distorted.", "low-volume"}, true
+	if ef.humLoud {
+		return Complaint{"It hums loudly, even with the volume right down.", "hum"}, true
 	}
-	if m.HT != nil {
-		for _, n := range m.HT.Nets {
-			k := point.LiveKey(n, point.RippleVolts).String()
-			x, _, hi, ok := e.Predicted(fault, k)
-			if ok && hi > 0 && x > humFactor*hi {
-				return Complaint{"It hums loudly, even with the volume right down.", "hum"}, true
-			}
+	if ef.humUp {
+		return Complaint{"There's a hum from the speaker that wasn't there before; you hear it between songs.", "hum"}, true
+	}
+	if len(ef.burnt) > 0 {
+		return Complaint{"After it has been on a while there is a hot, burning smell from inside.", ""}, true
+	}
+	if stereo && weak > 0 && fine > 0 {
+		return Complaint{"One channel is quieter than the other and breaks up sooner.", "low-volume"}, true
+	}
+	if weak > 0 {
+		gainLow, maxLow := false, false
+		for i := range ef.gainDB {
+			gainLow = gainLow || ef.gainDB[i] <= -NoticeDB
+			maxLow = maxLow || ef.maxDB[i] <= -NoticeDB
+		}
+		switch {
+		case worst <= -VeryQuietDB:
+			return Complaint{"It has gone very quiet: even turned right up it is nowhere near as loud as it was.", "low-volume"}, true
+		case gainLow:
+			return Complaint{"It's quieter than it used to be: I have to turn it up further for the same volume.", "low-volume"}, true
+		case maxLow && worstMax(ef) <= -VeryQuietDB:
+			return Complaint{"It distorts even when I play it quietly.", "low-volume"}, true
+		case maxLow:
+			return Complaint{"It breaks up early: it can't play as loud as it used to before it distorts.", "low-volume"}, true
 		}
 	}
-	if len(weak) > 0 {
-		return Complaint{"It has lost its punch: it sounds weak and distorts early.", "low-volume"}, true
-	}
-	if m.HT != nil {
-		for _, n := range m.HT.Nets {
-			if _, beyond, ok := shift(point.LiveKey(n, point.DCVolts).String()); ok && beyond {
-				return Complaint{"It sounds weaker than it used to, and there's a bit more hum.", "low-volume"}, true
-			}
-		}
-	}
-	for _, k := range signal {
-		if _, beyond, ok := shift(k); ok && beyond {
-			return Complaint{"It sounds thin and a bit distorted, and quieter than it used to.", "low-volume"}, true
-		}
-	}
-	return Complaint{}, false
+	// What is left of noticed(): the gain has gone up by NoticeDB or more.
+	return Complaint{"It has got louder at the same setting of the volume, and harsher.", ""}, true
 }
 
 // baseDone: symptoms and every safety step done.
@@ -397,12 +385,15 @@ func (l *faultLoop) baseDone() bool {
 func (l *faultLoop) powered() bool { return l.w.R.Done(StepPowerUp) }
 
 // observations: the session's evidence (Observations).
-func (l *faultLoop) observations() []infer.Observation { return Observations(l.w.R.Sess.Readings) }
+func (l *faultLoop) observations() []infer.Observation {
+	return Observations(l.w.R.Sess.Readings, l.w.B.D)
+}
 
-// isCold reports whether an inference key names a cold point.
+// isCold reports whether an inference key names a cold point (a
+// resistance unplugged, or a look with the power off).
 func isCold(k string) bool {
 	pk, err := point.Parse(k)
-	return err == nil && pk.Domain == point.Cold
+	return err == nil && (pk.Domain == point.Cold || pk.Domain == point.Look)
 }
 
 func isLive(k string) bool { return !isCold(k) }
@@ -495,6 +486,9 @@ func (l *faultLoop) Advance() error {
 			return err
 		}
 	}
+	if r.Sess.Outcome == nil && l.offForStop() {
+		return nil
+	}
 	if !l.baseDone() || l.openAdded() || r.Sess.Outcome != nil {
 		return nil
 	}
@@ -513,18 +507,27 @@ func (l *faultLoop) Advance() error {
 }
 
 // addNext adds the best next measurement, or the power-up step when no
-// cold measurement is worth taking. While a stop is in force (a cold
-// near-short) the amp is not powered: the measuring ends with the
-// leading suspect.
+// cold measurement is worth taking. While a stop is in force, or after a
+// switch-off, the amp is not powered again by the loop: cold readings go
+// on while one tells anything (stophold.go), then the measuring ends
+// with the leading suspect (power stays the technician's own command).
 func (l *faultLoop) addNext(rk *infer.Ranking) error {
-	if !l.powered() && powerNow(rk.Next, l.liveNext) {
-		// Not again into a reading that said stop or switch off: the
-		// measuring ends with the leading suspect (power stays the
-		// technician's own command).
-		if len(l.w.R.Stops()) > 0 || len(l.w.R.Sess.Halts) > 0 {
+	if l.powered() && l.w.R.PendingHalt() == nil {
+		if cold := l.coldNext(); coldNow(rk.Next, cold) {
+			l.withdraw()
+			l.offForCold(cold)
+			return nil
+		}
+	}
+	if !l.powered() && l.underStop() {
+		if rk.Next == nil || rk.Next.Live || rk.Next.GainBits < MinColdGainBits {
 			l.conclude(rk.Suspects[0].Fault, false)
 			return nil
 		}
+		l.addProbe(*rk.Next, rk)
+		return nil
+	}
+	if !l.powered() && powerNow(rk.Next, l.liveNext) {
 		return l.addPowerUp()
 	}
 	if rk.Next == nil {
@@ -544,6 +547,15 @@ func powerNow(cold *infer.Probe, live func() *infer.Probe) bool {
 	}
 	lp := live()
 	return lp != nil && cold.GainBits < LiveGainShare*lp.GainBits
+}
+
+// coldNext is the best cold measurement (or look) on the readings so far.
+func (l *faultLoop) coldNext() *infer.Probe {
+	e, err := l.engine()
+	if err != nil {
+		return nil
+	}
+	return e.NextAmong(l.observations(), isCold)
 }
 
 // liveNext is the best live measurement on the readings so far (the next
@@ -813,6 +825,8 @@ func (l *faultLoop) powerUpStep() (*Step, error) {
 func measureFor(key point.Key, label, setup string) Measure {
 	m := Measure{Point: key, Label: label, Probes: setup}
 	switch key.Quantity {
+	case point.Seen:
+		m.Function, m.Unit = FuncLook, point.Seen
 	case point.Ohms:
 		m.Function, m.Unit, m.Range = FuncOhms, "Ω", "autorange"
 	case point.ACVolts, point.RippleVolts, point.ToneVolts:
@@ -835,7 +849,7 @@ func (l *faultLoop) addProbe(p infer.Probe, rk *infer.Ranking) *Step {
 	}
 	st := &Step{ID: fmt.Sprintf("probe-%d", n), Title: "Measure " + p.Label, Measures: []Measure{measureFor(key, p.Label, p.Setup)}}
 	g := append([]string(nil), l.safety...)
-	live := p.Live || key.Domain != point.Cold
+	live := p.Live || !isCold(p.Key)
 	if live {
 		st.Kind, st.Live, st.Variac = KindLive, true, 1
 		st.Cautions = []string{LiveCaution, VariacCaution}
@@ -1180,7 +1194,13 @@ func (l *faultLoop) answer() error {
 		return fmt.Errorf("the simulated amp has no reading for %s", m.Point)
 	}
 	raw := "OL"
-	if !math.IsInf(v, 1) {
+	switch {
+	case m.Point.Quantity == point.Seen:
+		raw = "not seen"
+		if v >= 0.5 {
+			raw = "seen"
+		}
+	case !math.IsInf(v, 1):
 		raw = fmt.Sprintf("%.6g%s!", v, m.Unit)
 		if m.Unit == "Ω" {
 			raw = fmt.Sprintf("%.6gohm!", v)

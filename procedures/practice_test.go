@@ -44,6 +44,12 @@ func trainee(t *testing.T, w *Walk) bool {
 			t.Fatalf("reveal: %v", err)
 		}
 		return true
+	case st.ID == StepConfirm && m != nil && r.Last(st.ID, m.Point) != nil && r.blocking(r.Last(st.ID, m.Point)):
+		// The leading suspect reads good out of circuit: the readings have
+		// not found the fault. The trainee asks to see it.
+		if _, err := c.Do(Action{Kind: ActReveal}); err != nil {
+			t.Fatalf("reveal: %v", err)
+		}
 	case m == nil:
 		if _, err := c.Do(Action{Kind: ActConfirm}); err != nil {
 			t.Fatalf("confirm %s: %v", st.ID, err)
@@ -86,7 +92,7 @@ func practiceRun(t *testing.T, name string, seed uint64) (hidden, named string, 
 // powers up when the cold ones stop telling suspects apart, and ends at
 // the naming step; the trainee names the fault the readings point at.
 // Every session starts from a complaint in the owner's words with its
-// symptom; the reading count on the score is the readings taken. Over 24
+// symptom (where one fits); the reading count on the score is the readings taken. Over 24
 // seeds per demo the named fault must be the hidden one, or one no
 // modelled reading tells from it, in at least 80 % of the sessions (our
 // target); the table is logged.
@@ -95,11 +101,8 @@ func TestPracticeFollowingSuggestions(t *testing.T) {
 		t.Skip("24 practice sessions per demo")
 	}
 	const seeds = 24
-	// The fixed-bias demo is left out: a scripted trainee cannot yet
-	// answer the stop of its power-up with the output valves out (a
-	// bias fault reads no bias at an output grid).
-	for _, name := range []string{"se-6v6-stereo", "bench-12ax7"} {
-		hits, readings := 0, 0
+	for _, name := range []string{"se-6v6-stereo", "pp-el34-fixed", "bench-12ax7"} {
+		hits, readings, lookTotal := 0, 0, 0
 		var misses []string
 		complaints := map[string]int{}
 		for seed := uint64(1); seed <= seeds; seed++ {
@@ -109,16 +112,22 @@ func TestPracticeFollowingSuggestions(t *testing.T) {
 			e, _ := l.engine()
 			p := r.Sess.Practice
 			hit := named != "" && (named == hidden || e.SameGroup(named, hidden, true))
-			n := 0
+			n, looks := 0, 0
 			for _, st := range r.Proc.Steps {
 				if strings.HasPrefix(st.ID, "probe-") && l.hasReading(st.ID) {
 					n++
+					if st.Measures[0].Point.Domain == point.Look {
+						looks++
+					}
 				}
 			}
+			lookTotal += looks
 			readings += n
 			complaints[p.Complaint]++
-			t.Logf("%s seed %2d | %-22s | found %-5v | %2d readings | score %3d | named %-14s | %q", name, seed, hidden, hit, n, p.Score, orNothing(named), p.Complaint)
-			if p.Complaint == "" || p.Symptom == "" || len(r.Sess.Symptoms) == 0 {
+			t.Logf("%s seed %2d | %-22s | found %-5v | %2d readings (%d looks) | score %3d | named %-14s | %q", name, seed, hidden, hit, n, looks, p.Score, orNothing(named), p.Complaint)
+			// A complaint always; its symptom where one of the symptom
+			// list fits (a burning smell, a louder amp have none).
+			if p.Complaint == "" || (p.Symptom != "" && len(r.Sess.Symptoms) == 0) {
 				t.Errorf("%s seed %d: complaint %q, symptom %q, session symptoms %v", name, seed, p.Complaint, p.Symptom, r.Sess.Symptoms)
 			}
 			if st := r.Proc.Step(StepName); st == nil || !strings.Contains(st.Instruction, fmt.Sprintf("Your path (%d readings)", n)) {
@@ -147,7 +156,10 @@ func TestPracticeFollowingSuggestions(t *testing.T) {
 			}
 		}
 		rate := float64(hits) / seeds
-		t.Logf("%s: found %d of %d (%.0f %%), mean %.1f readings, %d different complaints", name, hits, seeds, 100*rate, float64(readings)/seeds, len(complaints))
+		t.Logf("%s: found %d of %d (%.0f %%), mean %.1f readings (%d looks in all), %d different complaints", name, hits, seeds, 100*rate, float64(readings)/seeds, lookTotal, len(complaints))
+		for c, k := range complaints {
+			t.Logf("%s: %2d × %q", name, k, c)
+		}
 		for _, m := range misses {
 			t.Log(m)
 		}
@@ -395,5 +407,110 @@ func TestPracticeBlownFuse(t *testing.T) {
 		if p.Named != "F1:open" {
 			t.Errorf("%s: named %s", name, p.Named)
 		}
+	}
+}
+
+// TestPracticeStopGoesOnCold: on the fixed-bias demo with an output
+// grid leak open (R31:open: no bias reaches V4's grid), the power-up
+// with the output valves out stops on V4's grid. A stop forbids powering,
+// not measuring: the walk has the amp switched off and discharged, the
+// reading that stopped ranks as evidence, and the measuring goes on cold
+// until the fault is named; nothing live is read after the stop.
+func TestPracticeStopGoesOnCold(t *testing.T) {
+	d := loadDesign(t, "pp-el34-fixed")
+	s := NewSession(d, Practise, 7, fixedNow)
+	s.Practice = &Practice{Seed: 7, Fault: "R31:open"}
+	w, err := Open(d, s, "", WalkOptions{Samples: 100, Seed: 7, Now: clock()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := 0; i < 200 && trainee(t, w); i++ {
+	}
+	r := w.R
+	p := r.Sess.Practice
+	t.Logf("readings: %s", readingsOf(r))
+	if !p.Revealed || p.Named != "R31:open" {
+		t.Fatalf("named %q (revealed %v), want R31:open", p.Named, p.Revealed)
+	}
+	stopAt := -1
+	for i, rd := range r.Sess.Readings {
+		if rd.Consequence == Stop && len(rd.Pulled) > 0 {
+			stopAt = i
+			break
+		}
+	}
+	if stopAt < 0 {
+		t.Fatal("no stop on an output grid with the output valves out")
+	}
+	stop := r.Sess.Readings[stopAt]
+	found := false
+	for _, o := range Observations(r.Sess.Readings, d) {
+		found = found || o.Key == stop.Point.String()
+	}
+	if !found {
+		t.Errorf("the reading that stopped (%s) is not evidence", stop.Point)
+	}
+	if len(r.Sess.Halts) != 1 || !r.Sess.Halts[0].Stop || !r.Sess.Halts[0].Done {
+		t.Errorf("switch-offs %+v, want one for the stop, confirmed", r.Sess.Halts)
+	}
+	cold := 0
+	for _, rd := range r.Sess.Readings[stopAt+1:] {
+		switch rd.Point.Domain {
+		case point.Live, point.Bias:
+			t.Errorf("live reading %s after the stop", rd.Point)
+		case point.Cold:
+			cold++
+		}
+		if rd.Point.Domain == point.Cold && rd.Cycle == stop.Cycle {
+			t.Errorf("cold reading %s in the power cycle of the stop (not switched off first)", rd.Point)
+		}
+	}
+	if cold == 0 {
+		t.Error("no cold reading after the stop")
+	}
+	if len(r.Sess.Attempts) != 0 {
+		t.Errorf("out-of-order attempts %v", r.Sess.Attempts)
+	}
+}
+
+// TestPracticeGoesColdAfterLive: the fixed-bias demo's valve rectifier
+// with its filament open inside the glass (V9:heater-open): powered, B+
+// is dead and the filament winding gives its 5 V, so the live readings
+// cannot tell an open filament from a dead valve; the ohmmeter across the
+// filament pins can (common practice). The walk has the amp switched off
+// for cold readings (once: it does not power up again by itself) and the
+// trainee names the fault from the cold reading.
+func TestPracticeGoesColdAfterLive(t *testing.T) {
+	d := loadDesign(t, "pp-el34-fixed")
+	s := NewSession(d, Practise, 22, fixedNow)
+	s.Practice = &Practice{Seed: 22, Fault: "V9:heater-open"}
+	w, err := Open(d, s, "", WalkOptions{Samples: 100, Seed: 22, Now: clock()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := 0; i < 200 && trainee(t, w); i++ {
+	}
+	r := w.R
+	p := r.Sess.Practice
+	t.Logf("readings: %s", readingsOf(r))
+	if !p.Revealed || p.Named != "V9:heater-open" {
+		t.Fatalf("named %q (revealed %v), want V9:heater-open", p.Named, p.Revealed)
+	}
+	if len(r.Sess.Halts) != 1 || !r.Sess.Halts[0].Cold || !r.Sess.Halts[0].Done {
+		t.Fatalf("switch-offs %+v, want one for cold readings, confirmed", r.Sess.Halts)
+	}
+	live, coldAfter := 0, 0
+	for _, rd := range r.Sess.Readings {
+		switch {
+		case rd.Point.Powered() && rd.Cycle > 0:
+			t.Errorf("live reading %s after the switch-off", rd.Point)
+		case rd.Point.Powered():
+			live++
+		case rd.Point == point.ColdKey("V9 heater") && rd.Cycle > 0:
+			coldAfter++
+		}
+	}
+	if live == 0 || coldAfter != 1 {
+		t.Errorf("%d live readings before, %d readings of V9's filament after the switch-off; want some, and one", live, coldAfter)
 	}
 }

@@ -459,6 +459,9 @@ func ParseReading(raw string, m *Measure, expect *Band) (float64, error) {
 	if s == "" {
 		return 0, errors.New("empty reading: type the meter's value, like 312 or 4.7mA")
 	}
+	if m.Point.Quantity == point.Seen {
+		return parseSeen(s)
+	}
 	q := units.BySymbol(m.Unit)
 	if q == units.None {
 		q = units.Volts
@@ -795,4 +798,16 @@ func (r *Runner) SkippedSafety() []Skip {
 		}
 	}
 	return out
+}
+
+// parseSeen reads the answer to a look: seen (yes, y, 1) or not seen
+// (no, n, 0).
+func parseSeen(s string) (float64, error) {
+	switch strings.ToLower(strings.Join(strings.Fields(s), " ")) {
+	case "seen", "yes", "y", "1":
+		return 1, nil
+	case "not seen", "no", "n", "0", "none":
+		return 0, nil
+	}
+	return 0, fmt.Errorf("%q is not an answer to a look: type seen (the sign is there) or not seen", s)
 }

@@ -240,6 +240,12 @@ type Halt struct {
 	At    time.Time `yaml:"at"`
 	// Done is set when the technician confirmed the amp is off.
 	Done bool `yaml:"switched-off,omitempty"`
+	// Stop: the amp was switched off because a stop held on a live step
+	// (not for harm in progress): the measuring goes on cold.
+	Stop bool `yaml:"for-stop,omitempty"`
+	// Cold: the amp was switched off because only cold readings were
+	// left to tell the suspects apart.
+	Cold bool `yaml:"for-cold,omitempty"`
 }
 
 // Status is the verdict on a reading or step.

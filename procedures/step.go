@@ -48,6 +48,8 @@ const (
 	FuncOhms Function = "resistance"
 	FuncDCA  Function = "DC current"
 	FuncNone Function = ""
+	// FuncLook: no meter, a look with the power off (seen or not seen).
+	FuncLook Function = "look"
 )
 
 // Measure is one reading a step asks for.

@@ -15,6 +15,7 @@
 //	earth ohms               earth pin to chassis
 //	mains ac_volts           the mains at the outlet (or the variac)
 //	insulation ohms          mains pins joined to exposed metal (a two-pin set)
+//	look:R7 seen             a look at R7 with the power off: 1 a sign seen, 0 none
 //
 // Nothing outside this package builds or takes apart that text.
 package point
@@ -39,12 +40,13 @@ const (
 	Earth                    // mains earth pin to chassis
 	Mains                    // the mains volts at the outlet or variac
 	Insulation               // mains pins joined to exposed metal, on an insulation tester (a set with no mains earth)
+	Look                     // a look at a part with the power off (a sign seen or not)
 )
 
 // prefixes of the text form; Live, Earth and Mains have none.
-var prefixes = map[Domain]string{Cold: "cold:", Part: "part:", Bias: "bias:", Discharge: "discharge:"}
+var prefixes = map[Domain]string{Cold: "cold:", Part: "part:", Bias: "bias:", Discharge: "discharge:", Look: "look:"}
 
-var domainNames = map[Domain]string{Live: "live", Cold: "cold", Part: "part", Bias: "bias", Discharge: "discharge", Earth: "earth", Mains: "mains", Insulation: "insulation"}
+var domainNames = map[Domain]string{Live: "live", Cold: "cold", Part: "part", Bias: "bias", Discharge: "discharge", Earth: "earth", Mains: "mains", Insulation: "insulation", Look: "look"}
 
 func (d Domain) String() string { return domainNames[d] }
 
@@ -57,9 +59,10 @@ const (
 	RippleVolts = "ripple_volts" // AC on a DC net
 	ToneVolts   = "tone_volts"   // test-tone level, AC
 	Ohms        = "ohms"
+	Seen        = "seen" // a look: 1 the sign is seen, 0 it is not
 )
 
-var quantities = []string{DCVolts, DCAmps, ACVolts, ACAmps, RippleVolts, ToneVolts, Ohms}
+var quantities = []string{DCVolts, DCAmps, ACVolts, ACAmps, RippleVolts, ToneVolts, Ohms, Seen}
 
 // Key names one measurement point. The zero Key is not valid.
 type Key struct {
@@ -73,6 +76,7 @@ func LiveKey(id, quantity string) Key { return Key{Live, id, quantity} }
 func ColdKey(id string) Key           { return Key{Cold, id, Ohms} }
 func PartKey(ref string) Key          { return Key{Part, ref, Ohms} }
 func DischargeKey(ref string) Key     { return Key{Discharge, ref, DCVolts} }
+func LookKey(ref string) Key          { return Key{Look, ref, Seen} }
 func BiasKey(ref, quantity string) Key {
 	return Key{Bias, ref, quantity}
 }
@@ -160,7 +164,7 @@ func Parse(s string) (Key, error) {
 		}
 	}
 	if strings.Contains(id, ":") {
-		return Key{}, fmt.Errorf("%w: %q: unknown kind of point before ':' (expected cold:, part:, bias: or discharge:)", ErrSyntax, s)
+		return Key{}, fmt.Errorf("%w: %q: unknown kind of point before ':' (expected cold:, part:, bias:, discharge: or look:)", ErrSyntax, s)
 	}
 	return Key{Domain: Live, ID: id, Quantity: q}, nil
 }

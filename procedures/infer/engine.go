@@ -247,6 +247,9 @@ type Engine struct {
 
 	hNom []float64 // the healthy nominal per DC point, as read through the meter
 
+	looks     []look // looks with the power off (probe.go)
+	lookIndex map[string]int
+
 	healthy *bands.Set         // the healthy cloud as solved (opt.Samples), for the likelihoods
 	shown   *bands.Set         // the healthy amplifier at bands.DefaultSamples: the band every command shows
 	hBand   map[int]bands.Band // HealthyBand by point, filled on first need (under mu)
@@ -398,6 +401,7 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 		return nil, err
 	}
 	e.widths()
+	e.initLooks()
 	e.groupAll = e.group(true)
 	e.groupDC = e.group(false)
 	return e, nil
@@ -842,6 +846,9 @@ func (e *Engine) Label(key string) string {
 	if i, ok := e.index[key]; ok {
 		return e.points[i].label
 	}
+	if j, ok := e.lookIndex[key]; ok {
+		return e.looks[j].label
+	}
 	return ""
 }
 
@@ -1037,6 +1044,15 @@ func (e *Engine) Simulate(fault string, seed uint64) (map[string]float64, error)
 			continue
 		}
 		out[p.key] = max(0, noise(c.lo+(c.hi-c.lo)*r.Float64(), amp.Ohms))
+	}
+	// Looks: the sign shows with its share (a stream of its own, so the
+	// readings above do not change with the looks).
+	rl := rand.New(rand.NewPCG(seed, 0x6c6f6f6b))
+	for j, lk := range e.looks {
+		out[lk.key] = 0
+		if rl.Float64() < e.seenShare(i, j) {
+			out[lk.key] = 1
+		}
 	}
 	return out, nil
 }

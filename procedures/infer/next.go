@@ -10,12 +10,14 @@ func (e *Engine) NextAmong(obs []Observation, allowed func(key string) bool) *Pr
 	e.mu.Lock()
 	defer e.mu.Unlock()
 	var use []Observation
+	obs, looks := e.splitLooks(obs)
 	for _, o := range obs {
 		if _, ok := e.index[o.Key]; ok && !math.IsNaN(o.Value) {
 			use = append(use, o)
 		}
 	}
 	c := e.likelihoods(use)
-	post := normalise(e.logPosterior(c))
-	return e.nextProbe(c, post, use, allowed)
+	logp := e.logPosterior(c)
+	e.addLooks(logp, looks)
+	return e.nextProbe(c, normalise(logp), use, looks, allowed)
 }

@@ -84,7 +84,7 @@ type comp struct {
 // with f the posterior-weighted mixture, integrated per component on a
 // fixed normal quadrature; components with (nearly) the same normal are
 // merged first, which leaves I unchanged.
-func (e *Engine) nextProbe(c *llCache, post []float64, obs []Observation, allowed func(string) bool) *Probe {
+func (e *Engine) nextProbe(c *llCache, post []float64, obs, looks []Observation, allowed func(string) bool) *Probe {
 	// One candidate per physical node: a net and a socket pin on it are
 	// one measurement, and a node read under any of its names is read.
 	read := map[string]bool{}
@@ -101,10 +101,11 @@ func (e *Engine) nextProbe(c *llCache, post []float64, obs []Observation, allowe
 		read[n] = true // later names of the same node are not candidates
 		cands = append(cands, k)
 	}
-	if len(cands) == 0 {
-		return nil
-	}
 	active := e.activeSet(post, 0)
+	lp, lscore := e.bestLook(post, active, looks, allowed)
+	if len(cands) == 0 {
+		return lp
+	}
 	tot := 0.0
 	for _, i := range active {
 		tot += post[i]
@@ -127,6 +128,9 @@ func (e *Engine) nextProbe(c *llCache, post []float64, obs []Observation, allowe
 			best, bestScore, bestGain = k, score, gain
 			bestComps = append(bestComps[:0], comps...)
 		}
+	}
+	if lp != nil && lscore > bestScore {
+		return lp
 	}
 	p := &e.points[best]
 	return &Probe{Key: p.key, Label: p.label, Setup: e.setup(p), GainBits: bestGain, Cost: e.cost(p), Live: !p.cold,
@@ -421,4 +425,136 @@ func (e *Engine) setup(p *point) string {
 		return fmt.Sprintf("powered: meter on AC volts (a range that blocks DC, or through a 0.1 µF capacitor rated for the HT) on %s to chassis", where)
 	}
 	return "measure " + p.label
+}
+
+// A look with the power off is a cheap probe: what a fault shows on the
+// part (expect/faults.Signs: a scorched resistor, a bulging or dried
+// electrolytic, a milky getter, a blackened fuse) is seen or not. Its key
+// is "look:REF seen" (1 seen, 0 not); each hypothesis sees the sign at a
+// part with its share (faults.Sign.Share) when the sign is its own, else
+// with faults.FalseSignShare.
+
+// CostLook is the effort of a look: the amplifier off and unplugged,
+// the cover off, no meter (our scale, as CostFuse).
+const CostLook = 0.3
+
+// look is one place a look may find a sign.
+type look struct {
+	key, ref, label string
+	// sign per hypothesis index: the sign that hypothesis shows here.
+	sign map[int]faults.Sign
+}
+
+// initLooks finds the parts where some hypothesis shows a sign (after
+// the near-shorts are marked).
+func (e *Engine) initLooks() {
+	e.lookIndex = map[string]int{}
+	at := map[string]map[int]faults.Sign{}
+	for i, h := range e.hyps {
+		if h.fault == nil || h.err != nil {
+			continue
+		}
+		for _, s := range faults.Signs(e.m, *h.fault, h.nearShort) {
+			if at[s.At] == nil {
+				at[s.At] = map[int]faults.Sign{}
+			}
+			at[s.At][i] = s
+		}
+	}
+	for _, p := range faults.LookAt(e.m) {
+		if len(at[p.Ref]) == 0 {
+			continue
+		}
+		k := lookKey(p.Ref)
+		e.lookIndex[k] = len(e.looks)
+		e.looks = append(e.looks, look{key: k, ref: p.Ref, label: "look at " + p.Ref + " (power off)", sign: at[p.Ref]})
+	}
+}
+
+func lookKey(ref string) string { return "look:" + ref + " seen" }
+
+// seenShare is the chance hypothesis i shows a sign at look j.
+func (e *Engine) seenShare(i, j int) float64 {
+	if s, ok := e.looks[j].sign[i]; ok {
+		return max(s.Share, faults.FalseSignShare)
+	}
+	return faults.FalseSignShare
+}
+
+// splitLooks takes the looks out of the observations.
+func (e *Engine) splitLooks(obs []Observation) (rest, looks []Observation) {
+	for _, o := range obs {
+		if _, ok := e.lookIndex[o.Key]; ok {
+			looks = append(looks, o)
+			continue
+		}
+		rest = append(rest, o)
+	}
+	return rest, looks
+}
+
+// addLooks adds the looks' log-likelihoods to a log posterior.
+func (e *Engine) addLooks(logp []float64, looks []Observation) {
+	for _, o := range looks {
+		j := e.lookIndex[o.Key]
+		for i := range logp {
+			p := e.seenShare(i, j)
+			if o.Value < 0.5 {
+				p = 1 - p
+			}
+			logp[i] += math.Log(p)
+		}
+	}
+}
+
+// bestLook is the look not yet taken with the greatest information gain
+// per effort among the allowed, or nil: for a seen-or-not outcome,
+// I = H(p̄) − Σ w_h H(p_h) with p̄ = Σ w_h p_h.
+func (e *Engine) bestLook(post []float64, active []int, looks []Observation, allowed func(string) bool) (*Probe, float64) {
+	done := map[string]bool{}
+	for _, o := range looks {
+		done[o.Key] = true
+	}
+	tot := 0.0
+	for _, i := range active {
+		tot += post[i]
+	}
+	if tot <= 0 {
+		return nil, 0
+	}
+	h2 := func(p float64) float64 {
+		if p <= 0 || p >= 1 {
+			return 0
+		}
+		return -(p*math.Log2(p) + (1-p)*math.Log2(1-p))
+	}
+	var best *Probe
+	bestScore := 0.0
+	for j := range e.looks {
+		lk := &e.looks[j]
+		if done[lk.key] || (allowed != nil && !allowed(lk.key)) {
+			continue
+		}
+		pbar, cond := 0.0, 0.0
+		lead, leadMass := -1, 0.0
+		for _, i := range active {
+			w := post[i] / tot
+			p := e.seenShare(i, j)
+			pbar += w * p
+			cond += w * h2(p)
+			if _, own := lk.sign[i]; own && w*p > leadMass {
+				lead, leadMass = i, w*p
+			}
+		}
+		gain := max(0, h2(pbar)-cond)
+		if score := gain / CostLook; lead >= 0 && score > bestScore {
+			bestScore = score
+			s := lk.sign[lead]
+			best = &Probe{Key: lk.key, Label: lk.label, GainBits: gain, Cost: CostLook,
+				Setup: fmt.Sprintf("amplifier off and unplugged, filter capacitors discharged (check under 10 V), cover off: look at %s without touching anything; enter seen if it shows the sign, not seen if it looks sound", lk.ref),
+				Reason: fmt.Sprintf("a look with the power off, no meter: %s would point at %s (%.0f %% now); a part that looks sound counts against it, as the sign shows in about %.0f %% of such faults",
+					s.Words, e.hyps[lead].label, 100*post[lead]/tot, 100*s.Share)}
+		}
+	}
+	return best, bestScore
 }

@@ -103,6 +103,7 @@ func (e *Engine) Rank(obs []Observation, allowed func(key string) bool) *Ranking
 	defer e.mu.Unlock()
 	r := &Ranking{Fits: true}
 	var use []Observation
+	obs, looks := e.splitLooks(obs)
 	for _, o := range obs {
 		if _, ok := e.index[o.Key]; !ok || math.IsNaN(o.Value) {
 			r.Unknown = append(r.Unknown, o.Key)
@@ -112,6 +113,7 @@ func (e *Engine) Rank(obs []Observation, allowed func(key string) bool) *Ranking
 	}
 	c := e.likelihoods(use)
 	logp := e.logPosterior(c)
+	e.addLooks(logp, looks)
 	post := normalise(logp)
 	// Solve the clouds of the coarse hypotheses that carry weight (those
 	// the next-probe choice uses and those listed), until none is left.
@@ -122,6 +124,7 @@ func (e *Engine) Rank(obs []Observation, allowed func(key string) bool) *Ranking
 		}
 		e.upgrade(need)
 		logp = e.logPosterior(c)
+		e.addLooks(logp, looks)
 		post = normalise(logp)
 	}
 	r.Unsolved = e.unsolved()
@@ -167,7 +170,7 @@ func (e *Engine) Rank(obs []Observation, allowed func(key string) bool) *Ranking
 			}
 		}
 	}
-	r.Next = e.nextProbe(c, post, use, allowed)
+	r.Next = e.nextProbe(c, post, use, looks, allowed)
 	return r
 }
 

@@ -34,7 +34,7 @@ func InferSuspects(samples int, seed uint64) func(*procedures.Session, *design.D
 		if err != nil {
 			return nil, err
 		}
-		rk := e.Rank(procedures.Observations(s.Readings), nil)
+		rk := e.Rank(procedures.Observations(s.Readings, d), nil)
 		var out []Suspect
 		for _, x := range rk.Suspects {
 			why := x.Label

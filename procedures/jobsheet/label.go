@@ -119,6 +119,8 @@ func (l *Labeller) Label(k point.Key) string {
 		return what + " bias, volts across its cathode sense resistor"
 	case point.Part:
 		return what + " out of circuit, " + withOr(qw, "resistance")
+	case point.Look:
+		return "a look at " + what + ", power off"
 	}
 	if q == point.ToneVolts {
 		if lb := l.pins[id+" "+amp.ACVolts]; lb != "" {
