@@ -233,7 +233,7 @@ with what the meter will show.`)
 		return exitProblems
 	}
 	if *cold {
-		return runColdExpect(d, meter, *asJSON, stdout, stderr)
+		return runColdExpect(d, meter, flts, *asJSON, stdout, stderr)
 	}
 	m, err := amp.Build(d)
 	if err != nil {

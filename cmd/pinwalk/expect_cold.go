@@ -11,6 +11,7 @@ import (
 	"pinwalk/expect/bands"
 	"pinwalk/expect/cold"
 	"pinwalk/expect/design"
+	"pinwalk/expect/faults"
 	"pinwalk/expect/units"
 )
 
@@ -84,7 +85,10 @@ type jsonColdReport struct {
 // ({"cautions": [...], "cold": [...], "discharge": [...]}; open readings
 // and missing bleed paths are null). It returns exitOK, or exitFailure
 // when a computation fails.
-func runColdExpect(d *design.Design, meter bands.Meter, asJSON bool, stdout, stderr io.Writer) int {
+//
+// With faults, each is put into the unpowered network through its kind's
+// cold effect (cold.FaultChecks) before the readings are worked out.
+func runColdExpect(d *design.Design, meter bands.Meter, flts []faults.Fault, asJSON bool, stdout, stderr io.Writer) int {
 	checks, err := cold.Checks(d)
 	if err != nil {
 		fmt.Fprintf(stderr, "pinwalk: cold checks: %v\n", err)
@@ -94,6 +98,23 @@ func runColdExpect(d *design.Design, meter bands.Meter, asJSON bool, stdout, std
 	if err != nil {
 		fmt.Fprintf(stderr, "pinwalk: %v\n", err)
 		return exitFailure
+	}
+	for _, f := range flts {
+		if err := faults.Check(m, f); err != nil {
+			fmt.Fprintf(stderr, "pinwalk: --fault: %v\n", err)
+			return exitUsage
+		}
+		if checks, _, err = cold.FaultChecks(d, m, checks, f, true); err != nil {
+			fmt.Fprintf(stderr, "pinwalk: cold checks with %s: %v\n", f, err)
+			return exitFailure
+		}
+	}
+	if len(flts) > 0 && !asJSON {
+		names := make([]string, len(flts))
+		for i, f := range flts {
+			names[i] = f.String()
+		}
+		fmt.Fprintf(stdout, "Assuming the fault(s): %s\n", strings.Join(names, ", "))
 	}
 	dis, err := cold.DischargeTimes(d, m, 0)
 	if err != nil {

@@ -17,7 +17,7 @@ func TestRunColdExpect(t *testing.T) {
 			t.Fatal(probs)
 		}
 		var out, errb bytes.Buffer
-		if code := runColdExpect(d, bands.DefaultMeter(), false, &out, &errb); code != exitOK {
+		if code := runColdExpect(d, bands.DefaultMeter(), nil, false, &out, &errb); code != exitOK {
 			t.Fatalf("%s: exit %d: %s", name, code, errb.String())
 		}
 		s := out.String()
@@ -30,7 +30,7 @@ func TestRunColdExpect(t *testing.T) {
 			t.Errorf("bench demo: no-bleeder warning missing")
 		}
 		out.Reset()
-		if code := runColdExpect(d, bands.DefaultMeter(), true, &out, &errb); code != exitOK {
+		if code := runColdExpect(d, bands.DefaultMeter(), nil, true, &out, &errb); code != exitOK {
 			t.Fatalf("%s json: exit %d", name, code)
 		}
 		var rep struct {

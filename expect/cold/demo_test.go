@@ -81,3 +81,36 @@ func TestShortFaultsCold(t *testing.T) {
 		}
 	}
 }
+
+// TestHeaterCentreTapOpen: a heater winding's centre-tap lead broken
+// leaves the winding whole end to end (its DCR, 50 mΩ on the stereo demo)
+// but each half open from the centre tap (chassis): the one cold reading
+// that finds it, since the heaters still light (Ohm's law on the winding
+// as drawn).
+func TestHeaterCentreTapOpen(t *testing.T) {
+	d, m := loadDemo(t, "se-6v6-stereo")
+	base, err := Checks(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, err := faults.Parse("T1:centre-open")
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, changed, err := FaultChecks(d, m, base, f, true)
+	if err != nil || !changed {
+		t.Fatalf("T1:centre-open: changed %v, err %v", changed, err)
+	}
+	for _, c := range got {
+		switch c.ID {
+		case "T1 HEATER":
+			if c.Open || c.Ohms > 0.06 {
+				t.Errorf("whole heater winding %+v, want about 50 mΩ", c)
+			}
+		case "T1 HEATER half a", "T1 HEATER half b":
+			if !c.Open {
+				t.Errorf("%s reads %+v with the centre tap open, want open", c.ID, c)
+			}
+		}
+	}
+}

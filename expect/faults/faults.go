@@ -32,11 +32,14 @@ const (
 	Weak       Mode = "weak"
 	Dead       Mode = "dead"
 	HeaterOpen Mode = "heater-open"
+	// CentreOpen: a winding's centre-tap lead broken (the winding itself
+	// whole).
+	CentreOpen Mode = "centre-open"
 	HalfOpen   Mode = "half-open"
 )
 
 // allModes lists every mode, for messages.
-var allModes = []Mode{Open, Short, High, Leaky, Weak, Dead, HeaterOpen, HalfOpen}
+var allModes = []Mode{Open, Short, High, Leaky, Weak, Dead, HeaterOpen, HalfOpen, CentreOpen}
 
 // Fault is one part failed in one mode. Ref is a design reference, or for
 // a subpart its kind declares the reference with the subpart ("OT1.a",

@@ -16,6 +16,14 @@ import (
 //	heater-open  the heater windings feeding amplifying valves (those
 //	             valves' emission gone; a valve rectifier's own filament
 //	             winding is not one of them)
+//	centre-open  a heater winding's centre-tap lead broken: the heaters
+//	             still light (their volts are across the ends), but the
+//	             heater circuit floats: hum rises and a heater-to-cathode
+//	             leak is no longer held. No DC reading of the powered amp
+//	             changes (the heater nets carry AC only); cold, the heater
+//	             winding reads open to chassis. A lead breaks at its tag
+//	             about as often as a heater winding opens (common
+//	             practice).
 func init() {
 	register(Kind{
 		Kind: design.PowerTransformer,
@@ -47,8 +55,41 @@ func init() {
 					return fmt.Sprintf(unplugged+"with the valves out, measure each heater winding of %s at its leads: a good one reads well under an ohm, an open one open. Look for a burnt lead or a wire parted at the tag before condemning the transformer."+confirmed, t.Part.Ref)
 				},
 				Replace: replaceTransformer},
+			{Mode: CentreOpen, Prior: 0.1,
+				Applies: func(m *amp.Model, p *design.Part) bool { return len(centredHeaters(Target{M: m, Part: p})) > 0 },
+				// No DC change powered: the heater nets are AC only.
+				Live: func(v *amp.Values, t Target) {},
+				Cold: func(n ColdNet, t Target) {
+					ws := centredHeaters(t)
+					dropWindings(n, t, ws)
+					for _, w := range ws {
+						n.Add(ColdEdge{A: w.Ends[0], B: w.Ends[1], Ohms: w.DCR, Tol: t.M.D.Defaults.Winding, Ref: t.Part.Ref})
+					}
+				},
+				Describe: said("heater winding's centre tap open (the heaters light but float: hum)"),
+				OutOfCircuit: func(t Target) OutReading {
+					return OutReading{Ohms: math.Inf(1), OK: true, Words: "open from the heater winding's centre tap to either end"}
+				},
+				Confirm: func(t Target) string {
+					return fmt.Sprintf(unplugged+"with the valves out, measure from a heater pin to chassis: a heater winding of %s whose centre tap (or the two balancing resistors standing in for one) is tied to chassis reads well under an ohm to a few tens of ohms; open means the centre-tap lead or its solder tag has parted. Look at the tag before condemning the transformer."+confirmed, t.Part.Ref)
+				},
+				Replace: func(t Target) string {
+					return fmt.Sprintf("Resolder the heater winding's centre-tap lead of %s to its tag and to chassis; if the lead is broken inside the transformer, fit two 100 Ω resistors from the heater ends to chassis in its place (an artificial centre tap, common practice).", t.Part.Ref)
+				}},
 		},
 	})
+}
+
+// centredHeaters are the heater windings (feeding amplifying valves) whose
+// centre tap is wired.
+func centredHeaters(t Target) []*design.Winding {
+	var out []*design.Winding
+	for _, w := range heaterWindings(t) {
+		if w.Centre != "" {
+			out = append(out, w)
+		}
+	}
+	return out
 }
 
 func replaceTransformer(t Target) string {

@@ -96,7 +96,7 @@ func init() {
 				Confirm:      confirmValve, Replace: replaceValve},
 			{Mode: HeaterOpen, Applies: amplifier, Prior: 0.6, ByRole: outPrior(1),
 				Live:         func(v *amp.Values, t Target) { heaterOff(v, sections(t)); breakString(v, t) },
-				Describe:     said("heater open (valve does not light)"),
+				Describe:     heaterOpenWords,
 				OutOfCircuit: heaterOpenReads,
 				Confirm:      confirmValve, Replace: replaceValve},
 			// Valve rectifiers.
@@ -112,7 +112,7 @@ func init() {
 				Confirm:      confirmValve, Replace: replaceRectValve},
 			{Mode: HeaterOpen, Applies: rect, Prior: 0.5,
 				Live:         func(v *amp.Values, t Target) { v.RectDead = true; breakString(v, t) },
-				Describe:     said("heater open (valve does not light)"),
+				Describe:     heaterOpenWords,
 				OutOfCircuit: heaterOpenReads,
 				Confirm:      confirmValve, Replace: replaceRectValve},
 			{Mode: HalfOpen, Prior: 1,
@@ -181,6 +181,27 @@ func sectionsOf(m *amp.Model, ref string) []int {
 		}
 	}
 	return out
+}
+
+// heaterOpenWords says a heater open; in a series heater string it darkens
+// every valve in the string (one current through them all).
+func heaterOpenWords(t Target) string {
+	if inString(t) {
+		return partName(t) + " heater open (the series heater string is broken: no valve in it lights)"
+	}
+	return partName(t) + " heater open (valve does not light)"
+}
+
+func inString(t Target) bool {
+	if t.M.String == nil {
+		return false
+	}
+	for _, ref := range t.M.String.Valves {
+		if ref == t.Part.Ref {
+			return true
+		}
+	}
+	return false
 }
 
 func testerReads(words string) func(Target) OutReading {

@@ -381,6 +381,8 @@ var notModelled = []Unmodelled{
 		"a winding has no insulation element to chassis; B+ or a plate would see a path to ground part-way along the primary"},
 	{"gassy valve (positive grid current, bias drifting up, blue glow inside the glass)",
 		"the valve laws have no ionic grid current; it needs a grid current that grows with plate current and volts"},
+	{"valve internal short (an electrode touching another inside the glass: grid to cathode, screen to plate)",
+		"the valve laws have no path between electrodes; a short would join two electrode nets through the valve with a resistance nothing predicts"},
 	{"microphonic or noisy valve, dry joint, arcing socket (crackle)",
 		"intermittent and mechanical: nothing a steady DC reading predicts"},
 }
