@@ -58,6 +58,13 @@ func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
 		Cautions: []string{LiveCaution},
 		Why:      "Most bench accidents happen on the first touch of a charged capacitor or a live chassis; the meter and probes must outrate the highest voltage present, which is the switch-on peak before the valves warm up, not the running B+.",
 	}
+	if hot, why := b.D.HotChassis(); hot {
+		// Said first, before anything else is touched: the walk enforces
+		// it at the first live step (the isolation-transformer step).
+		brief.Instruction = "THIS SET HAS A LIVE CHASSIS: " + why + ". Its chassis, and anything screwed to it, may be at mains potential whenever it is plugged in, even switched off. " +
+			"Power it only through an isolation transformer (a variac alone does not isolate); the walk takes no live reading until you confirm one. " + brief.Instruction
+		brief.Cautions = append(brief.Cautions, HotChassisCaution(why))
+	}
 	meter := &Step{ID: StepMeter, Kind: KindMeter, Safety: true, Gate: []string{StepBriefing},
 		Title:       "Prove the meter",
 		Instruction: "Check the meter on a known source (a proving unit, or a known live supply) on the DC volts range, and check the leads for continuity. Confirm when it reads correctly.",
