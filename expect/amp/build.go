@@ -280,6 +280,7 @@ func Build(d *design.Design) (*Model, error) {
 		m.srcHandle = m.ckt.AddVSource(inner, 0, 0)
 		m.srcRHandle = m.ckt.AddResistor(inner, top, 1)
 	}
+	m.addHeaterCathodeSlots()
 	m.acOnly = acOnlyNets(d)
 	// A meter slot on every DC net: open (Inf) unless a meter's input
 	// resistance is placed there to show the reading a real meter gives.

@@ -35,11 +35,13 @@ const (
 	// CentreOpen: a winding's centre-tap lead broken (the winding itself
 	// whole).
 	CentreOpen Mode = "centre-open"
-	HalfOpen   Mode = "half-open"
+	// HKShort: a valve's heater broken down to its cathode.
+	HKShort  Mode = "hk-short"
+	HalfOpen Mode = "half-open"
 )
 
 // allModes lists every mode, for messages.
-var allModes = []Mode{Open, Short, High, Leaky, Weak, Dead, HeaterOpen, HalfOpen, CentreOpen}
+var allModes = []Mode{Open, Short, High, Leaky, Weak, Dead, HeaterOpen, HalfOpen, CentreOpen, HKShort}
 
 // Fault is one part failed in one mode. Ref is a design reference, or for
 // a subpart its kind declares the reference with the subpart ("OT1.a",

@@ -18,6 +18,14 @@ import (
 //	weak         worn: Koren's KG1 (and KG2 for pentodes) × WeakFactor
 //	dead         no emission: no plate current
 //	heater-open  the heater open: no emission, the valve does not light
+//	hk-short     the heater broken down to the cathode: the cathode tied
+//	             through HKShortOhms to the heater circuit's reference
+//	             (its centre tap or grounded end): a cathode-biased stage
+//	             loses its bias and draws heavy current, a cathode
+//	             follower's cathode is pulled to the heaters, and hum
+//	             rises. Only where the heater winding has a DC reference
+//	             (the slot amp gives it). A classic cause of hum, about a
+//	             third as often as a valve wears weak (common practice).
 //
 // A valve rectifier (only the HT rectifier is modelled):
 //
@@ -53,6 +61,10 @@ const (
 	// is rectShortShare of it.
 	rectWeakPrior  = 4
 	rectShortShare = 0.5
+	// HKShortOhms is a heater-to-cathode breakdown powered: a few ohms
+	// of hot, arced insulation (our choice; the bench sees a cathode at
+	// the heater's volts whatever the exact figure).
+	HKShortOhms = 5.0
 )
 
 func init() {
@@ -99,6 +111,18 @@ func init() {
 				Describe:     heaterOpenWords,
 				OutOfCircuit: heaterOpenReads,
 				Confirm:      confirmValve, Replace: replaceValve},
+			{Mode: HKShort, Prior: 0.7, ByRole: outPrior(1.5),
+				Applies: func(m *amp.Model, p *design.Part) bool {
+					return amplifier(m, p) && len(slotsWithRole(m, p.Ref, amp.HKRole)) > 0
+				},
+				Live:         func(v *amp.Values, t Target) { setSlots(v, slotsWithRole(t.M, t.Part.Ref, amp.HKRole), HKShortOhms) },
+				Describe:     said("heater shorted to its cathode (bias lost on a cathode-biased stage; hum)"),
+				OutOfCircuit: testerReads("a heater-to-cathode short on a valve tester's shorts test, often only once hot (tap the glass)"),
+				Confirm: func(t Target) string {
+					p := t.Part
+					return fmt.Sprintf("Swap %s for a known-good %s: the cathode should come back to its band. Or test it on a valve tester's shorts test with the heater hot, tapping the glass: a heater-to-cathode short often shows only warm."+confirmed, p.Ref, p.Valve.Type.Name)
+				},
+				Replace: replaceValve},
 			// Valve rectifiers.
 			{Mode: Weak, Applies: rect, Prior: rectWeakPrior,
 				Live:         func(v *amp.Values, t Target) { v.RectScale *= WeakRectScale },

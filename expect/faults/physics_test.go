@@ -39,6 +39,21 @@ func TestFaultDirections(t *testing.T) {
 		if got := ia(Fault{"R15", Open}); got > 0.01*nomIa {
 			t.Errorf("R15 open: V2 Ia %.3f mA, want about 0", 1e3*got)
 		}
+		// A heater broken down to its cathode ties the cathode to the
+		// heater winding's centre tap (chassis) through HKShortOhms: the
+		// cathode sits at Ik·(R15 ∥ HKShortOhms) (Ohm's law) and the
+		// valve, its bias gone, draws far more current (common practice).
+		hk := res[Fault{"V2", HKShort}]
+		if hk.err != nil {
+			t.Fatal(hk.err)
+		}
+		so := hk.op.Sections[v2]
+		if want := so.Ik * parallel(330, HKShortOhms); so.Vk < 0.98*want || so.Vk > 1.02*want {
+			t.Errorf("V2 hk-short: cathode %.3f V, want Ik·(330 Ω ∥ %g Ω) = %.3f V", so.Vk, HKShortOhms, want)
+		}
+		if so.Ia < 1.5*nomIa {
+			t.Errorf("V2 hk-short: Ia %.1f mA, nominal %.1f mA: want the bias lost", 1e3*so.Ia, 1e3*nomIa)
+		}
 		// A dead valve: no current, plate rises to its B+ node (common practice).
 		if got := ia(Fault{"V2", Dead}); got > 1e-6 {
 			t.Errorf("V2 dead: Ia %g", got)

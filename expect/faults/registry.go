@@ -375,8 +375,8 @@ type Unmodelled struct {
 // notModelled: the faults that happen on the bench but have no hypothesis
 // (common practice: each is a known cause of a bench visit).
 var notModelled = []Unmodelled{
-	{"heater-to-cathode short (a classic cause of hum)",
-		"the heaters are an AC load on their own winding with no DC path to the cathodes; the leak would join the heater circuit to a cathode"},
+	{"heater-to-cathode leak or short on a heater winding with no DC reference (floating, or a series string)",
+		"with no centre tap or grounded end the heater circuit has no DC path for the leak to follow; a heater winding with one has the hk-short fault"},
 	{"output-transformer primary shorted to chassis (winding to core or frame)",
 		"a winding has no insulation element to chassis; B+ or a plate would see a path to ground part-way along the primary"},
 	{"gassy valve (positive grid current, bias drifting up, blue glow inside the glass)",

@@ -74,6 +74,7 @@ var symptomTable = []symptomRule{
 	{"hum", design.Rectifier, "", faults.HalfOpen, 5},
 	{"hum", design.Valve, faults.RoleRectValve, faults.HalfOpen, 5},
 	{"hum", design.Capacitor, faults.RoleBypass, faults.Open, 2},
+	{"hum", design.Valve, "", faults.HKShort, 5}, // the classic hum fault
 	{"hum", design.Valve, faults.RoleOutput, faults.Weak, 2},
 	{"hum", design.OutputTransformer, "", faults.Open, 2},
 	{"hum", healthyKind, "", "", 0.3},

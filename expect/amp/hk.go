@@ -1,0 +1,47 @@
+package amp
+
+import (
+	"math"
+
+	"pinwalk/expect/valves"
+)
+
+// HKRole is the slot role of a valve's heater-to-cathode path: open in a
+// healthy valve, a few ohms when the heater has broken down to its cathode
+// (the fault "hk-short").
+const HKRole = "hk"
+
+// addHeaterCathodeSlots gives each indirectly heated amplifying valve fed
+// from a winding with a DC reference (its centre tap, or an end on the
+// chassis) an open slot from each of its cathodes to that reference. A
+// heater-to-cathode short closes it: the cathode is then tied to the heater
+// circuit, and through it to the chassis or the heaters' elevation.
+func (m *Model) addHeaterCathodeSlots() {
+	d := m.D
+	done := map[[2]string]bool{}
+	for _, sec := range m.Sections {
+		p := d.ByRef[sec.Ref]
+		if p == nil || p.Valve == nil || p.Valve.Type.Heater.DirectlyHeated {
+			continue
+		}
+		ref := ""
+		for _, h := range m.Heaters {
+			if h.Ref != sec.Ref || h.Winding == nil {
+				continue
+			}
+			w := h.Winding
+			switch {
+			case w.Centre != "":
+				ref = w.Centre
+			case w.Ends[0] == d.Ground || w.Ends[1] == d.Ground:
+				ref = d.Ground
+			}
+		}
+		k := p.Valve.Sections[sec.Section][valves.Cathode]
+		if ref == "" || k == "" || k == ref || done[[2]string{sec.Ref, k}] {
+			continue
+		}
+		done[[2]string{sec.Ref, k}] = true
+		m.addR(sec.Ref, HKRole, k, ref, math.Inf(1))
+	}
+}
