@@ -51,7 +51,7 @@ func TestDiagnoseListsNotModelled(t *testing.T) {
 	rd := filepath.Join(dir, "r.yaml")
 	os.WriteFile(rd, []byte("B1: 300V\n"), 0o644)
 	code, out, errOut := runCLI("diagnose", "--samples", "30", "../../testdata/designs/se-6v6-stereo.yaml", "--readings", rd)
-	if code != exitOK || !strings.Contains(out, "Not in this ranking") || !strings.Contains(out, "heater-to-cathode short") {
+	if code != exitOK || !strings.Contains(out, "Not in this ranking") || !strings.Contains(out, "heater-to-cathode leak") {
 		t.Errorf("exit %d, text lacks the not-modelled list:\n%s\n%s", code, out, errOut)
 	}
 	code, out, _ = runCLI("diagnose", "--json", "--samples", "30", "../../testdata/designs/se-6v6-stereo.yaml", "--readings", rd)
