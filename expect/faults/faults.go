@@ -36,12 +36,14 @@ const (
 	// whole).
 	CentreOpen Mode = "centre-open"
 	// HKShort: a valve's heater broken down to its cathode.
-	HKShort  Mode = "hk-short"
-	HalfOpen Mode = "half-open"
+	HKShort Mode = "hk-short"
+	// ToChassis: a winding broken down to its core or frame (chassis).
+	ToChassis Mode = "to-chassis"
+	HalfOpen  Mode = "half-open"
 )
 
 // allModes lists every mode, for messages.
-var allModes = []Mode{Open, Short, High, Leaky, Weak, Dead, HeaterOpen, HalfOpen, CentreOpen, HKShort}
+var allModes = []Mode{Open, Short, High, Leaky, Weak, Dead, HeaterOpen, HalfOpen, CentreOpen, HKShort, ToChassis}
 
 // Fault is one part failed in one mode. Ref is a design reference, or for
 // a subpart its kind declares the reference with the subpart ("OT1.a",

@@ -10,7 +10,7 @@ import (
 	"pinwalk/expect/units"
 )
 
-// Output-transformer faults, all "open":
+// Output-transformer faults: "open",
 //
 //	OT1      single-ended: the primary; push-pull: the centre-tap lead
 //	         (both halves stay joined end to end, parted from the
@@ -18,6 +18,14 @@ import (
 //	OT1.a/b  the half to the first / second end of a push-pull primary
 //	         (both segments of a half with a screen tap)
 //	OT1.sec  a wired secondary (secondary: {hot: SPK})
+//
+// and "to-chassis", the primary broken down to its core or frame (the
+// chassis): at the plate end of a single-ended primary, at the end of the
+// push-pull half named (OT1.a, OT1.b), or at the centre-tap lead of a
+// push-pull primary (OT1). Powered it puts B+ on the chassis through a
+// half primary's DCR, amps: the mains fuse blows (modelled as the bench
+// then shows it, blowFuse); cold, that end reads the short to chassis.
+// Far rarer than an open winding (common practice for the weight).
 //
 // Windings open less often than capacitors fail (common practice for the
 // weight).
@@ -113,23 +121,60 @@ func init() {
 					}
 					return fmt.Sprintf(unplugged+"with the valves out of their sockets, measure %s of %s: an open winding reads open; then measure from each winding to the frame (it should read open: a winding to frame short puts B+ on the chassis)."+confirmed, which, p.Ref)
 				},
-				Replace: func(t Target) string {
-					p := t.Part
-					imp := "the same primary impedance"
-					if p.OT.Impedance > 0 {
-						imp = fmt.Sprintf("a %s primary", units.Format(p.OT.Impedance, units.Ohms))
-						if p.OT.Load > 0 {
-							imp += fmt.Sprintf(" into %s", units.Format(p.OT.Load, units.Ohms))
-						}
-					}
-					s := fmt.Sprintf("Fit an output transformer in %s with %s, the same power rating and the primary current it carries", p.Ref, imp)
-					if p.OT.Centre != "" {
-						s += "; push-pull: the same screen taps, if any, and wire the phase the same way (feedback taken from the secondary becomes positive if a winding is reversed: check for oscillation on a dummy load first)"
-					}
-					return s + "." + findWhy
-				}},
+				Replace: replaceOT},
+			{Mode: ToChassis, Subparts: []string{"", "a", "b"}, Prior: 0.05, PoweredShort: true,
+				Live: func(v *amp.Values, t Target) { blowFuse(t.M, v) },
+				Cold: func(n ColdNet, t Target) {
+					// Burnt insulation reads like a broken-down capacitor:
+					// milliohms to hundreds of ohms.
+					r := ShortedCapOhms
+					n.Add(ColdEdge{A: otShortEnd(t), B: t.M.D.Ground, Ohms: r, Ref: t.Part.Ref,
+						Tol: design.Tolerance{Lo: ShortedCapLoOhms/r - 1, Hi: ShortedCapHiOhms/r - 1}})
+				},
+				Describe: func(t Target) string {
+					return fmt.Sprintf("%s primary shorted to chassis at %s (B+ on the frame: the mains fuse blows)", t.Part.Ref, otShortEnd(t))
+				},
+				OutOfCircuit: func(t Target) OutReading {
+					return OutReading{Ohms: 0, OK: true, Words: "a low reading from the primary to the frame (it should read open, over 20 MΩ on an insulation tester)"}
+				},
+				Confirm: func(t Target) string {
+					return fmt.Sprintf(unplugged+"with the valves out, lift the primary leads of %s and measure from each to its frame and core (the chassis): a good winding reads open (over 20 MΩ on an insulation tester at 500 V); a breakdown reads ohms to kilohms. Look for a burnt spot or a scorched lead where it leaves the bobbin."+confirmed, t.Part.Ref)
+				},
+				Replace: replaceOT},
 		},
 	})
+}
+
+// otShortEnd is the net at which a primary broken down to chassis touches
+// it: a single-ended primary's plate end, a push-pull half's end, or a
+// push-pull primary's centre tap.
+func otShortEnd(t Target) string {
+	ot := t.Part.OT
+	switch {
+	case t.Sub == "a":
+		return ot.Ends[0]
+	case t.Sub == "b":
+		return ot.Ends[1]
+	case ot.Centre != "":
+		return ot.Centre
+	}
+	return ot.Ends[1]
+}
+
+func replaceOT(t Target) string {
+	p := t.Part
+	imp := "the same primary impedance"
+	if p.OT.Impedance > 0 {
+		imp = fmt.Sprintf("a %s primary", units.Format(p.OT.Impedance, units.Ohms))
+		if p.OT.Load > 0 {
+			imp += fmt.Sprintf(" into %s", units.Format(p.OT.Load, units.Ohms))
+		}
+	}
+	s := fmt.Sprintf("Fit an output transformer in %s with %s, the same power rating and the primary current it carries", p.Ref, imp)
+	if p.OT.Centre != "" {
+		s += "; push-pull: the same screen taps, if any, and wire the phase the same way (feedback taken from the secondary becomes positive if a winding is reversed: check for oscillation on a dummy load first)"
+	}
+	return s + "." + findWhy
 }
 
 // otSegments matches the cold-network edges of an output transformer's

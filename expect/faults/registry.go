@@ -377,8 +377,8 @@ type Unmodelled struct {
 var notModelled = []Unmodelled{
 	{"heater-to-cathode leak or short on a heater winding with no DC reference (floating, or a series string)",
 		"with no centre tap or grounded end the heater circuit has no DC path for the leak to follow; a heater winding with one has the hk-short fault"},
-	{"output-transformer primary shorted to chassis (winding to core or frame)",
-		"a winding has no insulation element to chassis; B+ or a plate would see a path to ground part-way along the primary"},
+	{"output-transformer primary leaking to chassis part-way along a winding (kilohms, not a hard short)",
+		"a leak part-way along a winding has no single place or value to model; a hard breakdown at an end is the to-chassis fault"},
 	{"gassy valve (positive grid current, bias drifting up, blue glow inside the glass)",
 		"the valve laws have no ionic grid current; it needs a grid current that grows with plate current and volts"},
 	{"valve internal short (an electrode touching another inside the glass: grid to cathode, screen to plate)",

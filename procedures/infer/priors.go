@@ -89,6 +89,7 @@ var symptomTable = []symptomRule{
 	{"fuse-blows", design.Capacitor, faults.RoleOutBypass, faults.Short, 3},
 	{"fuse-blows", design.Resistor, faults.RoleOutCathodeR, faults.Short, 3},
 	{"fuse-blows", design.Fuse, "", faults.Open, 5},
+	{"fuse-blows", design.OutputTransformer, "", faults.ToChassis, 10},
 	{"fuse-blows", "", "", faults.Weak, 0.3},
 	{"fuse-blows", healthyKind, "", "", 0.1},
 	// Red plate: an output valve conducting far too much.
