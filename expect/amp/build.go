@@ -93,6 +93,7 @@ type Model struct {
 	slotNets   [][2]string
 	acOnly     map[string]bool // nets that carry only heater AC
 	meterSlot  map[string]int
+	gasSlot    map[int]int // section index → its plate-to-grid (gas current) slot
 }
 
 // MeterSlot returns the value slot of the meter position on a net: an
@@ -281,6 +282,7 @@ func Build(d *design.Design) (*Model, error) {
 		m.srcRHandle = m.ckt.AddResistor(inner, top, 1)
 	}
 	m.addHeaterCathodeSlots()
+	m.addGasSlots()
 	m.acOnly = acOnlyNets(d)
 	// A meter slot on every DC net: open (Inf) unless a meter's input
 	// resistance is placed there to show the reading a real meter gives.

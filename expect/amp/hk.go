@@ -45,3 +45,29 @@ func (m *Model) addHeaterCathodeSlots() {
 		m.addR(sec.Ref, HKRole, k, ref, math.Inf(1))
 	}
 }
+
+// GasRole is the slot role of a valve section's ionic grid current: open
+// in a healthy valve; a gassy valve's ions, made by the electron stream in
+// what gas has leaked in, flow to the negative grid, which a resistor from
+// the plate to the grid stands in for (a current that grows with the
+// plate volts; the fault "gassy" sets it).
+const GasRole = "gas-current"
+
+// addGasSlots gives every amplifying section an open plate-to-grid slot.
+func (m *Model) addGasSlots() {
+	d := m.D
+	for _, sec := range m.Sections {
+		e := d.ByRef[sec.Ref].Valve.Sections[sec.Section]
+		if e[valves.Plate] == "" || e[valves.Grid] == "" || e[valves.Plate] == e[valves.Grid] {
+			continue
+		}
+		if m.gasSlot == nil {
+			m.gasSlot = map[int]int{}
+		}
+		for i, s := range m.Sections {
+			if s == sec {
+				m.gasSlot[i] = m.addR(sec.Ref, GasRole+sec.Section, e[valves.Plate], e[valves.Grid], math.Inf(1))
+			}
+		}
+	}
+}

@@ -846,6 +846,14 @@ func (s *Solver) extract(op *OP, hv map[string]float64, frac []float64) {
 			so.Ia, so.Ig = cur[0], cur[1]
 			so.Ik = -cur[2]
 		}
+		if gs, ok := m.gasSlot[i]; ok {
+			// A gassy valve's ion current (the plate-to-grid slot) is
+			// the valve's own: it leaves the plate pin and the grid pin
+			// reads it as reverse grid current.
+			ig := m.ckt.ResistorCurrent(m.Slots[gs].handle, op.V)
+			so.Ia += ig
+			so.Ig -= ig
+		}
 		so.Pa = (so.Va - so.Vk) * so.Ia
 		so.Pg2 = (so.Vg2 - so.Vk) * so.Ig2
 		so.HeaterVolts = hv[sec.Ref]

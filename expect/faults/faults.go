@@ -39,11 +39,13 @@ const (
 	HKShort Mode = "hk-short"
 	// ToChassis: a winding broken down to its core or frame (chassis).
 	ToChassis Mode = "to-chassis"
-	HalfOpen  Mode = "half-open"
+	// Gassy: air leaked into a valve: ionic grid current.
+	Gassy    Mode = "gassy"
+	HalfOpen Mode = "half-open"
 )
 
 // allModes lists every mode, for messages.
-var allModes = []Mode{Open, Short, High, Leaky, Weak, Dead, HeaterOpen, HalfOpen, CentreOpen, HKShort, ToChassis}
+var allModes = []Mode{Open, Short, High, Leaky, Weak, Dead, HeaterOpen, HalfOpen, CentreOpen, HKShort, ToChassis, Gassy}
 
 // Fault is one part failed in one mode. Ref is a design reference, or for
 // a subpart its kind declares the reference with the subpart ("OT1.a",

@@ -3,6 +3,7 @@ package faults
 import (
 	"fmt"
 	"math"
+	"strings"
 
 	"pinwalk/expect/amp"
 	"pinwalk/expect/design"
@@ -18,6 +19,12 @@ import (
 //	weak         worn: Koren's KG1 (and KG2 for pentodes) × WeakFactor
 //	dead         no emission: no plate current
 //	heater-open  the heater open: no emission, the valve does not light
+//	gassy        air leaked in: ions flow to the negative grid, a grid
+//	             current out of the valve that drives the grid positive
+//	             through its grid leak, so the valve draws more, heats and
+//	             gets gassier (a runaway). Modelled as the plate-to-grid
+//	             slot (amp.GasRole) set to GassyOhms. Output valves most
+//	             (common practice for the weight).
 //	hk-short     the heater broken down to the cathode: the cathode tied
 //	             through HKShortOhms to the heater circuit's reference
 //	             (its centre tap or grounded end): a cathode-biased stage
@@ -65,6 +72,12 @@ const (
 	// of hot, arced insulation (our choice; the bench sees a cathode at
 	// the heater's volts whatever the exact figure).
 	HKShortOhms = 5.0
+	// GassyOhms is the plate-to-grid resistance standing in for a gassy
+	// valve's reverse grid current: 3 µA at a 300 V plate (from memory:
+	// valve testers and service notes call an output valve gassy at
+	// about 1 µA of reverse grid current; a plainly gassy one shows
+	// several).
+	GassyOhms = 100e6
 )
 
 func init() {
@@ -111,6 +124,18 @@ func init() {
 				Describe:     heaterOpenWords,
 				OutOfCircuit: heaterOpenReads,
 				Confirm:      confirmValve, Replace: replaceValve},
+			{Mode: Gassy, Prior: 0.3, ByRole: outPrior(1.2),
+				Applies: func(m *amp.Model, p *design.Part) bool {
+					return amplifier(m, p) && len(gasSlots(m, p.Ref)) > 0
+				},
+				Live:         func(v *amp.Values, t Target) { setSlots(v, gasSlots(t.M, t.Part.Ref), GassyOhms) },
+				Describe:     said("gassy (reverse grid current: the grid drifts positive, the valve runs hot)"),
+				OutOfCircuit: testerReads("gas (reverse grid current) on a valve tester's gas test; often a blue-violet glow inside the glass, not the harmless blue on the glass"),
+				Confirm: func(t Target) string {
+					p := t.Part
+					return fmt.Sprintf("Swap %s for a known-good %s: the grid should come back to its band. With the amp powered, a grid that creeps positive across a high grid leak and a plate current that keeps rising point at gas; a valve tester's gas test confirms it."+confirmed, p.Ref, p.Valve.Type.Name)
+				},
+				Replace: replaceValve},
 			{Mode: HKShort, Prior: 0.7, ByRole: outPrior(1.5),
 				Applies: func(m *amp.Model, p *design.Part) bool {
 					return amplifier(m, p) && len(slotsWithRole(m, p.Ref, amp.HKRole)) > 0
@@ -184,6 +209,17 @@ func init() {
 				}},
 		},
 	})
+}
+
+// gasSlots are a valve's plate-to-grid slots, one per section.
+func gasSlots(m *amp.Model, ref string) []int {
+	var out []int
+	for _, i := range m.SlotsOf(ref) {
+		if strings.HasPrefix(m.Slots[i].Role, amp.GasRole) {
+			out = append(out, i)
+		}
+	}
+	return out
 }
 
 func regulatorOf(m *amp.Model, ref string) *amp.Regulator {

@@ -379,8 +379,6 @@ var notModelled = []Unmodelled{
 		"with no centre tap or grounded end the heater circuit has no DC path for the leak to follow; a heater winding with one has the hk-short fault"},
 	{"output-transformer primary leaking to chassis part-way along a winding (kilohms, not a hard short)",
 		"a leak part-way along a winding has no single place or value to model; a hard breakdown at an end is the to-chassis fault"},
-	{"gassy valve (positive grid current, bias drifting up, blue glow inside the glass)",
-		"the valve laws have no ionic grid current; it needs a grid current that grows with plate current and volts"},
 	{"valve internal short (an electrode touching another inside the glass: grid to cathode, screen to plate)",
 		"the valve laws have no path between electrodes; a short would join two electrode nets through the valve with a resistance nothing predicts"},
 	{"microphonic or noisy valve, dry joint, arcing socket (crackle)",
