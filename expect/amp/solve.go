@@ -64,6 +64,9 @@ type Values struct {
 	// as its emission below 0; this flag is for the heaters neither
 	// covers.
 	StringOpen bool
+	// AuxOpen marks auxiliary rectifiers (by ref, Model.AuxRects) whose
+	// diodes are open: their supply gives nothing. nil means none.
+	AuxOpen map[string]bool
 }
 
 // NominalValues returns a fresh copy of the nominal part values.
@@ -91,6 +94,12 @@ func (v *Values) Clone() *Values {
 	c.Emission = append([]float64(nil), v.Emission...)
 	c.StageC = append([]float64(nil), v.StageC...)
 	c.GasVolts = append([]float64(nil), v.GasVolts...)
+	if v.AuxOpen != nil {
+		c.AuxOpen = make(map[string]bool, len(v.AuxOpen))
+		for k, b := range v.AuxOpen {
+			c.AuxOpen[k] = b
+		}
+	}
 	if v.CapOpen != nil {
 		c.CapOpen = make(map[string]bool, len(v.CapOpen))
 		for k, b := range v.CapOpen {
@@ -202,6 +211,7 @@ type Solver struct {
 	lastSec float64
 	haveTh  bool
 	nomF    float64 // supply factor of the cached line
+	aux     []auxState
 }
 
 // NewSolver returns a solver for m.
@@ -626,9 +636,17 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	*op = OP{Sections: op.Sections[:0], Regulators: op.Regulators[:0], Heaters: op.Heaters[:0], Windings: op.Windings[:0]}
 	hv := s.heaters(c, v, op)
 	frac := s.applyValues(c, v, hv)
+	if err := s.auxStart(c, v, fast); err != nil {
+		return err
+	}
 	if m.HT == nil {
 		if err := s.network(); err != nil {
 			return err
+		}
+		if !fast || !s.auxCached() {
+			if err := s.auxSettle(c, v); err != nil {
+				return err
+			}
 		}
 		s.extract(op, hv, frac)
 		return nil
@@ -638,7 +656,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	op.Supply = sp
 	f := s.mainsFactor(c) * v.HTVolts
 	if v.RectDead || !(p.Vrms > 0) {
-		return s.solveDead(p, sp, hv, frac, op)
+		return s.solveDead(c, v, p, sp, hv, frac, op)
 	}
 	if fast {
 		if !s.haveTh {
@@ -651,6 +669,11 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		}
 		if err := s.network(); err != nil {
 			return err
+		}
+		if !s.auxCached() {
+			if err := s.auxSettle(c, v); err != nil {
+				return err
+			}
 		}
 		sp.Vth, sp.Rth = vth, rth
 		sp.SecondaryRms = s.lastSec * f / s.nomF
@@ -715,11 +738,15 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		if err := s.setSource(vth, rth); err != nil {
 			return err
 		}
+		auxMoved, err := s.auxUpdate(c, v, it == 1)
+		if err != nil {
+			return err
+		}
 		if err := s.network(); err != nil {
 			return err
 		}
 		vNow := s.sol.V[m.nodeOf[m.HT.Nets[0]]]
-		if math.Abs(vNow-prevV) < 1e-3*max(1, math.Abs(vNow)) && math.Abs(vNow-v0) < 2e-3*max(1, math.Abs(v0)) {
+		if math.Abs(vNow-prevV) < 1e-3*max(1, math.Abs(vNow)) && math.Abs(vNow-v0) < 2e-3*max(1, math.Abs(v0)) && auxMoved < 1e-3 {
 			break
 		}
 		prevV = vNow
@@ -762,12 +789,15 @@ const DeadRectOhms = 100e6
 // filter nets see only the network's own sources. The winding's volts
 // at the rectifier plates stay at their open-circuit value when only the
 // rectifier is dead.
-func (s *Solver) solveDead(p supply.Params, sp *SupplyOP, hv map[string]float64, frac []float64, op *OP) error {
+func (s *Solver) solveDead(c Conditions, v *Values, p supply.Params, sp *SupplyOP, hv map[string]float64, frac []float64, op *OP) error {
 	m := s.m
 	if err := s.setSource(0, DeadRectOhms); err != nil {
 		return err
 	}
 	if err := s.network(); err != nil {
+		return err
+	}
+	if err := s.auxSettle(c, v); err != nil {
 		return err
 	}
 	s.stageLoads(&p, sp)

@@ -1,0 +1,104 @@
+package amp
+
+import (
+	"math"
+	"testing"
+
+	"pinwalk/expect/design"
+)
+
+func diodeBiasModel(t *testing.T) *design.Design {
+	t.Helper()
+	tp, err := design.TemplateByName("pp-diode-bias")
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, probs := design.Parse("pp-diode-bias.yaml", tp.Text)
+	if len(probs.Errors()) > 0 {
+		t.Fatal(probs.Errors())
+	}
+	return d
+}
+
+// The template's bias diode is not the HT rectifier: D1 (the full-wave
+// one on the 320-0-320 winding) feeds the plates and D2 is an auxiliary
+// negative supply.
+func TestDiodeBiasIsAuxiliary(t *testing.T) {
+	m, err := Build(diodeBiasModel(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m.HT == nil || m.HT.Rectifier.Ref != "D1" {
+		t.Fatalf("HT rectifier %v, want D1", m.HT)
+	}
+	a := m.AuxRectOf("D2")
+	if a == nil || a.Sign != -1 || a.Out != "NBR" || a.Return != "0V" {
+		t.Fatalf("D2 as auxiliary: %+v", a)
+	}
+}
+
+// A half-wave peak rectifier into a large reservoir (ω·C·RL ≫ 1) conducts
+// over an angle 2θ with tan θ − θ = π·Rs/RL, and its output is
+// (Vpk − Vd)·cos θ (Schade 1943; Radiotron Designer's Handbook 4th ed.
+// ch. 30, from memory). The ripple droop of I/(f·C)/2 on top is a small
+// correction here (100 µF, a few mA), so the closed form without it must
+// agree within 1 %.
+func TestDiodeBiasAgainstSchade(t *testing.T) {
+	m, op := solve(t, diodeBiasModel(t), Conditions{})
+	a := m.AuxRectOf("D2")
+	vr := netV(t, m, op, "NBR")
+	vn := netV(t, m, op, "NB")
+	i := (vn - vr) / 10e3 // through R3 (10k) into the filter
+	if vr >= 0 || i <= 0 {
+		t.Fatalf("NBR %.2f V, NB %.2f V: the bias supply is not negative", vr, vn)
+	}
+	rl := -vr / i
+	k := math.Pi * a.Rs / rl
+	lo, hi := 0.0, 1.5
+	for range 60 {
+		th := (lo + hi) / 2
+		if math.Tan(th)-th < k {
+			lo = th
+		} else {
+			hi = th
+		}
+	}
+	vpk := math.Sqrt2 * a.VrmsOC
+	want := -(vpk - a.Rect.Vf) * math.Cos(lo)
+	droop := i / (50 * 100e-6) / 2
+	t.Logf("NBR %.2f V at %.2f mA (RL %.0f Ω, Rs %.1f Ω, θ %.1f°): closed form %.2f V, ripple droop %.2f V", vr, i*1e3, rl, a.Rs, lo*180/math.Pi, want, droop)
+	if math.Abs(vr-want) > 0.01*math.Abs(want) {
+		t.Errorf("NBR %.2f V, closed form %.2f V", vr, want)
+	}
+}
+
+// On a variac the bias winding's peak scales with the primary, the diode's
+// drop does not: at 50 % the reservoir reads about (0.5·(V+Vd) − Vd)
+// of its full-mains volts (the closed form of a peak rectifier, common
+// practice), in the full and in the fast solve; the conduction-angle loss
+// scales with it, so within 2 %.
+func TestDiodeBiasFollowsVariac(t *testing.T) {
+	m, full := solve(t, diodeBiasModel(t), Conditions{})
+	v100 := netV(t, m, full, "NBR")
+	s := NewSolver(m)
+	var op, fast OP
+	if err := s.Solve(Conditions{}, m.NominalValues(), false, &op); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.Solve(Conditions{Variac: 0.5}, m.NominalValues(), true, &fast); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.Solve(Conditions{Variac: 0.5}, m.NominalValues(), false, &op); err != nil {
+		t.Fatal(err)
+	}
+	v50 := netV(t, m, &op, "NBR")
+	vFast := netV(t, m, &fast, "NBR")
+	vd := m.AuxRectOf("D2").Rect.Vf
+	want := -(0.5*(-v100+vd) - vd)
+	t.Logf("NBR %.2f V at 100 %%, %.2f V (full) and %.2f V (fast) at 50 %%, closed form %.2f V", v100, v50, vFast, want)
+	for _, got := range []float64{v50, vFast} {
+		if math.Abs(got-want) > 0.02*math.Abs(want) {
+			t.Errorf("NBR at 50 %% variac %.2f V, want %.2f V", got, want)
+		}
+	}
+}
