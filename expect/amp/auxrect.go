@@ -42,6 +42,10 @@ type AuxRect struct {
 	// DCR and the reflected primary DCR), as HeaterWindingSource has them.
 	VrmsOC, Rs float64
 
+	// netR is the share of the winding's resistance the network already
+	// has between Feed and Return (a half-wave supply's DC current flows
+	// through its winding; a bridge's winding carries none at DC).
+	netR               float64
 	index              int
 	srcHandle, rHandle int
 }
@@ -197,7 +201,21 @@ func (m *Model) addAux() {
 	for i, a := range m.aux {
 		a.index = i
 		inner := m.node("~" + a.Rectifier.Ref)
-		a.srcHandle = m.ckt.AddVSource(inner, m.node(a.Return), 0)
+		from := a.Return
+		if a.Topology == supply.HalfWave {
+			// From the winding's diode end, so that the mean current
+			// flows in the winding as it does (its end reads I·DCR).
+			from = a.Feed
+			r := a.Winding.DCR
+			if r == 0 {
+				r = 0.05 // as Build puts the winding in the network
+			}
+			if a.Winding.Centre != "" {
+				r /= 2
+			}
+			a.netR = r
+		}
+		a.srcHandle = m.ckt.AddVSource(inner, m.node(from), 0)
 		a.rHandle = m.ckt.AddResistor(inner, m.node(a.Out), 1)
 	}
 }
@@ -243,7 +261,7 @@ func (s *Solver) auxSet(a *AuxRect, vth, rth float64) error {
 		return fmt.Errorf("%s supply: no finite operating point", a.Rectifier.Ref)
 	}
 	s.m.ckt.SetSource(a.srcHandle, a.Sign*vth)
-	s.m.ckt.SetResistance(a.rHandle, max(rth, minOhms))
+	s.m.ckt.SetResistance(a.rHandle, max(rth-a.netR, minOhms))
 	s.auxOf(a).curR = rth
 	return nil
 }
@@ -372,4 +390,20 @@ func (s *Solver) auxCached() bool {
 		}
 	}
 	return true
+}
+
+// BiasNets returns the output nets of the grid-bias supplies, the one list
+// of them: every bias-supply part's output, then each negative auxiliary
+// rectifier's reservoir.
+func (m *Model) BiasNets() []string {
+	var out []string
+	for _, p := range m.D.PartsOfKind(design.BiasSupply) {
+		out = append(out, p.Terminals[0].Net)
+	}
+	for _, a := range m.aux {
+		if a.Sign < 0 {
+			out = append(out, a.Out)
+		}
+	}
+	return out
 }
