@@ -54,7 +54,8 @@ type AuxRect struct {
 // (magnitudes) and the one of the last full solve at the design's mains,
 // for fast solves.
 type auxState struct {
-	curR               float64
+	curV, curR, curF   float64
+	simulated          bool
 	lastV, lastR, nomF float64
 	haveTh             bool
 }
@@ -262,7 +263,8 @@ func (s *Solver) auxSet(a *AuxRect, vth, rth float64) error {
 	}
 	s.m.ckt.SetSource(a.srcHandle, a.Sign*vth)
 	s.m.ckt.SetResistance(a.rHandle, max(rth-a.netR, minOhms))
-	s.auxOf(a).curR = rth
+	st := s.auxOf(a)
+	st.curV, st.curR = vth, rth
 	return nil
 }
 
@@ -277,6 +279,8 @@ func (s *Solver) auxLoad(a *AuxRect) float64 {
 // solves take the cached line, scaled with the mains as the peak is.
 func (s *Solver) auxStart(c Conditions, v *Values, fast bool) error {
 	for _, a := range s.m.aux {
+		st := s.auxOf(a)
+		st.simulated, st.curF = false, s.mainsFactor(c)*v.HeaterVolts
 		if auxDead(a, v) {
 			if err := s.auxSet(a, 0, DeadRectOhms); err != nil {
 				return err
@@ -286,7 +290,7 @@ func (s *Solver) auxStart(c Conditions, v *Values, fast bool) error {
 		p := s.auxParams(a, c, v, 0)
 		vth := supply.ColdPeak(p)
 		rth := a.Rs + AuxDroopOhms(a.Topology, p.Hz, p.Stages[0].ShuntC)
-		if st := s.auxOf(a); fast && st.haveTh {
+		if fast && st.haveTh {
 			f := s.mainsFactor(c) * v.HeaterVolts
 			vth = RectifiedScale(st.lastV, f/st.nomF, a.Rect.Vf*diodesInPath(a.Topology))
 			rth = st.lastR
@@ -346,6 +350,7 @@ func (s *Solver) auxUpdate(c Conditions, v *Values, first bool) (float64, error)
 		if err := s.auxSet(a, v0+rth*i0, rth); err != nil {
 			return 0, err
 		}
+		st.simulated = true
 		if c.Variac <= 0 || c.Variac == 1 {
 			if (c.MainsVolts <= 0 || c.MainsVolts == s.m.D.Mains.Volts) && !c.ColdValves {
 				st.lastV, st.lastR, st.nomF, st.haveTh = v0+rth*i0, rth, s.mainsFactor(c)*v.HeaterVolts, true
@@ -406,4 +411,34 @@ func (m *Model) BiasNets() []string {
 		}
 	}
 	return out
+}
+
+// AuxLine is an auxiliary rectifier's line in a solve: the source volts
+// (a magnitude) and resistance at its reservoir, at supply factor F (the
+// mains factor times the winding's scale); Simulated when the line came
+// from its supply simulation in that solve.
+type AuxLine struct {
+	V, R, F   float64
+	Simulated bool
+}
+
+// auxLines records each auxiliary supply's line in op.
+func (s *Solver) auxLines(op *OP) {
+	for _, a := range s.m.aux {
+		st := s.auxOf(a)
+		op.Aux = append(op.Aux, AuxLine{V: st.curV, R: st.curR, F: st.curF, Simulated: st.simulated})
+	}
+}
+
+// cacheAux takes the auxiliary supplies' lines of a full solve for later
+// fast solves.
+func (s *Solver) cacheAux(op *OP) {
+	for i, a := range s.m.aux {
+		if i >= len(op.Aux) || !op.Aux[i].Simulated {
+			continue
+		}
+		l := op.Aux[i]
+		st := s.auxOf(a)
+		st.lastV, st.lastR, st.nomF, st.haveTh = l.V, l.R, l.F, true
+	}
 }

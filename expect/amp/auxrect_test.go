@@ -102,3 +102,38 @@ func TestDiodeBiasFollowsVariac(t *testing.T) {
 		}
 	}
 }
+
+// A fast solve on a solver given another's full solve (CacheSupplyAt, as
+// the tolerance sampling does) takes the bias supply's line from it and
+// lands on the full solve's bias: the line is the same supply's, so the
+// two agree to the network's own convergence.
+func TestDiodeBiasLineCached(t *testing.T) {
+	d := diodeBiasModel(t)
+	m, err := Build(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := Conditions{Variac: 0.75}
+	var full, fast OP
+	if err := NewSolver(m).Solve(c, m.NominalValues(), false, &full); err != nil {
+		t.Fatal(err)
+	}
+	if len(full.Aux) != 1 || !full.Aux[0].Simulated {
+		t.Fatalf("full solve's auxiliary lines %+v", full.Aux)
+	}
+	s := NewSolver(m)
+	if err := s.CacheSupplyAt(c, m.NominalValues(), &full); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.Solve(c, m.NominalValues(), true, &fast); err != nil {
+		t.Fatal(err)
+	}
+	if fast.Aux[0].Simulated {
+		t.Errorf("the fast solve simulated the bias supply instead of taking the cached line")
+	}
+	a, b := netV(t, m, &full, "NB"), netV(t, m, &fast, "NB")
+	t.Logf("NB %.3f V (full), %.3f V (fast)", a, b)
+	if math.Abs(a-b) > 1e-3*math.Abs(a) {
+		t.Errorf("NB %.4f V (full), %.4f V (fast from the cached line)", a, b)
+	}
+}

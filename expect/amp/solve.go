@@ -171,7 +171,9 @@ type OP struct {
 	Heaters    []HeaterOP
 	Windings   []WindingOP
 	Supply     *SupplyOP
-	Newton     int // Newton iterations, all network solves together
+	// Aux are the lines the auxiliary rectifiers had, per Model.AuxRects.
+	Aux    []AuxLine
+	Newton int // Newton iterations, all network solves together
 }
 
 // NetVolts returns the DC volts of a net and whether it is in the network.
@@ -633,7 +635,7 @@ func (s *Solver) stageLoads(p *supply.Params, sp *SupplyOP) {
 // fixed-point iteration on the filter nets' loads.
 func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	m := s.m
-	*op = OP{Sections: op.Sections[:0], Regulators: op.Regulators[:0], Heaters: op.Heaters[:0], Windings: op.Windings[:0]}
+	*op = OP{Sections: op.Sections[:0], Regulators: op.Regulators[:0], Heaters: op.Heaters[:0], Windings: op.Windings[:0], Aux: op.Aux[:0]}
 	hv := s.heaters(c, v, op)
 	frac := s.applyValues(c, v, hv)
 	if err := s.auxStart(c, v, fast); err != nil {
@@ -861,6 +863,7 @@ func (s *Solver) extract(op *OP, hv map[string]float64, frac []float64) {
 	m := s.m
 	op.V = append(op.V[:0], s.sol.V...)
 	op.Newton += s.sol.Iterations
+	s.auxLines(op)
 	for i, sec := range m.Sections {
 		var so SectionOP
 		so.Va, so.Vg, so.Vk = op.V[sec.P], op.V[sec.G], op.V[sec.K]
