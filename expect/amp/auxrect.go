@@ -442,3 +442,17 @@ func (s *Solver) cacheAux(op *OP) {
 		st.lastV, st.lastR, st.nomF, st.haveTh = l.V, l.R, l.F, true
 	}
 }
+
+// auxACOnly marks a bridge's winding ends as carrying AC only: the
+// winding floats, its mean set by the diodes' conduction midway between
+// the outputs, which the network's DC line does not model, so no DC
+// reading is offered there.
+func (m *Model) auxACOnly() {
+	for _, a := range m.aux {
+		if a.Topology == supply.Bridge {
+			for _, net := range a.Rectifier.Rect.AC {
+				m.acOnly[net] = true
+			}
+		}
+	}
+}

@@ -2,6 +2,7 @@ package amp
 
 import (
 	"math"
+	"strings"
 	"testing"
 
 	"pinwalk/expect/design"
@@ -135,5 +136,49 @@ func TestDiodeBiasLineCached(t *testing.T) {
 	t.Logf("NB %.3f V (full), %.3f V (fast)", a, b)
 	if math.Abs(a-b) > 1e-3*math.Abs(a) {
 		t.Errorf("NB %.4f V (full), %.4f V (fast from the cached line)", a, b)
+	}
+}
+
+// The same bias from a bridge on a floating 50 V winding, plus to
+// chassis: full-wave, each half-cycle through two diodes, so tan θ − θ =
+// π·Rs/(2·RL) and Vdc = (Vpk − 2·Vd)·cos θ (Schade 1943; Radiotron
+// Designer's Handbook 4th ed. ch. 30, from memory), within 1 %. The
+// floating winding's ends offer no DC reading.
+func TestDiodeBiasBridge(t *testing.T) {
+	tp, err := design.TemplateByName("pp-diode-bias")
+	if err != nil {
+		t.Fatal(err)
+	}
+	src := strings.Replace(string(tp.Text), "ends: [BW, 0V]}", "ends: [BW, BW2]}", 1)
+	src = strings.Replace(src, "D2: {rectifier: silicon, anodes: [NBR], cathode: BW}", "D2: {rectifier: silicon-bridge, ac: [BW, BW2], plus: 0V, minus: NBR}", 1)
+	d, probs := design.Parse("bridge-bias.yaml", []byte(src))
+	if len(probs.Errors()) > 0 {
+		t.Fatal(probs.Errors())
+	}
+	m, op := solve(t, d, Conditions{})
+	a := m.AuxRectOf("D2")
+	if a == nil || a.Sign != -1 || a.Out != "NBR" {
+		t.Fatalf("D2 as a negative bridge: %+v", a)
+	}
+	vr := netV(t, m, op, "NBR")
+	i := (netV(t, m, op, "NB") - vr) / 10e3
+	rl := -vr / i
+	k := math.Pi * a.Rs / (2 * rl)
+	lo, hi := 0.0, 1.5
+	for range 60 {
+		th := (lo + hi) / 2
+		if math.Tan(th)-th < k {
+			lo = th
+		} else {
+			hi = th
+		}
+	}
+	want := -(math.Sqrt2*a.VrmsOC - 2*a.Rect.Vf) * math.Cos(lo)
+	t.Logf("NBR %.2f V at %.2f mA (θ %.1f°): closed form %.2f V", vr, i*1e3, lo*180/math.Pi, want)
+	if math.Abs(vr-want) > 0.01*math.Abs(want) {
+		t.Errorf("NBR %.2f V, closed form %.2f V", vr, want)
+	}
+	if _, ok := m.MeterSlot("BW"); ok {
+		t.Errorf("the floating winding end BW offers a DC reading")
 	}
 }

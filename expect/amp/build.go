@@ -284,6 +284,7 @@ func Build(d *design.Design) (*Model, error) {
 	}
 	m.addAux()
 	m.acOnly = acOnlyNets(d)
+	m.auxACOnly()
 	// A meter slot on every DC net: open (Inf) unless a meter's input
 	// resistance is placed there to show the reading a real meter gives.
 	m.meterSlot = map[string]int{}
