@@ -132,6 +132,13 @@ func chooseHT(d *design.Design, cands []rectCandidate) (*HTSupply, []*AuxRect, e
 		}
 		aux = append(aux, c.aux)
 	}
+	for _, a := range aux {
+		if ht != nil && a.Winding != nil && a.Winding == ht.Winding {
+			p := a.Rectifier
+			return nil, nil, fmt.Errorf("%s:%d:%d: %s: a rectifier off the HT winding (%s) besides the HT rectifier is not modelled: expected its own winding, or describe the supply as a bias-supply part",
+				d.File, p.Pos.Line, p.Pos.Col, p.Ref, a.Winding.Name)
+		}
+	}
 	return ht, aux, nil
 }
 

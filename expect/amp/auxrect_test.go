@@ -182,3 +182,23 @@ func TestDiodeBiasBridge(t *testing.T) {
 		t.Errorf("the floating winding end BW offers a DC reading")
 	}
 }
+
+// A bias diode off an end of the HT winding shares the winding with the HT
+// rectifier, which the model does not couple: Build refuses it at the
+// diode's line, naming the winding.
+func TestDiodeBiasOffHTWindingRefused(t *testing.T) {
+	tp, err := design.TemplateByName("pp-diode-bias")
+	if err != nil {
+		t.Fatal(err)
+	}
+	src := strings.Replace(string(tp.Text), "cathode: BW}", "cathode: HTA}", 1)
+	src = strings.Replace(src, "        BIAS: {volts: 50?, rated: 50mA?, dcr: 40R?, ends: [BW, 0V]}\n", "", 1)
+	d, probs := design.Parse("tap-bias.yaml", []byte(src))
+	if len(probs.Errors()) > 0 {
+		t.Fatal(probs.Errors())
+	}
+	_, err = Build(d)
+	if err == nil || !strings.Contains(err.Error(), "tap-bias.yaml:46:3: D2:") || !strings.Contains(err.Error(), "off the HT winding (HT)") {
+		t.Errorf("Build: %v, want the refusal at D2's line naming the HT winding", err)
+	}
+}
