@@ -133,6 +133,11 @@ func chooseHT(d *design.Design, cands []rectCandidate) (*HTSupply, []*AuxRect, e
 		aux = append(aux, c.aux)
 	}
 	for _, a := range aux {
+		if ref := heaterFedBy(d, a); ref != "" {
+			p := a.Rectifier
+			return nil, nil, fmt.Errorf("%s:%d:%d: %s: a DC heater or filament supply (it feeds %s's heater) is not yet modelled: expected heaters on a winding, or describe the supply as a dc-supply part",
+				d.File, p.Pos.Line, p.Pos.Col, p.Ref, ref)
+		}
 		if ht != nil && a.Winding != nil && a.Winding == ht.Winding {
 			p := a.Rectifier
 			return nil, nil, fmt.Errorf("%s:%d:%d: %s: a rectifier off the HT winding (%s) besides the HT rectifier is not modelled: expected its own winding, or describe the supply as a bias-supply part",
@@ -462,4 +467,39 @@ func (m *Model) auxACOnly() {
 			}
 		}
 	}
+}
+
+// heaterFedBy returns the first valve whose heater an auxiliary supply
+// feeds (its output or return net, or a net reached from them through
+// resistors and chokes short of chassis), or "".
+func heaterFedBy(d *design.Design, a *AuxRect) string {
+	seen := map[string]bool{d.Ground: true}
+	var todo []string
+	for _, n := range []string{a.Out, a.Return} {
+		if !seen[n] {
+			seen[n] = true
+			todo = append(todo, n)
+		}
+	}
+	for i := 0; i < len(todo); i++ {
+		for _, u := range d.Nets[todo[i]] {
+			p := d.ByRef[u.Ref]
+			if p == nil {
+				continue
+			}
+			if p.Kind == design.Valve && (p.Valve.HeaterNets[0] == todo[i] || p.Valve.HeaterNets[1] == todo[i]) {
+				return p.Ref
+			}
+			if p.Kind != design.Resistor && p.Kind != design.Choke {
+				continue
+			}
+			for _, t := range p.Terminals {
+				if !seen[t.Net] {
+					seen[t.Net] = true
+					todo = append(todo, t.Net)
+				}
+			}
+		}
+	}
+	return ""
 }

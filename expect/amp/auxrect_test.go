@@ -202,3 +202,46 @@ func TestDiodeBiasOffHTWindingRefused(t *testing.T) {
 		t.Errorf("Build: %v, want the refusal at D2's line naming the HT winding", err)
 	}
 }
+
+// A bridge and CRC feeding a directly heated triode's filament is a DC
+// filament supply, which is not yet modelled (the filament would be no
+// load in the DC network): Build refuses it at the bridge's line rather
+// than predict an unloaded supply.
+func TestDCFilamentSupplyRefused(t *testing.T) {
+	src := `pinwalk: 1
+title: DC filament (invented)
+mains: {volts: 230, hz: 50, tolerance: 6%}
+ground: 0V
+parts:
+  J1: {mains-inlet: iec, live: L, neutral: N, earth: 0V}
+  F1: {fuse: 1A, slow: true, between: [L, L1]}
+  T1:
+    power-transformer:
+      primary: {volts: 230, dcr: 8R, ends: [L1, N]}
+      secondaries:
+        HT: {volts: 300-0-300, rated: 100mA, dcr: 160R, ends: [HTA, HTB], centre: 0V}
+        FIL: {volts: 6.3, rated: 3A, dcr: 0R1, ends: [FA, FB]}
+  D1: {rectifier: silicon, anodes: [HTA, HTB], cathode: B1}
+  C1: {capacitor: 100u, volts: 600, between: [B1, 0V]}
+  R1: {resistor: 220k, watts: 2, between: [B1, 0V]}
+  D2: {rectifier: silicon-bridge, ac: [FA, FB], plus: FR, minus: FM}
+  C4: {capacitor: 10000u, volts: 16, between: [FR, FM]}
+  R3: {resistor: 1R5, watts: 10, between: [FR, FP]}
+  C5: {capacitor: 10000u, volts: 16, between: [FP, FM]}
+  V1: {valve: 2A3, plate: PA, grid: G, cathode: FP, heater: [FP, FM]}
+  R4: {resistor: 680R, watts: 10, between: [FM, 0V]}
+  R5: {resistor: 100k, between: [G, 0V]}
+  OT1:
+    output-transformer:
+      primary: {ends: [B1, PA], dcr: 150R, impedance: 2k5}
+      secondary: {load: 8R}
+`
+	d, probs := design.Parse("dc-filament.yaml", []byte(src))
+	if len(probs.Errors()) > 0 {
+		t.Fatal(probs.Errors())
+	}
+	_, err := Build(d)
+	if err == nil || !strings.Contains(err.Error(), "dc-filament.yaml:17:3: D2:") || !strings.Contains(err.Error(), "V1's heater") {
+		t.Errorf("Build: %v, want the refusal at D2's line naming V1", err)
+	}
+}
