@@ -454,10 +454,7 @@ type BiasStage struct {
 // through chassis.
 func (b *BenchModel) BiasStages() []BiasStage {
 	d := b.D
-	var supplies []string
-	for _, p := range d.PartsOfKind(design.BiasSupply) {
-		supplies = append(supplies, p.Terminals[0].Net)
-	}
+	supplies := b.M.BiasNets()
 	if len(supplies) == 0 {
 		return nil
 	}

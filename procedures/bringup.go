@@ -317,6 +317,9 @@ func supplyNets(b *BenchModel) []string {
 			out = append(out, p.Terminals[0].Net)
 		}
 	}
+	for _, a := range b.M.AuxRects() {
+		out = append(out, a.Out)
+	}
 	return out
 }
 
@@ -493,12 +496,12 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 		}
 		// Fixed bias: the negative bias must be there before the output
 		// valves draw current, at every step of the ramp (common practice).
-		for _, p := range b.D.PartsOfKind(design.BiasSupply) {
-			key := p.Terminals[0].Net + " " + amp.DCVolts
+		for _, net := range b.M.BiasNets() {
+			key := net + " " + amp.DCVolts
 			if pd, ok := byKey[key]; ok {
 				if hi, ok := has(key); ok {
 					st.Measures = append(st.Measures, pointMeasure(pd, hi))
-					st.StopIf = append(st.StopIf, "the bias supply "+p.Terminals[0].Net+" reads near 0 V or positive: the output valves have no bias and will run away")
+					st.StopIf = append(st.StopIf, "the bias supply "+net+" reads near 0 V or positive: the output valves have no bias and will run away")
 				}
 			}
 		}

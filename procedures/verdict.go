@@ -310,6 +310,19 @@ func (b *BenchModel) judgeLive(st *Step, k point.Key, v float64, band Band, has 
 		}
 		return judgement{}
 	}
+	// A bias supply's output (a bias-supply part or a bias rectifier's
+	// reservoir) at a small share of its expected negative volts: the
+	// output valves have no bias (an open bias diode, a dead supply).
+	if k.Quantity == point.DCVolts && has && band.High < -1 && v > LowSupplyShare*band.High && contains(b.M.BiasNets(), k.ID) {
+		if len(st.Pulled) == 0 && len(b.BiasStages()) > 0 {
+			return judgement{Consequence: SwitchOff, Said: fmt.Sprintf(
+				"SWITCH OFF NOW: the bias supply %s reads %s where %s is expected: the output valves have no bias and will red-plate. Variac to zero, switch off, unplug; check the bias diode, its reservoir and filter and the bias winding (unplugged and discharged).",
+				k.ID, FormatValue(v, "V"), FormatBand(band, "V"))}
+		}
+		return judgement{Consequence: Stop, Said: fmt.Sprintf(
+			"STOP: the bias supply %s reads %s where %s is expected: no bias. Do not fit the output valves: check the bias diode, its reservoir and filter and the bias winding (unplugged and discharged).",
+			k.ID, FormatValue(v, "V"), FormatBand(band, "V"))}
+	}
 	// A supply net.
 	if k.Quantity != point.DCVolts || !has || !b.isSupplyNet(k.ID) {
 		return judgement{}

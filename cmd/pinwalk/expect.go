@@ -657,6 +657,14 @@ func runVariacSteps(d *design.Design, opt bands.Options, asJSON bool, stdout, st
 		fmt.Fprintf(stderr, "pinwalk: %v\n", err)
 		return exitFailure
 	}
+	// The grid-bias supplies' outputs scale with the variac too: they are
+	// listed with the HT nets.
+	bias := map[string]bool{}
+	if m, err := amp.Build(d); err == nil {
+		for _, n := range m.BiasNets() {
+			bias[n] = true
+		}
+	}
 	var out []jsonStep
 	for _, st := range steps {
 		js := jsonStep{Variac: st.Variac, Samples: st.Set.Samples, Failed: st.Set.Failed}
@@ -671,7 +679,7 @@ func runVariacSteps(d *design.Design, opt bands.Options, asJSON bool, stdout, st
 			js.Cold = append(js.Cold, jsonNet{Net: p.Net, Volts: round(p.Nominal), ColdPeak: round(p.HighMains)})
 		}
 		for _, pd := range st.Set.Points {
-			keep := pd.Valve == "" && pd.Quantity == amp.DCVolts && isFilterNet(peaks, pd.Net) ||
+			keep := pd.Valve == "" && pd.Quantity == amp.DCVolts && (isFilterNet(peaks, pd.Net) || bias[pd.Net]) ||
 				pd.Valve != "" && pd.Quantity == amp.DCVolts ||
 				pd.Quantity == amp.DCAmps && (pd.Electrode == "plate" || pd.Electrode == "cathode")
 			if !keep {

@@ -85,7 +85,9 @@ type Model struct {
 	DropSlots []int
 
 	// The HT supply, when the design has a rectifier.
-	HT         *HTSupply
+	HT *HTSupply
+	// aux are the rectifiers other than the HT one (AuxRects).
+	aux        []*AuxRect
 	srcHandle  int // Thevenin voltage source driving the first filter net
 	srcRHandle int // its series resistance
 	slotByRef  map[string][]int
@@ -195,11 +197,11 @@ func Build(d *design.Design) (*Model, error) {
 		srcHandle: -1, srcRHandle: -1}
 	m.ckt.SetGround(d.Ground)
 	m.nodeOf[d.Ground] = 0
-	ht, err := findHT(d)
+	ht, aux, err := findHT(d)
 	if err != nil {
 		return nil, err
 	}
-	m.HT = ht
+	m.HT, m.aux = ht, aux
 	skip := map[string]bool{} // parts folded into the supply model
 	if ht != nil && ht.ChokeInput {
 		skip[ht.SeriesRefs[0]] = true
@@ -281,9 +283,11 @@ func Build(d *design.Design) (*Model, error) {
 		m.srcHandle = m.ckt.AddVSource(inner, 0, 0)
 		m.srcRHandle = m.ckt.AddResistor(inner, top, 1)
 	}
+	m.addAux()
 	m.addHeaterCathodeSlots()
 	m.addGasSlots()
 	m.acOnly = acOnlyNets(d)
+	m.auxACOnly()
 	// A meter slot on every DC net: open (Inf) unless a meter's input
 	// resistance is placed there to show the reading a real meter gives.
 	m.meterSlot = map[string]int{}
@@ -414,8 +418,9 @@ func (m *Model) RegulatorCurrent(op *OP, r *Regulator) float64 {
 // Name returns "V1A" or "V2" for a section.
 func (s *Section) Name() string { return s.Ref + s.Section }
 
-// findHT finds the HT rectifier and walks its filter outwards.
-func findHT(d *design.Design) (*HTSupply, error) {
+// findHT finds the HT rectifier and walks its filter outwards; the other
+// rectifiers are auxiliary supplies (chooseHT says which is which).
+func findHT(d *design.Design) (*HTSupply, []*AuxRect, error) {
 	var windings []*design.Winding
 	var tr *design.Part
 	for _, p := range d.PartsOfKind(design.PowerTransformer) {
@@ -430,7 +435,7 @@ func findHT(d *design.Design) (*HTSupply, error) {
 		}
 		return nil
 	}
-	var ht *HTSupply
+	var cands []rectCandidate
 	for _, p := range d.Parts {
 		var anodes []string
 		var out string
@@ -460,29 +465,42 @@ func findHT(d *design.Design) (*HTSupply, error) {
 		default:
 			continue
 		}
-		if ht != nil {
-			return nil, fmt.Errorf("%s:%d:%d: %s: a second HT rectifier: only one rectifier supply is modelled; describe bias supplies as bias-supply parts",
-				d.File, p.Pos.Line, p.Pos.Col, p.Ref)
+		cand := rectCandidate{p: p}
+		if p.Kind == design.Rectifier {
+			a, err := auxCandidate(d, p, windingOf)
+			if err == nil {
+				a.VrmsOC, a.Rs = HeaterWindingSource(a.Winding, tr.PT)
+				cand.aux = a
+			} else if windingOf(anodes[0]) == nil {
+				if _, ok := d.LineFeedTo(anodes[0]); !ok || tr != nil {
+					return nil, nil, err
+				}
+			}
 		}
 		w := windingOf(anodes[0])
-		if w == nil {
+		switch {
+		case w == nil:
 			if lf, ok := d.LineFeedTo(anodes[0]); ok && tr == nil && topo == supply.HalfWave {
-				ht = &HTSupply{Line: &lf, Rectifier: p, Topology: topo, Rect: rect, RectNet: out}
-				continue
+				cand.ht = &HTSupply{Line: &lf, Rectifier: p, Topology: topo, Rect: rect, RectNet: out}
+			} else if cand.aux == nil {
+				return nil, nil, fmt.Errorf("%s:%d:%d: %s: rectifier not fed from a transformer winding", d.File, p.Pos.Line, p.Pos.Col, p.Ref)
 			}
-			return nil, fmt.Errorf("%s:%d:%d: %s: rectifier not fed from a transformer winding", d.File, p.Pos.Line, p.Pos.Col, p.Ref)
+		case p.Kind != design.Rectifier || !p.Rect.Bridge || p.Rect.Plus != d.Ground:
+			cand.ht = &HTSupply{Transformer: tr, Winding: w, Rectifier: p, Topology: topo, Rect: rect, RectNet: out}
+			cand.volts = w.Volts
 		}
-		ht = &HTSupply{Transformer: tr, Winding: w, Rectifier: p, Topology: topo, Rect: rect, RectNet: out}
+		cands = append(cands, cand)
 	}
-	if ht == nil {
-		return nil, nil
+	ht, aux, err := chooseHT(d, cands)
+	if err != nil || ht == nil {
+		return nil, aux, err
 	}
 	if ht.Line != nil {
 		// Straight off the mains: the source is the mains itself (ratio
 		// 1), behind the path's resistors.
 		ht.VrmsOC = d.Mains.Volts
 		ht.Rs = ht.Line.Ohms
-		return ht, ht.filter(d)
+		return ht, aux, ht.filter(d)
 	}
 	// Source: open-circuit volts and resistance per conducting path.
 	pt := ht.Transformer.PT
@@ -512,7 +530,7 @@ func findHT(d *design.Design) (*HTSupply, error) {
 		rs = perPath * reg / rated
 	}
 	ht.Rs = rs
-	return ht, ht.filter(d)
+	return ht, aux, ht.filter(d)
 }
 
 // filter walks the filter tree from the rectifier outwards.

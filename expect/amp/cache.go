@@ -9,6 +9,7 @@ package amp
 // built twice). It returns ErrNoSupply when op carries no simulated
 // supply; a model without an HT supply needs no line and gets nil.
 func (s *Solver) CacheSupplyAt(c Conditions, v *Values, op *OP) error {
+	s.cacheAux(op)
 	if s.m.HT == nil {
 		return nil
 	}

@@ -64,6 +64,9 @@ type Values struct {
 	// as its emission below 0; this flag is for the heaters neither
 	// covers.
 	StringOpen bool
+	// AuxOpen marks auxiliary rectifiers (by ref, Model.AuxRects) whose
+	// diodes are open: their supply gives nothing. nil means none.
+	AuxOpen map[string]bool
 }
 
 // NominalValues returns a fresh copy of the nominal part values.
@@ -91,6 +94,12 @@ func (v *Values) Clone() *Values {
 	c.Emission = append([]float64(nil), v.Emission...)
 	c.StageC = append([]float64(nil), v.StageC...)
 	c.GasVolts = append([]float64(nil), v.GasVolts...)
+	if v.AuxOpen != nil {
+		c.AuxOpen = make(map[string]bool, len(v.AuxOpen))
+		for k, b := range v.AuxOpen {
+			c.AuxOpen[k] = b
+		}
+	}
 	if v.CapOpen != nil {
 		c.CapOpen = make(map[string]bool, len(v.CapOpen))
 		for k, b := range v.CapOpen {
@@ -162,7 +171,9 @@ type OP struct {
 	Heaters    []HeaterOP
 	Windings   []WindingOP
 	Supply     *SupplyOP
-	Newton     int // Newton iterations, all network solves together
+	// Aux are the lines the auxiliary rectifiers had, per Model.AuxRects.
+	Aux    []AuxLine
+	Newton int // Newton iterations, all network solves together
 }
 
 // NetVolts returns the DC volts of a net and whether it is in the network.
@@ -202,6 +213,7 @@ type Solver struct {
 	lastSec float64
 	haveTh  bool
 	nomF    float64 // supply factor of the cached line
+	aux     []auxState
 }
 
 // NewSolver returns a solver for m.
@@ -623,12 +635,20 @@ func (s *Solver) stageLoads(p *supply.Params, sp *SupplyOP) {
 // fixed-point iteration on the filter nets' loads.
 func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	m := s.m
-	*op = OP{Sections: op.Sections[:0], Regulators: op.Regulators[:0], Heaters: op.Heaters[:0], Windings: op.Windings[:0]}
+	*op = OP{Sections: op.Sections[:0], Regulators: op.Regulators[:0], Heaters: op.Heaters[:0], Windings: op.Windings[:0], Aux: op.Aux[:0]}
 	hv := s.heaters(c, v, op)
 	frac := s.applyValues(c, v, hv)
+	if err := s.auxStart(c, v, fast); err != nil {
+		return err
+	}
 	if m.HT == nil {
 		if err := s.network(); err != nil {
 			return err
+		}
+		if !fast || !s.auxCached() {
+			if err := s.auxSettle(c, v); err != nil {
+				return err
+			}
 		}
 		s.extract(op, hv, frac)
 		return nil
@@ -638,7 +658,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	op.Supply = sp
 	f := s.mainsFactor(c) * v.HTVolts
 	if v.RectDead || !(p.Vrms > 0) {
-		return s.solveDead(p, sp, hv, frac, op)
+		return s.solveDead(c, v, p, sp, hv, frac, op)
 	}
 	if fast {
 		if !s.haveTh {
@@ -651,6 +671,11 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		}
 		if err := s.network(); err != nil {
 			return err
+		}
+		if !s.auxCached() {
+			if err := s.auxSettle(c, v); err != nil {
+				return err
+			}
 		}
 		sp.Vth, sp.Rth = vth, rth
 		sp.SecondaryRms = s.lastSec * f / s.nomF
@@ -715,11 +740,15 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		if err := s.setSource(vth, rth); err != nil {
 			return err
 		}
+		auxMoved, err := s.auxUpdate(c, v, it == 1)
+		if err != nil {
+			return err
+		}
 		if err := s.network(); err != nil {
 			return err
 		}
 		vNow := s.sol.V[m.nodeOf[m.HT.Nets[0]]]
-		if math.Abs(vNow-prevV) < 1e-3*max(1, math.Abs(vNow)) && math.Abs(vNow-v0) < 2e-3*max(1, math.Abs(v0)) {
+		if math.Abs(vNow-prevV) < 1e-3*max(1, math.Abs(vNow)) && math.Abs(vNow-v0) < 2e-3*max(1, math.Abs(v0)) && auxMoved < 1e-3 {
 			break
 		}
 		prevV = vNow
@@ -762,12 +791,15 @@ const DeadRectOhms = 100e6
 // filter nets see only the network's own sources. The winding's volts
 // at the rectifier plates stay at their open-circuit value when only the
 // rectifier is dead.
-func (s *Solver) solveDead(p supply.Params, sp *SupplyOP, hv map[string]float64, frac []float64, op *OP) error {
+func (s *Solver) solveDead(c Conditions, v *Values, p supply.Params, sp *SupplyOP, hv map[string]float64, frac []float64, op *OP) error {
 	m := s.m
 	if err := s.setSource(0, DeadRectOhms); err != nil {
 		return err
 	}
 	if err := s.network(); err != nil {
+		return err
+	}
+	if err := s.auxSettle(c, v); err != nil {
 		return err
 	}
 	s.stageLoads(&p, sp)
@@ -831,6 +863,7 @@ func (s *Solver) extract(op *OP, hv map[string]float64, frac []float64) {
 	m := s.m
 	op.V = append(op.V[:0], s.sol.V...)
 	op.Newton += s.sol.Iterations
+	s.auxLines(op)
 	for i, sec := range m.Sections {
 		var so SectionOP
 		so.Va, so.Vg, so.Vk = op.V[sec.P], op.V[sec.G], op.V[sec.K]

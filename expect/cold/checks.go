@@ -424,7 +424,10 @@ func (n *network) diodeNote(from, to string) string {
 				if net == p.Rect.Plus {
 					notes = append(notes, fmt.Sprintf("%s's cathodes are here: with the positive lead here the diodes are reverse-biased and the reading is as shown; with the leads swapped they conduct and the reading falls (modelled as open)", p.Ref))
 				} else {
-					notes = append(notes, fmt.Sprintf("%s's anodes are here: the reading depends on the meter's polarity (diodes modelled as open)", p.Ref))
+					// A meter's ohms range drives its positive lead
+					// positive: on an anode net that forward-biases the
+					// diodes (common practice).
+					notes = append(notes, fmt.Sprintf("%s's anodes are here: with the positive lead here the diodes conduct and the reading falls; with the positive lead on chassis (leads swapped) they are reverse-biased and the reading is as shown (modelled as open)", p.Ref))
 				}
 			case design.BiasSupply:
 				notes = append(notes, fmt.Sprintf("bias supply %s modelled as open: its rectifier may conduct with one meter polarity", p.Ref))

@@ -41,8 +41,9 @@ type Discharge struct {
 }
 
 // DischargeTimes computes the bleed-down of each HT filter capacitor
-// (m.HT.CapRefs, stage by stage) and each capacitor of 0.5 µF or more on a
-// bias-supply or bench-supply output, from the cold-start peak at
+// (m.HT.CapRefs, stage by stage), each capacitor of 0.5 µF or more on a
+// bias-supply or bench-supply output, and those of every other
+// rectifier's reservoir and filter (amp.AuxRect), from the cold-start peak at
 // mains·(1 + the design's upper mains tolerance) (mains 0: the design's
 // mains). The bias and bench supplies hold their nominal output in that
 // solve (they do not follow the mains in the model).
@@ -91,6 +92,18 @@ func DischargeTimes(d *design.Design, m *amp.Model, mains float64) ([]Discharge,
 		for _, c := range all[out] {
 			if c.Value >= 0.5e-6 {
 				addRow(c, out)
+			}
+		}
+	}
+	// A rectifier off its own winding: its reservoir and the filter
+	// capacitors behind it (nets reached through resistors, pots and
+	// chokes without passing chassis).
+	for _, a := range m.AuxRects() {
+		for _, net := range filterNets(d, a.Out) {
+			for _, c := range all[net] {
+				if c.Value >= 0.5e-6 {
+					addRow(c, net)
+				}
 			}
 		}
 	}
@@ -168,4 +181,26 @@ func isBench(d *design.Design, net string) bool {
 		}
 	}
 	return false
+}
+
+// filterNets returns from and the nets reached from it through resistors,
+// pots and chokes without passing chassis, nearest first.
+func filterNets(d *design.Design, from string) []string {
+	out := []string{from}
+	seen := map[string]bool{from: true, d.Ground: true}
+	for i := 0; i < len(out); i++ {
+		for _, u := range d.Nets[out[i]] {
+			p := d.ByRef[u.Ref]
+			if p == nil || (p.Kind != design.Resistor && p.Kind != design.Pot && p.Kind != design.Choke) {
+				continue
+			}
+			for _, t := range p.Terminals {
+				if !seen[t.Net] {
+					seen[t.Net] = true
+					out = append(out, t.Net)
+				}
+			}
+		}
+	}
+	return out
 }

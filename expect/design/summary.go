@@ -371,13 +371,24 @@ func supplyChains(d *Design) []SupplyChain {
 			outNet = p.Rect.Plus
 			topo := "full-wave centre tap"
 			anodes := p.Rect.Anodes
+			name := "HT"
 			switch {
+			case p.Rect.Bridge && p.Rect.Plus == d.Ground:
+				// A negative supply: plus to chassis, the output at minus.
+				topo, anodes, outNet, name = "bridge, plus to "+p.Rect.Plus+", negative", p.Rect.AC[:], p.Rect.Minus, "bias"
 			case p.Rect.Bridge:
 				topo, anodes = "bridge, minus to "+p.Rect.Minus, p.Rect.AC[:]
 			case len(anodes) == 1:
 				topo = "half-wave"
+				if _, w := windingOf(anodes[0]); w == nil {
+					if _, w := windingOf(p.Rect.Plus); w != nil {
+						// A negative supply: the diode's cathode on the
+						// winding, the reservoir on its anode.
+						topo, anodes, outNet, name = "half-wave, negative", []string{p.Rect.Plus}, p.Rect.Anodes[0], "bias"
+					}
+				}
 			}
-			ch = SupplyChain{Name: "HT", Source: fmt.Sprintf("%s → %s silicon rectifier, %s → %s", winding(anodes), p.Ref, topo, outNet)}
+			ch = SupplyChain{Name: name, Source: fmt.Sprintf("%s → %s silicon rectifier, %s → %s", winding(anodes), p.Ref, topo, outNet)}
 		case p.Kind == Valve && p.Valve.Type.Kind == valves.Rectifier:
 			outNet = p.Valve.Sections[""][valves.Cathode]
 			anodes := strings.Split(p.Valve.Sections[""][valves.Plates], ",")

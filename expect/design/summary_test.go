@@ -234,3 +234,20 @@ func TestSummaryValvePins(t *testing.T) {
 		t.Errorf("pins missing from the summary: %v", want)
 	}
 }
+
+// A negative bias from its own diode is a bias supply in the summary: it
+// starts at the diode's anode (the reservoir), not at the winding.
+func TestSummaryDiodeBiasChain(t *testing.T) {
+	tp, err := design.TemplateByName("pp-diode-bias")
+	if err != nil {
+		t.Fatal(err)
+	}
+	s, _ := summarize(t, string(tp.Text))
+	if len(s.Supplies) != 2 || s.Supplies[0].Name != "HT" || s.Supplies[1].Name != "bias" {
+		t.Fatalf("supplies %+v, want HT then bias", s.Supplies)
+	}
+	b := s.Supplies[1]
+	if !strings.Contains(b.Source, "winding BIAS") || len(b.Stages) != 2 || b.Stages[0].Net != "NBR" || b.Stages[1].Net != "NB" {
+		t.Errorf("bias supply %q, stages %+v: want the BIAS winding into NBR then NB", b.Source, b.Stages)
+	}
+}

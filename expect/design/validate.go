@@ -81,6 +81,11 @@ func (l *loader) checkSupply(d *Design) {
 			anodes = p.Rect.AC[:]
 		case p.Kind == Rectifier:
 			anodes = p.Rect.Anodes
+			if len(anodes) == 1 && winding[anodes[0]] == nil && winding[p.Rect.Plus] != nil {
+				// A negative supply (grid bias): the half-wave diode's
+				// cathode on the winding, its anode on the reservoir.
+				anodes = []string{p.Rect.Plus}
+			}
 		case p.Kind == Valve && p.Valve.Type.Kind == valves.Rectifier:
 			anodes = strings.Split(p.Valve.Sections[""][valves.Plates], ",")
 		default:

@@ -9,7 +9,7 @@ import (
 	"pinwalk/expect/supply"
 )
 
-// Silicon rectifier faults (only the HT rectifier is modelled):
+// Silicon rectifier faults of the HT rectifier:
 //
 //	open       every diode: nothing reaches the filter (RectDead)
 //	half-open  one diode of a full-wave centre-tap rectifier: half-wave
@@ -29,10 +29,40 @@ import (
 //	           depends on the meter's polarity and volts), so only the
 //	           short shows.
 //
+// A rectifier that is not the HT one (a bias or DC supply off its own
+// winding, amp.AuxRect) has its own rows:
+//
+//	open       its diode(s) open: the supply gives nothing; for a grid-bias
+//	           supply the output valves then have no bias and red-plate
+//	           (the walk's bias rules stop on it)
+//	short      one diode shorted: the winding's AC goes straight onto the
+//	           reservoir (an electrolytic driven both ways, which heats and
+//	           vents) and its mean is gone: no DC out, AC on the bias line.
+//	           The winding is loaded by the reservoir's reactance (about
+//	           32 Ω for 100 µF at 50 Hz), amps on a small winding but
+//	           a fraction of an amp reflected to the primary, so the mains
+//	           fuse need not blow (Ohm's law on the reactance). Modelled
+//	           live as the supply giving nothing (the walk's bias rules
+//	           stop on it); cold, the diode's ends joined.
+//
 // Silicon diodes fail short more often than open (common practice for
 // the weights).
 func init() {
 	isHT := func(m *amp.Model, p *design.Part) bool { return m.HT != nil && m.HT.Rectifier == p }
+	isAux := func(m *amp.Model, p *design.Part) bool { return m.AuxRectOf(p.Ref) != nil }
+	auxOpen := func(v *amp.Values, t Target) {
+		if v.AuxOpen == nil {
+			v.AuxOpen = map[string]bool{}
+		}
+		v.AuxOpen[t.Part.Ref] = true
+	}
+	auxWords := func(t Target, what string) string {
+		a := t.M.AuxRectOf(t.Part.Ref)
+		if a != nil && a.Sign < 0 {
+			return partName(t) + " " + what + " (no grid bias: the output valves red-plate)"
+		}
+		return partName(t) + " " + what + " (its DC supply gives nothing)"
+	}
 	register(Kind{
 		Kind: design.Rectifier,
 		Healthy: func(p *design.Part) OutReading {
@@ -57,27 +87,46 @@ func init() {
 				},
 				Confirm: confirmDiodes, Replace: replaceDiodes},
 			{Mode: Short, Prior: 1, Applies: isHT, PoweredShort: true,
-				Live: func(v *amp.Values, t Target) { blowFuse(t.M, v) },
-				Cold: func(n ColdNet, t Target) {
-					r := t.Part.Rect
-					if r == nil {
-						return
-					}
-					a := r.AC[0]
-					if !r.Bridge && len(r.Anodes) > 0 {
-						a = r.Anodes[0]
-					}
-					if a != "" && r.Plus != "" {
-						n.Add(ColdEdge{A: a, B: r.Plus, Ohms: ColdShortOhms, Ref: t.Part.Ref})
-					}
-				},
+				Live:     func(v *amp.Values, t Target) { blowFuse(t.M, v) },
+				Cold:     shortFirstDiode,
 				Describe: said("one diode shorted (shorts the HT winding: the mains fuse blows)"),
 				OutOfCircuit: func(t Target) OutReading {
 					return OutReading{Ohms: OutShortOhms, OK: true, Words: "one diode near 0 both ways"}
 				},
 				Confirm: confirmDiodes, Replace: replaceDiodes},
+			{Mode: Open, Prior: 0.3, Applies: isAux,
+				Live:     auxOpen,
+				Describe: func(t Target) string { return auxWords(t, "open") },
+				OutOfCircuit: func(t Target) OutReading {
+					return OutReading{Ohms: math.Inf(1), OK: true, Words: "open both ways"}
+				},
+				Confirm: confirmDiodes, Replace: replaceDiodes},
+			{Mode: Short, Prior: 1, Applies: isAux,
+				Live:     auxOpen,
+				Cold:     shortFirstDiode,
+				Describe: func(t Target) string { return auxWords(t, "shorted, AC on its output") },
+				OutOfCircuit: func(t Target) OutReading {
+					return OutReading{Ohms: OutShortOhms, OK: true, Words: "near 0 both ways"}
+				},
+				Confirm: confirmDiodes, Replace: replaceDiodes},
 		},
 	})
+}
+
+// shortFirstDiode joins the ends of a rectifier's first diode in the cold
+// network.
+func shortFirstDiode(n ColdNet, t Target) {
+	r := t.Part.Rect
+	if r == nil {
+		return
+	}
+	a := r.AC[0]
+	if !r.Bridge && len(r.Anodes) > 0 {
+		a = r.Anodes[0]
+	}
+	if a != "" && r.Plus != "" {
+		n.Add(ColdEdge{A: a, B: r.Plus, Ohms: ColdShortOhms, Ref: t.Part.Ref})
+	}
 }
 
 func confirmDiodes(t Target) string {

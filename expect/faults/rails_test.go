@@ -74,6 +74,12 @@ func supplyRails(t *testing.T, m *amp.Model) rails {
 		}
 		hi = math.Max(hi, supply.ColdPeak(p))
 	}
+	// A rectifier off its own winding charges its reservoir to the
+	// winding's peak less the diodes' drop, either way.
+	for _, a := range m.AuxRects() {
+		pk := math.Sqrt2*a.VrmsOC - a.Rect.Vf
+		lo, hi = math.Min(lo, a.Sign*pk), math.Max(hi, a.Sign*pk)
+	}
 	return rails{lo: lo - contactPotential, hi: hi}
 }
 

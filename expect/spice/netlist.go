@@ -131,6 +131,7 @@ func export(m *amp.Model, c amp.Conditions, v *amp.Values) (*Netlist, error) {
 		return nil, err
 	}
 	n.windings(m, f)
+	n.auxRectifiers(m)
 	n.parts(m, v, f)
 	n.sections(m, s, c, v)
 	n.regulators(m, c, v)
@@ -749,15 +750,30 @@ func ReservoirStart(d *design.Design) (map[string]float64, error) {
 	if err != nil {
 		return nil, err
 	}
-	if m.HT == nil {
+	if m.HT == nil && len(m.AuxRects()) == 0 {
 		return map[string]float64{}, nil
 	}
 	var op amp.OP
 	if err := amp.NewSolver(m).Solve(amp.Conditions{}, m.NominalValues(), false, &op); err != nil {
 		return nil, err
 	}
-	v, _ := m.NetVolts(&op, m.HT.Nets[0])
-	return map[string]float64{m.HT.Nets[0]: v}, nil
+	return Reservoirs(m, &op), nil
+}
+
+// Reservoirs returns the volts of every rectifier's reservoir in a
+// solution: the HT's first filter net and each other rectifier's.
+func Reservoirs(m *amp.Model, op *amp.OP) map[string]float64 {
+	out := map[string]float64{}
+	if m.HT != nil {
+		v, _ := m.NetVolts(op, m.HT.Nets[0])
+		out[m.HT.Nets[0]] = v
+	}
+	for _, a := range m.AuxRects() {
+		if v, ok := m.NetVolts(op, a.Out); ok {
+			out[a.Out] = v
+		}
+	}
+	return out
 }
 
 func firstLine(s string) string {
@@ -765,4 +781,38 @@ func firstLine(s string) string {
 		return s[:i]
 	}
 	return s
+}
+
+// auxRectifiers writes each rectifier other than the HT one as its
+// diodes (the library's silicon diode) on its winding, whose source
+// windings has written; its reservoir and filter are among the parts.
+func (n *Netlist) auxRectifiers(m *amp.Model) {
+	aux := m.AuxRects()
+	if len(aux) == 0 {
+		return
+	}
+	n.section("other rectifiers (bias and DC supplies off their own windings)")
+	for _, a := range aux {
+		rp := a.Rectifier
+		dd := rp.Rect.Diode
+		model := n.elem("DM", rp.Ref)
+		polarity := "positive"
+		if a.Sign < 0 {
+			polarity = "negative"
+		}
+		n.comment("%s: silicon rectifier %q, %s, %s output at %s, Shockley's law with series resistance", rp.Ref, dd.Name, a.Topology, polarity, a.Out)
+		n.line(".model %s D(IS=%s N=%s RS=%s CJO=%s)", model, num(dd.Is), num(dd.N), num(dd.Rs), num(diodeCJO))
+		if rp.Rect.Bridge {
+			plus, minus := n.node(rp.Rect.Plus), n.node(rp.Rect.Minus)
+			for i, ac := range rp.Rect.AC {
+				x := n.node(ac)
+				n.line("%s %s %s %s", n.elem("D", fmt.Sprintf("%s_%d", rp.Ref, 2*i+1)), x, plus, model)
+				n.line("%s %s %s %s", n.elem("D", fmt.Sprintf("%s_%d", rp.Ref, 2*i+2)), minus, x, model)
+			}
+			continue
+		}
+		for _, an := range rp.Rect.Anodes {
+			n.line("%s %s %s %s", n.elem("D", rp.Ref+"_"+an), n.node(an), n.node(rp.Rect.Plus), model)
+		}
+	}
 }

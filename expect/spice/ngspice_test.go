@@ -141,6 +141,25 @@ func TestAgreesWithNgspiceOnAVariac(t *testing.T) {
 	runComparisons(t, ds, amp.Conditions{Variac: 0.6}, variacCycles)
 }
 
+// TestAuxRectifierAgreesWithNgspice: the template whose grid bias comes
+// from its own winding through a silicon diode, at nominal mains and at
+// 60 % variac (where the bias falls with the winding's peak), against the
+// simulator with the diode, the winding and the reservoir written out.
+func TestAuxRectifierAgreesWithNgspice(t *testing.T) {
+	needSimulator(t)
+	var ds []*design.Design
+	for _, d := range allDesigns(t) {
+		if d.File == "template:pp-diode-bias" {
+			ds = append(ds, d)
+		}
+	}
+	if len(ds) != 1 {
+		t.Fatalf("found %d templates pp-diode-bias", len(ds))
+	}
+	runComparisons(t, ds, amp.Conditions{}, simCycles)
+	runComparisons(t, ds, amp.Conditions{Variac: 0.6}, variacCycles)
+}
+
 // runComparisons compares each design under conditions c, two simulations
 // at a time, logs the table and reports every failure.
 func runComparisons(t *testing.T, ds []*design.Design, c amp.Conditions, cycles int) {
@@ -210,12 +229,11 @@ func compareDesign(d *design.Design, c amp.Conditions, cycles int) *comparison {
 		return fail("export: %v", err)
 	}
 	opt := DeckOptions{Cycles: cycles, Average: avgCycles, StepsPerCycle: stepsPerCycle}
-	if m.HT != nil {
-		// Start with the reservoir at pinwalk's volts (see DeckOptions.Initial);
+	if m.HT != nil || len(m.AuxRects()) > 0 {
+		// Start with the reservoirs at pinwalk's volts (see DeckOptions.Initial);
 		// the settling check below judges whether the run then reached its own
 		// periodic steady state.
-		v, _ := m.NetVolts(set.NominalOP, m.HT.Nets[0])
-		opt.Initial = map[string]float64{m.HT.Nets[0]: v}
+		opt.Initial = Reservoirs(m, set.NominalOP)
 	}
 	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Minute)
 	defer cancel()
