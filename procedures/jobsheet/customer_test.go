@@ -312,7 +312,7 @@ func TestBenchSheetListsNotModelled(t *testing.T) {
 		t.Fatal(err)
 	}
 	md := b.String()
-	for _, want := range []string{"Not in the ranking", "heater-to-cathode leak", "gassy valve"} {
+	for _, want := range []string{"Not in the ranking", "heater-to-cathode leak", "valve internal short"} {
 		if !strings.Contains(md, want) {
 			t.Errorf("bench sheet lacks %q", want)
 		}
