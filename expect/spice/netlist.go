@@ -134,6 +134,7 @@ func export(m *amp.Model, c amp.Conditions, v *amp.Values) (*Netlist, error) {
 	n.parts(m, v, f)
 	n.sections(m, s, c, v)
 	n.regulators(m, c, v)
+	n.diodes(m, s, c, v)
 	n.heaters(m, v, f)
 	// Probes: every net of pinwalk's network, then electrode currents
 	// (added by sections).
@@ -563,6 +564,26 @@ func (n *Netlist) sections(m *amp.Model, s *amp.Solver, c amp.Conditions, v *amp
 			n.line("%s %s %s I = %s", n.elem("B", name+"_ip"), pp, kn, triodeIp(k, vgk, vpk, lims[i]))
 		}
 		n.line("%s %s %s I = %s", n.elem("B", name+"_ig"), gp, kn, gridIg(k, vgk))
+	}
+}
+
+// diodes writes each signal-diode plate as pinwalk solves it: its series
+// slot (the plate's open fault) and the Child–Langmuir law with the
+// contact potential as a behavioural source, plate to cathode.
+func (n *Netlist) diodes(m *amp.Model, s *amp.Solver, c amp.Conditions, v *amp.Values) {
+	if len(m.Diodes) == 0 {
+		return
+	}
+	n.section("signal diodes (Child-Langmuir with contact potential)")
+	scales := s.DiodeScales(c, v)
+	for i, d := range m.Diodes {
+		name := fmt.Sprintf("%s%s%d", d.Ref, d.Section, d.Index+1)
+		n.comment("%s: %s diode plate %d, perveance %s A/V^1.5, contact potential %s V, emission share %s",
+			name, d.Type.Name, d.Index+1, num(d.Type.Perveance), num(d.Type.ContactVolts), num(scales[i]))
+		a := n.inner(clean(name) + "_d")
+		n.resistor(name+"_rs", n.node(d.Plate), a, v.Slot[d.Slot], "series slot")
+		vak := fmt.Sprintf("V(%s,%s)", a, n.node(d.Cathode))
+		n.line("%s %s %s I = %s", n.elem("B", name), a, n.node(d.Cathode), signalDiode(vak, d.Type.Perveance, d.Type.ContactVolts, scales[i]))
 	}
 }
 
