@@ -102,3 +102,15 @@ func (s *Solver) DiodeScales(c Conditions, v *Values) []float64 {
 	}
 	return out
 }
+
+// diodeCathodeAmps is the current of a valve's signal diodes returning
+// through the cathode pin of a point (they share the other section's).
+func (m *Model) diodeCathodeAmps(op *OP, pd PointDef) float64 {
+	var sum float64
+	for _, d := range m.Diodes {
+		if d.Ref == pd.Valve && d.Cathode == pd.Net {
+			sum += m.DiodeCurrent(op, d)
+		}
+	}
+	return sum
+}

@@ -102,4 +102,19 @@ func TestDiodeForward(t *testing.T) {
 	if math.Abs(got-want) > 2e-3 {
 		t.Errorf("forward diode %.4f V against the closed form %.4f V", got, want)
 	}
+	// The diodes share the triode's cathode pin (pin 2): its current is
+	// the triode's and the diodes' (Kirchhoff's current law); the diode
+	// current is the feed's, (B2 − V)/R.
+	for _, pd := range m.Points() {
+		if pd.ID == "V1.2" && pd.Quantity == DCAmps {
+			ik := m.Value(op, pd)
+			tri := op.Sections[pd.Section].Ik
+			feed := (b2 - got) / r
+			if math.Abs(ik-tri-feed-m.DiodeCurrent(op, m.Diodes[0])) > 1e-3*ik {
+				t.Errorf("cathode pin %.4g A: triode %.4g A, feed %.4g A", ik, tri, feed)
+			}
+			return
+		}
+	}
+	t.Error("no cathode current point V1.2")
 }

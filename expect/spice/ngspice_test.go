@@ -267,6 +267,14 @@ func compareDesign(d *design.Design, c amp.Conditions, cycles int) *comparison {
 					names = append(names, name)
 				}
 			}
+			if pd.Electrode == valves.Cathode {
+				// Signal-diode plates return through the shared cathode pin.
+				for _, p := range nl.Probes {
+					if p.Section == sec && p.Electrode == valves.Plates {
+						names = append(names, p.Name)
+					}
+				}
+			}
 			if len(names) == 0 {
 				return fail("%s: no current probe for %s %s", pd.Label, sec, pd.Electrode)
 			}
