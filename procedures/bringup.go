@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
 	"strings"
 
 	"pinwalk/expect/amp"
@@ -573,12 +574,15 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 				v.Valve.Type.Name, units.Format(g.MaintainVolts, units.Volts), units.Format(g.StrikeVolts, units.Volts))
 			st.StopIf = []string{"the regulator flickers or its glow jumps about (it is oscillating: too much capacitance across it or too little current)"}
 		}
+		if dp := diodePins(b, v.Ref); dp != "" {
+			st.Why += fmt.Sprintf(" The diode plates (%s) are a detector's: with no signal they read about 0 V, a few tenths of a volt negative on a 10 MΩ meter (the diodes collect a little current on their own); a volt or more positive means B+ is reaching the detector (a leaky capacitor), and 0 V exactly with the triode working can mean an open diode.", dp)
+		}
 		for _, pd := range pts {
 			if pd.Valve != v.Ref || pd.Quantity != amp.DCVolts || pd.Net == b.D.Ground {
 				continue
 			}
 			switch pd.Electrode {
-			case valves.Plate, valves.Screen, valves.Cathode, valves.Grid, valves.Anode:
+			case valves.Plate, valves.Screen, valves.Cathode, valves.Grid, valves.Anode, valves.Plates:
 			default:
 				continue
 			}
@@ -792,4 +796,28 @@ func (b *BenchModel) inString(ref string) bool {
 		}
 	}
 	return false
+}
+
+// diodePins names the pins of a valve's wired signal-diode plates ("pins
+// 5 and 6"), "" when it has none in the network.
+func diodePins(b *BenchModel, ref string) string {
+	var pins []string
+	for _, d := range b.M.Diodes {
+		if d.Ref != ref {
+			continue
+		}
+		p := b.D.ByRef[ref]
+		for i, pn := range p.Valve.Type.PinsOf(d.Section, valves.Plates) {
+			if i == d.Index {
+				pins = append(pins, strconv.Itoa(pn))
+			}
+		}
+	}
+	switch len(pins) {
+	case 0:
+		return ""
+	case 1:
+		return "pin " + pins[0]
+	}
+	return "pins " + strings.Join(pins[:len(pins)-1], ", ") + " and " + pins[len(pins)-1]
 }

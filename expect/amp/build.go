@@ -78,6 +78,8 @@ type Model struct {
 	Heaters  []Heater
 	// Regulators are the gas regulator valves (struck) in the network.
 	Regulators []*Regulator
+	// Diodes are the plates of wired signal-diode sections.
+	Diodes []*DiodePlate
 	// String is the series heater string of a transformerless set (nil
 	// when the heaters are on windings); DropSlots are its droppers'
 	// value slots.
@@ -352,6 +354,10 @@ func (m *Model) addValve(p *design.Part) {
 		// A multi-function valve's section takes the kind, model and
 		// limits of its unit type; the name and pins stay the valve's.
 		st := vt.SectionType(s, m.D.SideValves)
+		if st != nil && st.Kind == valves.Diode && st.Wireable() {
+			m.addDiodes(p, s, st)
+			continue
+		}
 		if st == nil || (st.Kind != valves.Triode && st.Kind != valves.Pentode) {
 			continue // the loader refuses wired sections it cannot model
 		}

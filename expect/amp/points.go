@@ -209,7 +209,7 @@ func (m *Model) rawValue(op *OP, pd PointDef) float64 {
 		case valves.Grid:
 			return so.Ig
 		case valves.Cathode:
-			return so.Ik
+			return so.Ik + m.diodeCathodeAmps(op, pd)
 		}
 	case ACVolts:
 		if pd.Electrode == valves.Plates {

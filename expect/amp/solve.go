@@ -495,6 +495,7 @@ func (s *Solver) applyValues(c Conditions, v *Values, heaterVolts map[string]flo
 		}
 	}
 	lim, frac := s.emissionLimits(c, v, heaterVolts)
+	s.diodeEmission(c, frac)
 	for i, sec := range m.Sections {
 		if sec.tri != nil {
 			sec.tri.Model = v.Koren[i]

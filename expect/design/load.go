@@ -1482,7 +1482,7 @@ func (l *loader) valve(d *Design, p *Part, kv *yaml.Node, fields map[string]*yam
 				}
 				continue
 			}
-			if st := vt.SectionType(sec, l.sideValves); st == nil || !st.Kind.Modelled() {
+			if st := vt.SectionType(sec, l.sideValves); st == nil || !st.Wireable() {
 				what := "its unit type is missing"
 				if st != nil {
 					what = "its " + kindWords(st.Kind) + " are not yet modelled"

@@ -49,6 +49,17 @@ import (
 //	             fails this way about half as often as it wears weak
 //	             (common practice).
 //
+// A diode-triode's wired signal diodes (subpart D, "V1.D"):
+//
+//	open         the diode section open inside the valve (a broken plate
+//	             lead or weld): its plates collect nothing, so a detector
+//	             gives no audio and an AGC line no control volts; at rest
+//	             the detector plate reads 0 V instead of a few tenths
+//	             negative. Signal diodes seldom fail on their own: a
+//	             tenth of the valve's weak weight (common practice). The
+//	             valve's dead and heater-open modes stop the diodes too
+//	             (no emission).
+//
 // A gas regulator:
 //
 //	dead         will not strike (gas gone, an electrode open): dark, it
@@ -91,8 +102,9 @@ func init() {
 	regulator := func(m *amp.Model, p *design.Part) bool { return regulatorOf(m, p.Ref) != nil }
 	outPrior := func(w float64) []RolePrior { return []RolePrior{{RoleOutput, w}} }
 	register(Kind{
-		Kind:  design.Valve,
-		Value: func(p *design.Part) string { return p.Valve.Type.Name },
+		Kind:     design.Valve,
+		Subparts: diodeSections,
+		Value:    func(p *design.Part) string { return p.Valve.Type.Name },
 		Healthy: func(p *design.Part) OutReading {
 			return OutReading{Ohms: math.NaN(), Words: "good on a valve tester, its heater continuous"}
 		},
@@ -187,6 +199,24 @@ func init() {
 					return fmt.Sprintf("Fit a new %s in %s; if the socket shows a carbon track between pins, replace the socket too. Keep the reservoir capacitor within the valve's rated maximum and fit a new fuse of the rated value, no larger; a rectifier that arced may have taken the reservoir capacitor with it: check it for a short first."+lampFirst,
 						p.Valve.Type.Name, p.Ref)
 				}},
+			// Signal-diode sections.
+			{Mode: Open, Subparts: []string{"D"}, Prior: 0.2,
+				Applies: func(m *amp.Model, p *design.Part) bool { return len(diodesOf(m, p.Ref)) > 0 },
+				Live: func(v *amp.Values, t Target) {
+					for _, d := range diodesOf(t.M, t.Part.Ref) {
+						v.Slot[d.Slot] = math.Inf(1)
+					}
+				},
+				Describe: func(t Target) string {
+					return fmt.Sprintf("%s (%s) diode section open: its plates collect nothing (no detected audio, no AGC volts)", t.Ref(), t.Part.Valve.Type.Name)
+				},
+				OutOfCircuit: testerReads("no emission on the diode test of a valve tester"),
+				Confirm: func(t Target) string {
+					p := t.Part
+					return fmt.Sprintf(unplugged+"test %s on a valve tester's diode test, each diode plate in turn, or swap it for a known-good %s: with no signal a working detector's plate reads a few tenths of a volt negative on a 10 MΩ meter, an open one 0 V."+confirmed,
+						p.Ref, p.Valve.Type.Name)
+				},
+				Replace: replaceValve},
 			// Gas regulators.
 			{Mode: Dead, Applies: regulator, Prior: 1,
 				Live: func(v *amp.Values, t Target) {
@@ -285,4 +315,32 @@ func replaceValve(t Target) string {
 func replaceRectValve(t Target) string {
 	p := t.Part
 	return fmt.Sprintf("Fit a known-good %s in %s; keep the reservoir capacitor within the valve's rated maximum.", p.Valve.Type.Name, p.Ref)
+}
+
+// diodeSections names a valve's wired signal-diode sections ("D").
+func diodeSections(p *design.Part) []string {
+	vp := p.Valve
+	if vp == nil {
+		return nil
+	}
+	var out []string
+	for sec, e := range vp.Sections {
+		if vp.Unused[sec] || e[valves.Plates] == "" {
+			continue
+		}
+		if st := vp.Type.SectionType(sec, nil); st != nil && st.Kind == valves.Diode {
+			out = append(out, sec)
+		}
+	}
+	return out
+}
+
+func diodesOf(m *amp.Model, ref string) []*amp.DiodePlate {
+	var out []*amp.DiodePlate
+	for _, d := range m.Diodes {
+		if d.Ref == ref {
+			out = append(out, d)
+		}
+	}
+	return out
 }

@@ -63,7 +63,17 @@ func funcs() string {
 	// valves.RectifierDevice.Current: I = G·V^1.5 for V > 0 plus gmin·V.
 	w("Child-Langmuir rectifier anode, amps (valves.RectifierDevice): g*V^1.5 for V > 0",
 		"pw_child(vak, g) {vak > 0 ? g*pwr(vak, 1.5) : 0}")
+	// valves.SignalDiodeDevice.Current: I = s·G·(V+c)^1.5 for V+c > 0 plus gmin·V.
+	w("Child-Langmuir signal diode plate, amps (valves.SignalDiodeDevice): s*g*(V+c)^1.5 for V+c > 0, c the contact potential",
+		"pw_sdiode(vak, g, c, s) {vak + c > 0 ? s*g*pwr(vak + c, 1.5) : 0}")
 	return b.String()
+}
+
+// signalDiode returns the behavioural expression of one signal-diode
+// plate: perveance g, contact potential c, emission share s, plus the
+// leakage valves.SignalDiodeDevice adds.
+func signalDiode(vak string, g, c, s float64) string {
+	return fmt.Sprintf("pw_sdiode(%s, %s, %s, %s) + %s*%s", vak, num(g), num(c), num(s), num(gminSiemens), vak)
 }
 
 // num formats a model parameter.

@@ -135,6 +135,7 @@ func export(m *amp.Model, c amp.Conditions, v *amp.Values) (*Netlist, error) {
 	n.parts(m, v, f)
 	n.sections(m, s, c, v)
 	n.regulators(m, c, v)
+	n.diodes(m, s, c, v)
 	n.heaters(m, v, f)
 	// Probes: every net of pinwalk's network, then electrode currents
 	// (added by sections).
@@ -565,6 +566,43 @@ func (n *Netlist) sections(m *amp.Model, s *amp.Solver, c amp.Conditions, v *amp
 		}
 		n.line("%s %s %s I = %s", n.elem("B", name+"_ig"), gp, kn, gridIg(k, vgk))
 	}
+}
+
+// diodes writes each signal-diode plate as pinwalk solves it: its series
+// slot (the plate's open fault) and the Child–Langmuir law with the
+// contact potential as a behavioural source, plate to cathode.
+func (n *Netlist) diodes(m *amp.Model, s *amp.Solver, c amp.Conditions, v *amp.Values) {
+	if len(m.Diodes) == 0 {
+		return
+	}
+	n.section("signal diodes (Child-Langmuir with contact potential)")
+	scales := s.DiodeScales(c, v)
+	for i, d := range m.Diodes {
+		name := fmt.Sprintf("%s%s%d", d.Ref, d.Section, d.Index+1)
+		n.comment("%s: %s diode plate %d, perveance %s A/V^1.5, contact potential %s V, emission share %s",
+			name, d.Type.Name, d.Index+1, num(d.Type.Perveance), num(d.Type.ContactVolts), num(scales[i]))
+		a := n.inner(clean(name) + "_d")
+		b := n.inner(clean(name) + "_dp")
+		n.resistor(name+"_rs", n.node(d.Plate), a, v.Slot[d.Slot], "series slot")
+		// The plate current, measured: it returns through the cathode pin
+		// the diodes share with the valve's other section.
+		src := n.elem("V", name+"_i")
+		n.line("%s %s %s dc 0", src, a, b)
+		n.Probes = append(n.Probes, Probe{Name: "i_" + strings.ToLower(src), Section: cathodeSection(m, d), Electrode: valves.Plates, expr: "i(" + src + ")"})
+		vak := fmt.Sprintf("V(%s,%s)", b, n.node(d.Cathode))
+		n.line("%s %s %s I = %s", n.elem("B", name), b, n.node(d.Cathode), signalDiode(vak, d.Type.Perveance, d.Type.ContactVolts, scales[i]))
+	}
+}
+
+// cathodeSection names the section whose cathode a diode plate shares
+// ("V1T"), "" when none is in the network.
+func cathodeSection(m *amp.Model, d *amp.DiodePlate) string {
+	for _, sec := range m.Sections {
+		if sec.Ref == d.Ref && m.D.ByRef[sec.Ref].Valve.Sections[sec.Section][valves.Cathode] == d.Cathode {
+			return sec.Name()
+		}
+	}
+	return ""
 }
 
 // regulators writes each gas regulator as pinwalk solves it, struck

@@ -285,6 +285,14 @@ func compareDesign(d *design.Design, c amp.Conditions, cycles int) *comparison {
 					names = append(names, name)
 				}
 			}
+			if pd.Electrode == valves.Cathode {
+				// Signal-diode plates return through the shared cathode pin.
+				for _, p := range nl.Probes {
+					if p.Section == sec && p.Electrode == valves.Plates {
+						names = append(names, p.Name)
+					}
+				}
+			}
 			if len(names) == 0 {
 				return fail("%s: no current probe for %s %s", pd.Label, sec, pd.Electrode)
 			}
@@ -459,6 +467,20 @@ func TestDeviceLawsMatchGo(t *testing.T) {
 		// The supply simulation clips a cool filament's current.
 		lim := 0.05
 		add(rectifierAnode("V(a)", rect.Perveance, lim), v, 0, 0, math.Min(i-1e-12*v, lim)+1e-12*v)
+	}
+	// The 6AV6's detector diodes: through the contact potential (the
+	// plate a little negative), across the knee and forward.
+	av6, ok := valves.Lookup("6AV6")
+	if !ok {
+		t.Fatal("no 6AV6 in the library")
+	}
+	du := av6.SectionType("D", nil)
+	for _, v := range []float64{-20, -0.6, -0.4, 0, 0.3, 5, 40} {
+		for _, sc := range []float64{1, 0.3} {
+			dev := valves.SignalDiodeDevice{Perveance: du.Perveance, Contact: du.ContactVolts, Scale: sc}
+			i, _ := dev.Current(v)
+			add(signalDiode("V(a)", du.Perveance, du.ContactVolts, sc), v, 0, 0, i)
+		}
 	}
 	var b strings.Builder
 	b.WriteString("* device laws against expect/valves\n")

@@ -135,3 +135,39 @@ func (d *RectifierDevice) Current(vak float64) (i, g float64) {
 	}
 	return i, g
 }
+
+// SignalDiodeDevice is one plate of a signal (detector) diode between nodes
+// A (plate) and K (cathode): Child–Langmuir, I = Scale·Perveance·(V+Contact)^1.5
+// for V+Contact > 0, with the tiny leakage conductance of the rectifier.
+// Contact is the contact potential that lets the plate collect electrons
+// (the initial-velocity current) until it sits that far below the cathode,
+// so a detector returned to its cathode through a resistor reads a little
+// negative with no signal. Scale is the cathode's emission share (1 hot, 0
+// cold).
+type SignalDiodeDevice struct {
+	A, K               int
+	Perveance, Contact float64
+	Scale              float64
+}
+
+// Terminals returns the node indices in the order plate, cathode.
+func (d *SignalDiodeDevice) Terminals() []int { return []int{d.A, d.K} }
+
+// Eval writes terminal currents and their Jacobian for voltages v = (Va, Vk).
+func (d *SignalDiodeDevice) Eval(v, cur, jac []float64) {
+	i, g := d.Current(v[0] - v[1])
+	cur[0], cur[1] = i, -i
+	jac[0], jac[1], jac[2], jac[3] = g, -g, -g, g
+}
+
+// Current returns the plate current (amps) and dI/dV (siemens) at a
+// plate-to-cathode voltage vak (volts).
+func (d *SignalDiodeDevice) Current(vak float64) (i, g float64) {
+	i, g = gminSiemens*vak, gminSiemens
+	if x := vak + d.Contact; x > 0 && d.Perveance > 0 && d.Scale > 0 {
+		sq := math.Sqrt(x)
+		i += d.Scale * d.Perveance * x * sq
+		g += 1.5 * d.Scale * d.Perveance * sq
+	}
+	return i, g
+}

@@ -388,8 +388,24 @@ func FitPerveance(rows []Row) (float64, error) {
 	return math.Exp(s / float64(len(rows))), nil
 }
 
+// FitDiodePerveance fits a signal-diode unit's G of I = G·(V+contact)^1.5
+// to its rows (plate volts from the cathode, plate current): the rows are
+// what the plate passes, contact potential included.
+func FitDiodePerveance(rows []Row, contact float64) (float64, error) {
+	shifted := make([]Row, len(rows))
+	for i, r := range rows {
+		shifted[i] = r
+		shifted[i].Va = r.Va + contact
+	}
+	return FitPerveance(shifted)
+}
+
 // FitType refits a type's model (or perveance) from its rows and start set.
 func FitType(t *Type) (Koren, float64, FitReport, error) {
+	if t.Kind == Diode {
+		g, err := FitDiodePerveance(t.Rows, t.ContactVolts)
+		return Koren{}, g, FitReport{}, err
+	}
 	if t.Kind == Rectifier {
 		g, err := FitPerveance(t.Rows)
 		return Koren{}, g, FitReport{}, err
@@ -460,8 +476,8 @@ func Refit(file string, src []byte) ([]byte, []FitReport, error) {
 			rep.Name = cur.Name
 			reps = append(reps, rep)
 			done[cur.Name] = true
-		} else if m := rePervLine.FindStringSubmatch(ln); m != nil && cur.Kind == Rectifier {
-			g, err := FitPerveance(cur.Rows)
+		} else if m := rePervLine.FindStringSubmatch(ln); m != nil && (cur.Kind == Rectifier || cur.Kind == Diode) {
+			_, g, _, err := FitType(cur)
 			if err != nil {
 				return nil, nil, fmt.Errorf("%s:%d: %s: %w", file, i+1, cur.Name, err)
 			}

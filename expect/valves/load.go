@@ -35,6 +35,7 @@ type valveDoc struct {
 	Start       *Koren            `yaml:"start"`
 	Model       *Koren            `yaml:"model"`
 	PerveanceMA float64           `yaml:"perveance_ma"` // mA/V^1.5
+	ContactV    float64           `yaml:"contact_v"`    // diode units: contact potential, volts
 	Rows        []rowDoc          `yaml:"rows"`
 	Units       map[string]string `yaml:"units"`
 	Unit        bool              `yaml:"unit"`
@@ -413,6 +414,45 @@ func (d decoder) buildType(v *valveDoc, vn *yaml.Node, p string, fit bool) (*Typ
 	return t, nil
 }
 
+// buildDiodeUnit reads a signal-diode unit: its rows (plate volts and
+// current), its Child–Langmuir perveance (perveance_ma, or fitted from the
+// rows) and its contact potential (contact_v, 0–1 V). A unit with none of
+// them is library data only: a design cannot wire it.
+func (d decoder) buildDiodeUnit(t *Type, v *valveDoc, vn *yaml.Node, p string, fit bool) (*Type, error) {
+	at := func(key string, err error) error {
+		return d.errAt(keyNode(vn, key), p+"."+key, err)
+	}
+	if v.Model != nil || v.Start != nil {
+		return nil, at("model", errors.New("diode units take perveance_ma, not a Koren model"))
+	}
+	if !(v.ContactV >= 0 && v.ContactV <= 1) {
+		return nil, at("contact_v", errors.New("must be within 0..1 V"))
+	}
+	t.ContactVolts = v.ContactV
+	rowsNode := keyNode(vn, "rows")
+	for i, r := range v.Rows {
+		if !(r.Va > 0) || !(r.IaMA > 0) {
+			return nil, d.errAt(rowsNode.Content[i], fmt.Sprintf("%s.rows[%d]", p, i), errors.New("va and ia_ma must be positive"))
+		}
+		t.Rows = append(t.Rows, Row{Va: r.Va, Ia: r.IaMA * 1e-3, Source: r.Source})
+	}
+	t.Perveance = v.PerveanceMA * 1e-3
+	if !(t.Perveance >= 0) {
+		return nil, at("perveance_ma", errors.New("must be positive"))
+	}
+	if t.Perveance == 0 && len(t.Rows) > 0 {
+		if !fit {
+			return nil, at("perveance_ma", errors.New("missing (and no fit on this load)"))
+		}
+		g, err := FitDiodePerveance(t.Rows, t.ContactVolts)
+		if err != nil {
+			return nil, at("rows", err)
+		}
+		t.Perveance = g
+	}
+	return t, nil
+}
+
 // buildUnit reads a section type of a multi-function valve: name, kind,
 // limits, rows and model; no base, pins or heater (those are the valve's).
 func (d decoder) buildUnit(t *Type, v *valveDoc, vn *yaml.Node, p string, fit bool) (*Type, error) {
@@ -425,7 +465,7 @@ func (d decoder) buildUnit(t *Type, v *valveDoc, vn *yaml.Node, p string, fit bo
 	switch t.Kind {
 	case Triode, Pentode:
 	case Diode:
-		return t, nil
+		return d.buildDiodeUnit(t, v, vn, p, fit)
 	default:
 		return nil, at("kind", fmt.Errorf("a unit is a triode, pentode or diode section, not %s", t.Kind))
 	}
@@ -587,7 +627,7 @@ func (t *Type) SectionType(section string, side []*Type) *Type {
 		return nil
 	}
 	c := t.clone()
-	c.Kind, c.Model, c.Start, c.Limits, c.Perveance = u.Kind, u.Model, u.Start, u.Limits, u.Perveance
+	c.Kind, c.Model, c.Start, c.Limits, c.Perveance, c.ContactVolts = u.Kind, u.Model, u.Start, u.Limits, u.Perveance, u.ContactVolts
 	c.Rows = append([]Row(nil), u.Rows...)
 	return c
 }

@@ -15,8 +15,9 @@ const (
 	// its kind, model, limits and rows.
 	Multi Kind = "multi"
 	// Diode is a signal-diode section of a multi-function valve (the
-	// detector diodes of a diode-triode): library data only, no network
-	// device; a design must leave it unused.
+	// detector diodes of a diode-triode): Child–Langmuir with the
+	// unit's perveance and contact potential (SignalDiodeDevice); a
+	// design may wire it when its unit has a perveance (Wireable).
 	Diode Kind = "diode"
 	// Regulator is a cold-cathode gas voltage regulator (OA2, OB2, 0D3):
 	// library data (Type.Gas) and its DC law (GasLaw, gas.go); not yet a
@@ -30,6 +31,12 @@ const (
 // Modelled reports whether pinwalk can put a section of this kind in the
 // network (triodes, pentodes, rectifier valves).
 func (k Kind) Modelled() bool { return k == Triode || k == Pentode || k == Rectifier }
+
+// Wireable reports whether a design may wire a section of this type:
+// a modelled kind, or a signal-diode unit with a perveance.
+func (t *Type) Wireable() bool {
+	return t.Kind.Modelled() || (t.Kind == Diode && t.Perveance > 0)
+}
 
 // Base is the socket a valve plugs into.
 type Base string
@@ -152,7 +159,10 @@ type Type struct {
 	// Perveance is the Child–Langmuir constant per anode for rectifiers:
 	// I = Perveance · V^1.5 (A/V^1.5).
 	Perveance float64
-	Rows      []Row // datasheet rows the model is fitted to
+	// ContactVolts is a signal-diode unit's contact potential (volts):
+	// its plate conducts from this far below its cathode.
+	ContactVolts float64
+	Rows         []Row // datasheet rows the model is fitted to
 	// Units maps each section of a Multi valve to the name of its unit
 	// type; nil otherwise.
 	Units map[string]string
