@@ -72,10 +72,10 @@ func faultHeaterString(d *design.Design, m *amp.Model, out []Check, changed bool
 
 func faultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault, corners bool) (out []Check, changed bool, err error) {
 	n := buildNetwork(d)
-	orig := buildNetwork(d)
 	if !alterNetwork(n, m, f) {
-		return base, false, nil
+		return base, false, nil // most live-only faults: one build, no solve
 	}
+	orig := buildNetwork(d)
 	// Nets whose elements the fault touched: a reading whose component
 	// (before the fault) holds none of them is unchanged.
 	touched := map[string]bool{}
