@@ -377,8 +377,21 @@ func (l *faultLoop) closeOutSteps() []*Step {
 		Cautions: []string{LiveCaution, VariacCaution}, Title: "Power out into a dummy load",
 		Instruction: "With a dummy load of the rated impedance on each output and a test tone at the input, raise the level to the onset of clipping on a scope and read the AC volts across the load: power = V²/R. Type the watts of each channel.",
 		Why:         "A repaired amp must make its power on every channel: a low figure is a weak output valve, a tired supply or a second fault."}
+	// The field keeps the output transformer's reference (a stable key in
+	// the session); the prompt names the channel as the walk does
+	// everywhere (ChannelsOf: "left channel (OT1)").
+	title := map[string]string{}
+	for _, c := range ChannelsOf(b) {
+		if len(c.OTs) == 1 {
+			title[c.OTs[0].Ref] = c.Title()
+		}
+	}
 	for _, ch := range channels(b.D) {
-		po.Asks = append(po.Asks, Ask{Field: FieldPowerOut + ch, Prompt: fmt.Sprintf("Watts into the dummy load, channel %s", ch)})
+		name := "channel " + ch
+		if t, ok := title[ch]; ok {
+			name = t
+		}
+		po.Asks = append(po.Asks, Ask{Field: FieldPowerOut + ch, Prompt: "Watts into the dummy load, " + name})
 	}
 	if len(po.Asks) == 0 {
 		po.Asks = []Ask{{Field: FieldPowerOut + "output", Prompt: "Watts into the dummy load"}}
