@@ -10,15 +10,7 @@ import (
 
 func diodeBiasDesign(t *testing.T) *design.Design {
 	t.Helper()
-	tp, err := design.TemplateByName("pp-diode-bias")
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, probs := design.Parse("pp-diode-bias.yaml", tp.Text)
-	if len(probs.Errors()) > 0 {
-		t.Fatal(probs.Errors())
-	}
-	return d
+	return templateDesign(t, "pp-diode-bias")
 }
 
 // A grid bias from its own diode is a bias supply to the walk: the output

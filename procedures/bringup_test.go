@@ -25,6 +25,40 @@ func loadDesign(t testing.TB, name string) *design.Design {
 	return d
 }
 
+// templateDesign parses one embedded template (its placeholder values are
+// valid values).
+func templateDesign(t testing.TB, name string) *design.Design {
+	t.Helper()
+	tp, err := design.TemplateByName(name)
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, probs := design.Parse(tp.Name+".yaml", tp.Text)
+	if d == nil || len(probs.Errors()) > 0 {
+		t.Fatalf("template %s: %v", name, probs)
+	}
+	return d
+}
+
+// bringUpStep builds the bring-up of a template and returns the bench
+// model and the step with the given id (failing when there is none).
+func bringUpStep(t testing.TB, template, id string) (*BenchModel, *Step) {
+	t.Helper()
+	b, err := NewBenchModel(templateDesign(t, template), BenchOptions{Samples: 100, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := BringUpProcedure(b)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if st := p.Step(id); st != nil {
+		return b, st
+	}
+	t.Fatalf("%s: the bring-up has no step %s", template, id)
+	return nil, nil
+}
+
 // allDesigns returns every demo design and every template (templates'
 // placeholder values are valid values).
 func allDesigns(t *testing.T) map[string]*design.Design {

@@ -3,8 +3,6 @@ package procedures
 import (
 	"strings"
 	"testing"
-
-	"pinwalk/expect/design"
 )
 
 // TestDetectorDiodeStep: the bring-up step of a diode-triode measures its
@@ -13,31 +11,7 @@ import (
 // and the plates' band lies between -1 V and 0 V (common practice: a few
 // tenths negative from the contact potential).
 func TestDetectorDiodeStep(t *testing.T) {
-	tp, err := design.TemplateByName("diode-triode-detector")
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, probs := design.Parse(tp.Name+".yaml", tp.Text)
-	if d == nil || len(probs.Errors()) > 0 {
-		t.Fatalf("%v", probs)
-	}
-	b, err := NewBenchModel(d, BenchOptions{Samples: 100, Seed: 1})
-	if err != nil {
-		t.Fatal(err)
-	}
-	p, err := BringUpProcedure(b)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var st *Step
-	for _, s := range p.Steps {
-		if s.ID == "valve-V1" {
-			st = s
-		}
-	}
-	if st == nil {
-		t.Fatal("no step for V1")
-	}
+	b, st := bringUpStep(t, "diode-triode-detector", "valve-V1")
 	if !strings.Contains(st.Why, "pins 5 and 6") || !strings.Contains(st.Why, "about 0 V") {
 		t.Errorf("V1 step words: %q", st.Why)
 	}

@@ -15,15 +15,7 @@ import (
 // mains, the chassis on the neutral, a two-pin inlet.
 func acdcDesign(t *testing.T) *design.Design {
 	t.Helper()
-	tp, err := design.TemplateByName("acdc-phono")
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, probs := design.Parse("acdc-phono.yaml", tp.Text)
-	if d == nil || len(probs.Errors()) > 0 {
-		t.Fatalf("acdc-phono: %v", probs)
-	}
-	return d
+	return templateDesign(t, "acdc-phono")
 }
 
 // answer is what a careful technician types at a step: the band's

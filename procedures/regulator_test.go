@@ -3,8 +3,6 @@ package procedures
 import (
 	"strings"
 	"testing"
-
-	"pinwalk/expect/design"
 )
 
 // TestRegulatorStep: the bring-up of a design with a gas regulator has a
@@ -12,31 +10,7 @@ import (
 // (near its maintaining volts, 150 V for an OA2: RCA data, from memory),
 // and says what a dark one with its anode high means.
 func TestRegulatorStep(t *testing.T) {
-	tp, err := design.TemplateByName("preamp-regulated")
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, probs := design.Parse(tp.Name+".yaml", tp.Text)
-	if d == nil || len(probs.Errors()) > 0 {
-		t.Fatalf("%v", probs)
-	}
-	b, err := NewBenchModel(d, BenchOptions{Samples: 100, Seed: 1})
-	if err != nil {
-		t.Fatal(err)
-	}
-	p, err := BringUpProcedure(b)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var st *Step
-	for _, s := range p.Steps {
-		if s.ID == "valve-V3" {
-			st = s
-		}
-	}
-	if st == nil {
-		t.Fatal("no step for the regulator V3")
-	}
+	b, st := bringUpStep(t, "preamp-regulated", "valve-V3")
 	if !strings.Contains(st.Title, "regulator") || !strings.Contains(st.Why, "has not struck") {
 		t.Errorf("regulator step in amplifier words: %q / %q", st.Title, st.Why)
 	}

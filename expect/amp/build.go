@@ -452,17 +452,15 @@ func findHT(d *design.Design) (*HTSupply, []*AuxRect, error) {
 			dd := p.Rect.Diode
 			rect = supply.Rectifier{Kind: supply.Silicon, Vf: siliconDrop(dd), Rd: dd.Rs}
 			out = p.Rect.Plus
-			if p.Rect.Bridge {
-				anodes = p.Rect.AC[:]
+			anodes = p.RectifierAnodes()
+			switch {
+			case p.Rect.Bridge:
 				topo = supply.Bridge
-			} else {
-				anodes = p.Rect.Anodes
-				if len(anodes) == 1 {
-					topo = supply.HalfWave
-				}
+			case len(anodes) == 1:
+				topo = supply.HalfWave
 			}
 		case p.Kind == design.Valve && p.Valve.Type.Kind == valves.Rectifier:
-			anodes = splitNets(p.Valve.Sections[""][valves.Plates])
+			anodes = p.RectifierAnodes()
 			out = p.Valve.Sections[""][valves.Cathode]
 			rect = supply.Rectifier{Kind: supply.Valve, Perveance: p.Valve.Type.Perveance}
 			if len(anodes) == 1 {
@@ -610,19 +608,6 @@ func (ht *HTSupply) filter(d *design.Design) error {
 	return nil
 }
 
-func splitNets(s string) []string {
-	var out []string
-	start := 0
-	for i := 0; i <= len(s); i++ {
-		if i == len(s) || s[i] == ',' {
-			if i > start {
-				out = append(out, s[start:i])
-			}
-			start = i + 1
-		}
-	}
-	return out
-}
 
 // siliconDrop is the diode's junction drop at 100 mA, Shockley's law
 // V = n·Vt·ln(I/Is + 1), the knee the supply model's Vf + Rd·I line uses.

@@ -12,6 +12,7 @@ package design
 import (
 	"fmt"
 	"sort"
+	"strings"
 
 	"pinwalk/expect/valves"
 )
@@ -340,4 +341,26 @@ func (ps Problems) Sort() {
 		}
 		return ps[i].Pos.Col < ps[j].Pos.Col
 	})
+}
+
+// RectifierAnodes returns the nets a rectifier part takes its AC from: a
+// bridge's two AC ends, a silicon rectifier's anodes, a valve rectifier's
+// plate nets; nil for any other part. Every reader of a rectifier's feed
+// asks here.
+func (p *Part) RectifierAnodes() []string {
+	switch {
+	case p.Kind == Rectifier && p.Rect.Bridge:
+		return p.Rect.AC[:]
+	case p.Kind == Rectifier:
+		return p.Rect.Anodes
+	case p.Kind == Valve && p.Valve.Type.Kind == valves.Rectifier:
+		var out []string
+		for _, s := range strings.Split(p.Valve.Sections[""][valves.Plates], ",") {
+			if s != "" {
+				out = append(out, s)
+			}
+		}
+		return out
+	}
+	return nil
 }

@@ -6,7 +6,6 @@ import (
 	"strings"
 
 	"pinwalk/expect/units"
-	"pinwalk/expect/valves"
 )
 
 // Transformerless (AC/DC) sets: the HT rectifier fed straight from the
@@ -291,16 +290,7 @@ func (d *Design) HotChassis() (bool, string) {
 	var why []string
 	if len(d.PartsOfKind(PowerTransformer)) == 0 {
 		for _, p := range d.Parts {
-			var anodes []string
-			switch {
-			case p.Kind == Rectifier && p.Rect.Bridge:
-				anodes = p.Rect.AC[:]
-			case p.Kind == Rectifier:
-				anodes = p.Rect.Anodes
-			case p.Kind == Valve && p.Valve.Type.Kind == valves.Rectifier:
-				anodes = strings.Split(p.Valve.Sections[""][valves.Plates], ",")
-			}
-			for _, a := range anodes {
+			for _, a := range p.RectifierAnodes() {
 				if lf, ok := d.LineFeedTo(a); ok {
 					why = append(why, fmt.Sprintf("there is no power transformer: the rectifier %s is fed straight from the mains %s (%s)", p.Ref, d.poleWord(lf.From), lf.From))
 					break
@@ -428,14 +418,10 @@ func (d *Design) MainsSideNets() map[string]bool {
 	}
 	live, neutral := d.mainsPoles()
 	for _, p := range d.Parts {
-		var anodes []string
-		switch {
-		case p.Kind == Rectifier && !p.Rect.Bridge:
-			anodes = p.Rect.Anodes
-		case p.Kind == Valve && p.Valve.Type.Kind == valves.Rectifier:
-			anodes = strings.Split(p.Valve.Sections[""][valves.Plates], ",")
+		if p.Kind == Rectifier && p.Rect.Bridge {
+			continue
 		}
-		for _, a := range anodes {
+		for _, a := range p.RectifierAnodes() {
 			if lf, ok := d.LineFeedTo(a); ok {
 				for _, n := range lf.PathNets {
 					out[n] = true

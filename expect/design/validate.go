@@ -75,21 +75,14 @@ func (l *loader) checkSupply(d *Design) {
 	supplies := len(d.PartsOfKind(DCSupply)) + len(d.PartsOfKind(BiasSupply))
 	rects := 0
 	for _, p := range d.Parts {
-		var anodes []string
-		switch {
-		case p.Kind == Rectifier && p.Rect.Bridge:
-			anodes = p.Rect.AC[:]
-		case p.Kind == Rectifier:
-			anodes = p.Rect.Anodes
-			if len(anodes) == 1 && winding[anodes[0]] == nil && winding[p.Rect.Plus] != nil {
-				// A negative supply (grid bias): the half-wave diode's
-				// cathode on the winding, its anode on the reservoir.
-				anodes = []string{p.Rect.Plus}
-			}
-		case p.Kind == Valve && p.Valve.Type.Kind == valves.Rectifier:
-			anodes = strings.Split(p.Valve.Sections[""][valves.Plates], ",")
-		default:
+		anodes := p.RectifierAnodes()
+		if anodes == nil {
 			continue
+		}
+		if p.Kind == Rectifier && !p.Rect.Bridge && len(anodes) == 1 && winding[anodes[0]] == nil && winding[p.Rect.Plus] != nil {
+			// A negative supply (grid bias): the half-wave diode's
+			// cathode on the winding, its anode on the reservoir.
+			anodes = []string{p.Rect.Plus}
 		}
 		rects++
 		var w *Winding

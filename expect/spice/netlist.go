@@ -299,7 +299,7 @@ func (n *Netlist) htWinding(ht *amp.HTSupply, w *design.Winding, p supply.Params
 	case supply.Bridge:
 		src(tr+"_"+w.Name, n.node(w.Ends[1]), n.node(w.Ends[0]), 0, "whole winding")
 	case supply.HalfWave:
-		anode := anodesOf(ht.Rectifier)[0]
+		anode := ht.Rectifier.RectifierAnodes()[0]
 		other := w.Ends[0]
 		if other == anode {
 			other = w.Ends[1]
@@ -346,30 +346,13 @@ func (n *Netlist) rectifier(ht *amp.HTSupply, p supply.Params) error {
 		if p.Rect.MaxAmps > 0 {
 			n.comment("  emission-limited to %s A per anode (cool filament)", num(p.Rect.MaxAmps))
 		}
-		for _, an := range anodesOf(rp) {
+		for _, an := range rp.RectifierAnodes() {
 			a := n.node(an)
 			n.line("%s %s %s I = %s", n.elem("B", rp.Ref+"_"+an), a, k,
 				rectifierAnode(fmt.Sprintf("V(%s,%s)", a, k), p.Rect.Perveance, p.Rect.MaxAmps))
 		}
 	}
 	return nil
-}
-
-// anodesOf returns the anode nets of the HT rectifier part.
-func anodesOf(p *design.Part) []string {
-	if p.Kind == design.Rectifier {
-		if p.Rect.Bridge {
-			return p.Rect.AC[:]
-		}
-		return p.Rect.Anodes
-	}
-	var out []string
-	for _, s := range strings.Split(p.Valve.Sections[""][valves.Plates], ",") {
-		if s != "" {
-			out = append(out, s)
-		}
-	}
-	return out
 }
 
 // windings writes every winding other than the HT one as a sine source

@@ -316,7 +316,8 @@ func coldLogLik(c coldPred, r, lb float64) float64 {
 // apart (a broken-down part: a shorted capacitor reads anything from
 // milliohms to hundreds of ohms) is spread evenly in the logarithm of the
 // ohms, not in ohms: a breakdown is as likely to leave 0.1–1 Ω as
-// 10–100 Ω. Tolerance corners never span a decade.
+// 10–100 Ω (our choice: no survey gives the breakdown's distribution).
+// Tolerance corners never span a decade.
 const logSpreadRatio = 10
 
 // logUniformDensity is the density of a reading r of a value spread evenly
