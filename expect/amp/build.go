@@ -608,7 +608,6 @@ func (ht *HTSupply) filter(d *design.Design) error {
 	return nil
 }
 
-
 // siliconDrop is the diode's junction drop at 100 mA, Shockley's law
 // V = n·Vt·ln(I/Is + 1), the knee the supply model's Vf + Rd·I line uses.
 func siliconDrop(d valves.SiliconDiode) float64 {
