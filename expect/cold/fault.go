@@ -1,8 +1,6 @@
 package cold
 
 import (
-	"math"
-
 	"pinwalk/expect/amp"
 	"pinwalk/expect/design"
 	"pinwalk/expect/faults"
@@ -22,16 +20,10 @@ import (
 // are the base reading's corners scaled by the new reading (the relative
 // spread kept): a third of the work, for callers that need speed more
 // than exact bounds. Readings whose network the fault does not reach are
-// copied from base.
+// copied from base. Many faults of one design: NewFaultSet, which shares
+// the healthy network's solve between them.
 func FaultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault, corners bool) (out []Check, changed bool, err error) {
-	if err := faults.Check(m, f); err != nil {
-		return nil, false, err
-	}
-	out, changed, err = faultChecks(d, m, base, f, corners)
-	if err != nil {
-		return nil, changed, err
-	}
-	return faultHeaterString(d, m, out, changed, f)
+	return NewFaultSet(d, m, base).Checks(f, corners)
 }
 
 // faultHeaterString redoes the series heater string's reading (valves in)
@@ -68,147 +60,6 @@ func faultHeaterString(d *design.Design, m *amp.Model, out []Check, changed bool
 		}
 	}
 	return out, changed, nil
-}
-
-func faultChecks(d *design.Design, m *amp.Model, base []Check, f faults.Fault, corners bool) (out []Check, changed bool, err error) {
-	n := buildNetwork(d)
-	if !alterNetwork(n, m, f) {
-		return base, false, nil // most live-only faults: one build, no solve
-	}
-	orig := buildNetwork(d)
-	// Nets whose elements the fault touched: a reading whose component
-	// (before the fault) holds none of them is unchanged.
-	touched := map[string]bool{}
-	key := func(e edge) [3]string { return [3]string{e.ref, e.a, e.b} }
-	before := map[[3]string]edge{}
-	for _, e := range orig.edges {
-		before[key(e)] = e
-	}
-	after := map[[3]string]bool{}
-	for _, e := range n.edges {
-		after[key(e)] = true
-		if b, ok := before[key(e)]; !ok || b.ohms != e.ohms {
-			touched[e.a], touched[e.b] = true, true
-		}
-	}
-	for k, e := range before {
-		if !after[k] {
-			touched[e.a], touched[e.b] = true, true
-		}
-	}
-	n.adj = map[string][]int{}
-	for i, e := range n.edges {
-		n.adj[e.a] = append(n.adj[e.a], i)
-		n.adj[e.b] = append(n.adj[e.b], i)
-	}
-	out = make([]Check, len(base))
-	hits := make([]bool, len(base))
-	byTo := map[string][]int{} // readings to solve, by the net they are read to
-	var tos []string
-	// Components of the network before the fault, each found once.
-	compOf := map[string]int{}
-	var compHit []bool
-	for i, c := range base {
-		out[i] = c
-		ci, ok := compOf[c.From]
-		if !ok {
-			ci = len(compHit)
-			hit := false
-			for net := range orig.reach(c.From, "") {
-				compOf[net] = ci
-				hit = hit || touched[net]
-			}
-			compHit = append(compHit, hit)
-		}
-		hits[i] = compHit[ci]
-		if hits[i] {
-			if _, ok := byTo[c.To]; !ok {
-				tos = append(tos, c.To)
-			}
-			byTo[c.To] = append(byTo[c.To], i)
-		}
-	}
-	solve := func(n *network) ([]float64, []bool, error) {
-		ohms := make([]float64, len(base))
-		opens := make([]bool, len(base))
-		for _, to := range tos {
-			idx := byTo[to]
-			froms := make([]string, len(idx))
-			for k, i := range idx {
-				froms[k] = base[i].From
-			}
-			rs, os, err := n.resistances(froms, to, 0)
-			if err != nil {
-				return nil, nil, err
-			}
-			for k, i := range idx {
-				ohms[i], opens[i] = rs[k], os[k]
-			}
-		}
-		return ohms, opens, nil
-	}
-	nomOhms, nomOpen, err := solve(n)
-	if err != nil {
-		return nil, true, err
-	}
-	// The fault's own element with a spread of its own (a shorted
-	// capacitor): without corners, its two ends are solved with the rest
-	// nominal, so the reading's spread holds the fault's.
-	var ownLo, ownHi []float64
-	if !corners {
-		for i, e := range n.edges {
-			if e.ref != f.Ref || e.tol == (design.Tolerance{}) {
-				continue
-			}
-			for _, c := range []int{-1, 1} {
-				n2 := *n
-				n2.edges = append([]edge(nil), n.edges...)
-				n2.edges[i].ohms, n2.edges[i].tol = e.scaled(c), design.Tolerance{}
-				rs, _, err := solve(&n2)
-				if err != nil {
-					return nil, true, err
-				}
-				if c < 0 {
-					ownLo = rs
-				} else {
-					ownHi = rs
-				}
-			}
-			break
-		}
-	}
-	for i, c := range base {
-		if !hits[i] {
-			continue
-		}
-		r, open := nomOhms[i], nomOpen[i]
-		if open {
-			out[i].Ohms, out[i].Open = math.Inf(1), true
-			out[i].Tol = [2]float64{math.Inf(1), math.Inf(1)}
-			continue
-		}
-		if !corners {
-			lo, hi := r, r
-			if ownLo != nil {
-				lo, hi = ownLo[i], ownHi[i]
-			}
-			if c.Ohms > 0 && !c.Open {
-				lo, hi = lo*c.Tol[0]/c.Ohms, hi*c.Tol[1]/c.Ohms
-			}
-			out[i].Ohms, out[i].Open, out[i].Tol = r, false, [2]float64{lo, hi}
-			continue
-		}
-		lo, _, err := n.resistance(c.From, c.To, -1)
-		if err != nil {
-			return nil, true, err
-		}
-		hi, _, err := n.resistance(c.From, c.To, 1)
-		if err != nil {
-			return nil, true, err
-		}
-		out[i].Ohms, out[i].Open, out[i].Tol = r, false, [2]float64{lo, hi}
-	}
-	return out, true, nil
 }
 
 // alterNetwork puts a fault into the cold network's edges through its
@@ -250,12 +101,16 @@ func (c *coldNet) Edit(edit func(e *faults.ColdEdge) bool) {
 	for i, e := range c.n.edges {
 		x := toCold(e)
 		if edit(&x) {
-			c.n.edges[i], c.changed = fromCold(x), true
+			ne := fromCold(x)
+			ne.orig = e.orig
+			c.n.edges[i], c.changed = ne, true
 		}
 	}
 }
 
 func (c *coldNet) Add(e faults.ColdEdge) {
-	c.n.edges = append(c.n.edges, fromCold(e))
+	ne := fromCold(e)
+	ne.orig = -1
+	c.n.edges = append(c.n.edges, ne)
 	c.changed = true
 }

@@ -30,6 +30,9 @@ type edge struct {
 	ohms float64
 	tol  design.Tolerance
 	ref  string
+	// orig is the edge's index in the healthy network a fault's network
+	// was copied from (FaultSet); -1 for an edge the fault added.
+	orig int
 }
 
 // network is the cold resistive network of a design.

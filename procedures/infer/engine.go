@@ -366,12 +366,15 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
+			wm := e.workerModel()
 			for h := range jobs {
 				samples := opt.Samples
 				if !opt.Eager {
 					samples = 0 // the nominal only: the cloud waits for Rank
 				}
-				set, err := bands.Run(d, e.bandsOptions([]faults.Fault{*h.fault}, samples, opt.Seed, 1))
+				bo := e.bandsOptions([]faults.Fault{*h.fault}, samples, opt.Seed, 1)
+				bo.Model = wm
+				set, err := bands.Run(d, bo)
 				if err != nil {
 					h.err = err
 					continue
@@ -405,6 +408,17 @@ func New(d *design.Design, opt Options) (*Engine, error) {
 	e.groupAll = e.group(true)
 	e.groupDC = e.group(false)
 	return e, nil
+}
+
+// workerModel builds the design once for one goroutine's runs of faults
+// one after another (bands.Options.Model); nil (each run builds its own)
+// if the design will not build, which New has already reported.
+func (e *Engine) workerModel() *amp.Model {
+	m, err := amp.Build(e.d)
+	if err != nil {
+		return nil
+	}
+	return m
 }
 
 // bandsOptions are the tolerance-sampling options for a set of faults.
@@ -577,8 +591,11 @@ func (e *Engine) upgrade(idx []int) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
+			wm := e.workerModel()
 			for h := range jobs {
-				set, err := bands.Run(e.d, e.bandsOptions([]faults.Fault{*h.fault}, e.opt.Samples, e.opt.Seed, 1))
+				bo := e.bandsOptions([]faults.Fault{*h.fault}, e.opt.Samples, e.opt.Seed, 1)
+				bo.Model = wm
+				set, err := bands.Run(e.d, bo)
 				if err != nil {
 					h.err = err
 					continue
@@ -672,6 +689,7 @@ func (e *Engine) coldAll(base []cold.Check) error {
 		cs  []cold.Check
 		err error
 	}
+	set := cold.NewFaultSet(e.d, e.m, base)
 	jobs := make(chan *hyp)
 	out := make(chan res)
 	var wg sync.WaitGroup
@@ -684,7 +702,7 @@ func (e *Engine) coldAll(base []cold.Check) error {
 					out <- res{h, base, nil}
 					continue
 				}
-				cs, _, err := cold.FaultChecks(e.d, e.m, base, *h.fault, false)
+				cs, _, err := set.Checks(*h.fault, false)
 				out <- res{h, cs, err}
 			}
 		}()
