@@ -14,6 +14,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"sync"
 
 	"pinwalk/expect/design"
 	"pinwalk/expect/mna"
@@ -70,12 +71,16 @@ type Heater struct {
 
 // Model is a design compiled for solving.
 type Model struct {
-	D        *design.Design
-	ckt      *mna.Circuit
-	Slots    []Slot
-	Nominal  []float64 // nominal value per slot
-	Sections []*Section
-	Heaters  []Heater
+	D   *design.Design
+	ckt *mna.Circuit
+	// points is Points, worked out once (the model's structure does not
+	// change after Build).
+	pointsOnce sync.Once
+	points     []PointDef
+	Slots      []Slot
+	Nominal    []float64 // nominal value per slot
+	Sections   []*Section
+	Heaters    []Heater
 	// Regulators are the gas regulator valves (struck) in the network.
 	Regulators []*Regulator
 	// Diodes are the plates of wired signal-diode sections.

@@ -3,6 +3,7 @@ package amp
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -55,6 +56,11 @@ func (p PointDef) Key() string { return p.ID + " " + p.Quantity }
 // Points lists every point the model predicts, in a stable order: valves
 // in file order with pins in pin order, then nets by name.
 func (m *Model) Points() []PointDef {
+	m.pointsOnce.Do(func() { m.points = m.points0() })
+	return slices.Clone(m.points)
+}
+
+func (m *Model) points0() []PointDef {
 	var out []PointDef
 	secIndex := map[string]int{}
 	for i, s := range m.Sections {

@@ -73,6 +73,13 @@ type Options struct {
 	// (Set.Loading, one solve per net), done of total. Calls are never
 	// concurrent; done rises by one each time.
 	Progress func(stage string, done, total int)
+	// Model, when set, is the design already built (amp.Build of the
+	// design Run is given) for Run to solve the nominal on, and the
+	// samples too when they run on one worker, instead of building its
+	// own: a caller that runs many faults of one design keeps one model
+	// per goroutine. Run changes the model's circuit as any solve does;
+	// no other solve may use the model until Run returns.
+	Model *amp.Model
 }
 
 // progress serialises Options.Progress calls from several goroutines.
@@ -192,6 +199,7 @@ func Run(d *design.Design, opt Options) (*Set, error) {
 	}
 	m, nom := nomRun.m, nomRun.op
 	set := &Set{Samples: opt.Samples, Cond: opt.Cond, NominalOP: nom, d: d, opt: opt, Tempered: 1, meters: &meterCache{}}
+	set.opt.Model = nil // the caller's, for this Run only
 	for _, pd := range m.Points() {
 		x := m.Value(nom, pd)
 		if math.IsNaN(x) || math.IsInf(x, 0) {
@@ -235,6 +243,10 @@ func Run(d *design.Design, opt Options) (*Set, error) {
 		workers = runtime.GOMAXPROCS(0)
 	}
 	workers = min(workers, max(nBlocks, 1))
+	bopt := opt
+	if workers > 1 {
+		bopt.Model = nil // one model per block solver
+	}
 	var next atomic.Int64
 	var wg sync.WaitGroup
 	var buildErr error
@@ -250,7 +262,7 @@ func Run(d *design.Design, opt Options) (*Set, error) {
 				if b >= nBlocks {
 					return
 				}
-				w, err := newBlockSolver(d, opt, nom)
+				w, err := newBlockSolver(d, bopt, nom)
 				if err != nil {
 					once.Do(func() { buildErr = err })
 					return
@@ -297,9 +309,12 @@ type nominalRun struct {
 // solveNominal builds the design and solves it in full (supply simulated)
 // at opt.Cond with the nominal values, after the Values hook.
 func solveNominal(d *design.Design, opt Options) (*nominalRun, error) {
-	m, err := amp.Build(d)
-	if err != nil {
-		return nil, err
+	m := opt.Model
+	if m == nil {
+		var err error
+		if m, err = amp.Build(d); err != nil {
+			return nil, err
+		}
 	}
 	s := amp.NewSolver(m)
 	base := m.NominalValues()
@@ -358,9 +373,12 @@ type blockSolver struct {
 }
 
 func newBlockSolver(d *design.Design, opt Options, nom *amp.OP) (*blockSolver, error) {
-	m, err := amp.Build(d)
-	if err != nil {
-		return nil, err
+	m := opt.Model // Run passes it on only when the samples run on one worker
+	var err error
+	if m == nil {
+		if m, err = amp.Build(d); err != nil {
+			return nil, err
+		}
 	}
 	s := amp.NewSolver(m)
 	pris := m.NominalValues()
