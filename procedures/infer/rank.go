@@ -179,10 +179,17 @@ func (e *Engine) Rank(obs []Observation, allowed func(key string) bool) *Ranking
 const maxUpgradeRounds = 4
 
 // coarseActive returns the coarse (unsolved, not shared) hypotheses among
-// the active ones of nextProbe and the MaxListed most probable.
+// the MaxListed most probable: every hypothesis a listing can show is
+// ranked on its solved cloud. The rest of the next-probe sums' active set
+// enters them with its coarse cloud (the healthy cloud moved to the
+// fault's nominal, erring wide); a hypothesis is solved as soon as it
+// rises into the listed ones (Rank's upgrade rounds).
 func (e *Engine) coarseActive(post []float64) []int {
 	var out []int
-	for _, i := range e.activeSet(post, MaxListed) {
+	for n, i := range e.activeSet(post, MaxListed) {
+		if n >= MaxListed {
+			break // activeSet is in falling posterior
+		}
 		if h := e.hyps[i]; h.coarse && !h.shared && h.err == nil {
 			out = append(out, i)
 		}
