@@ -444,3 +444,40 @@ func TestSolvesAtEveryVariacSetting(t *testing.T) {
 		}
 	}
 }
+
+// TestSlotCurrentIsThePointsOwn: a resistor's current read from an
+// operating point is that point's (Ohm's law on its own volts and the
+// value it was solved with), whatever the model solved afterwards: the
+// plate resistor of the bench demo opened and solved again leaves the
+// healthy point's current as it was.
+func TestSlotCurrentIsThePointsOwn(t *testing.T) {
+	d := loadDemo(t, "bench-12ax7")
+	m, err := Build(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := NewSolver(m)
+	v := m.NominalValues()
+	var healthy OP
+	if err := s.Solve(Conditions{}, v, false, &healthy); err != nil {
+		t.Fatal(err)
+	}
+	before := m.Resistors(&healthy)
+	w := v.Clone()
+	for i, sl := range m.Slots {
+		if sl.Kind == ElemResistance && sl.Role == "" && m.D.ByRef[sl.Ref].Kind == design.Resistor {
+			w.Slot[i] = math.Inf(1) // every resistor open: the next point is dead
+		}
+	}
+	var dead OP
+	_ = s.Solve(Conditions{}, w, false, &dead)
+	after := m.Resistors(&healthy)
+	for i := range before {
+		if before[i].Amps != after[i].Amps {
+			t.Errorf("%s: %g A before the second solve, %g A after", before[i].Ref, before[i].Amps, after[i].Amps)
+		}
+		if before[i].Amps == 0 && before[i].Volts != 0 {
+			t.Errorf("%s: %g V across it and no current", before[i].Ref, before[i].Volts)
+		}
+	}
+}

@@ -174,6 +174,10 @@ type OP struct {
 	// Aux are the lines the auxiliary rectifiers had, per Model.AuxRects.
 	Aux    []AuxLine
 	Newton int // Newton iterations, all network solves together
+	// slotG is each resistive slot's conductance as this point was
+	// solved with (0 for a source slot): a slot's current is this
+	// point's, whatever the model solved since.
+	slotG []float64
 }
 
 // NetVolts returns the DC volts of a net and whether it is in the network.
@@ -188,7 +192,12 @@ func (m *Model) NetVolts(op *OP, net string) (float64, bool) {
 // SlotCurrent returns the current through a resistive slot from its first
 // to its second net.
 func (m *Model) SlotCurrent(op *OP, slot int) float64 {
-	return m.ckt.ResistorCurrent(m.Slots[slot].handle, op.V)
+	sl := m.Slots[slot]
+	if sl.Kind != ElemResistance || slot >= len(op.slotG) {
+		return 0
+	}
+	a, b := m.ckt.ResistorNodes(sl.handle)
+	return (op.V[a] - op.V[b]) * op.slotG[slot]
 }
 
 // SlotNets returns the two nets of a resistive slot.
@@ -864,6 +873,14 @@ func (s *Solver) extract(op *OP, hv map[string]float64, frac []float64) {
 	m := s.m
 	op.V = append(op.V[:0], s.sol.V...)
 	op.Newton += s.sol.Iterations
+	op.slotG = op.slotG[:0]
+	for _, sl := range m.Slots {
+		g := 0.0
+		if sl.Kind == ElemResistance {
+			g = m.ckt.Conductance(sl.handle)
+		}
+		op.slotG = append(op.slotG, g)
+	}
 	s.auxLines(op)
 	for i, sec := range m.Sections {
 		var so SectionOP

@@ -237,6 +237,17 @@ func (c *Circuit) SetSource(h int, value float64) {
 // Solution.SourceAmps. It panics if h is not a voltage source.
 func (c *Circuit) VSourceIndex(h int) int { return c.ref(h, kindVSource, "VSourceIndex") }
 
+// Conductance returns resistor h's conductance as now stamped (siemens).
+func (c *Circuit) Conductance(h int) float64 {
+	return c.res[c.ref(h, kindResistor, "Conductance")].g
+}
+
+// ResistorNodes returns the two nodes resistor h joins.
+func (c *Circuit) ResistorNodes(h int) (a, b int) {
+	r := c.res[c.ref(h, kindResistor, "ResistorNodes")]
+	return r.a, r.b
+}
+
 // ResistorCurrent returns the current through resistor h from its node a to
 // its node b (amps) for node voltages v (as in Solution.V). An open resistor
 // carries 0. It panics if h is not a resistor.
