@@ -103,6 +103,7 @@ type Model struct {
 	acOnly     map[string]bool // nets that carry only heater AC
 	meterSlot  map[string]int
 	gasSlot    map[int]int // section index → its plate-to-grid (gas current) slot
+	pkSlot     map[int]int // section index → its plate-to-cathode (internal short) slot
 }
 
 // MeterSlot returns the value slot of the meter position on a net: an
@@ -293,6 +294,7 @@ func Build(d *design.Design) (*Model, error) {
 	m.addAux()
 	m.addHeaterCathodeSlots()
 	m.addGasSlots()
+	m.addPlateCathodeSlots()
 	m.acOnly = acOnlyNets(d)
 	m.auxACOnly()
 	// A meter slot on every DC net: open (Inf) unless a meter's input

@@ -71,3 +71,25 @@ func (m *Model) addGasSlots() {
 		}
 	}
 }
+
+// PKRole is the slot role of a valve section's plate-to-cathode path:
+// open in a healthy valve, InternalShort ohms when an electrode has
+// touched another inside the glass (a sagging plate or grid, a flake of
+// cathode coating; the fault "short" of an amplifying valve).
+const PKRole = "pk"
+
+// addPlateCathodeSlots gives every amplifying section an open
+// plate-to-cathode slot.
+func (m *Model) addPlateCathodeSlots() {
+	d := m.D
+	for i, sec := range m.Sections {
+		e := d.ByRef[sec.Ref].Valve.Sections[sec.Section]
+		if e[valves.Plate] == "" || e[valves.Cathode] == "" || e[valves.Plate] == e[valves.Cathode] {
+			continue
+		}
+		if m.pkSlot == nil {
+			m.pkSlot = map[int]int{}
+		}
+		m.pkSlot[i] = m.addR(sec.Ref, PKRole+sec.Section, e[valves.Plate], e[valves.Cathode], math.Inf(1))
+	}
+}

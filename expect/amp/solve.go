@@ -905,6 +905,14 @@ func (s *Solver) extract(op *OP, hv map[string]float64, frac []float64) {
 			so.Ia += ig
 			so.Ig -= ig
 		}
+		if ps, ok := m.pkSlot[i]; ok {
+			// A plate shorted to its cathode inside the valve: the
+			// current through the short enters at the plate pin and
+			// leaves at the cathode pin, as the valve's own.
+			ik := m.ckt.ResistorCurrent(m.Slots[ps].handle, op.V)
+			so.Ia += ik
+			so.Ik += ik
+		}
 		so.Pa = (so.Va - so.Vk) * so.Ia
 		so.Pg2 = (so.Vg2 - so.Vk) * so.Ig2
 		so.HeaterVolts = hv[sec.Ref]

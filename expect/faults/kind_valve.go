@@ -33,6 +33,19 @@ import (
 //	             rises. Only where the heater winding has a DC reference
 //	             (the slot amp gives it). A classic cause of hum, about a
 //	             third as often as a valve wears weak (common practice).
+//	short        an internal short, plate to cathode (a sagging plate or
+//	             grid, a flake of cathode coating, an arc after
+//	             red-plating). An output valve's puts its half of the
+//	             output transformer straight across the HT: powered, the
+//	             fuse blows (blowFuse), as with a valve rectifier's
+//	             flash-over. A preamp valve's is held by its plate
+//	             resistor: the plate sits at the cathode's volts
+//	             (the plate-to-cathode slot, amp.PKRole, at
+//	             InternalShortOhms), the stage passes no signal. Output
+//	             valves short about a fifth as often as they wear weak,
+//	             small-signal valves seldom (common practice). No cold
+//	             effect: the valves are out of their sockets for the cold
+//	             checks; a valve tester's shorts test finds it.
 //
 // A valve rectifier (only the HT rectifier is modelled):
 //
@@ -89,6 +102,10 @@ const (
 	// about 1 µA of reverse grid current; a plainly gassy one shows
 	// several).
 	GassyOhms = 100e6
+	// InternalShortOhms is a small-signal valve's plate touching its
+	// cathode inside the glass, powered (our choice: a few ohms of
+	// contact; the plate resistor sets the current whatever the figure).
+	InternalShortOhms = 10.0
 )
 
 func init() {
@@ -160,6 +177,21 @@ func init() {
 					return fmt.Sprintf("Swap %s for a known-good %s: the cathode should come back to its band. Or test it on a valve tester's shorts test with the heater hot, tapping the glass: a heater-to-cathode short often shows only warm."+confirmed, p.Ref, p.Valve.Type.Name)
 				},
 				Replace: replaceValve},
+			{Mode: Short, Prior: 1, PoweredShort: true,
+				Applies: func(m *amp.Model, p *design.Part) bool { return amplifier(m, p) && outputValve(m, p.Ref) },
+				Live:    func(v *amp.Values, t Target) { blowFuse(t.M, v) },
+				Describe: said("shorted inside, plate to cathode (its half of the output transformer straight across the HT: " +
+					"the fuse blows)"),
+				OutOfCircuit: testerReads(internalShortReads),
+				Confirm:      confirmInternalShort, Replace: replaceShortedOutput},
+			{Mode: Short, Prior: 0.1,
+				Applies: func(m *amp.Model, p *design.Part) bool {
+					return amplifier(m, p) && !outputValve(m, p.Ref) && len(pkSlots(m, p.Ref)) > 0
+				},
+				Live:         func(v *amp.Values, t Target) { setSlots(v, pkSlots(t.M, t.Part.Ref), InternalShortOhms) },
+				Describe:     said("shorted inside, plate to cathode (the plate sits at the cathode's volts; no signal through it)"),
+				OutOfCircuit: testerReads(internalShortReads),
+				Confirm:      confirmInternalShort, Replace: replaceValve},
 			// Valve rectifiers.
 			{Mode: Weak, Applies: rect, Prior: rectWeakPrior,
 				Live:         func(v *amp.Values, t Target) { v.RectScale *= WeakRectScale },
@@ -242,10 +274,17 @@ func init() {
 }
 
 // gasSlots are a valve's plate-to-grid slots, one per section.
-func gasSlots(m *amp.Model, ref string) []int {
+func gasSlots(m *amp.Model, ref string) []int { return slotsWithPrefix(m, ref, amp.GasRole) }
+
+// pkSlots are a valve's plate-to-cathode slots, one per section.
+func pkSlots(m *amp.Model, ref string) []int { return slotsWithPrefix(m, ref, amp.PKRole) }
+
+// slotsWithPrefix are a part's slots whose role starts with prefix (a
+// per-section role: "gas-currentA", "pkB").
+func slotsWithPrefix(m *amp.Model, ref, prefix string) []int {
 	var out []int
 	for _, i := range m.SlotsOf(ref) {
-		if strings.HasPrefix(m.Slots[i].Role, amp.GasRole) {
+		if strings.HasPrefix(m.Slots[i].Role, prefix) {
 			out = append(out, i)
 		}
 	}
@@ -300,6 +339,36 @@ func testerReads(words string) func(Target) OutReading {
 
 func heaterOpenReads(Target) OutReading {
 	return OutReading{Ohms: math.Inf(1), OK: true, Words: "open across its heater pins"}
+}
+
+// internalShortReads is what a valve tester shows of an internal short.
+const internalShortReads = "a short between plate and cathode on a valve tester's shorts test, sometimes only hot (tap the glass)"
+
+func confirmInternalShort(t Target) string {
+	p := t.Part
+	return fmt.Sprintf(unplugged+"take %s out: an ohmmeter across its plate and cathode pins reads a few ohms where a good valve reads open; "+
+		"a valve tester's shorts test, heater hot and the glass tapped, finds one that shorts only warm. Look for a sagging, "+
+		"red-marked or blistered plate."+confirmed, p.Ref)
+}
+
+func replaceShortedOutput(t Target) string {
+	p := t.Part
+	return fmt.Sprintf("Fit a known-good %s in %s (a matched pair for a push-pull pair) and a new fuse of the rated value, no larger. "+
+		"Before powering again, check what a shorted output valve takes with it: its screen resistor and grid stopper (burnt, open), "+
+		"the output transformer's primary half (open or leaking to chassis), and the cathode resistor or bias; then bring it up on "+
+		"the variac or a lamp limiter and re-set the bias.", p.Valve.Type.Name, p.Ref)
+}
+
+// outputValve reports whether any section of a valve is an output one
+// (outputSection).
+func outputValve(m *amp.Model, ref string) bool {
+	ends := otEndNets(m.D)
+	for _, s := range m.Sections {
+		if s.Ref == ref && outputSection(m.D, s, ends) {
+			return true
+		}
+	}
+	return false
 }
 
 func confirmValve(t Target) string {

@@ -54,6 +54,38 @@ func TestFaultDirections(t *testing.T) {
 		if so.Ia < 1.5*nomIa {
 			t.Errorf("V2 hk-short: Ia %.1f mA, nominal %.1f mA: want the bias lost", 1e3*so.Ia, 1e3*nomIa)
 		}
+		// V1 (a 12AU7 driver) shorted inside, plate to cathode: each
+		// section's plate joins its cathode through InternalShortOhms, so
+		// one current flows from B4 through the 33 kΩ plate resistor,
+		// the short and the 1.2 kΩ cathode resistor (Ohm's law on each),
+		// and the plate pin passes it.
+		pk := res[Fault{"V1", Short}]
+		if pk.err != nil {
+			t.Fatal(pk.err)
+		}
+		v1a := sectionIndex(t, "V1A", func(i int) string { return m.Sections[i].Name() }, len(m.Sections))
+		so1 := pk.op.Sections[v1a]
+		b4, _ := m.NetVolts(&pk.op, "B4")
+		want := (b4 - so1.Va) / 33e3
+		for _, c := range []struct {
+			what      string
+			got, want float64
+		}{
+			{"plate current", so1.Ia, want},
+			{"cathode volts", so1.Vk, want * 1.2e3},
+			{"plate-to-cathode volts", so1.Va - so1.Vk, want * InternalShortOhms},
+		} {
+			if c.got < 0.98*c.want || c.got > 1.02*c.want {
+				t.Errorf("V1 short: %s %.4g, Ohm's law gives %.4g", c.what, c.got, c.want)
+			}
+		}
+		if want < 3e-3 {
+			t.Errorf("V1 short: %.2f mA through the short, want B4/(33k+1k2), several mA", 1e3*want)
+		}
+		// An output valve shorted inside blows the fuse: no B+.
+		if r := res[Fault{"V2", Short}]; r.err != nil || r.op.Sections[v2].Va > 1 {
+			t.Errorf("V2 short: plate %.1f V (err %v), want 0 V (fuse blown)", r.op.Sections[v2].Va, r.err)
+		}
 		// A dead valve: no current, plate rises to its B+ node (common practice).
 		if got := ia(Fault{"V2", Dead}); got > 1e-6 {
 			t.Errorf("V2 dead: Ia %g", got)

@@ -379,8 +379,8 @@ var notModelled = []Unmodelled{
 		"with no centre tap or grounded end the heater circuit has no DC path for the leak to follow; a heater winding with one has the hk-short fault"},
 	{"output-transformer primary leaking to chassis part-way along a winding (kilohms, not a hard short)",
 		"a leak part-way along a winding has no single place or value to model; a hard breakdown at an end is the to-chassis fault"},
-	{"valve internal short (an electrode touching another inside the glass: grid to cathode, screen to plate)",
-		"the valve laws have no path between electrodes; a short would join two electrode nets through the valve with a resistance nothing predicts"},
+	{"valve internal short between electrodes other than plate and cathode (grid to cathode, screen to grid)",
+		"only the plate-to-cathode short has a path in the model (the valve's short fault); the others would each need a path of their own between electrode nets"},
 	{"microphonic or noisy valve, dry joint, arcing socket (crackle)",
 		"intermittent and mechanical: nothing a steady DC reading predicts"},
 }

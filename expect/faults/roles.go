@@ -53,17 +53,13 @@ func Roles(m *amp.Model, op *amp.OP) map[string]RoleSet {
 		roles[ref][role] = true
 	}
 	// Nets by electrode.
-	otEnds := map[string]bool{}
-	for _, p := range d.PartsOfKind(design.OutputTransformer) {
-		otEnds[p.OT.Ends[0]], otEnds[p.OT.Ends[1]] = true, true
-	}
+	otEnds := otEndNets(d)
 	grid, cathode, screen := map[string]bool{}, map[string]bool{}, map[string]bool{}
 	outGrid, outCathode := map[string]bool{}, map[string]bool{}
 	for _, s := range m.Sections {
 		p := d.ByRef[s.Ref]
 		e := p.Valve.Sections[s.Section]
-		out := s.Pentode || otEnds[e[valves.Plate]]
-		if out {
+		if outputSection(d, s, otEnds) {
 			add(s.Ref, RoleOutput)
 			outGrid[e[valves.Grid]], outCathode[e[valves.Cathode]] = true, true
 		} else {
@@ -194,4 +190,20 @@ func Roles(m *amp.Model, op *amp.OP) map[string]RoleSet {
 		}
 	}
 	return roles
+}
+
+// otEndNets returns the nets on the ends of output-transformer primaries.
+func otEndNets(d *design.Design) map[string]bool {
+	ends := map[string]bool{}
+	for _, p := range d.PartsOfKind(design.OutputTransformer) {
+		ends[p.OT.Ends[0]], ends[p.OT.Ends[1]] = true, true
+	}
+	return ends
+}
+
+// outputSection reports whether a valve section is an output one (the
+// RoleOutput rule): a pentode or beam section, or a plate on an output
+// transformer's primary end (otEnds, from otEndNets).
+func outputSection(d *design.Design, s *amp.Section, otEnds map[string]bool) bool {
+	return s.Pentode || otEnds[d.ByRef[s.Ref].Valve.Sections[s.Section][valves.Plate]]
 }

@@ -41,6 +41,7 @@ var symptomTable = []symptomRule{
 	{"no-lights", design.PowerTransformer, "", faults.HeaterOpen, 250},
 	{"no-lights", design.Rectifier, "", faults.Short, 100},               // it blew the fuse
 	{"no-lights", design.Valve, faults.RoleRectValve, faults.Short, 100}, // it arced and blew the fuse
+	{"no-lights", design.Valve, faults.RoleOutput, faults.Short, 100},    // shorted inside: it blew the fuse
 	// A series heater string: one open heater, or the dropper, and no
 	// valve lights (Ohm's law: one current through them all).
 	{"no-lights", design.Valve, faults.RoleString, faults.HeaterOpen, 250},
@@ -82,6 +83,7 @@ var symptomTable = []symptomRule{
 	{"fuse-blows", design.Capacitor, faults.RoleFilterCap, faults.Short, 8},
 	{"fuse-blows", design.Rectifier, "", faults.Short, 10},               // the usual cause with silicon rectifiers
 	{"fuse-blows", design.Valve, faults.RoleRectValve, faults.Short, 10}, // a valve rectifier flashing over
+	{"fuse-blows", design.Valve, faults.RoleOutput, faults.Short, 10},    // an output valve shorted inside
 	{"fuse-blows", design.Capacitor, "", faults.Short, 3},
 	{"fuse-blows", design.Valve, faults.RoleRectValve, faults.Dead, 3},
 	{"fuse-blows", design.BiasSupply, "", faults.Dead, 8},
@@ -101,6 +103,7 @@ var symptomTable = []symptomRule{
 	{"red-plate", design.Capacitor, faults.RoleOutBypass, faults.Short, 10},
 	{"red-plate", design.Resistor, faults.RoleOutGridR, faults.Open, 5},
 	{"red-plate", design.Resistor, faults.RoleScreenR, faults.Short, 3},
+	{"red-plate", design.Valve, faults.RoleOutput, faults.Short, 3}, // red-plating often ends in an internal arc
 	{"red-plate", "", "", faults.Weak, 0.3},
 	{"red-plate", healthyKind, "", "", 0.05},
 	// Low volume: tired valves, drifted resistors, dried-out bypasses.
