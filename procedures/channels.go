@@ -48,6 +48,20 @@ func (c Channel) Refs() []string {
 	return out
 }
 
+// ChannelTitles names each output transformer that is a channel's only
+// one by its channel's title ("left channel (OT1)"), as the walk names a
+// channel everywhere: the power-out step asks by it and the job sheets
+// list the power out by it.
+func ChannelTitles(b *BenchModel) map[string]string {
+	title := map[string]string{}
+	for _, c := range ChannelsOf(b) {
+		if len(c.OTs) == 1 {
+			title[c.OTs[0].Ref] = c.Title()
+		}
+	}
+	return title
+}
+
 // ChannelsOf finds the channels of a design: each input grid (as the ac
 // package finds them) with the stages its signal reaches and the output
 // transformers on their plates. Inputs that reach the same output

@@ -380,12 +380,7 @@ func (l *faultLoop) closeOutSteps() []*Step {
 	// The field keeps the output transformer's reference (a stable key in
 	// the session); the prompt names the channel as the walk does
 	// everywhere (ChannelsOf: "left channel (OT1)").
-	title := map[string]string{}
-	for _, c := range ChannelsOf(b) {
-		if len(c.OTs) == 1 {
-			title[c.OTs[0].Ref] = c.Title()
-		}
-	}
+	title := ChannelTitles(b)
 	for _, ch := range channels(b.D) {
 		name := "channel " + ch
 		if t, ok := title[ch]; ok {

@@ -161,7 +161,7 @@ func reportSheet(path, designArg string, stderr io.Writer) (*jobsheet.Sheet, int
 	}
 	opt := jobsheet.Options{Design: d}
 	if d != nil {
-		opt.Proc = reportProcedure(d, s)
+		opt.Proc, opt.Channels = reportProcedure(d, s)
 		if s.Mode == procedures.FaultFind || s.Mode == procedures.Practise {
 			opt.Suspects = jobsheet.InferSuspects(0, s.Seed)
 		}
@@ -175,13 +175,15 @@ func reportSheet(path, designArg string, stderr io.Writer) (*jobsheet.Sheet, int
 }
 
 // reportProcedure rebuilds the procedure of a session's mode, for step
-// titles and safety flags; nil when it cannot be built (the sheet then
-// shows step ids).
-func reportProcedure(d *design.Design, s *procedures.Session) *procedures.Procedure {
+// titles and safety flags, with the channels' names as the walk gives
+// them; a nil procedure when it cannot be built (the sheet then shows
+// step ids).
+func reportProcedure(d *design.Design, s *procedures.Session) (*procedures.Procedure, map[string]string) {
 	b, err := procedures.NewBenchModel(d, procedures.BenchOptions{Seed: s.Seed})
 	if err != nil {
-		return nil
+		return nil, nil
 	}
+	channels := procedures.ChannelTitles(b)
 	var p *procedures.Procedure
 	switch s.Mode {
 	case procedures.BringUp, procedures.Training:
@@ -190,10 +192,10 @@ func reportProcedure(d *design.Design, s *procedures.Session) *procedures.Proced
 		p, err = procedures.FaultFindProcedure(b, s.Mode)
 	}
 	if err != nil || p == nil {
-		return nil
+		return nil, channels
 	}
 	p.Steps = append(p.Steps, s.Added...)
-	return p
+	return p, channels
 }
 
 func fileExists(p string) bool {

@@ -432,7 +432,7 @@ func (sh *Sheet) customerDocument() *document {
 			if p.Hz > 0 {
 				hz = cVal(p.Hz, "Hz")
 			}
-			t.Rows = append(t.Rows, []string{orDash(p.Channel), cVal(p.Watts, "W"), loadWords(p.LoadOhms), hz, orDash(p.Note)})
+			t.Rows = append(t.Rows, []string{sh.ChannelName(p.Channel), cVal(p.Watts, "W"), loadWords(p.LoadOhms), hz, orDash(p.Note)})
 		}
 		ac.table(t)
 	} else {

@@ -321,3 +321,44 @@ func TestBenchSheetListsNotModelled(t *testing.T) {
 		t.Error("bench sheet prints a 0 Ω dummy load")
 	}
 }
+
+// The power out after the repair is listed by the channel's name as the
+// walk asked for it ("… channel (OT1)"), not by the output transformer's
+// reference alone, on the customer's sheet and the bench sheet.
+func TestPowerOutByChannelName(t *testing.T) {
+	s, err := procedures.LoadSession("../../testdata/sessions/se-6v6-r25-repair.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	d := loadDesign(t, "../../testdata/designs/se-6v6-stereo.yaml")
+	b, err := procedures.NewBenchModel(d, procedures.BenchOptions{Seed: s.Seed})
+	if err != nil {
+		t.Fatal(err)
+	}
+	sh, err := Build(s, Options{Design: d, Channels: procedures.ChannelTitles(b)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(s.Job.After.PowerOut) == 0 {
+		t.Fatal("the fixture has no power-out reading")
+	}
+	var cust, bench bytes.Buffer
+	if err := sh.CustomerMarkdown(&cust); err != nil {
+		t.Fatal(err)
+	}
+	if err := sh.Markdown(&bench); err != nil {
+		t.Fatal(err)
+	}
+	for _, po := range s.Job.After.PowerOut {
+		name := sh.ChannelName(po.Channel)
+		if name == po.Channel || !strings.Contains(name, "("+po.Channel+")") {
+			t.Errorf("%s: named %q, want the walk's channel name with the reference in brackets", po.Channel, name)
+		}
+		if !strings.Contains(cust.String(), "| "+name+" |") {
+			t.Errorf("customer sheet: no row for %q", name)
+		}
+		if !strings.Contains(bench.String(), "Power out, "+name) {
+			t.Errorf("bench sheet: no row for %q", name)
+		}
+	}
+}

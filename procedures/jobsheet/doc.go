@@ -326,7 +326,7 @@ func (sh *Sheet) document() *document {
 		eb, ins := sh.safetyVerdicts(j)
 		rows = append(rows, []string{"Earth bond", eb.Result + ": " + eb.Verdict}, []string{"Insulation resistance", ins.Result + ": " + ins.Verdict})
 		for _, p := range j.After.PowerOut {
-			rows = append(rows, []string{"Power out, " + orDash(p.Channel), strings.TrimSpace(fmtVal(p.Watts, "W") + " into " + loadWords(p.LoadOhms) + " " + p.Note)})
+			rows = append(rows, []string{"Power out, " + sh.ChannelName(p.Channel), strings.TrimSpace(fmtVal(p.Watts, "W") + " into " + loadWords(p.LoadOhms) + " " + p.Note)})
 		}
 		if j.After.Soak != nil {
 			rows = append(rows, []string{"Soak", strings.Join(nonEmpty(durationWords(j.After.Soak.Duration), j.After.Soak.Note), ": ")})

@@ -36,6 +36,9 @@ type Options struct {
 	// session; without it the findings list the out-of-band readings,
 	// ranked by how far outside their bands they are.
 	Suspects func(s *procedures.Session, d *design.Design) ([]Suspect, error)
+	// Channels names the channels by output transformer as the walk does
+	// (procedures.ChannelTitles); nil: by the reference alone.
+	Channels map[string]string
 }
 
 // SafetyKinds are the step kinds whose confirmation is listed as a safety
@@ -77,8 +80,21 @@ type Sheet struct {
 	Attempts  []AttemptRow
 	Practice  *procedures.Practice
 	StepTitle map[string]string
+	// Channels names each power-out channel key (an output transformer's
+	// reference) as the walk asked for it ("left channel (OT1)"):
+	// Options.Channels.
+	Channels map[string]string
 
 	labeller *Labeller
+}
+
+// ChannelName is a power-out channel key in words: the walk's name for
+// it where the procedure gave one, else the key ("–" for none).
+func (sh *Sheet) ChannelName(key string) string {
+	if n := sh.Channels[key]; n != "" {
+		return n
+	}
+	return orDash(key)
 }
 
 // Label describes a point key in words (see Labeller.Label).
@@ -174,6 +190,7 @@ func Build(s *procedures.Session, opt Options) (*Sheet, error) {
 				d.File, short(d.Hash), short(s.Design.Hash)))
 		}
 	}
+	sh.Channels = opt.Channels
 	stepTitle := func(id string) string {
 		if opt.Proc != nil {
 			if st := opt.Proc.Step(id); st != nil {
