@@ -1,0 +1,279 @@
+package amp
+
+import (
+	"fmt"
+	"math"
+
+	"pinwalk/expect/design"
+	"pinwalk/expect/supply"
+)
+
+// Doubler is an HT voltage doubler written out as its parts: two silicon
+// diodes (each a one-anode rectifier part) and two capacitors off one
+// winding (HTSupply.Doubler). It is simulated in expect/supply as what it
+// is (supply.FullDoubler or supply.HalfDoubler), each capacitor holding
+// its own volts; the network sees the output as the HT's Thevenin line
+// and the middle net (Mid) as a second source, the simulated middle's
+// mean volts behind the doubler's own output resistance there, so every
+// capacitor net has its own volts and band.
+//
+// Full-wave (Delon): the winding from Mid (the capacitors' junction) to
+// Live; Diodes[0] from Live up to the output, Diodes[1] from chassis up
+// to Live; Caps[0] the output to Mid, Caps[1] Mid to chassis.
+//
+// Half-wave (Greinacher): the winding from chassis to Live; Caps[0] the
+// pump capacitor from Live to Mid, Diodes[0] from chassis up to Mid,
+// Diodes[1] from Mid up to the output; Caps[1] the reservoir, the output
+// to chassis (also stage 0's capacitor).
+type Doubler struct {
+	Full      bool
+	Diodes    [2]*design.Part
+	Caps      [2]string
+	Mid, Live string
+	// Bleeders are the resistors straight across each capacitor, by ref
+	// ("" for none); they stay in the network as they are.
+	Bleeders [2]string
+
+	midHandle, midRHandle int
+}
+
+// doublerState is a solver's line for the doubler's middle net: the one
+// now set and the one of the last full solve at the design's mains, for
+// fast solves.
+type doublerState struct {
+	now, nowR, cached, cachedR float64
+}
+
+// Topology is the doubler's supply topology.
+func (db *Doubler) Topology() supply.Topology {
+	if db.Full {
+		return supply.FullDoubler
+	}
+	return supply.HalfDoubler
+}
+
+// DiodeIndex returns which of the doubler's diodes a part is (0 or 1), or
+// -1.
+func (db *Doubler) DiodeIndex(p *design.Part) int {
+	if db == nil {
+		return -1
+	}
+	for i, d := range db.Diodes {
+		if d == p {
+			return i
+		}
+	}
+	return -1
+}
+
+// CapIndex returns which of the doubler's capacitors a part reference is
+// (0 or 1), or -1.
+func (db *Doubler) CapIndex(ref string) int {
+	if db == nil {
+		return -1
+	}
+	for i, c := range db.Caps {
+		if c == ref {
+			return i
+		}
+	}
+	return -1
+}
+
+// findDoubler looks for two one-anode silicon rectifiers and two
+// capacitors wired as a voltage doubler off one transformer winding. nil
+// when the design has none.
+func findDoubler(d *design.Design, windingOf func(string) *design.Winding) (*Doubler, error) {
+	g := d.Ground
+	var diodes []*design.Part
+	for _, p := range d.PartsOfKind(design.Rectifier) {
+		if !p.Rect.Bridge && len(p.Rect.Anodes) == 1 {
+			diodes = append(diodes, p)
+		}
+	}
+	capBetween := func(a, b string) string {
+		for _, u := range d.Nets[a] {
+			c := d.ByRef[u.Ref]
+			if c == nil || c.Kind != design.Capacitor || c.Value < 0.5e-6 {
+				continue
+			}
+			x, y := c.Terminals[0].Net, c.Terminals[1].Net
+			if (x == a && y == b) || (x == b && y == a) {
+				return c.Ref
+			}
+		}
+		return ""
+	}
+	resBetween := func(a, b string) string {
+		for _, u := range d.Nets[a] {
+			r := d.ByRef[u.Ref]
+			if r == nil || r.Kind != design.Resistor {
+				continue
+			}
+			x, y := r.Terminals[0].Net, r.Terminals[1].Net
+			if (x == a && y == b) || (x == b && y == a) {
+				return r.Ref
+			}
+		}
+		return ""
+	}
+	for _, up := range diodes {
+		for _, lo := range diodes {
+			if up == lo {
+				continue
+			}
+			// Full-wave: lo from chassis to the winding end that up
+			// takes; the winding's other end is the capacitors' junction.
+			live := up.Rect.Anodes[0]
+			if w := windingOf(live); w != nil && lo.Rect.Anodes[0] == g && lo.Rect.Plus == live {
+				mid := w.Ends[0]
+				if mid == live {
+					mid = w.Ends[1]
+				}
+				out := up.Rect.Plus
+				c1, c2 := capBetween(out, mid), capBetween(mid, g)
+				if mid == g || w.Centre != "" || c1 == "" || c2 == "" {
+					continue
+				}
+				return &Doubler{Full: true, Diodes: [2]*design.Part{up, lo}, Caps: [2]string{c1, c2}, Mid: mid, Live: live,
+					Bleeders: [2]string{resBetween(out, mid), resBetween(mid, g)}, midHandle: -1, midRHandle: -1}, nil
+			}
+			// Half-wave: lo from chassis to the junction, up from there
+			// on; the pump capacitor from the junction to a winding end
+			// whose other end is chassis.
+			mid := up.Rect.Anodes[0]
+			if lo.Rect.Anodes[0] != g || lo.Rect.Plus != mid {
+				continue
+			}
+			for _, u := range d.Nets[mid] {
+				c := d.ByRef[u.Ref]
+				if c == nil || c.Kind != design.Capacitor {
+					continue
+				}
+				live := c.Terminals[0].Net
+				if live == mid {
+					live = c.Terminals[1].Net
+				}
+				w := windingOf(live)
+				if w == nil || w.Centre != "" || (w.Ends[0] != g && w.Ends[1] != g) {
+					continue
+				}
+				out := up.Rect.Plus
+				c2 := capBetween(out, g)
+				if c2 == "" {
+					return nil, fmt.Errorf("%s:%d:%d: %s: a half-wave voltage doubler with no reservoir: expected a capacitor from %s to %s",
+						d.File, up.Pos.Line, up.Pos.Col, up.Ref, out, g)
+				}
+				return &Doubler{Diodes: [2]*design.Part{lo, up}, Caps: [2]string{c.Ref, c2}, Mid: mid, Live: live,
+					Bleeders: [2]string{resBetween(mid, live), ""}, midHandle: -1, midRHandle: -1}, nil
+			}
+		}
+	}
+	return nil, nil
+}
+
+// doublerCandidate is a doubler as the HT candidate.
+func doublerCandidate(db *Doubler, tr *design.Part, windingOf func(string) *design.Winding) rectCandidate {
+	p := db.Diodes[0]
+	dd := p.Rect.Diode
+	w := windingOf(db.Live)
+	out := db.Diodes[1].Rect.Plus
+	if db.Full {
+		out = db.Diodes[0].Rect.Plus
+	}
+	ht := &HTSupply{Transformer: tr, Winding: w, Rectifier: p, Topology: db.Topology(),
+		Rect: supply.Rectifier{Kind: supply.Silicon, Vf: siliconDrop(dd), Rd: dd.Rs}, RectNet: out, Doubler: db}
+	return rectCandidate{p: p, ht: ht, volts: 2 * w.Volts}
+}
+
+// isDoublerPart says whether a part is one of the doubler's diodes.
+func (db *Doubler) isDiode(p *design.Part) bool { return db.DiodeIndex(p) >= 0 }
+
+// addDoublerMid puts the doubler's middle net in the network as a source
+// behind a resistance.
+func (m *Model) addDoublerMid() {
+	if m.HT == nil || m.HT.Doubler == nil {
+		return
+	}
+	db := m.HT.Doubler
+	inner := m.node("~doubler")
+	db.midHandle = m.ckt.AddVSource(inner, 0, 0)
+	db.midRHandle = m.ckt.AddResistor(inner, m.node(db.Mid), 1)
+}
+
+// doublerMidOhms is the middle net's source resistance in the network:
+// about a capacitor-input reservoir's 1/(f·C) droop per amp (the droop
+// argument of supply's doubler hand checks), the two capacitors together.
+func (m *Model) doublerMidOhms(p supply.Params) float64 {
+	c := p.Doubler.C1 + p.Doubler.C2
+	if !m.HT.Doubler.Full {
+		c = p.Doubler.C1
+	}
+	return 1 / (p.Hz * math.Max(c, 1e-9))
+}
+
+// doublerParams fills the doubler's part of the supply parameters from
+// the values: the capacitors (scaled by DoublerC), the diodes open.
+func (s *Solver) doublerParams(p *supply.Params, v *Values) {
+	db := s.m.HT.Doubler
+	if db == nil {
+		return
+	}
+	c1 := s.m.D.ByRef[db.Caps[0]].Value * v.DoublerC[0]
+	p.Doubler = supply.Doubler{C1: math.Max(c1, 1e-9), Open1: v.DoublerOpen[0], Open2: v.DoublerOpen[1]}
+	if db.Full {
+		p.Doubler.C2 = math.Max(s.m.D.ByRef[db.Caps[1]].Value*v.DoublerC[1], 1e-9)
+	}
+}
+
+// doublerLoads turns the loads the network draws into what the doubler
+// simulation takes: the output's load as the resistance it shows at its
+// volts (a doubler with a diode open has no steady state into a constant
+// current: its output collapses into a resistive load), and the current
+// the network draws out of the middle net.
+func (s *Solver) doublerLoads(p *supply.Params) {
+	m := s.m
+	db := m.HT.Doubler
+	if db == nil {
+		return
+	}
+	v0 := s.sol.V[m.nodeOf[m.HT.Nets[0]]]
+	if i := p.Stages[0].LoadA; i > 0 && v0 > 1 {
+		p.Stages[0].LoadOhms = v0 / i
+		p.Stages[0].LoadA = 0
+	}
+	p.Doubler.MidLoadA = s.sol.SourceAmps[m.ckt.VSourceIndex(db.midHandle)]
+}
+
+// setDoublerMid holds the middle net at the simulated middle's volts
+// (behind its source resistance, at the load the network drew).
+func (s *Solver) setDoublerMid(p supply.Params, res supply.Result) {
+	db := s.m.HT.Doubler
+	if db == nil {
+		return
+	}
+	r := s.m.doublerMidOhms(p)
+	v := res.Mid.Vdc + r*p.Doubler.MidLoadA
+	if math.IsNaN(v) {
+		v = 0
+	}
+	s.m.ckt.SetSource(db.midHandle, v)
+	s.m.ckt.SetResistance(db.midRHandle, r)
+	s.dbl.now, s.dbl.nowR = v, r
+}
+
+// doublerDead holds the middle net through a dead rectifier's leakage.
+func (s *Solver) doublerDead() {
+	if db := s.m.HT.Doubler; db != nil {
+		s.m.ckt.SetSource(db.midHandle, 0)
+		s.m.ckt.SetResistance(db.midRHandle, DeadRectOhms)
+	}
+}
+
+// doublerFast scales the middle net's last full-solve line as the HT's is.
+func (s *Solver) doublerFast(scale float64) {
+	if db := s.m.HT.Doubler; db != nil && s.dbl.cachedR > 0 {
+		s.m.ckt.SetSource(db.midHandle, s.dbl.cached*scale)
+		s.m.ckt.SetResistance(db.midRHandle, s.dbl.cachedR)
+	}
+}
