@@ -74,13 +74,19 @@ func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
 	steps = append(steps, brief, meter)
 	gate = []string{StepBriefing, StepMeter}
 	for _, dr := range b.Drain {
+		// A voltage doubler's floating capacitor is read across its
+		// own two nets, not to chassis.
+		to := "chassis"
+		if dr.Other != "" {
+			to = dr.Other
+		}
 		st := &Step{ID: "discharge-" + dr.Ref, Kind: KindDischarge, Safety: true, Gate: []string{StepMeter},
-			Title: fmt.Sprintf("Discharge and verify %s (%s on %s)", dr.Ref, units.Format(dr.Farads, units.Farads), dr.Net),
-			Instruction: fmt.Sprintf("Unplugged: discharge %s through a resistor tool, then measure DC volts across it (%s to chassis). It must read below %g V before you touch anything; %g V DC is the hazardous-live level (IEC 62368-1; IEC 60065 for older sets). %s",
-				dr.Ref, dr.Net, cold.TouchVolts, cold.HazardVolts, dischargeNote(dr)),
+			Title: fmt.Sprintf("Discharge and verify %s (%s on %s)", dr.Ref, units.Format(dr.Farads, units.Farads), dr.Across()),
+			Instruction: fmt.Sprintf("Unplugged: discharge %s through a resistor tool, then measure DC volts across it (%s to %s). It must read below %g V before you touch anything; %g V DC is the hazardous-live level (IEC 62368-1; IEC 60065 for older sets). %s",
+				dr.Ref, dr.Net, to, cold.TouchVolts, cold.HazardVolts, dischargeNote(dr)),
 			Cautions: []string{UnpluggedCaution, DischargeCaution},
 			Measures: []Measure{{Point: point.DischargeKey(dr.Ref), Label: dr.Ref + " volts after discharge", Function: FuncDCV,
-				Range: rangeFor(math.Abs(dr.PeakVolts), "V DC"), Probes: fmt.Sprintf("red on %s (%s), black on chassis", dr.Net, dr.Ref), Unit: "V"}},
+				Range: rangeFor(math.Abs(dr.PeakVolts), "V DC"), Probes: fmt.Sprintf("red on %s (%s), black on %s", dr.Net, dr.Ref, to), Unit: "V"}},
 			Why: fmt.Sprintf("%s can hold %s after power-off; its bleed path takes %s to fall below %g V, and a bleeder can fail open: only a meter reading proves it is safe.",
 				dr.Ref, units.Format(math.Abs(dr.PeakVolts), units.Volts), cold.FormatDuration(dr.To10), cold.TouchVolts),
 		}
