@@ -221,6 +221,7 @@ func Build(d *design.Design) (*Model, error) {
 			private[ref] = &ht.LineSlots
 		}
 	}
+	m.doublerPrivate(private)
 	if hs, err := d.SeriesHeaters(); err == nil && hs != nil {
 		m.String = hs
 		for _, ref := range hs.Droppers {

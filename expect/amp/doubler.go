@@ -31,8 +31,13 @@ type Doubler struct {
 	Caps      [2]string
 	Mid, Live string
 	// Bleeders are the resistors straight across each capacitor, by ref
-	// ("" for none); they stay in the network as they are.
-	Bleeders [2]string
+	// ("" for none). They are in the doubler's simulation (where they
+	// give a capacitor whose diode is open its DC path), and in the
+	// network only as value slots on private nodes (as a transformerless
+	// set's mains-side resistors are), so that their current is not
+	// counted twice; Resistors reads their heat from their nets' volts.
+	Bleeders   [2]string
+	bleedSlots [2][]int
 
 	midHandle, midRHandle int
 }
@@ -224,6 +229,47 @@ func (s *Solver) doublerParams(p *supply.Params, v *Values) {
 	if db.Full {
 		p.Doubler.C2 = math.Max(s.m.D.ByRef[db.Caps[1]].Value*v.DoublerC[1], 1e-9)
 	}
+	r := [2]*float64{&p.Doubler.R1, &p.Doubler.R2}
+	for i, ref := range db.Bleeders {
+		if sl := s.m.slotByRef[ref]; ref != "" && len(sl) > 0 && !math.IsInf(v.Slot[sl[0]], 1) {
+			*r[i] = v.Slot[sl[0]]
+		}
+	}
+}
+
+// doublerPrivate marks the doubler's bleeders as private value slots.
+func (m *Model) doublerPrivate(private map[string]*[]int) {
+	if m.HT == nil || m.HT.Doubler == nil {
+		return
+	}
+	db := m.HT.Doubler
+	for i, ref := range db.Bleeders {
+		if ref != "" {
+			private[ref] = &db.bleedSlots[i]
+		}
+	}
+}
+
+// doublerBleeder fills a doubler bleeder's volts, current and heat from
+// its own nets (its slot is private); false for any other slot.
+func (m *Model) doublerBleeder(op *OP, slot int, r *ResistorOP) bool {
+	if m.HT == nil || m.HT.Doubler == nil {
+		return false
+	}
+	db := m.HT.Doubler
+	for i := range db.Bleeders {
+		if len(db.bleedSlots[i]) == 0 || db.bleedSlots[i][0] != slot {
+			continue
+		}
+		p := m.D.ByRef[db.Bleeders[i]]
+		va, _ := m.NetVolts(op, p.Terminals[0].Net)
+		vb, _ := m.NetVolts(op, p.Terminals[1].Net)
+		ohms := m.Nominal[slot]
+		r.Volts, r.Amps = va-vb, (va-vb)/ohms
+		r.Watts = math.Abs(r.Volts * r.Amps)
+		return true
+	}
+	return false
 }
 
 // doublerLoads turns the loads the network draws into what the doubler
@@ -237,12 +283,14 @@ func (s *Solver) doublerLoads(p *supply.Params) {
 	if db == nil {
 		return
 	}
-	v0 := s.sol.V[m.nodeOf[m.HT.Nets[0]]]
+	out := m.HT.Nets[0]
+	mid := s.sol.SourceAmps[m.ckt.VSourceIndex(db.midHandle)]
+	v0 := s.sol.V[m.nodeOf[out]]
 	if i := p.Stages[0].LoadA; i > 0 && v0 > 1 {
 		p.Stages[0].LoadOhms = v0 / i
 		p.Stages[0].LoadA = 0
 	}
-	p.Doubler.MidLoadA = s.sol.SourceAmps[m.ckt.VSourceIndex(db.midHandle)]
+	p.Doubler.MidLoadA = mid
 }
 
 // setDoublerMid holds the middle net at the simulated middle's volts
@@ -276,4 +324,15 @@ func (s *Solver) doublerFast(scale float64) {
 		s.m.ckt.SetSource(db.midHandle, s.dbl.cached*scale)
 		s.m.ckt.SetResistance(db.midRHandle, s.dbl.cachedR)
 	}
+}
+
+// perturbFloor is the smallest load step of the perturbed simulation
+// that gives the HT's output resistance: 1 mA, or 10 µA for a doubler,
+// whose output resistance with a diode open is its bleeder's (100 kΩ and
+// more: a 1 mA step would take it below 0 V).
+func (s *Solver) perturbFloor() float64 {
+	if s.m.HT != nil && s.m.HT.Doubler != nil {
+		return 1e-5
+	}
+	return 1e-3
 }

@@ -738,7 +738,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		prevV0, prevI0 = v0, i0
 		if it == 1 {
 			// Incremental output resistance from a perturbed simulation.
-			dI := max(0.02*i0, 1e-3)
+			dI := max(0.02*i0, s.perturbFloor())
 			p2 := p
 			p2.Stages = append([]supply.Stage(nil), p.Stages...)
 			p2.Stages[0].LoadA += dI

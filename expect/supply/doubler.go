@@ -410,3 +410,16 @@ func (r *dblRecord) finish(e *engine, res *Result) {
 	// Two pulses a cycle, one per diode: the conduction per pulse.
 	res.ConductionDeg = 360 * float64(r.conducting) / n / 2
 }
+
+// bleedIntoOut is the current a full-wave doubler's top bleeder carries
+// from the middle node into the output (stage 0): with the diode's, the
+// DC the front end gives the output (its capacitor's is zero on average
+// at the steady state). A half-wave doubler's output is fed by its diode
+// alone.
+func (f *dblFront) bleedIntoOut(v []float64) float64 {
+	c := f.caps[0]
+	if f.ncap < 2 || c.bleedG == 0 {
+		return 0
+	}
+	return c.bleedG * (v[f.mid] - v[0])
+}

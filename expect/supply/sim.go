@@ -577,6 +577,9 @@ func (e *engine) record(x []float64) Result {
 			dr.sample(e, s)
 		}
 		sumSeries[0] += i
+		if dr != nil {
+			sumSeries[0] += e.dbl.bleedIntoOut(e.v)
+		}
 		for k := 1; k < n; k++ {
 			if e.lh[k] > 0 {
 				sumSeries[k] += e.il[k]
