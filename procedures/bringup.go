@@ -318,6 +318,9 @@ func supplyNets(b *BenchModel) []string {
 	var out []string
 	if b.M.HT != nil {
 		out = append(out, b.M.HT.Nets...)
+		if db := b.M.HT.Doubler; db != nil {
+			out = append(out, db.Mid) // a voltage doubler's capacitors' junction: its own supply net
+		}
 	}
 	for _, p := range b.D.Parts {
 		if p.Kind == design.BiasSupply || p.Kind == design.DCSupply {
@@ -401,6 +404,8 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 		} else if r != nil {
 			how = fmt.Sprintf("Pull the rectifier valve %s (%s) so that no HT can come up; fit every other valve.", r.Ref, r.Valve.Type.Name)
 			back = fmt.Sprintf("refit the rectifier valve %s", r.Ref)
+		} else if db := b.M.HT.Doubler; db != nil {
+			how, back = doublerHeatersFirst(db)
 		} else if b.M.HT != nil {
 			how = "Unplugged and discharged: lift the HT winding's centre-tap lead (or the rectifier's output lead) and insulate its end, so that no HT can come up; fit every valve. If you cannot lift it, skip this step with that reason: the heaters are then read at every variac step instead."
 			back = "reconnect the lifted centre-tap (or rectifier output) lead"
@@ -496,6 +501,7 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 				st.Measures = append(st.Measures, pointMeasure(byKey[firstNet], hi))
 			}
 		}
+		st.Measures = append(st.Measures, doublerMeasures(b, has, byKey)...)
 		if len(heaters) > 0 {
 			if hi, ok := has(heaters[0].Key()); ok {
 				st.Measures = append(st.Measures, pointMeasure(heaters[0], hi))

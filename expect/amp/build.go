@@ -446,7 +446,7 @@ func findHT(d *design.Design) (*HTSupply, []*AuxRect, error) {
 		}
 		return nil
 	}
-	dbl, err := findDoubler(d, windingOf)
+	dbl, err := findDoubler(d)
 	if err != nil {
 		return nil, nil, err
 	}

@@ -1,7 +1,6 @@
 package amp
 
 import (
-	"fmt"
 	"math"
 
 	"pinwalk/expect/design"
@@ -85,96 +84,21 @@ func (db *Doubler) CapIndex(ref string) int {
 	return -1
 }
 
-// findDoubler looks for two one-anode silicon rectifiers and two
-// capacitors wired as a voltage doubler off one transformer winding. nil
-// when the design has none.
-func findDoubler(d *design.Design, windingOf func(string) *design.Winding) (*Doubler, error) {
-	g := d.Ground
-	var diodes []*design.Part
-	for _, p := range d.PartsOfKind(design.Rectifier) {
-		if !p.Rect.Bridge && len(p.Rect.Anodes) == 1 {
-			diodes = append(diodes, p)
+// findDoubler takes the design's voltage doubler (design.VoltageDoubler
+// recognises one) into the model; nil when it has none.
+func findDoubler(d *design.Design) (*Doubler, error) {
+	dd, err := d.VoltageDoubler()
+	if err != nil || dd == nil {
+		return nil, err
+	}
+	db := &Doubler{Full: dd.Full, Diodes: dd.Diodes, Caps: [2]string{dd.Caps[0].Ref, dd.Caps[1].Ref}, Mid: dd.Mid, Live: dd.Live,
+		midHandle: -1, midRHandle: -1}
+	for i, r := range dd.Bleeders {
+		if r != nil {
+			db.Bleeders[i] = r.Ref
 		}
 	}
-	capBetween := func(a, b string) string {
-		for _, u := range d.Nets[a] {
-			c := d.ByRef[u.Ref]
-			if c == nil || c.Kind != design.Capacitor || c.Value < 0.5e-6 {
-				continue
-			}
-			x, y := c.Terminals[0].Net, c.Terminals[1].Net
-			if (x == a && y == b) || (x == b && y == a) {
-				return c.Ref
-			}
-		}
-		return ""
-	}
-	resBetween := func(a, b string) string {
-		for _, u := range d.Nets[a] {
-			r := d.ByRef[u.Ref]
-			if r == nil || r.Kind != design.Resistor {
-				continue
-			}
-			x, y := r.Terminals[0].Net, r.Terminals[1].Net
-			if (x == a && y == b) || (x == b && y == a) {
-				return r.Ref
-			}
-		}
-		return ""
-	}
-	for _, up := range diodes {
-		for _, lo := range diodes {
-			if up == lo {
-				continue
-			}
-			// Full-wave: lo from chassis to the winding end that up
-			// takes; the winding's other end is the capacitors' junction.
-			live := up.Rect.Anodes[0]
-			if w := windingOf(live); w != nil && lo.Rect.Anodes[0] == g && lo.Rect.Plus == live {
-				mid := w.Ends[0]
-				if mid == live {
-					mid = w.Ends[1]
-				}
-				out := up.Rect.Plus
-				c1, c2 := capBetween(out, mid), capBetween(mid, g)
-				if mid == g || w.Centre != "" || c1 == "" || c2 == "" {
-					continue
-				}
-				return &Doubler{Full: true, Diodes: [2]*design.Part{up, lo}, Caps: [2]string{c1, c2}, Mid: mid, Live: live,
-					Bleeders: [2]string{resBetween(out, mid), resBetween(mid, g)}, midHandle: -1, midRHandle: -1}, nil
-			}
-			// Half-wave: lo from chassis to the junction, up from there
-			// on; the pump capacitor from the junction to a winding end
-			// whose other end is chassis.
-			mid := up.Rect.Anodes[0]
-			if lo.Rect.Anodes[0] != g || lo.Rect.Plus != mid {
-				continue
-			}
-			for _, u := range d.Nets[mid] {
-				c := d.ByRef[u.Ref]
-				if c == nil || c.Kind != design.Capacitor {
-					continue
-				}
-				live := c.Terminals[0].Net
-				if live == mid {
-					live = c.Terminals[1].Net
-				}
-				w := windingOf(live)
-				if w == nil || w.Centre != "" || (w.Ends[0] != g && w.Ends[1] != g) {
-					continue
-				}
-				out := up.Rect.Plus
-				c2 := capBetween(out, g)
-				if c2 == "" {
-					return nil, fmt.Errorf("%s:%d:%d: %s: a half-wave voltage doubler with no reservoir: expected a capacitor from %s to %s",
-						d.File, up.Pos.Line, up.Pos.Col, up.Ref, out, g)
-				}
-				return &Doubler{Diodes: [2]*design.Part{lo, up}, Caps: [2]string{c.Ref, c2}, Mid: mid, Live: live,
-					Bleeders: [2]string{resBetween(mid, live), ""}, midHandle: -1, midRHandle: -1}, nil
-			}
-		}
-	}
-	return nil, nil
+	return db, nil
 }
 
 // doublerCandidate is a doubler as the HT candidate.
