@@ -1,6 +1,7 @@
 package amp
 
 import (
+	"fmt"
 	"math"
 
 	"pinwalk/expect/design"
@@ -38,14 +39,19 @@ type Doubler struct {
 	Bleeders   [2]string
 	bleedSlots [2][]int
 
-	midHandle, midRHandle int
+	// srcNets are the doubler's own nets the network holds at their
+	// simulated volts: the middle net, and a half-wave doubler's winding
+	// end (a node there through the pump capacitor); srcH, srcRH their
+	// sources and resistances.
+	srcNets     []string
+	srcH, srcRH []int
 }
 
 // doublerState is a solver's line for the doubler's middle net: the one
 // now set and the one of the last full solve at the design's mains, for
 // fast solves.
 type doublerState struct {
-	now, nowR, cached, cachedR float64
+	now, nowR, cached, cachedR [2]float64
 }
 
 // Topology is the doubler's supply topology.
@@ -91,8 +97,7 @@ func findDoubler(d *design.Design) (*Doubler, error) {
 	if err != nil || dd == nil {
 		return nil, err
 	}
-	db := &Doubler{Full: dd.Full, Diodes: dd.Diodes, Caps: [2]string{dd.Caps[0].Ref, dd.Caps[1].Ref}, Mid: dd.Mid, Live: dd.Live,
-		midHandle: -1, midRHandle: -1}
+	db := &Doubler{Full: dd.Full, Diodes: dd.Diodes, Caps: [2]string{dd.Caps[0].Ref, dd.Caps[1].Ref}, Mid: dd.Mid, Live: dd.Live}
 	for i, r := range dd.Bleeders {
 		if r != nil {
 			db.Bleeders[i] = r.Ref
@@ -118,16 +123,22 @@ func doublerCandidate(db *Doubler, tr *design.Part, windingOf func(string) *desi
 // isDoublerPart says whether a part is one of the doubler's diodes.
 func (db *Doubler) isDiode(p *design.Part) bool { return db.DiodeIndex(p) >= 0 }
 
-// addDoublerMid puts the doubler's middle net in the network as a source
-// behind a resistance.
+// addDoublerMid puts the doubler's own nets in the network as sources
+// behind resistances.
 func (m *Model) addDoublerMid() {
 	if m.HT == nil || m.HT.Doubler == nil {
 		return
 	}
 	db := m.HT.Doubler
-	inner := m.node("~doubler")
-	db.midHandle = m.ckt.AddVSource(inner, 0, 0)
-	db.midRHandle = m.ckt.AddResistor(inner, m.node(db.Mid), 1)
+	db.srcNets = []string{db.Mid}
+	if !db.Full {
+		db.srcNets = append(db.srcNets, db.Live)
+	}
+	for i, net := range db.srcNets {
+		inner := m.node(fmt.Sprintf("~doubler%d", i))
+		db.srcH = append(db.srcH, m.ckt.AddVSource(inner, 0, 0))
+		db.srcRH = append(db.srcRH, m.ckt.AddResistor(inner, m.node(net), 1))
+	}
 }
 
 // doublerMidOhms is the middle net's source resistance in the network:
@@ -208,7 +219,7 @@ func (s *Solver) doublerLoads(p *supply.Params) {
 		return
 	}
 	out := m.HT.Nets[0]
-	mid := s.sol.SourceAmps[m.ckt.VSourceIndex(db.midHandle)]
+	mid := s.sol.SourceAmps[m.ckt.VSourceIndex(db.srcH[0])]
 	v0 := s.sol.V[m.nodeOf[out]]
 	if i := p.Stages[0].LoadA; i > 0 && v0 > 1 {
 		p.Stages[0].LoadOhms = v0 / i
@@ -224,29 +235,37 @@ func (s *Solver) setDoublerMid(p supply.Params, res supply.Result) {
 	if db == nil {
 		return
 	}
-	r := s.m.doublerMidOhms(p)
-	v := res.Mid.Vdc + r*p.Doubler.MidLoadA
-	if math.IsNaN(v) {
-		v = 0
+	// The winding end's line: its simulated mean behind the winding's
+	// source resistance (the network draws next to nothing there).
+	r := [2]float64{s.m.doublerMidOhms(p), math.Max(p.Rs, minOhms)}
+	v := [2]float64{res.Mid.Vdc + r[0]*p.Doubler.MidLoadA, res.Live.Vdc}
+	for i := range db.srcH {
+		if math.IsNaN(v[i]) {
+			v[i] = 0
+		}
+		s.m.ckt.SetSource(db.srcH[i], v[i])
+		s.m.ckt.SetResistance(db.srcRH[i], r[i])
 	}
-	s.m.ckt.SetSource(db.midHandle, v)
-	s.m.ckt.SetResistance(db.midRHandle, r)
 	s.dbl.now, s.dbl.nowR = v, r
 }
 
 // doublerDead holds the middle net through a dead rectifier's leakage.
 func (s *Solver) doublerDead() {
 	if db := s.m.HT.Doubler; db != nil {
-		s.m.ckt.SetSource(db.midHandle, 0)
-		s.m.ckt.SetResistance(db.midRHandle, DeadRectOhms)
+		for i := range db.srcH {
+			s.m.ckt.SetSource(db.srcH[i], 0)
+			s.m.ckt.SetResistance(db.srcRH[i], DeadRectOhms)
+		}
 	}
 }
 
 // doublerFast scales the middle net's last full-solve line as the HT's is.
 func (s *Solver) doublerFast(scale float64) {
-	if db := s.m.HT.Doubler; db != nil && s.dbl.cachedR > 0 {
-		s.m.ckt.SetSource(db.midHandle, s.dbl.cached*scale)
-		s.m.ckt.SetResistance(db.midRHandle, s.dbl.cachedR)
+	if db := s.m.HT.Doubler; db != nil && s.dbl.cachedR[0] > 0 {
+		for i := range db.srcH {
+			s.m.ckt.SetSource(db.srcH[i], s.dbl.cached[i]*scale)
+			s.m.ckt.SetResistance(db.srcRH[i], s.dbl.cachedR[i])
+		}
 	}
 }
 

@@ -153,7 +153,9 @@ type SupplyOP struct {
 	PeakRectAmps, RmsAmps float64 // per rectifier path
 	TotalAmps             float64
 	Vth, Rth              float64 // the Thevenin line the network saw
-	MidV, MidR            float64 // a voltage doubler's middle-net line (HTSupply.Doubler)
+	// DoublerV, DoublerR are a voltage doubler's own nets' lines (its
+	// middle net, and a half-wave doubler's winding end: Doubler.srcNets).
+	DoublerV, DoublerR [2]float64
 	ConductionDeg         float64
 	FixedPointIterations  int
 	Simulated             bool // false when the fast (linearised) supply was used
@@ -776,7 +778,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	sp.PeakRectAmps, sp.RmsAmps, sp.TotalAmps = res.PeakRectAmps, res.RmsRectAmps, res.AvgRectAmps
 	sp.ConductionDeg = res.ConductionDeg
 	sp.Vth, sp.Rth, sp.Simulated = vth, rth, true
-	sp.MidV, sp.MidR = s.dbl.now, s.dbl.nowR
+	sp.DoublerV, sp.DoublerR = s.dbl.now, s.dbl.nowR
 	sp.SecondaryRms = max(0, p.Vrms-res.RmsRectAmps*p.Rs)
 	if c.Variac <= 0 || c.Variac == 1 {
 		if c.MainsVolts <= 0 || c.MainsVolts == m.D.Mains.Volts {

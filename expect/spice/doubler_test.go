@@ -94,3 +94,49 @@ func TestDoublerDiodeOpenAgreesWithNgspice(t *testing.T) {
 		}
 	}
 }
+
+// halfWaveDoubler is the practice-doubler template rewired as a half-wave
+// (Greinacher) doubler: the winding from chassis, C1 the pump from HW to
+// the diodes' junction DM, D1 from chassis up to DM, D2 from DM up to
+// B1, C2 the reservoir.
+func halfWaveDoubler(t *testing.T) *design.Design {
+	t.Helper()
+	tp, err := design.TemplateByName("practice-doubler")
+	if err != nil {
+		t.Fatal(err)
+	}
+	src := string(tp.Text)
+	for _, r := range [][2]string{
+		{"ends: [HW, DM]}", "ends: [HW, 0V]}"},
+		{"D1: {rectifier: silicon, anodes: [HW], cathode: B1}", "D1: {rectifier: silicon, anodes: [0V], cathode: DM}"},
+		{"D2: {rectifier: silicon, anodes: [0V], cathode: HW}", "D2: {rectifier: silicon, anodes: [DM], cathode: B1}"},
+		{"between: [B1, DM]}", "between: [DM, HW]}"},
+		{"C2: {capacitor: 100u?, volts: 250?, kind: electrolytic, between: [DM, 0V]}", "C2: {capacitor: 100u?, volts: 450?, kind: electrolytic, between: [B1, 0V]}"},
+		{"between: [B1, DM], note: bleeder across C1}", "between: [DM, HW], note: bleeder across C1}"},
+		{"R2: {resistor: 100k?, watts: 1?, between: [DM, 0V]", "R2: {resistor: 220k?, watts: 1?, between: [B1, 0V]"},
+	} {
+		if !strings.Contains(src, r[0]) {
+			t.Fatalf("template has no %q", r[0])
+		}
+		src = strings.Replace(src, r[0], r[1], 1)
+	}
+	d, probs := design.Parse("template:practice-doubler-half-wave", []byte(src))
+	if len(probs.Errors()) > 0 {
+		t.Fatal(probs.Errors())
+	}
+	return d
+}
+
+// The half-wave doubler against ngspice: every net within 1 %.
+func TestHalfWaveDoublerAgreesWithNgspice(t *testing.T) {
+	needSimulator(t)
+	d := halfWaveDoubler(t)
+	m, err := amp.Build(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m.HT == nil || m.HT.Doubler == nil || m.HT.Doubler.Full {
+		t.Fatalf("not taken as a half-wave doubler")
+	}
+	runComparisons(t, []*design.Design{d}, amp.Conditions{}, simCycles)
+}

@@ -339,14 +339,14 @@ func (e *engine) initialDoubler(x []float64) (iScale float64) {
 // dblRecord measures a doubler's own waveforms over the recorded cycle.
 type dblRecord struct {
 	caps       [2][]float64
-	mid        []float64
+	mid, live  []float64
 	sum, pk    [2]float64
 	iw2, pSum  float64
 	conducting int
 }
 
 func newDblRecord(n int) *dblRecord {
-	return &dblRecord{caps: [2][]float64{make([]float64, n), make([]float64, n)}, mid: make([]float64, n)}
+	return &dblRecord{caps: [2][]float64{make([]float64, n), make([]float64, n)}, mid: make([]float64, n), live: make([]float64, n)}
 }
 
 func (r *dblRecord) sample(e *engine, s int) {
@@ -358,6 +358,7 @@ func (r *dblRecord) sample(e *engine, s int) {
 		r.caps[1][s] = e.v[0]
 	}
 	r.mid[s] = e.v[f.mid]
+	r.live[s] = e.v[f.w]
 	any := false
 	for j, i := range f.amps {
 		r.sum[j] += i
@@ -400,6 +401,7 @@ func (r *dblRecord) finish(e *engine, res *Result) {
 		res.Caps[c].DCAmps = r.sum[c] / n
 	}
 	res.Mid = waveStats(r.mid)
+	res.Live = waveStats(r.live)
 	res.PeakRectAmps = math.Max(r.pk[0], r.pk[1])
 	res.RmsRectAmps = math.Sqrt(r.iw2 / n)
 	if tot := r.sum[0] + r.sum[1]; tot > 0 {

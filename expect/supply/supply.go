@@ -145,8 +145,9 @@ type Result struct {
 	Caps []NetResult
 	// Mid is a doubler's middle node (the capacitors' junction of a
 	// full-wave doubler, the pump capacitor's diode end of a half-wave
-	// one), volts to chassis.
-	Mid NetResult
+	// one), volts to chassis; Live is the winding's end the diodes take
+	// (a half-wave doubler's winding carries its pump bleeder's DC).
+	Mid, Live NetResult
 }
 
 // Options controls the simulation; zero fields take their DefaultOptions
