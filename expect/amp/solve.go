@@ -155,10 +155,10 @@ type SupplyOP struct {
 	Vth, Rth              float64 // the Thevenin line the network saw
 	// DoublerV, DoublerR are a voltage doubler's own nets' lines (its
 	// middle net, and a half-wave doubler's winding end: Doubler.srcNets).
-	DoublerV, DoublerR [2]float64
-	ConductionDeg         float64
-	FixedPointIterations  int
-	Simulated             bool // false when the fast (linearised) supply was used
+	DoublerV, DoublerR   [2]float64
+	ConductionDeg        float64
+	FixedPointIterations int
+	Simulated            bool // false when the fast (linearised) supply was used
 	// SecondaryRms is the loaded rms volts at a rectifier plate (per half
 	// for a centre tap): open-circuit volts less the rms current\'s drop
 	// in the source resistance (an approximation: the drop is not in phase).
