@@ -10,7 +10,14 @@ import (
 // for the heaters-first step, and how to restore it: the winding's lead to
 // the diodes lifted (no centre tap to lift), which leaves both capacitors
 // uncharged.
-func doublerHeatersFirst(db *amp.Doubler) (how, back string) {
+func doublerHeatersFirst(ht *amp.HTSupply, db *amp.Doubler) (how, back string) {
+	if lf := ht.Line; lf != nil && len(lf.Series) > 0 {
+		// Off the mains: the lead from the last series resistor to the
+		// pump capacitor.
+		r := lf.Series[len(lf.Series)-1]
+		how = fmt.Sprintf("Unplugged and discharged: unsolder %s's lead to the doubler's pump capacitor (net %s) and insulate its end, so that neither doubler capacitor can charge; fit every valve. If you cannot lift it, skip this step with that reason: the heaters are then read at every variac step instead.", r, db.Live)
+		return how, fmt.Sprintf("resolder %s's lead to the pump capacitor (net %s)", r, db.Live)
+	}
 	how = fmt.Sprintf("Unplugged and discharged: lift the HT winding's lead to the doubler's diodes (net %s, at %s and %s) and insulate its end, so that neither doubler capacitor can charge; fit every valve. If you cannot lift it, skip this step with that reason: the heaters are then read at every variac step instead.",
 		db.Live, db.Diodes[0].Ref, db.Diodes[1].Ref)
 	back = fmt.Sprintf("reconnect the HT winding's lead to the doubler's diodes (net %s)", db.Live)

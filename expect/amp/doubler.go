@@ -43,6 +43,7 @@ type Doubler struct {
 	// simulated volts: the middle net, and a half-wave doubler's winding
 	// end (a node there through the pump capacitor); srcH, srcRH their
 	// sources and resistances.
+	line        *design.LineFeed // a transformerless doubler's path from the mains
 	srcNets     []string
 	srcH, srcRH []int
 }
@@ -97,7 +98,7 @@ func findDoubler(d *design.Design) (*Doubler, error) {
 	if err != nil || dd == nil {
 		return nil, err
 	}
-	db := &Doubler{Full: dd.Full, Diodes: dd.Diodes, Caps: [2]string{dd.Caps[0].Ref, dd.Caps[1].Ref}, Mid: dd.Mid, Live: dd.Live}
+	db := &Doubler{Full: dd.Full, Diodes: dd.Diodes, Caps: [2]string{dd.Caps[0].Ref, dd.Caps[1].Ref}, Mid: dd.Mid, Live: dd.Live, line: dd.Line}
 	for i, r := range dd.Bleeders {
 		if r != nil {
 			db.Bleeders[i] = r.Ref
@@ -116,7 +117,12 @@ func doublerCandidate(db *Doubler, tr *design.Part, windingOf func(string) *desi
 		out = db.Diodes[0].Rect.Plus
 	}
 	ht := &HTSupply{Transformer: tr, Winding: w, Rectifier: p, Topology: db.Topology(),
-		Rect: supply.Rectifier{Kind: supply.Silicon, Vf: siliconDrop(dd), Rd: dd.Rs}, RectNet: out, Doubler: db}
+		Rect: supply.Rectifier{Kind: supply.Silicon, Vf: siliconDrop(dd), Rd: dd.Rs}, RectNet: out, Doubler: db, Line: db.line}
+	if w == nil {
+		// Off the mains (Line): findHT takes the mains as its source.
+		ht.Transformer = nil
+		return rectCandidate{p: p, ht: ht}
+	}
 	return rectCandidate{p: p, ht: ht, volts: 2 * w.Volts}
 }
 

@@ -26,6 +26,10 @@ type Doubler struct {
 	Out, Mid, Live string
 	Transformer    *Part
 	Winding        *Winding
+	// Line is the path from the mains to a transformerless half-wave
+	// doubler's pump capacitor (nil with a transformer): the winding is
+	// then the mains itself, from chassis (its neutral) to Live.
+	Line *LineFeed
 	// Bleeders are the resistors straight across each capacitor (nil
 	// for none; a half-wave doubler's reservoir bleeder is an ordinary
 	// load on its output and is not one of these).
@@ -115,7 +119,10 @@ func (d *Design) VoltageDoubler() (*Doubler, error) {
 					live = c.Terminals[1].Net
 				}
 				t, w := windingOf(live)
-				if w == nil || w.Centre != "" || (w.Ends[0] != g && w.Ends[1] != g) {
+				var line *LineFeed
+				if lf, ok := d.LineFeedTo(live); ok && w == nil && len(d.PartsOfKind(PowerTransformer)) == 0 {
+					line = &lf // a transformerless set: the pump off the mains
+				} else if w == nil || w.Centre != "" || (w.Ends[0] != g && w.Ends[1] != g) {
 					continue
 				}
 				out := up.Rect.Plus
@@ -125,7 +132,7 @@ func (d *Design) VoltageDoubler() (*Doubler, error) {
 						d.File, up.Pos.Line, up.Pos.Col, up.Ref, out, g)
 				}
 				return &Doubler{Diodes: [2]*Part{lo, up}, Caps: [2]*Part{c, c2}, Out: out, Mid: mid, Live: live,
-					Transformer: t, Winding: w, Bleeders: [2]*Part{between(Resistor, 0, mid, live), nil}}, nil
+					Transformer: t, Winding: w, Line: line, Bleeders: [2]*Part{between(Resistor, 0, mid, live), nil}}, nil
 			}
 		}
 	}

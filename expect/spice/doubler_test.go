@@ -140,3 +140,62 @@ func TestHalfWaveDoublerAgreesWithNgspice(t *testing.T) {
 	}
 	runComparisons(t, []*design.Design{d}, amp.Conditions{}, simCycles)
 }
+
+// lineFedDoubler is the acdc-phono template with its valve rectifier
+// replaced by a half-wave silicon doubler straight off the mains through
+// the surge resistor (C5 the pump from HTA to DM, D1 from chassis up to
+// DM, D2 from DM up to the reservoir B1) and the heater string's dropper
+// retaken for the two heaters left: (120 − 62.6 V)/150 mA ≈ 390 Ω.
+func lineFedDoubler(t *testing.T) *design.Design {
+	t.Helper()
+	tp, err := design.TemplateByName("acdc-phono")
+	if err != nil {
+		t.Fatal(err)
+	}
+	src := string(tp.Text)
+	i := strings.Index(src, "  V3:\n    valve: 35W4")
+	j := strings.Index(src, "  C1: {capacitor")
+	if i < 0 || j < i {
+		t.Fatal("acdc-phono: no 35W4 block")
+	}
+	src = src[:i] + `  C5: {capacitor: 47u, volts: 250, kind: electrolytic, between: [DM, HTA], note: doubler pump}
+  D1: {rectifier: silicon, anodes: [0V], cathode: DM}
+  D2: {rectifier: silicon, anodes: [DM], cathode: B1}
+  R5: {resistor: 220k, watts: 0.5, between: [DM, HTA], note: bleeder across C5}
+` + src[j:]
+	for _, r := range [][2]string{
+		{"R9: {resistor: 150R?, watts: 7?", "R9: {resistor: 390R, watts: 10"},
+		{"C1: {capacitor: 50u?, volts: 200?", "C1: {capacitor: 50u?, volts: 350?"},
+	} {
+		if !strings.Contains(src, r[0]) {
+			t.Fatalf("acdc-phono has no %q", r[0])
+		}
+	}
+	src = strings.Replace(src, "R9: {resistor: 150R?, watts: 7?", "R9: {resistor: 390R, watts: 10", 1)
+	src = strings.Replace(src, "C1: {capacitor: 50u?, volts: 200?", "C1: {capacitor: 50u?, volts: 350?", 1)
+	src = strings.ReplaceAll(src, "X2", "X3") // the 50C5's string end now meets the 12AV6's
+	d, probs := design.Parse("template:acdc-phono-doubler", []byte(src))
+	if len(probs.Errors()) > 0 {
+		t.Fatal(probs.Errors())
+	}
+	return d
+}
+
+// A transformerless half-wave doubler against ngspice: the mains at
+// ratio 1 behind the surge resistor, every net within 1 %; the chassis is
+// hot because of it.
+func TestLineFedDoublerAgreesWithNgspice(t *testing.T) {
+	d := lineFedDoubler(t)
+	m, err := amp.Build(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m.HT == nil || m.HT.Doubler == nil || m.HT.Line == nil {
+		t.Fatalf("not taken as a doubler off the mains: %+v", m.HT)
+	}
+	if hot, why := d.HotChassis(); !hot || !strings.Contains(why, "voltage doubler D1/D2 is fed straight from the mains") {
+		t.Errorf("hot chassis %v (%s), want the doubler named", hot, why)
+	}
+	needSimulator(t)
+	runComparisons(t, []*design.Design{d}, amp.Conditions{}, simCycles)
+}

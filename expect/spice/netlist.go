@@ -275,10 +275,12 @@ func (n *Netlist) supply(m *amp.Model, s *amp.Solver, c amp.Conditions, v *amp.V
 		n.line("%s %s %s %s", n.elem("R", "mains_ht"), mid, n.node(lf.Anode), num(max(p.Rs, minOhms)))
 	} else if ht.Doubler != nil {
 		n.doublerWinding(ht, p, src)
-		n.doublerDiodes(ht)
-		return nil
 	} else {
 		n.htWinding(ht, w, p, src)
+	}
+	if ht.Doubler != nil {
+		n.doublerDiodes(ht)
+		return nil
 	}
 	return n.rectifier(ht, p)
 }
