@@ -216,11 +216,22 @@ func newRCFull(g, c *mat.Dense) (*rcFull, error) {
 		corr.Mul(grc.T(), r.x)
 		gred.Sub(gred, &corr)
 	}
+	// A stray capacitance to chassis on every capacitor node, 10⁻⁷ of
+	// the largest capacitor (10 pF beside 100 µF, the order of a part's
+	// and its wiring's stray capacitance, common practice): a node joined
+	// to chassis only through resistance (a half-wave doubler's winding
+	// end, behind its pump capacitor) makes C singular without it, and
+	// its own mode then dies in well under a microsecond.
+	cmax := 0.0
+	for i := 0; i < nc; i++ {
+		cmax = math.Max(cmax, c.At(r.capIx[i], r.capIx[i]))
+	}
 	cc := mat.NewSymDense(nc, nil)
 	for i := 0; i < nc; i++ {
 		for j := i; j < nc; j++ {
 			cc.SetSym(i, j, c.At(r.capIx[i], r.capIx[j]))
 		}
+		cc.SetSym(i, i, cc.At(i, i)+1e-7*cmax)
 	}
 	var ch mat.Cholesky
 	if !ch.Factorize(cc) {

@@ -103,3 +103,54 @@ func TestDoublerCapacitorNoBleeder(t *testing.T) {
 		}
 	}
 }
+
+// A half-wave doubler's pump capacitor sits between the diodes' junction
+// and the winding, which reaches chassis only through its resistance: it
+// discharges through the bleeder across it, τ = R·C (Ohm's law, the
+// winding's 6 Ω beside 100 kΩ), read across its own two nets.
+func TestHalfWaveDoublerPumpDischarge(t *testing.T) {
+	src := `pinwalk: 1
+title: half-wave doubler discharge
+mains: {volts: 230, hz: 50, tolerance: 6%}
+ground: 0V
+parts:
+  J1: {mains-inlet: iec, live: L, neutral: N, earth: 0V}
+  F1: {fuse: 1A, slow: true, between: [L, L1]}
+  T1:
+    power-transformer:
+      primary: {volts: 230, dcr: 14R, ends: [L1, N]}
+      secondaries:
+        HT: {volts: 120, rated: 150mA, dcr: 6R, ends: [HW, 0V]}
+  C1: {capacitor: 100u, volts: 250, kind: electrolytic, between: [DM, HW]}
+  D1: {rectifier: silicon, anodes: [0V], cathode: DM}
+  D2: {rectifier: silicon, anodes: [DM], cathode: B1}
+  C2: {capacitor: 100u, volts: 450, kind: electrolytic, between: [B1, 0V]}
+  R1: {resistor: 100k, between: [DM, HW]}
+  R2: {resistor: 220k, between: [B1, 0V]}
+`
+	d, probs := design.Parse("half.yaml", []byte(src))
+	if len(probs.Errors()) > 0 {
+		t.Fatal(probs.Errors())
+	}
+	m, err := amp.Build(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows, err := DischargeTimes(d, m, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, row := range rows {
+		tau := 100e-6 * 100e3
+		if row.Ref == "C2" {
+			tau = 100e-6 * 220e3
+		}
+		if row.Ref == "C1" && row.Across() != "DM–HW" {
+			t.Errorf("C1 read across %s, want DM–HW", row.Across())
+		}
+		v0 := math.Abs(row.PeakVolts)
+		if want := tau * math.Log(v0/TouchVolts); math.Abs(row.To10-want) > 0.01*want {
+			t.Errorf("%s (%.0f V) below 10 V in %.2f s, want τ·ln(V0/10 V) = %.2f s", row.Ref, v0, row.To10, want)
+		}
+	}
+}
