@@ -404,8 +404,8 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 		} else if r != nil {
 			how = fmt.Sprintf("Pull the rectifier valve %s (%s) so that no HT can come up; fit every other valve.", r.Ref, r.Valve.Type.Name)
 			back = fmt.Sprintf("refit the rectifier valve %s", r.Ref)
-		} else if db := b.M.HT.Doubler; db != nil {
-			how, back = doublerHeatersFirst(b.M.HT, db)
+		} else if b.M.HT != nil && b.M.HT.Doubler != nil {
+			how, back = doublerHeatersFirst(b.M.HT, b.M.HT.Doubler)
 		} else if b.M.HT != nil {
 			how = "Unplugged and discharged: lift the HT winding's centre-tap lead (or the rectifier's output lead) and insulate its end, so that no HT can come up; fit every valve. If you cannot lift it, skip this step with that reason: the heaters are then read at every variac step instead."
 			back = "reconnect the lifted centre-tap (or rectifier output) lead"
