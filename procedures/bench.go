@@ -419,7 +419,7 @@ func dischargeNote(dr cold.Discharge) string {
 		return dr.Warning
 	}
 	s := fmt.Sprintf("%s (%s on %s) can hold %s; its bleed path (%s) takes it below %g V DC (hazardous-live level, IEC 62368-1) in %s and below %g V in %s",
-		dr.Ref, units.Format(dr.Farads, units.Farads), dr.Net, units.Format(math.Abs(dr.PeakVolts), units.Volts),
+		dr.Ref, units.Format(dr.Farads, units.Farads), dr.Across(), units.Format(math.Abs(dr.PeakVolts), units.Volts),
 		units.Format(dr.BleedOhms, units.Ohms), cold.HazardVolts, cold.FormatDuration(dr.To60), cold.TouchVolts, cold.FormatDuration(dr.To10))
 	if dr.Warning != "" {
 		s += "; " + dr.Warning

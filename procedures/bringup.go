@@ -74,13 +74,19 @@ func safetySteps(b *BenchModel) (steps []*Step, gate []string) {
 	steps = append(steps, brief, meter)
 	gate = []string{StepBriefing, StepMeter}
 	for _, dr := range b.Drain {
+		// A voltage doubler's floating capacitor is read across its
+		// own two nets, not to chassis.
+		to := "chassis"
+		if dr.Other != "" {
+			to = dr.Other
+		}
 		st := &Step{ID: "discharge-" + dr.Ref, Kind: KindDischarge, Safety: true, Gate: []string{StepMeter},
-			Title: fmt.Sprintf("Discharge and verify %s (%s on %s)", dr.Ref, units.Format(dr.Farads, units.Farads), dr.Net),
-			Instruction: fmt.Sprintf("Unplugged: discharge %s through a resistor tool, then measure DC volts across it (%s to chassis). It must read below %g V before you touch anything; %g V DC is the hazardous-live level (IEC 62368-1; IEC 60065 for older sets). %s",
-				dr.Ref, dr.Net, cold.TouchVolts, cold.HazardVolts, dischargeNote(dr)),
+			Title: fmt.Sprintf("Discharge and verify %s (%s on %s)", dr.Ref, units.Format(dr.Farads, units.Farads), dr.Across()),
+			Instruction: fmt.Sprintf("Unplugged: discharge %s through a resistor tool, then measure DC volts across it (%s to %s). It must read below %g V before you touch anything; %g V DC is the hazardous-live level (IEC 62368-1; IEC 60065 for older sets). %s",
+				dr.Ref, dr.Net, to, cold.TouchVolts, cold.HazardVolts, dischargeNote(dr)),
 			Cautions: []string{UnpluggedCaution, DischargeCaution},
 			Measures: []Measure{{Point: point.DischargeKey(dr.Ref), Label: dr.Ref + " volts after discharge", Function: FuncDCV,
-				Range: rangeFor(math.Abs(dr.PeakVolts), "V DC"), Probes: fmt.Sprintf("red on %s (%s), black on chassis", dr.Net, dr.Ref), Unit: "V"}},
+				Range: rangeFor(math.Abs(dr.PeakVolts), "V DC"), Probes: fmt.Sprintf("red on %s (%s), black on %s", dr.Net, dr.Ref, to), Unit: "V"}},
 			Why: fmt.Sprintf("%s can hold %s after power-off; its bleed path takes %s to fall below %g V, and a bleeder can fail open: only a meter reading proves it is safe.",
 				dr.Ref, units.Format(math.Abs(dr.PeakVolts), units.Volts), cold.FormatDuration(dr.To10), cold.TouchVolts),
 		}
@@ -312,6 +318,9 @@ func supplyNets(b *BenchModel) []string {
 	var out []string
 	if b.M.HT != nil {
 		out = append(out, b.M.HT.Nets...)
+		if db := b.M.HT.Doubler; db != nil {
+			out = append(out, db.Mid) // a voltage doubler's capacitors' junction: its own supply net
+		}
 	}
 	for _, p := range b.D.Parts {
 		if p.Kind == design.BiasSupply || p.Kind == design.DCSupply {
@@ -395,6 +404,8 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 		} else if r != nil {
 			how = fmt.Sprintf("Pull the rectifier valve %s (%s) so that no HT can come up; fit every other valve.", r.Ref, r.Valve.Type.Name)
 			back = fmt.Sprintf("refit the rectifier valve %s", r.Ref)
+		} else if b.M.HT != nil && b.M.HT.Doubler != nil {
+			how, back = doublerHeatersFirst(b.M.HT, b.M.HT.Doubler)
 		} else if b.M.HT != nil {
 			how = "Unplugged and discharged: lift the HT winding's centre-tap lead (or the rectifier's output lead) and insulate its end, so that no HT can come up; fit every valve. If you cannot lift it, skip this step with that reason: the heaters are then read at every variac step instead."
 			back = "reconnect the lifted centre-tap (or rectifier output) lead"
@@ -490,6 +501,7 @@ func liveSteps(b *BenchModel, gate []string, ramp bool) ([]*Step, error) {
 				st.Measures = append(st.Measures, pointMeasure(byKey[firstNet], hi))
 			}
 		}
+		st.Measures = append(st.Measures, doublerMeasures(b, has, byKey)...)
 		if len(heaters) > 0 {
 			if hi, ok := has(heaters[0].Key()); ok {
 				st.Measures = append(st.Measures, pointMeasure(heaters[0], hi))

@@ -65,6 +65,7 @@ func coldReadingBand(c cold.Check, mt bands.Meter) bands.Band {
 type jsonDischarge struct {
 	Ref       string   `json:"ref"`
 	Net       string   `json:"net"`
+	Other     string   `json:"other,omitempty"` // a floating capacitor's second net (read Net to Other)
 	Farads    float64  `json:"farads"`
 	PeakVolts float64  `json:"peak_volts"`
 	BleedOhms jsonOhms `json:"bleed_ohms"` // null: no path
@@ -134,7 +135,7 @@ func runColdExpect(d *design.Design, meter bands.Meter, flts []faults.Fault, asJ
 			rep.Cold = append(rep.Cold, jc)
 		}
 		for _, x := range dis {
-			rep.Discharge = append(rep.Discharge, jsonDischarge{Ref: x.Ref, Net: x.Net, Farads: x.Farads, PeakVolts: x.PeakVolts,
+			rep.Discharge = append(rep.Discharge, jsonDischarge{Ref: x.Ref, Net: x.Net, Other: x.Other, Farads: x.Farads, PeakVolts: x.PeakVolts,
 				BleedOhms: ohmsJSON(x.BleedOhms), To60: ohmsJSON(x.To60), To10: ohmsJSON(x.To10), NoPath: x.NoPath, Warning: x.Warning})
 		}
 		enc := json.NewEncoder(stdout)
@@ -158,7 +159,7 @@ func runColdExpect(d *design.Design, meter bands.Meter, flts []faults.Fault, asJ
 	fmt.Fprintf(w, "\nDischarge after power-off (from the cold-start peak at high mains; valves cold):\n")
 	fmt.Fprintf(w, "  %-6s %-6s %-9s %-9s %-10s %-10s %-10s\n", "cap", "net", "C", "peak", "bleed", "to <60 V", "to <10 V")
 	for _, x := range dis {
-		fmt.Fprintf(w, "  %-6s %-6s %-9s %-9s %-10s %-10s %-10s\n", x.Ref, x.Net, units.Format(x.Farads, units.Farads),
+		fmt.Fprintf(w, "  %-6s %-6s %-9s %-9s %-10s %-10s %-10s\n", x.Ref, x.Across(), units.Format(x.Farads, units.Farads),
 			units.Format(x.PeakVolts, units.Volts), fmtOhms(x.BleedOhms), fmtSecs(x.To60), fmtSecs(x.To10))
 		if x.Warning != "" && !x.NoPath {
 			fmt.Fprintf(w, "         %s\n", x.Warning)

@@ -832,7 +832,8 @@ func RippleHz(m *amp.Model, v *amp.Values) float64 {
 	if m.HT == nil {
 		return hz
 	}
-	if m.HT.Topology == supply.HalfWave || (v != nil && v.HalfOpen && m.HT.Topology == supply.CentreTap) {
+	if m.HT.Topology == supply.HalfWave || m.HT.Topology == supply.HalfDoubler || (v != nil && v.HalfOpen && m.HT.Topology == supply.CentreTap) ||
+		(v != nil && m.HT.Doubler != nil && (v.DoublerOpen[0] || v.DoublerOpen[1])) {
 		return hz
 	}
 	return 2 * hz

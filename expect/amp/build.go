@@ -146,6 +146,9 @@ type HTSupply struct {
 	// RectNet is the rectifier's output net (equal to Nets[0] for
 	// capacitor input).
 	RectNet string
+	// Doubler is the HT's voltage doubler (nil for other rectifiers);
+	// Rectifier is then its first diode.
+	Doubler *Doubler
 }
 
 // Node returns the network node of a net, and whether the net is in the
@@ -224,6 +227,7 @@ func Build(d *design.Design) (*Model, error) {
 			private[ref] = &ht.LineSlots
 		}
 	}
+	m.doublerPrivate(private)
 	if hs, err := d.SeriesHeaters(); err == nil && hs != nil {
 		m.String = hs
 		for _, ref := range hs.Droppers {
@@ -291,6 +295,7 @@ func Build(d *design.Design) (*Model, error) {
 		m.srcHandle = m.ckt.AddVSource(inner, 0, 0)
 		m.srcRHandle = m.ckt.AddResistor(inner, top, 1)
 	}
+	m.addDoublerMid()
 	m.addAux()
 	m.addHeaterCathodeSlots()
 	m.addGasSlots()
@@ -448,8 +453,18 @@ func findHT(d *design.Design) (*HTSupply, []*AuxRect, error) {
 		}
 		return nil
 	}
+	dbl, err := findDoubler(d)
+	if err != nil {
+		return nil, nil, err
+	}
 	var cands []rectCandidate
+	if dbl != nil {
+		cands = append(cands, doublerCandidate(dbl, tr, windingOf))
+	}
 	for _, p := range d.Parts {
+		if dbl.isDiode(p) {
+			continue
+		}
 		var anodes []string
 		var out string
 		var rect supply.Rectifier
@@ -570,7 +585,10 @@ func (ht *HTSupply) filter(d *design.Design) error {
 		ht.CapRefs = append(ht.CapRefs, capsOn(net))
 		visited[net] = true
 	}
-	if len(capsOn(ht.RectNet)) > 0 {
+	if ht.Doubler != nil {
+		visited[ht.Doubler.Mid] = true // its own node, not a filter stage
+	}
+	if len(capsOn(ht.RectNet)) > 0 || ht.Doubler != nil {
 		addStage(ht.RectNet, -1, "")
 	} else {
 		for _, u := range d.Nets[ht.RectNet] {

@@ -24,6 +24,7 @@ func (s *Solver) CacheSupplyAt(c Conditions, v *Values, op *OP) error {
 	s.lastVth, s.lastRth = op.Supply.Vth, op.Supply.Rth
 	s.nomF = s.mainsFactor(c) * v.HTVolts
 	s.lastSec = op.Supply.SecondaryRms
+	s.dbl.cached, s.dbl.cachedR = op.Supply.DoublerV, op.Supply.DoublerR
 	s.haveTh = true
 	return nil
 }

@@ -283,6 +283,7 @@ func (m *Model) Resistors(op *OP) []ResistorOP {
 			ohms := m.Nominal[i]
 			r.Volts, r.Amps, r.Watts = rms*ohms, rms, rms*rms*ohms
 		}
+		m.doublerBleeder(op, i, &r)
 		if p.Kind == design.Pot {
 			r.Ref = p.Ref + " (" + sl.Role + ")"
 		}

@@ -67,11 +67,16 @@ type Values struct {
 	// AuxOpen marks auxiliary rectifiers (by ref, Model.AuxRects) whose
 	// diodes are open: their supply gives nothing. nil means none.
 	AuxOpen map[string]bool
+	// DoublerOpen: an HT voltage doubler's diode open (Doubler.Diodes
+	// order); DoublerC: its capacitors' capacitance scale (Doubler.Caps
+	// order; 1 nominal).
+	DoublerOpen [2]bool
+	DoublerC    [2]float64
 }
 
 // NominalValues returns a fresh copy of the nominal part values.
 func (m *Model) NominalValues() *Values {
-	v := &Values{Slot: append([]float64(nil), m.Nominal...), HTVolts: 1, HTOhms: 1, RectScale: 1, HeaterVolts: 1}
+	v := &Values{Slot: append([]float64(nil), m.Nominal...), HTVolts: 1, HTOhms: 1, RectScale: 1, HeaterVolts: 1, DoublerC: [2]float64{1, 1}}
 	for _, s := range m.Sections {
 		v.Koren = append(v.Koren, s.Type.Model)
 		v.Emission = append(v.Emission, 1)
@@ -148,9 +153,12 @@ type SupplyOP struct {
 	PeakRectAmps, RmsAmps float64 // per rectifier path
 	TotalAmps             float64
 	Vth, Rth              float64 // the Thevenin line the network saw
-	ConductionDeg         float64
-	FixedPointIterations  int
-	Simulated             bool // false when the fast (linearised) supply was used
+	// DoublerV, DoublerR are a voltage doubler's own nets' lines (its
+	// middle net, and a half-wave doubler's winding end: Doubler.srcNets).
+	DoublerV, DoublerR   [2]float64
+	ConductionDeg        float64
+	FixedPointIterations int
+	Simulated            bool // false when the fast (linearised) supply was used
 	// SecondaryRms is the loaded rms volts at a rectifier plate (per half
 	// for a centre tap): open-circuit volts less the rms current\'s drop
 	// in the source resistance (an approximation: the drop is not in phase).
@@ -223,6 +231,7 @@ type Solver struct {
 	haveTh  bool
 	nomF    float64 // supply factor of the cached line
 	aux     []auxState
+	dbl     doublerState
 }
 
 // NewSolver returns a solver for m.
@@ -605,6 +614,7 @@ func (s *Solver) supplyParams(c Conditions, v *Values, hv map[string]float64) su
 		_ = net
 		p.Stages = append(p.Stages, st)
 	}
+	s.doublerParams(&p, v)
 	return p
 }
 
@@ -679,6 +689,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		if err := s.setSource(vth, rth); err != nil {
 			return err
 		}
+		s.doublerFast(f / s.nomF)
 		if err := s.network(); err != nil {
 			return err
 		}
@@ -712,6 +723,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	for it := 1; it <= 30; it++ {
 		sp.FixedPointIterations = it
 		s.stageLoads(&p, nil)
+		s.doublerLoads(&p)
 		res, err = supply.Simulate(p, s.sopt)
 		if err != nil && !errors.Is(err, supply.ErrNoSteadyState) {
 			return fmt.Errorf("HT supply: %w", err)
@@ -737,7 +749,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		prevV0, prevI0 = v0, i0
 		if it == 1 {
 			// Incremental output resistance from a perturbed simulation.
-			dI := max(0.02*i0, 1e-3)
+			dI := max(0.02*i0, s.perturbFloor())
 			p2 := p
 			p2.Stages = append([]supply.Stage(nil), p.Stages...)
 			p2.Stages[0].LoadA += dI
@@ -750,6 +762,7 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 		if err := s.setSource(vth, rth); err != nil {
 			return err
 		}
+		s.setDoublerMid(p, res)
 		auxMoved, err := s.auxUpdate(c, v, it == 1)
 		if err != nil {
 			return err
@@ -774,12 +787,14 @@ func (s *Solver) Solve(c Conditions, v *Values, fast bool, op *OP) error {
 	sp.PeakRectAmps, sp.RmsAmps, sp.TotalAmps = res.PeakRectAmps, res.RmsRectAmps, res.AvgRectAmps
 	sp.ConductionDeg = res.ConductionDeg
 	sp.Vth, sp.Rth, sp.Simulated = vth, rth, true
+	sp.DoublerV, sp.DoublerR = s.dbl.now, s.dbl.nowR
 	sp.SecondaryRms = max(0, p.Vrms-res.RmsRectAmps*p.Rs)
 	if c.Variac <= 0 || c.Variac == 1 {
 		if c.MainsVolts <= 0 || c.MainsVolts == m.D.Mains.Volts {
 			if !c.ColdValves {
 				s.lastVth, s.lastRth, s.nomF, s.haveTh = vth, rth, f, true
 				s.lastSec = sp.SecondaryRms
+				s.dbl.cached, s.dbl.cachedR = s.dbl.now, s.dbl.nowR
 			}
 		}
 	}
@@ -806,6 +821,7 @@ func (s *Solver) solveDead(c Conditions, v *Values, p supply.Params, sp *SupplyO
 	if err := s.setSource(0, DeadRectOhms); err != nil {
 		return err
 	}
+	s.doublerDead()
 	if err := s.network(); err != nil {
 		return err
 	}

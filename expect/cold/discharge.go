@@ -25,7 +25,10 @@ const (
 // power-off.
 type Discharge struct {
 	Ref, Net string
-	Farads   float64
+	// Other is a floating capacitor's second net (a voltage doubler's;
+	// "" for chassis): its volts are read from Net to Other.
+	Other  string
+	Farads float64
 	// PeakVolts is the capacitor's volts at the cold-start peak (valves
 	// cold, high mains): the most it can hold.
 	PeakVolts float64
@@ -108,6 +111,9 @@ func DischargeTimes(d *design.Design, m *amp.Model, mains float64) ([]Discharge,
 		}
 	}
 	n := buildNetwork(d)
+	if out, ok, err := doublerDischarge(d, m, &op, n, all, rows); ok {
+		return out, err
+	}
 	// The dynamic network: every net with a capacitor to chassis that has
 	// a resistive path to chassis, and the nets joined to it.
 	grounded := n.reach(d.Ground, "")

@@ -289,6 +289,10 @@ func (d *Design) HotChassis() (bool, string) {
 	}
 	var why []string
 	if len(d.PartsOfKind(PowerTransformer)) == 0 {
+		if db, _ := d.VoltageDoubler(); db != nil && db.Line != nil {
+			why = append(why, fmt.Sprintf("there is no power transformer: the voltage doubler %s/%s is fed straight from the mains %s (%s)",
+				db.Diodes[0].Ref, db.Diodes[1].Ref, d.poleWord(db.Line.From), db.Line.From))
+		}
 		for _, p := range d.Parts {
 			for _, a := range p.RectifierAnodes() {
 				if lf, ok := d.LineFeedTo(a); ok {

@@ -363,10 +363,16 @@ func supplyChains(d *Design) []SupplyChain {
 		return s + ")"
 	}
 	var out []SupplyChain
+	dbl, _ := d.VoltageDoubler()
 	for _, p := range d.Parts {
 		var ch SupplyChain
 		var outNet string
 		switch {
+		case dbl.IsDiode(p):
+			if p != dbl.Diodes[0] {
+				continue // one chain for the doubler
+			}
+			ch, outNet = SupplyChain{Name: "HT", Source: dbl.doublerSource(winding)}, dbl.Out
 		case p.Kind == Rectifier:
 			outNet = p.Rect.Plus
 			topo := "full-wave centre tap"
@@ -421,6 +427,9 @@ func supplyChains(d *Design) []SupplyChain {
 func walkSupply(d *Design, src *Part, outNet string) []SupplyStage {
 	stages := []SupplyStage{{Net: outNet}}
 	visited := map[string]bool{outNet: true, d.Ground: true}
+	if dbl, _ := d.VoltageDoubler(); dbl.IsDiode(src) {
+		visited[dbl.Mid] = true // the doubler's own junction, not a filter stage
+	}
 	series := map[string]bool{}
 	for i := 0; i < len(stages); i++ {
 		net := stages[i].Net

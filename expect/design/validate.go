@@ -74,9 +74,14 @@ func (l *loader) checkSupply(d *Design) {
 	}
 	supplies := len(d.PartsOfKind(DCSupply)) + len(d.PartsOfKind(BiasSupply))
 	rects := 0
+	dbl, _ := d.VoltageDoubler()
 	for _, p := range d.Parts {
 		anodes := p.RectifierAnodes()
 		if anodes == nil {
+			continue
+		}
+		if dbl.IsDiode(p) {
+			rects++ // a voltage doubler's diode: fed through the doubler, not a winding end
 			continue
 		}
 		if p.Kind == Rectifier && !p.Rect.Bridge && len(anodes) == 1 && winding[anodes[0]] == nil && winding[p.Rect.Plus] != nil {

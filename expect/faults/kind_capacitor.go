@@ -64,7 +64,7 @@ func init() {
 		Healthy: func(p *design.Part) OutReading {
 			return OutReading{Ohms: math.Inf(1), OK: true, Words: "its marked capacitance, open on an ohmmeter once charged"}
 		},
-		Modes: []ModeSpec{
+		Modes: withDoublerCaps([]ModeSpec{
 			{Mode: Short, Prior: 0.5, ByRole: []RolePrior{{RoleFilterCap, 1.5}, {RoleBypass, 0.8}, {RoleCoupling, 0.3}},
 				Live: func(v *amp.Values, t Target) { setSlots(v, slotsWithRole(t.M, t.Part.Ref, "leak"), 0) },
 				Cold: func(n ColdNet, t Target) {
@@ -125,7 +125,7 @@ func init() {
 					return OutReading{Ohms: math.Inf(1), OK: true, Words: "a small part of its marked capacitance, or none"}
 				},
 				Confirm: confirmCapacitor, Replace: replaceCapacitor},
-		},
+		}),
 	})
 }
 

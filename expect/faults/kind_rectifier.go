@@ -48,7 +48,9 @@ import (
 // Silicon diodes fail short more often than open (common practice for
 // the weights).
 func init() {
-	isHT := func(m *amp.Model, p *design.Part) bool { return m.HT != nil && m.HT.Rectifier == p }
+	isHT := func(m *amp.Model, p *design.Part) bool {
+		return m.HT != nil && m.HT.Rectifier == p && m.HT.Doubler == nil
+	}
 	isAux := func(m *amp.Model, p *design.Part) bool { return m.AuxRectOf(p.Ref) != nil }
 	auxOpen := func(v *amp.Values, t Target) {
 		if v.AuxOpen == nil {
@@ -68,7 +70,7 @@ func init() {
 		Healthy: func(p *design.Part) OutReading {
 			return OutReading{Ohms: math.NaN(), Words: "each diode about 0.5–0.7 V one way on the diode range and open the other"}
 		},
-		Modes: []ModeSpec{
+		Modes: append(doublerDiodeModes(), []ModeSpec{
 			{Mode: Open, Prior: 0.3, Applies: isHT,
 				Live:     func(v *amp.Values, t Target) { v.RectDead = true },
 				Describe: said("open (no B+)"),
@@ -109,7 +111,7 @@ func init() {
 					return OutReading{Ohms: OutShortOhms, OK: true, Words: "near 0 both ways"}
 				},
 				Confirm: confirmDiodes, Replace: replaceDiodes},
-		},
+		}...),
 	})
 }
 

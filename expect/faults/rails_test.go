@@ -73,6 +73,14 @@ func supplyRails(t *testing.T, m *amp.Model) rails {
 			t.Fatalf("no supply parameters")
 		}
 		hi = math.Max(hi, supply.ColdPeak(p))
+		if m.HT.Doubler != nil {
+			// A voltage doubler's middle net is the output less the top
+			// capacitor's volts (at most one winding peak) with the output
+			// at or above chassis: with its lower diode open the load's
+			// return pulls it down to as far as one peak below chassis
+			// (ngspice agrees: spice.TestDoublerDiodeOpenAgreesWithNgspice).
+			lo = math.Min(lo, -math.Sqrt2*p.Vrms)
+		}
 	}
 	// A rectifier off its own winding charges its reservoir to the
 	// winding's peak less the diodes' drop, either way.

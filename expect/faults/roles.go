@@ -95,6 +95,13 @@ func Roles(m *amp.Model, op *amp.OP) map[string]RoleSet {
 				add(r, RoleFilterCap)
 			}
 		}
+		if db := m.HT.Doubler; db != nil {
+			for _, r := range db.Caps {
+				add(r, RoleSupply)
+				add(r, RoleFilterCap)
+			}
+			add(db.Diodes[1].Ref, RoleSupply)
+		}
 		if m.HT.Transformer != nil {
 			add(m.HT.Transformer.Ref, RoleSupply)
 		}

@@ -273,8 +273,14 @@ func (n *Netlist) supply(m *amp.Model, s *amp.Solver, c amp.Conditions, v *amp.V
 		mid := n.inner("mains_ht_emf")
 		n.line("%s %s 0 sin(0 %s %s 0 0 0)", n.elem("V", "mains_ht"), mid, num(vpk), num(p.Hz))
 		n.line("%s %s %s %s", n.elem("R", "mains_ht"), mid, n.node(lf.Anode), num(max(p.Rs, minOhms)))
+	} else if ht.Doubler != nil {
+		n.doublerWinding(ht, p, src)
 	} else {
 		n.htWinding(ht, w, p, src)
+	}
+	if ht.Doubler != nil {
+		n.doublerDiodes(ht)
+		return nil
 	}
 	return n.rectifier(ht, p)
 }
@@ -788,6 +794,9 @@ func Reservoirs(m *amp.Model, op *amp.OP) map[string]float64 {
 	if m.HT != nil {
 		v, _ := m.NetVolts(op, m.HT.Nets[0])
 		out[m.HT.Nets[0]] = v
+		if db := m.HT.Doubler; db != nil {
+			out[db.Mid], _ = m.NetVolts(op, db.Mid)
+		}
 	}
 	for _, a := range m.AuxRects() {
 		if v, ok := m.NetVolts(op, a.Out); ok {

@@ -42,6 +42,10 @@ type engine struct {
 	m                int
 	vc, il           []float64 // working state by node
 	cycles           int
+	// nn is the number of nodes: the stages, and a doubler's two
+	// private nodes after them (dbl, nil for other topologies).
+	nn  int
+	dbl *dblFront
 }
 
 func newEngine(p Params, opt Options) (*engine, error) {
@@ -59,33 +63,37 @@ func newEngine(p Params, opt Options) (*engine, error) {
 		return nil, &ParamError{"Options.Tol", "must be > 0"}
 	}
 	n := len(p.Stages)
+	nn := n
+	if p.isDoubler() {
+		nn = n + 2
+	}
 	e := &engine{
-		p: p, n: n, steps: opt.StepsPerCycle, h: 1 / (p.Hz * float64(opt.StepsPerCycle)),
+		p: p, n: n, nn: nn, steps: opt.StepsPerCycle, h: 1 / (p.Hz * float64(opt.StepsPerCycle)),
 		nd: p.elements(), vsrc: make([]float64, opt.StepsPerCycle),
-		gc: make([]float64, n), hc: make([]float64, n), gs: make([]float64, n), lh: make([]float64, n),
-		parent: make([]int, n), loadA: make([]float64, n), ghist: make([]float64, n), col0: make([]float64, n), rhs: make([]float64, n), v: make([]float64, n),
-		vc: make([]float64, n), il: make([]float64, n),
+		gc: make([]float64, nn), hc: make([]float64, nn), gs: make([]float64, n), lh: make([]float64, n),
+		parent: make([]int, n), loadA: make([]float64, nn), ghist: make([]float64, n), col0: make([]float64, nn), rhs: make([]float64, nn), v: make([]float64, nn),
+		vc: make([]float64, nn), il: make([]float64, nn),
 	}
 	vpk := math.Sqrt2 * p.Vrms
 	for s := range e.vsrc {
 		src := vpk * math.Sin(2*math.Pi*float64(s+1)/float64(e.steps))
-		if p.Topology != HalfWave {
+		if p.Topology != HalfWave && !p.isDoubler() {
 			src = math.Abs(src)
 		}
 		e.vsrc[s] = src
 	}
-	g := make([]float64, n*n)
+	g := make([]float64, nn*nn)
 	for k, st := range p.Stages {
 		e.parent[k] = st.Parent
 		e.loadA[k] = st.LoadA
 		if st.ShuntC > 0 {
 			e.gc[k] = 1 / (st.ESR + e.h/st.ShuntC)
 			e.hc[k] = e.h / st.ShuntC
-			g[k*n+k] += e.gc[k]
+			g[k*nn+k] += e.gc[k]
 			e.capNode = append(e.capNode, k)
 		}
 		if st.LoadOhms > 0 {
-			g[k*n+k] += 1 / st.LoadOhms
+			g[k*nn+k] += 1 / st.LoadOhms
 		}
 		if st.SeriesL > 0 {
 			e.indNode = append(e.indNode, k)
@@ -100,19 +108,24 @@ func newEngine(p Params, opt Options) (*engine, error) {
 			e.ghist[k] = e.gs[k] * e.lh[k]
 		}
 		q := st.Parent
-		g[k*n+k] += e.gs[k]
-		g[q*n+q] += e.gs[k]
-		g[k*n+q] -= e.gs[k]
-		g[q*n+k] -= e.gs[k]
+		stamp(g, nn, k, q, e.gs[k])
 	}
 	e.m = len(e.capNode) + len(e.indNode)
-	inv, ok := invert(g, n)
+	if p.isDoubler() {
+		e.dbl = newDoubler(p, n, nn, e.h, g)
+		e.loadA[e.dbl.mid] = p.Doubler.MidLoadA
+		e.m += e.dbl.ncap
+	}
+	inv, ok := invert(g, nn)
 	if !ok {
 		return nil, &ParamError{"Stages", "filter network is singular"}
 	}
 	e.ginv = inv
-	for r := 0; r < n; r++ {
-		e.col0[r] = inv[r*n]
+	for r := 0; r < nn; r++ {
+		e.col0[r] = inv[r*nn]
+	}
+	if e.dbl != nil {
+		e.dbl.setResponses(inv, nn)
 	}
 	e.caps = e.capNode
 	s0 := p.Stages[0]
@@ -179,11 +192,15 @@ func (e *engine) branchCurrent(drive float64) float64 {
 // step advances the working state by one step ending at sample s and
 // returns the rectifier branch current; e.v holds the node voltages.
 func (e *engine) step(s int) float64 {
-	n := e.n
+	n := e.nn
 	rhs, v, vc, il := e.rhs[:n], e.v[:n], e.vc[:n], e.il[:n]
 	gc, loadA := e.gc[:n], e.loadA[:n]
 	for k := range rhs {
 		rhs[k] = gc[k]*vc[k] - loadA[k]
+	}
+	if e.dbl != nil {
+		// the mid load is in loadA; the source and capacitors here
+		e.dbl.rhs(rhs, e.vsrc[s])
 	}
 	for _, k := range e.inds {
 		j := e.ghist[k] * il[k]
@@ -198,6 +215,17 @@ func (e *engine) step(s int) float64 {
 			acc += row[c] * x
 		}
 		v[r] = acc
+	}
+	if e.dbl != nil {
+		e.dbl.solveDiodes(v)
+		for _, k := range e.caps {
+			vc[k] += e.hc[k] * gc[k] * (v[k] - vc[k])
+		}
+		for _, k := range e.inds {
+			il[k] = e.gs[k] * (v[e.parent[k]] - v[k] + e.lh[k]*il[k])
+		}
+		e.dbl.advance(v, e.vsrc[s])
+		return e.dbl.outAmps(e.p.Topology == FullDoubler)
 	}
 	drive := e.vsrc[s] - v[0]
 	if e.choke0 {
@@ -233,6 +261,12 @@ func (e *engine) unpack(x []float64) {
 		e.il[k] = x[j]
 		j++
 	}
+	if e.dbl != nil {
+		for c := 0; c < e.dbl.ncap; c++ {
+			e.dbl.caps[c].v = x[j]
+			j++
+		}
+	}
 }
 
 func (e *engine) pack(x []float64) {
@@ -244,6 +278,12 @@ func (e *engine) pack(x []float64) {
 	for _, k := range e.indNode {
 		x[j] = e.il[k]
 		j++
+	}
+	if e.dbl != nil {
+		for c := 0; c < e.dbl.ncap; c++ {
+			x[j] = e.dbl.caps[c].v
+			j++
+		}
 	}
 }
 
@@ -318,6 +358,9 @@ func (e *engine) dcGuess(v0 float64) (volts, amps []float64, i0 float64) {
 // the reservoir voltage, then the DC solution of the filter) so that the
 // shooting iteration starts close to the answer.
 func (e *engine) initialState(x []float64) (iScale float64) {
+	if e.dbl != nil {
+		return e.initialDoubler(x)
+	}
 	p := e.p
 	vpk := math.Sqrt2 * p.Vrms
 	np := float64(p.pulses())
@@ -382,8 +425,16 @@ func Simulate(p Params, opt Options) (Result, error) {
 	iScale := e.initialState(x)
 	scale := make([]float64, m)
 	vpk := math.Sqrt2 * p.Vrms
+	nodeState := len(e.capNode) + len(e.indNode)
 	for j := range scale {
-		if j < len(e.capNode) {
+		if j >= nodeState {
+			// A doubler's capacitor, judged as a filter capacitor is.
+			c := p.Doubler.C1
+			if j > nodeState {
+				c = p.Doubler.C2
+			}
+			scale[j] = math.Max(math.Min(vpk, iScale/(c*p.Hz)), 1e-7*vpk)
+		} else if j < len(e.capNode) {
 			// A cycle-to-cycle change Δv on capacitor C means a mean
 			// charge imbalance of Δv·C·f amps: judge it against the load
 			// current as well as against the peak voltage, so that charge
@@ -435,7 +486,11 @@ func Simulate(p Params, opt Options) (Result, error) {
 			for try := 0; try < 4 && e.cycles < opt.MaxCycles; try++ {
 				for i := range x {
 					xt[i] = x[i] + lambda*delta[i]
-					if i < len(e.capNode) {
+					if e.dbl != nil && (i < len(e.capNode) || i >= nodeState) {
+						// A doubler's capacitors hold up to twice
+						// the winding's peak.
+						xt[i] = min(max(xt[i], -vpk), 2*vpk)
+					} else if i < len(e.capNode) {
 						// A filter capacitor fed by a rectifier holds
 						// between 0 V and the winding's peak: keep the
 						// Newton step of the shooting inside what the
@@ -509,12 +564,22 @@ func (e *engine) record(x []float64) Result {
 	sumSeries := make([]float64, n)
 	var iPk, iSum, i2Sum, pSum float64
 	conducting := 0
+	var dr *dblRecord
+	if e.dbl != nil {
+		dr = newDblRecord(N)
+	}
 	for s := 0; s < N; s++ {
 		i := e.step(s)
 		for k := 0; k < n; k++ {
 			samples[k*N+s] = e.v[k]
 		}
+		if dr != nil {
+			dr.sample(e, s)
+		}
 		sumSeries[0] += i
+		if dr != nil {
+			sumSeries[0] += e.dbl.bleedIntoOut(e.v)
+		}
 		for k := 1; k < n; k++ {
 			if e.lh[k] > 0 {
 				sumSeries[k] += e.il[k]
@@ -583,6 +648,9 @@ func (e *engine) record(x []float64) Result {
 		res.RectDropMean = pSum / iSum
 	}
 	res.ConductionDeg = 360 * float64(conducting) / float64(N) / float64(np)
+	if dr != nil {
+		dr.finish(e, &res)
+	}
 	if e.choke0 && e.p.Topology != HalfWave {
 		res.CriticalL = e.criticalL(res.Nets[0].Vdc, res.Nets[0].DCAmps)
 		if math.IsInf(res.CriticalL, 0) {

@@ -28,6 +28,17 @@ const (
 	Bridge
 	// HalfWave is a single rectifier element on the whole winding.
 	HalfWave
+	// FullDoubler is a full-wave (bridge, Delon) voltage doubler: the
+	// winding from the midpoint of two series capacitors, one diode from
+	// its other end up into the top capacitor and one from chassis up to
+	// it, each capacitor charged to the winding's peak on its own half
+	// cycle (Params.Doubler; doubler.go).
+	FullDoubler
+	// HalfDoubler is a half-wave (Greinacher, Villard) voltage doubler: a
+	// pump capacitor from the winding's live end, a clamp diode from
+	// chassis up to it and a series diode from it into the reservoir, stage
+	// 0's capacitor (Params.Doubler; doubler.go).
+	HalfDoubler
 )
 
 func (t Topology) String() string {
@@ -38,6 +49,10 @@ func (t Topology) String() string {
 		return "bridge"
 	case HalfWave:
 		return "half-wave"
+	case FullDoubler:
+		return "full-wave doubler"
+	case HalfDoubler:
+		return "half-wave doubler"
 	}
 	return fmt.Sprintf("Topology(%d)", int(t))
 }
@@ -84,6 +99,9 @@ type Params struct {
 	Hz       float64 // mains frequency
 	Rect     Rectifier
 	Stages   []Stage // stage 0 must have Parent -1; parents precede children
+	// Doubler is the capacitors and diodes of a FullDoubler or
+	// HalfDoubler front end (ignored for the other topologies).
+	Doubler Doubler
 }
 
 // NetResult is the periodic steady state at one filter node.
@@ -121,6 +139,15 @@ type Result struct {
 	// Designer's Handbook 4th ed. ch. 30, from memory); below it the choke
 	// current becomes discontinuous. Zero for capacitor input.
 	CriticalL float64
+	// Caps are a doubler's two capacitors, each its own volts (Vdc the
+	// mean across it, its ripple, DCAmps the mean current its diode
+	// puts in), as Params.Doubler names them; nil for other topologies.
+	Caps []NetResult
+	// Mid is a doubler's middle node (the capacitors' junction of a
+	// full-wave doubler, the pump capacitor's diode end of a half-wave
+	// one), volts to chassis; Live is the winding's end the diodes take
+	// (a half-wave doubler's winding carries its pump bleeder's DC).
+	Mid, Live NetResult
 }
 
 // Options controls the simulation; zero fields take their DefaultOptions
@@ -155,7 +182,7 @@ func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 // Validate checks p and returns a *ParamError describing the first problem.
 func (p Params) Validate() error {
 	bad := func(field, reason string) error { return &ParamError{Field: field, Reason: reason} }
-	if p.Topology < CentreTap || p.Topology > HalfWave {
+	if p.Topology < CentreTap || p.Topology > HalfDoubler {
 		return bad("Topology", "unknown topology")
 	}
 	if !finite(p.Vrms) || p.Vrms <= 0 {
@@ -212,7 +239,7 @@ func (p Params) Validate() error {
 				return bad(f(v.name), "must be a number between 0 and 1e12")
 			}
 		}
-		if k == 0 && s.ShuntC <= 0 {
+		if k == 0 && s.ShuntC <= 0 && p.Topology != FullDoubler {
 			if s.SeriesL > 0 {
 				return bad(f("ShuntC"), "a choke-input first stage needs a capacitor after the choke (> 0 F)")
 			}
@@ -220,6 +247,11 @@ func (p Params) Validate() error {
 		}
 		if k > 0 && s.SeriesR == 0 && s.SeriesL == 0 {
 			return bad(f("SeriesR"), "a stage needs a series resistor or choke (both are zero)")
+		}
+	}
+	if p.isDoubler() {
+		if err := p.validateDoubler(); err != nil {
+			return err
 		}
 	}
 	s0 := p.Stages[0]
@@ -240,7 +272,7 @@ func (p Params) elements() float64 {
 
 // pulses returns the rectified pulses per mains cycle.
 func (p Params) pulses() int {
-	if p.Topology == HalfWave {
+	if p.Topology == HalfWave || p.Topology == HalfDoubler {
 		return 1
 	}
 	return 2
@@ -278,6 +310,9 @@ func (p Params) rectDrop(amps float64) float64 {
 func ColdPeak(p Params) float64 {
 	if p.Validate() != nil {
 		return 0
+	}
+	if p.isDoubler() {
+		return p.doublerColdPeak()
 	}
 	return math.Sqrt2*p.Vrms - p.rectDrop(0)
 }
